@@ -1,0 +1,41 @@
+/**
+ * Errors the engine reports: values a user interface can show, naming the column,
+ * row, option or value at fault.
+ */
+
+/** What kind of problem a {@link PolyadicError} describes. */
+export type PolyadicErrorKind =
+  | 'input' // the data: empty, ragged, duplicate names, bad values
+  | 'usage' // an option or a spec: unknown column, bad binning spec
+  | 'limit' // a request above a configured cap
+  | 'internal'; // a bug: should never reach a user
+
+/** Details that locate a problem; every field optional. */
+export interface IErrorDetail {
+  column?: string;
+  /** Zero-based data row (not counting a header). */
+  row?: number;
+  /** One-based line of a text file, counting the header. */
+  line?: number;
+  option?: string;
+  value?: string;
+  [key: string]: unknown;
+}
+
+/** An error with a message a person understands and the place it concerns. */
+export class PolyadicError extends Error {
+  /** Create an error of a kind, with a full-sentence message. */
+  constructor(
+    readonly kind: PolyadicErrorKind,
+    message: string,
+    readonly detail: IErrorDetail = {}
+  ) {
+    super(message);
+    this.name = 'PolyadicError';
+  }
+}
+
+/** Whether a value is a {@link PolyadicError}. */
+export function isPolyadicError(value: unknown): value is PolyadicError {
+  return value instanceof PolyadicError;
+}

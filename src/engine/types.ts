@@ -1,0 +1,139 @@
+/**
+ * Shared data types of the engine: the contract between the table readers, the binning,
+ * the lattice, the measures, the CLI, the worker and the panel. Plain objects and typed
+ * arrays only, so every value crosses a worker boundary by structured clone.
+ */
+
+/** Numeric typed arrays a column may arrive as (Arrow's value buffers). */
+export type NumericArray =
+  | Float64Array
+  | Float32Array
+  | Int8Array
+  | Int16Array
+  | Int32Array
+  | Uint8Array
+  | Uint16Array
+  | Uint32Array
+  | BigInt64Array
+  | BigUint64Array;
+
+/**
+ * A numeric column: one value per row. `missing[i] === 1` marks row i missing (from an
+ * Arrow validity bitmap, already expanded); `null` means no row is missing. NaN in a float
+ * column also counts as missing (pandas' convention, common practice).
+ */
+export interface INumericColumn {
+  kind: 'numeric';
+  name: string;
+  /** Source type as the user knows it, e.g. 'float64', 'int32', 'bool', 'datetime64[ns]'. */
+  dtype: string;
+  values: NumericArray;
+  missing: Uint8Array | null;
+}
+
+/**
+ * A categorical column: dictionary codes into `categories`. A code of -1, or
+ * `missing[i] === 1`, marks row i missing.
+ */
+export interface ICategoricalColumn {
+  kind: 'categorical';
+  name: string;
+  dtype: string;
+  codes: Int32Array;
+  categories: string[];
+  missing: Uint8Array | null;
+}
+
+/** One column of input, as the engine reads it. */
+export type ColumnView = INumericColumn | ICategoricalColumn;
+
+/** Binning method names (DESIGN.md glossary). */
+export type BinMethod =
+  | 'width'
+  | 'quantile'
+  | 'fd'
+  | 'scott'
+  | 'sturges'
+  | 'rice'
+  | 'sqrt'
+  | 'doane'
+  | 'kmeans'
+  | 'edges'
+  | 'categorical';
+
+/** A parsed binning spec: `width:K`, `quantile:K`, `kmeans:K`, `edges:a,b,…`, a rule, or `categorical`. */
+export interface IBinSpec {
+  method: BinMethod;
+  /** K for width, quantile and kmeans. */
+  count?: number;
+  /** The user's edges for `edges:`. */
+  edges?: number[];
+}
+
+/** How missing values are handled across the selected columns. */
+export type MissingPolicy = 'drop' | 'category' | 'error';
+
+/** Entropy estimators. */
+export type EstimatorName = 'plugin' | 'miller-madow' | 'chao-shen' | 'shrinkage';
+
+/** Units of every information value. */
+export type Units = 'bits' | 'nats';
+
+/** The binning that was applied to one column, as reported and recorded. */
+export interface IColumnBinning {
+  name: string;
+  /** Number of codes (bins or categories, plus one for missing under `category`). */
+  bins: number;
+  binning: {
+    method: BinMethod;
+    /** The spec as text, e.g. 'quantile:4'. */
+    spec: string;
+    edges?: number[];
+    categories?: string[];
+  };
+}
+
+/** The multiplet measures of one multiplet, as reported. */
+export interface IMultipletRow {
+  columns: string[];
+  order: number;
+  entropy: number;
+  coinformation: number;
+  total_correlation: number;
+  dual_total_correlation: number;
+  o_information: number;
+  s_information: number;
+}
+
+/** Options of one analysis (`analyze`). Defaults as in DESIGN.md and issue texts. */
+export interface IAnalyzeOptions {
+  /** Column names to use; default all. */
+  columns?: string[];
+  /** Default spec for every column; default: `categorical` for non-numeric, `quantile:4` numeric. */
+  bins?: string;
+  /** Per-column specs, overriding `bins`. */
+  binsByColumn?: Record<string, string>;
+  missing?: MissingPolicy;
+  estimator?: EstimatorName;
+  units?: Units;
+  /** Default: all orders when ≤ 12 columns, else 3. */
+  maxOrder?: number;
+  /** Refuse more multiplets than this; default 2^24. */
+  maxMultiplets?: number;
+  /** Keep only the N lowest and N highest co-information multiplets of order ≥ 2. */
+  top?: number;
+}
+
+/** The result of one analysis; field names are the CLI's JSON fields. */
+export interface IAnalysisResult {
+  engine: { name: string; version: string };
+  rows: number;
+  rows_used: number;
+  units: Units;
+  estimator: EstimatorName;
+  max_order: number;
+  columns: IColumnBinning[];
+  multiplets: IMultipletRow[];
+  multiplet_count: number;
+  warnings: string[];
+}
