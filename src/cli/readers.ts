@@ -49,6 +49,8 @@ export interface IDataSource {
   rows: number;
   /** The selected columns. */
   columns: ColumnView[];
+  /** For text formats: the one-based line where a zero-based data row starts. */
+  lineOfRow?: (row: number) => number;
 }
 
 /** The format a path's extension names, or a usage error listing the known extensions. */
@@ -146,7 +148,8 @@ export function readDelimitedText(
     }
     return columnFromTextCells(name, cells);
   });
-  return { format, names, rows: rowCount, columns };
+  const lineOfRow = (row: number): number => Private.lineOfRow(text, delimiter, row + 1);
+  return { format, names, rows: rowCount, columns, lineOfRow };
 }
 
 /** Read Arrow IPC bytes (file or stream format, uncompressed). */
