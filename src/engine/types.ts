@@ -90,6 +90,8 @@ export interface IColumnBinning {
     spec: string;
     edges?: number[];
     categories?: string[];
+    /** The code of missing values under the missing-value policy `category` (the last code). */
+    missing_code?: number;
   };
 }
 
