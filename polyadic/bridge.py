@@ -1,0 +1,301 @@
+"""Kernel side of the Polyadic bridge: the ``polyadic`` comm target.
+
+The front end opens a comm to the target ``polyadic`` and sends JSON requests, each with a
+``type`` and a ``request_id`` that the replies echo (message shapes: src/bridge/protocol.ts):
+
+* ``list`` → ``listing``: the frames in the user's namespace. A listing is also pushed when a
+  comm opens and after every executed cell (only when it changed).
+* ``fetch`` → ``fetch_chunk`` messages carrying an Arrow IPC stream in their binary buffers,
+  then ``fetch_done``.
+* ``results_chunk`` → ``results_ack`` per chunk, ``results_stored`` when a table is complete;
+  :func:`results` then returns it as a pandas DataFrame.
+
+Anything that goes wrong is an ``error`` reply; no exception reaches the notebook's output.
+The work is done by pure functions in ``_listing``, ``_arrow`` and ``_results``; this module
+only routes messages. Handlers may run on a kernel subshell thread (ipykernel 7), so shared
+state is guarded by locks.
+"""
+
+from __future__ import annotations
+
+import logging
+import threading
+import traceback
+from typing import Any, Callable, Mapping
+
+from ._arrow import FETCH_BATCH_MAX_BYTES, frame_to_ipc_batches
+from ._errors import BridgeError
+from ._listing import frame_kind, list_frames
+from ._results import ResultsNotFound, ResultStore
+
+#: Name of the comm target the front end opens (DESIGN.md glossary).
+COMM_TARGET = "polyadic"
+#: Version of the message protocol; the front end compares it with its own.
+PROTOCOL_VERSION = 1
+
+_log = logging.getLogger("polyadic.bridge")
+
+#: Multiplet tables sent back by the front ends of this kernel.
+STORE = ResultStore()
+
+
+def results(analysis_id: str | None = None) -> Any:
+    """The multiplet table of the latest analysis (or of ``analysis_id``) as a pandas DataFrame.
+
+    Columns are the CLI's JSON multiplet fields (columns, order, entropy, coinformation,
+    total_correlation, dual_total_correlation, o_information, s_information) plus any statistics
+    the analysis computed. ``columns`` holds a tuple of column names per multiplet.
+    Raises ResultsNotFound, listing the known ids, when there is nothing to return.
+    """
+    return STORE.get(analysis_id)
+
+
+def _version() -> str:
+    from . import __version__
+
+    return __version__
+
+
+class KernelBridge:
+    """Serves the comms of one kernel: listing, fetching and receiving results."""
+
+    def __init__(
+        self,
+        namespace: Callable[[], Mapping[str, Any]],
+        hidden: Callable[[], Mapping[str, Any]] | None = None,
+        store: ResultStore | None = None,
+        max_batch_bytes: int = FETCH_BATCH_MAX_BYTES,
+    ) -> None:
+        self._namespace = namespace
+        self._hidden = hidden or (lambda: {})
+        self._store = store if store is not None else STORE
+        self._max_batch_bytes = max_batch_bytes
+        self._lock = threading.Lock()
+        self._comms: dict[str, Any] = {}
+        # The frames part of the listing last pushed to each comm, to skip unchanged pushes.
+        self._pushed: dict[str, Any] = {}
+
+    # --- comm life cycle ---------------------------------------------------------------------
+
+    def open_comm(self, comm: Any, open_msg: Any = None) -> None:
+        """Comm target callback: adopt a comm the front end opened and send it a listing."""
+        with self._lock:
+            self._comms[comm.comm_id] = comm
+        comm.on_msg(lambda msg: self.handle_message(comm, msg))
+        comm.on_close(lambda msg: self.close_comm(comm))
+        self._push_to(comm, self.listing_message(None))
+
+    def close_comm(self, comm: Any) -> None:
+        """Forget a comm the front end closed."""
+        with self._lock:
+            self._comms.pop(comm.comm_id, None)
+            self._pushed.pop(comm.comm_id, None)
+
+    @property
+    def comm_count(self) -> int:
+        """How many comms are open."""
+        with self._lock:
+            return len(self._comms)
+
+    # --- messages ----------------------------------------------------------------------------
+
+    def listing_message(self, request_id: Any) -> dict[str, Any]:
+        """The ``listing`` message: every frame in the namespace."""
+        frames, skipped = list_frames(self._namespace(), self._hidden())
+        return {
+            "type": "listing",
+            "request_id": request_id,
+            "protocol": PROTOCOL_VERSION,
+            "version": _version(),
+            "frames": frames,
+            "skipped": skipped,
+        }
+
+    def push_listing(self) -> None:
+        """Send a fresh listing to every open comm whose last listing differs."""
+        with self._lock:
+            comms = list(self._comms.values())
+        if not comms:
+            return
+        message = self.listing_message(None)
+        for comm in comms:
+            self._push_to(comm, message)
+
+    def _push_to(self, comm: Any, message: dict[str, Any]) -> None:
+        state = (message["frames"], message["skipped"])
+        with self._lock:
+            if self._pushed.get(comm.comm_id) == state:
+                return
+            self._pushed[comm.comm_id] = state
+        self._send(comm, message)
+
+    def handle_message(self, comm: Any, msg: Mapping[str, Any]) -> None:
+        """Serve one request from the front end; every failure becomes an ``error`` reply."""
+        content = msg.get("content") or {}
+        data = content.get("data")
+        request_id = data.get("request_id") if isinstance(data, dict) else None
+        try:
+            if not isinstance(data, dict):
+                raise BridgeError("A Polyadic request must be a JSON object with a 'type'.")
+            kind = data.get("type")
+            if kind == "list":
+                self._send(comm, self.listing_message(request_id))
+            elif kind == "fetch":
+                self._fetch(comm, data, request_id)
+            elif kind == "results_chunk":
+                self._results_chunk(comm, data, msg.get("buffers") or [], request_id)
+            else:
+                raise BridgeError(f"Unknown request type {kind!r}.", option="type")
+        except BridgeError as error:
+            self._send_error(comm, request_id, error.message, error.detail)
+        except Exception as error:  # noqa: BLE001 - must never reach the user's notebook
+            _log.debug("polyadic request failed", exc_info=True)
+            self._send_error(
+                comm,
+                request_id,
+                f"Polyadic could not serve the request ({type(error).__name__}: {error}).",
+                {"traceback": traceback.format_exc()},
+            )
+
+    def _fetch(self, comm: Any, data: Mapping[str, Any], request_id: Any) -> None:
+        name = data.get("name")
+        if not isinstance(name, str) or not name:
+            raise BridgeError("A fetch request needs the frame's 'name'.", option="name")
+        namespace = self._namespace()
+        frame = namespace.get(name)
+        if frame is None or frame_kind(frame) is None:
+            raise BridgeError(
+                f"There is no frame named {name!r} in the kernel any more (deleted or replaced since "
+                "the listing); refresh the list.",
+                frame=name,
+            )
+        payload = frame_to_ipc_batches(
+            frame,
+            data.get("columns"),
+            row_cap=data.get("row_cap"),
+            seed=data.get("sample_seed"),
+            max_batch_bytes=self._max_batch_bytes,
+        )
+        sent = 0
+        for index, piece in enumerate(payload.iter_pieces()):
+            sent += len(piece)
+            comm.send(
+                data={
+                    "type": "fetch_chunk",
+                    "request_id": request_id,
+                    "name": name,
+                    "batch_index": index,
+                    "batch_count": payload.batch_count,
+                    "bytes_sent": sent,
+                    "bytes_total": payload.bytes_total,
+                },
+                buffers=[piece],
+            )
+        comm.send(
+            data={
+                "type": "fetch_done",
+                "request_id": request_id,
+                "name": name,
+                "rows": payload.rows,
+                "original_rows": payload.original_rows,
+                "sampled": payload.sampled,
+                "seed": payload.seed,
+                "columns": payload.columns,
+                "batch_count": payload.batch_count,
+                "bytes_total": payload.bytes_total,
+            }
+        )
+
+    def _results_chunk(self, comm: Any, data: Mapping[str, Any], buffers: list[Any], request_id: Any) -> None:
+        meta = data.get("meta")
+        if meta is not None and not isinstance(meta, dict):
+            raise BridgeError("'meta' must be a JSON object.", option="meta")
+        outcome = self._store.add_chunk(
+            data.get("analysis_id"),
+            data.get("chunk_index"),
+            data.get("chunk_count"),
+            buffers[0] if buffers else None,
+            meta,
+        )
+        if outcome.complete:
+            reply = {
+                "type": "results_stored",
+                "request_id": request_id,
+                "analysis_id": outcome.analysis_id,
+                "rows": int(len(outcome.table)),
+            }
+        else:
+            reply = {
+                "type": "results_ack",
+                "request_id": request_id,
+                "analysis_id": outcome.analysis_id,
+                "chunks_received": outcome.received,
+                "chunk_count": outcome.count,
+            }
+        self._send(comm, reply)
+
+    def _send(self, comm: Any, message: dict[str, Any]) -> None:
+        try:
+            comm.send(data=message)
+        except Exception:  # noqa: BLE001 - a closed comm must not break the kernel
+            _log.debug("polyadic could not send %s", message.get("type"), exc_info=True)
+
+    def _send_error(self, comm: Any, request_id: Any, message: str, detail: Mapping[str, Any]) -> None:
+        self._send(comm, {"type": "error", "request_id": request_id, "message": message, "detail": dict(detail)})
+
+
+class _ListingHook:
+    """``post_run_cell`` callback that pushes a fresh listing; marked so re-imports replace it."""
+
+    polyadic_listing_hook = True
+
+    def __init__(self, bridge: KernelBridge) -> None:
+        self.bridge = bridge
+
+    def __call__(self, result: Any = None) -> None:
+        try:
+            self.bridge.push_listing()
+        except Exception:  # noqa: BLE001 - a hook error would print below the user's cell
+            _log.debug("polyadic listing push failed", exc_info=True)
+
+
+_register_lock = threading.Lock()
+#: The bridge registered in this process, and the shell it serves.
+_active: tuple[Any, KernelBridge] | None = None
+
+
+def register(shell: Any = None) -> KernelBridge | None:
+    """Register the comm target and the listing hook in the running IPython kernel.
+
+    Does nothing and returns None outside a kernel (plain Python, terminal IPython).
+    Calling it again replaces the earlier registration instead of adding a second one.
+    """
+    global _active
+    if shell is None:
+        try:
+            from IPython import get_ipython
+        except ImportError:
+            return None
+        shell = get_ipython()
+    manager = getattr(getattr(shell, "kernel", None), "comm_manager", None)
+    if manager is None:
+        return None
+    with _register_lock:
+        if _active is not None and _active[0] is shell:
+            bridge = _active[1]  # already serving this shell: keep its open comms
+        else:
+            bridge = KernelBridge(
+                namespace=lambda: shell.user_ns,
+                hidden=lambda: getattr(shell, "user_ns_hidden", {}),
+            )
+        manager.register_target(COMM_TARGET, bridge.open_comm)
+        # A hook left by an earlier copy of this module (importlib.reload) is replaced.
+        for callback in list(shell.events.callbacks.get("post_run_cell", [])):
+            if getattr(callback, "polyadic_listing_hook", False):
+                shell.events.unregister("post_run_cell", callback)
+        shell.events.register("post_run_cell", _ListingHook(bridge))
+        _active = (shell, bridge)
+    return bridge
+
+
+__all__ = ["COMM_TARGET", "PROTOCOL_VERSION", "KernelBridge", "ResultsNotFound", "register", "results"]

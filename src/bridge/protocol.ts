@@ -1,0 +1,242 @@
+/**
+ * Messages of the `polyadic` comm between the side panel and the kernel (polyadic/bridge.py).
+ *
+ * Every message is the JSON `data` of a comm message with a `type` and a `request_id`; replies
+ * echo the request's id, and pushes the kernel starts itself carry `request_id: null`. Arrow IPC
+ * bytes travel only in the comm message's binary `buffers`, never in the JSON.
+ *
+ * Opening: the kernel registers the target when the `polyadic` package is imported, so the
+ * front end runs `import polyadic` (silent, not stored in history) before opening the comm.
+ * On open the kernel pushes a {@link IListingMessage}; it pushes another after every executed
+ * cell whose listing differs from the last one sent.
+ */
+
+/** Name of the comm target (DESIGN.md glossary). */
+export const COMM_TARGET = 'polyadic';
+
+/** Version of this protocol; the kernel states its own in every listing. */
+export const PROTOCOL_VERSION = 1;
+
+/** Largest serialized record batch in one `fetch_chunk` (64 MiB). */
+export const FETCH_BATCH_MAX_BYTES = 64 * 1024 * 1024;
+
+/** Rows the kernel sends when a fetch names no `row_cap`; above it, a seeded sample. */
+export const FETCH_ROW_CAP_DEFAULT = 2_000_000;
+
+/**
+ * Largest buffer in one `results_chunk` (8 MiB): the Jupyter server refuses browser→kernel
+ * messages over 10 MiB, and the JSON part needs room too.
+ */
+export const RESULTS_CHUNK_MAX_BYTES = 8 * 1024 * 1024;
+
+/** How the engine reads a column; `other` columns cannot be fetched. */
+export type ColumnKind =
+  | 'numeric'
+  | 'categorical'
+  | 'string'
+  | 'bool'
+  | 'datetime'
+  | 'timedelta'
+  | 'other';
+
+/** The library a frame comes from. */
+export type FrameKind = 'pandas' | 'polars' | 'arrow';
+
+/** Resolution of a datetime or timedelta column sent as int64 counts. */
+export type TimeUnit = 's' | 'ms' | 'us' | 'ns';
+
+/** One column as listed. */
+export interface IListedColumn {
+  /** Column name as the front end shows and requests it (non-string pandas keys as `str(key)`). */
+  name: string;
+  /** The source library's own type name, e.g. 'float64', 'Int64', 'category', 'String'. */
+  dtype: string;
+  kind: ColumnKind;
+}
+
+/** One frame in the kernel's namespace. */
+export interface IFrameInfo {
+  /** Variable name in the user's namespace. */
+  name: string;
+  kind: FrameKind;
+  rows: number;
+  columns: IListedColumn[];
+  /** Approximate size in bytes (shallow: Python strings counted as pointers). */
+  memory_bytes: number;
+}
+
+/** A frame that exists but could not be described, with the reason. */
+export interface ISkippedFrame {
+  name: string;
+  reason: string;
+}
+
+// --- front end → kernel --------------------------------------------------------------------
+
+/** Ask for the frames in the namespace; answered by a {@link IListingMessage}. */
+export interface IListRequest {
+  type: 'list';
+  request_id: string;
+}
+
+/**
+ * Ask for columns of a frame; answered by {@link IFetchChunk} messages, then
+ * {@link IFetchDone} (or an {@link IErrorMessage} at any point).
+ */
+export interface IFetchRequest {
+  type: 'fetch';
+  request_id: string;
+  /** Frame variable name, as listed. */
+  name: string;
+  /** Column names, as listed; omitted means every column. */
+  columns?: string[];
+  /** Most rows to send; above it a random sample of this many rows. Default {@link FETCH_ROW_CAP_DEFAULT}. */
+  row_cap?: number;
+  /** Seed of numpy's `default_rng` for the row sample; default 0. */
+  sample_seed?: number;
+}
+
+/**
+ * One piece of a multiplet table's Arrow IPC stream (any cut of the bytes); `buffers[0]`
+ * holds at most {@link RESULTS_CHUNK_MAX_BYTES} bytes. Once all `chunk_count` chunks are in,
+ * their concatenation in `chunk_index` order is decoded. The table needs the fields of
+ * `IMultipletRow` (src/engine/types.ts): `columns` as List<Utf8>, `order` an integer, the
+ * measures as numbers; further columns (statistics) are kept as they are.
+ */
+export interface IResultsChunk {
+  type: 'results_chunk';
+  request_id: string;
+  /** The analysis id of the record; `polyadic.results(id)` returns the table. */
+  analysis_id: string;
+  chunk_index: number;
+  chunk_count: number;
+  /** Plain JSON kept with the table (pandas `attrs['polyadic']`), e.g. label, units, frame. */
+  meta?: Record<string, unknown>;
+}
+
+/** Any message the front end sends. */
+export type FrontEndRequest = IListRequest | IFetchRequest | IResultsChunk;
+
+// --- kernel → front end --------------------------------------------------------------------
+
+/** The frames in the kernel's namespace: a reply to `list`, or a push (`request_id: null`). */
+export interface IListingMessage {
+  type: 'listing';
+  request_id: string | null;
+  /** The kernel's {@link PROTOCOL_VERSION}. */
+  protocol: number;
+  /** Version of the kernel's `polyadic` package. */
+  version: string;
+  /** Sorted by name. */
+  frames: IFrameInfo[];
+  skipped: ISkippedFrame[];
+}
+
+/**
+ * One piece of the fetched Arrow IPC stream in `buffers[0]`. The pieces, concatenated in
+ * `batch_index` order, are one stream (apache-arrow's `tableFromIPC` accepts the array of
+ * pieces). Each piece holds whole IPC messages: the first also the schema and dictionaries,
+ * every piece one record batch, the last also the end-of-stream marker.
+ */
+export interface IFetchChunk {
+  type: 'fetch_chunk';
+  request_id: string;
+  name: string;
+  batch_index: number;
+  /** At least 1: an empty selection still sends one empty batch with the schema. */
+  batch_count: number;
+  /** Bytes sent so far, this piece included. */
+  bytes_sent: number;
+  /** Length of the whole stream. */
+  bytes_total: number;
+}
+
+/**
+ * How a fetched column was encoded. Numbers keep their width (float16 arrives as float32,
+ * decimals as float64); categoricals and strings arrive as Dictionary<Int32, Utf8>; datetimes
+ * and timedeltas as Int64 counts of `unit` (dates as seconds). Missing values are nulls.
+ */
+export interface IFetchedColumn {
+  name: string;
+  /** The source library's type name, as listed. */
+  dtype: string;
+  /** Never 'other': such columns are refused with an error. */
+  kind: Exclude<ColumnKind, 'other'>;
+  /** Arrow type as sent, in pyarrow's spelling, e.g. 'int64', 'float', 'dictionary<…>'. */
+  arrow_type: string;
+  null_count: number;
+  /** For `datetime` and `timedelta` columns. */
+  unit?: TimeUnit;
+  /** For time-zone-aware datetimes: the values are UTC instants, shown in this zone. */
+  timezone?: string;
+}
+
+/** The last message of a fetch. */
+export interface IFetchDone {
+  type: 'fetch_done';
+  request_id: string;
+  name: string;
+  /** Rows sent. */
+  rows: number;
+  /** Rows of the frame. */
+  original_rows: number;
+  /** Whether `rows` is a random sample of `original_rows` (frame row order kept). */
+  sampled: boolean;
+  /** Seed of the sample (reported even when not sampled). */
+  seed: number;
+  columns: IFetchedColumn[];
+  batch_count: number;
+  bytes_total: number;
+}
+
+/** A results chunk arrived; more are expected. */
+export interface IResultsAck {
+  type: 'results_ack';
+  request_id: string;
+  analysis_id: string;
+  chunks_received: number;
+  chunk_count: number;
+}
+
+/** The last results chunk arrived and the table was decoded and stored. */
+export interface IResultsStored {
+  type: 'results_stored';
+  request_id: string;
+  analysis_id: string;
+  /** Multiplets in the stored table. */
+  rows: number;
+}
+
+/**
+ * A request failed. `message` is a sentence for the user; `detail` locates the problem
+ * (`frame`, `column`, `option`, `types` found in a mixed column, `fields` missing from a
+ * results table, or `traceback` for an unexpected failure).
+ */
+export interface IErrorMessage {
+  type: 'error';
+  request_id: string | null;
+  message: string;
+  detail: IBridgeErrorDetail;
+}
+
+/** Where a bridge error lies; every field optional. */
+export interface IBridgeErrorDetail {
+  frame?: string;
+  column?: string;
+  option?: string;
+  dtype?: string;
+  types?: string[];
+  fields?: string[];
+  field?: string;
+  traceback?: string;
+  [key: string]: unknown;
+}
+
+/** Any message the kernel sends. */
+export type KernelMessage =
+  | IListingMessage
+  | IFetchChunk
+  | IFetchDone
+  | IResultsAck
+  | IResultsStored
+  | IErrorMessage;
