@@ -1,0 +1,76 @@
+/**
+ * The JupyterLab plugins of Polyadic. Wiring only: the logic lives in the modules imported
+ * here.
+ */
+import {
+  ILayoutRestorer,
+  JupyterFrontEnd,
+  JupyterFrontEndPlugin
+} from '@jupyterlab/application';
+import { ICommandPalette } from '@jupyterlab/apputils';
+import { INotebookTracker } from '@jupyterlab/notebook';
+import { ISettingRegistry } from '@jupyterlab/settingregistry';
+
+import { polyadicIcon } from './icons';
+import { followNotebooks, followSettings, PanelModel, PolyadicPanel } from './panel';
+import { CommandIDs, IPolyadicPanel, PALETTE_CATEGORY, PLUGIN_ID } from './tokens';
+
+/** Commands of other JupyterLab plugins that the panel offers as buttons. */
+namespace ExternalCommands {
+  export const newNotebook = 'notebook:create-new';
+  export const openSettings = 'settingeditor:open';
+}
+
+/** The side panel, its open command and the settings it shows. */
+const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
+  id: PLUGIN_ID,
+  description: 'The Polyadic side panel: higher-order structure of a dataframe.',
+  autoStart: true,
+  provides: IPolyadicPanel,
+  optional: [ICommandPalette, INotebookTracker, ISettingRegistry, ILayoutRestorer],
+  activate: (
+    app: JupyterFrontEnd,
+    palette: ICommandPalette | null,
+    notebooks: INotebookTracker | null,
+    settingRegistry: ISettingRegistry | null,
+    restorer: ILayoutRestorer | null
+  ): IPolyadicPanel => {
+    const { commands, shell } = app;
+    const model = new PanelModel();
+    const panel = new PolyadicPanel({
+      model,
+      // The notebook tracker and the create-new command come from the same JupyterLab
+      // plugin family; without a tracker the button would lead nowhere.
+      onNewNotebook:
+        notebooks !== null
+          ? () => void commands.execute(ExternalCommands.newNotebook)
+          : undefined,
+      onOpenSettings: () => void commands.execute(ExternalCommands.openSettings, { query: 'Polyadic' })
+    });
+    panel.disposed.connect(() => model.dispose());
+
+    shell.add(panel, 'right', { rank: 900 });
+    restorer?.add(panel, PolyadicPanel.ID);
+
+    commands.addCommand(CommandIDs.openPanel, {
+      label: 'Open Polyadic panel',
+      caption: 'Show the Polyadic panel in the right sidebar',
+      icon: polyadicIcon,
+      execute: () => shell.activateById(panel.id)
+    });
+    palette?.addItem({ command: CommandIDs.openPanel, category: PALETTE_CATEGORY });
+
+    if (notebooks !== null) {
+      followNotebooks(notebooks, model.source);
+    }
+    if (settingRegistry !== null) {
+      void followSettings(settingRegistry, PLUGIN_ID, model.defaults);
+    } else {
+      model.defaults.fail('This JupyterLab has no settings registry, so no settings can be shown.');
+    }
+
+    return { widget: panel, model };
+  }
+};
+
+export default [panelPlugin];

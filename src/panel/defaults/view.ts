@@ -1,0 +1,74 @@
+/**
+ * The panel's defaults section: the settings new analyses start from, with a way to the
+ * Settings Editor.
+ */
+import { Widget } from '@lumino/widgets';
+
+import { textElement } from '../dom';
+import { DefaultsModel } from './model';
+
+/** Shows a {@link DefaultsModel}. Text only goes in through `textContent`. */
+export class DefaultsView extends Widget {
+  /** Create the section for `options.model`. */
+  constructor(options: DefaultsView.IOptions) {
+    super();
+    this.addClass('pd-Defaults');
+    this.title.label = 'Defaults';
+    this._model = options.model;
+    this._onOpenSettings = options.onOpenSettings ?? null;
+    this._model.changed.connect(this._render, this);
+    this._render();
+  }
+
+  /** Disconnect from the model and dispose the widget. */
+  dispose(): void {
+    if (this.isDisposed) {
+      return;
+    }
+    this._model.changed.disconnect(this._render, this);
+    super.dispose();
+  }
+
+  private _render(): void {
+    const children: HTMLElement[] = [];
+    const error = this._model.error;
+    if (error !== null) {
+      const message = textElement('p', 'pd-Defaults-error', error);
+      message.setAttribute('role', 'alert');
+      children.push(message);
+    } else if (this._model.rows.length === 0) {
+      children.push(textElement('p', 'pd-Defaults-note', 'Loading settings…'));
+    } else {
+      const list = textElement('dl', 'pd-Facts');
+      for (const row of this._model.rows) {
+        list.append(
+          textElement('dt', 'pd-Facts-label', row.label),
+          textElement('dd', 'pd-Facts-value', row.value)
+        );
+      }
+      children.push(list);
+    }
+    const onOpenSettings = this._onOpenSettings;
+    if (onOpenSettings !== null) {
+      const button = textElement('button', 'pd-Defaults-action jp-mod-styled', 'Edit settings');
+      button.type = 'button';
+      button.addEventListener('click', () => onOpenSettings());
+      children.push(button);
+    }
+    this.node.replaceChildren(...children);
+  }
+
+  private readonly _model: DefaultsModel;
+  private readonly _onOpenSettings: (() => void) | null;
+}
+
+/** The statics of {@link DefaultsView}. */
+export namespace DefaultsView {
+  /** Options of a {@link DefaultsView}. */
+  export interface IOptions {
+    /** The model to show. */
+    model: DefaultsModel;
+    /** Called by the "Edit settings" button; no button without it. */
+    onOpenSettings?: () => void;
+  }
+}

@@ -1,0 +1,31 @@
+/**
+ * The model of the whole Polyadic panel: one sub-model per section.
+ */
+import { DefaultsModel } from './defaults/model';
+import { SourceModel } from './source/model';
+
+/** State of the Polyadic side panel. */
+export class PanelModel {
+  /** The notebook the panel follows (data section). */
+  readonly source = new SourceModel();
+
+  /** The user settings new analyses start from (defaults section). */
+  readonly defaults = new DefaultsModel();
+
+  /** Whether the model has been disposed. */
+  get isDisposed(): boolean {
+    return this._isDisposed;
+  }
+
+  /** Dispose the section models. */
+  dispose(): void {
+    if (this._isDisposed) {
+      return;
+    }
+    this._isDisposed = true;
+    this.source.dispose();
+    this.defaults.dispose();
+  }
+
+  private _isDisposed = false;
+}

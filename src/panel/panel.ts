@@ -1,0 +1,57 @@
+/**
+ * The Polyadic side panel: a header with the product name and one accordion section per
+ * part of an analysis.
+ */
+import { SidePanel } from '@jupyterlab/ui-components';
+import { Widget } from '@lumino/widgets';
+
+import { polyadicIcon } from '../icons';
+import { DefaultsView } from './defaults/view';
+import { textElement } from './dom';
+import { PanelModel } from './model';
+import { SourceView } from './source/view';
+
+/** The right-sidebar panel of Polyadic. */
+export class PolyadicPanel extends SidePanel {
+  /** Create the panel and its sections for `options.model`. */
+  constructor(options: PolyadicPanel.IOptions) {
+    super();
+    this.id = PolyadicPanel.ID;
+    this.addClass('pd-Panel');
+    this.title.icon = polyadicIcon;
+    this.title.caption = 'Polyadic';
+    this.node.setAttribute('role', 'region');
+    this.node.setAttribute('aria-label', 'Polyadic');
+    this.model = options.model;
+
+    const heading = new Widget({ node: textElement('h2', 'pd-Panel-title', 'Polyadic') });
+    heading.addClass('jp-text-truncated');
+    this.header.addWidget(heading);
+
+    this.addWidget(
+      new SourceView({ model: this.model.source, onNewNotebook: options.onNewNotebook })
+    );
+    this.addWidget(
+      new DefaultsView({ model: this.model.defaults, onOpenSettings: options.onOpenSettings })
+    );
+  }
+
+  /** The state the panel shows. */
+  readonly model: PanelModel;
+}
+
+/** The statics of {@link PolyadicPanel}. */
+export namespace PolyadicPanel {
+  /** DOM id of the panel, also the id the layout restorer stores. */
+  export const ID = 'pd-polyadic-panel';
+
+  /** Options of a {@link PolyadicPanel}. */
+  export interface IOptions {
+    /** The panel's state. */
+    model: PanelModel;
+    /** Creates a notebook; offered by the empty state. */
+    onNewNotebook?: () => void;
+    /** Opens the Settings Editor on Polyadic's settings. */
+    onOpenSettings?: () => void;
+  }
+}

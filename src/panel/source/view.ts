@@ -1,0 +1,103 @@
+/**
+ * The panel's data section: the notebook the panel follows, or an empty state that says
+ * what to do when no notebook is open.
+ */
+import { Widget } from '@lumino/widgets';
+
+import { textElement } from '../dom';
+import { INotebookSummary, SourceModel } from './model';
+
+/** Shows a {@link SourceModel}. Text only goes in through `textContent`. */
+export class SourceView extends Widget {
+  /** Create the section for `options.model`. */
+  constructor(options: SourceView.IOptions) {
+    super();
+    this.addClass('pd-Source');
+    this.title.label = 'Data';
+    this._model = options.model;
+    this._onNewNotebook = options.onNewNotebook ?? null;
+    this._model.changed.connect(this._render, this);
+    this._render();
+  }
+
+  /** Disconnect from the model and dispose the widget. */
+  dispose(): void {
+    if (this.isDisposed) {
+      return;
+    }
+    this._model.changed.disconnect(this._render, this);
+    super.dispose();
+  }
+
+  private _render(): void {
+    const notebook = this._model.notebook;
+    this.node.replaceChildren(
+      notebook === null ? this._renderEmpty() : Private.renderNotebook(notebook)
+    );
+  }
+
+  private _renderEmpty(): HTMLElement {
+    const box = textElement('div', 'pd-EmptyState');
+    box.setAttribute('role', 'status');
+    box.append(
+      textElement('p', 'pd-EmptyState-title', 'No notebook is open'),
+      textElement(
+        'p',
+        'pd-EmptyState-text',
+        'Polyadic works on a dataframe (pandas, polars or pyarrow) held by a ' +
+          'notebook’s Python kernel. Open or create a notebook and load your table ' +
+          'there; this panel follows the notebook you used last.'
+      )
+    );
+    const onNewNotebook = this._onNewNotebook;
+    if (onNewNotebook !== null) {
+      const button = textElement(
+        'button',
+        'pd-EmptyState-action jp-mod-styled jp-mod-accept',
+        'New notebook'
+      );
+      button.type = 'button';
+      button.addEventListener('click', () => onNewNotebook());
+      box.append(button);
+    }
+    return box;
+  }
+
+  private readonly _model: SourceModel;
+  private readonly _onNewNotebook: (() => void) | null;
+}
+
+/** The statics of {@link SourceView}. */
+export namespace SourceView {
+  /** Options of a {@link SourceView}. */
+  export interface IOptions {
+    /** The model to show. */
+    model: SourceModel;
+    /** Called by the empty state's "New notebook" button; no button without it. */
+    onNewNotebook?: () => void;
+  }
+}
+
+namespace Private {
+  /** The followed notebook and its kernel as a definition list. */
+  export function renderNotebook(notebook: INotebookSummary): HTMLElement {
+    const list = textElement('dl', 'pd-Facts');
+    const name = textElement('dd', 'pd-Facts-value', notebook.name);
+    name.title = notebook.path;
+    const kernel =
+      notebook.kernel === null
+        ? textElement('dd', 'pd-Facts-value jp-mod-warning', 'No kernel: choose one in the notebook')
+        : textElement(
+            'dd',
+            'pd-Facts-value',
+            `${notebook.kernel.displayName} (${notebook.kernel.status})`
+          );
+    list.append(
+      textElement('dt', 'pd-Facts-label', 'Notebook'),
+      name,
+      textElement('dt', 'pd-Facts-label', 'Kernel'),
+      kernel
+    );
+    return list;
+  }
+}
