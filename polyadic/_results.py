@@ -9,6 +9,7 @@ access to the shared state holds one lock.
 from __future__ import annotations
 
 import threading
+from copy import deepcopy
 from collections import OrderedDict
 from dataclasses import dataclass, field
 from typing import Any
@@ -205,5 +206,5 @@ class ResultStore:
                 listing = ", ".join(map(repr, known)) if known else "none yet"
                 raise ResultsNotFound(f"No Polyadic results with id {analysis_id!r}; known ids: {listing}.")
         copy = table.copy()
-        copy.attrs = dict(table.attrs)
+        copy.attrs = deepcopy(table.attrs)
         return copy
