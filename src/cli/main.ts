@@ -1,0 +1,383 @@
+/**
+ * `polyadic`, the headless command line: `polyadic analyze DATA [options]`.
+ *
+ * Exit codes: 0 done; 2 bad input or usage (one line on stderr starting `polyadic:` that
+ * names the column, row, option or value at fault); 1 internal error (a bug: the message and
+ * a request to report it).
+ */
+
+import { promises as fs, readFileSync } from 'fs';
+import * as path from 'path';
+import { parseArgs } from 'util';
+
+import { analyze } from '../engine/analyze';
+import { BIN_SPEC_FORMS, parseBinSpec } from '../engine/binning';
+import { isPolyadicError, PolyadicError } from '../engine/errors';
+import { unknownColumn } from '../engine/table';
+import type { EstimatorName, IAnalyzeOptions, MissingPolicy, Units } from '../engine/types';
+import { formatResult, OUTPUT_FORMATS, OutputFormat } from './output';
+import { readDataFile, type IDataSource } from './readers';
+
+/** The package version, replaced by the bundler; undefined when running from source. */
+declare const POLYADIC_VERSION: string | undefined;
+
+/** Where the CLI writes: process.stdout/stderr, or a capture in tests. */
+export interface ICliStreams {
+  stdout: { write(text: string): unknown };
+  stderr: { write(text: string): unknown };
+}
+
+/** Exit codes of the CLI. */
+export const EXIT = { done: 0, internal: 1, usage: 2 } as const;
+
+/** Values each enumerated option accepts. */
+export const CHOICES = {
+  missing: ['drop', 'category', 'error'] as readonly MissingPolicy[],
+  estimator: ['plugin', 'miller-madow', 'chao-shen', 'shrinkage'] as readonly EstimatorName[],
+  units: ['bits', 'nats'] as readonly Units[],
+  format: OUTPUT_FORMATS
+};
+
+/** The text of `polyadic --help`. */
+export const HELP = `Usage: polyadic analyze DATA [options]
+       polyadic --help | --version
+
+Find higher-order structure in a table: entropy of every column, and co-information,
+total correlation, dual total correlation, O-information and S-information of every
+multiplet (set of columns) up to an order.
+
+DATA is a .csv or .tsv file with a header row, an Arrow IPC file or stream (.arrow,
+.feather, .arrows, .ipc, uncompressed) or a .parquet file.
+
+Options:
+  --columns a,b,c       columns to analyse (default: all)
+  --bins SPEC           binning of every column (default: categorical for text,
+                        quantile:4 for numbers)
+  --bin COLUMN=SPEC     binning of one column; repeat for several
+  --missing POLICY      drop | category | error (default: drop)
+  --estimator NAME      plugin | miller-madow | chao-shen | shrinkage (default: plugin)
+  --units UNITS         bits | nats (default: bits)
+  --max-order K         largest multiplet order (default: all when at most 12
+                        columns, else 3)
+  --top N               keep the N most negative and N most positive co-information
+                        multiplets of order 2 and above
+  --format FORMAT       json | csv (default: json, or csv when --out ends in .csv)
+  --out PATH            write the result to PATH instead of standard output
+  -h, --help            show this help
+  -V, --version         show the version
+
+SPEC is one of: ${BIN_SPEC_FORMS}.
+
+Co-information sign (Bell 2003): negative means synergy dominates, positive
+redundancy. In CSV output the columns of a multiplet are joined with '|'.
+
+Exit codes: 0 done, 2 bad input or usage, 1 internal error.
+`;
+
+/** Run the CLI on arguments (without `node` and the script); resolves to the exit code. */
+export async function main(argv: string[], streams: ICliStreams = process): Promise<number> {
+  let source: IDataSource | undefined;
+  try {
+    const command = Private.parseCommand(argv);
+    if (command.kind === 'help') {
+      streams.stdout.write(HELP);
+      return EXIT.done;
+    }
+    if (command.kind === 'version') {
+      streams.stdout.write(`polyadic ${Private.packageVersion()}\n`);
+      return EXIT.done;
+    }
+    source = await readDataFile(command.data, { columns: command.columns });
+    const options = Private.analyzeOptions(command, source);
+    const result = analyze(source.columns, options);
+    for (const warning of result.warnings) {
+      streams.stderr.write(`polyadic: warning: ${Private.oneLine(warning)}\n`);
+    }
+    const text = formatResult(result, command.format);
+    if (command.out) {
+      await Private.writeOutput(command.out, text);
+    } else {
+      streams.stdout.write(text);
+    }
+    return EXIT.done;
+  } catch (error) {
+    return reportError(error, streams, source);
+  }
+}
+
+/**
+ * Print an error and return its exit code: a PolyadicError about input, usage or a limit is
+ * one line naming what is at fault (2); anything else is a bug (1).
+ */
+export function reportError(error: unknown, streams: ICliStreams, source?: IDataSource): number {
+  if (isPolyadicError(error) && error.kind !== 'internal') {
+    let message = error.message;
+    const row = error.detail.row;
+    if (source?.lineOfRow && typeof row === 'number' && error.detail.line === undefined && !/\bline \d/.test(message)) {
+      message = `${message.replace(/\.$/, '')} (line ${source.lineOfRow(row)} of the file).`;
+    }
+    streams.stderr.write(`polyadic: ${Private.oneLine(message)}\n`);
+    return EXIT.usage;
+  }
+  const message = error instanceof Error ? error.message : String(error);
+  streams.stderr.write(
+    `polyadic: internal error: ${Private.oneLine(message)}\n` +
+      'polyadic: this is a bug in Polyadic; please report it with the command you ran, ' +
+      'the output of `polyadic --version` and, if you can, the data file.\n'
+  );
+  if (process.env.POLYADIC_DEBUG && error instanceof Error && error.stack) {
+    streams.stderr.write(error.stack + '\n');
+  }
+  return EXIT.internal;
+}
+
+/** Module-private helpers. */
+namespace Private {
+  /** A parsed command line. */
+  export type Command =
+    | { kind: 'help' }
+    | { kind: 'version' }
+    | {
+        kind: 'analyze';
+        data: string;
+        columns?: string[];
+        bins?: string;
+        binsByColumn: [string, string][];
+        missing?: MissingPolicy;
+        estimator?: EstimatorName;
+        units?: Units;
+        maxOrder?: number;
+        top?: number;
+        format: OutputFormat;
+        out?: string;
+      };
+
+  /** Parse argv strictly; usage errors name the option or value at fault. */
+  export function parseCommand(argv: string[]): Command {
+    let parsed;
+    try {
+      parsed = parseArgs({
+        args: argv,
+        strict: true,
+        allowPositionals: true,
+        options: {
+          columns: { type: 'string' },
+          bins: { type: 'string' },
+          bin: { type: 'string', multiple: true },
+          missing: { type: 'string' },
+          estimator: { type: 'string' },
+          units: { type: 'string' },
+          'max-order': { type: 'string' },
+          top: { type: 'string' },
+          format: { type: 'string' },
+          out: { type: 'string' },
+          help: { type: 'boolean', short: 'h' },
+          version: { type: 'boolean', short: 'V' }
+        }
+      });
+    } catch (error) {
+      throw new PolyadicError('usage', `${firstSentence(error)}; see polyadic --help.`, {});
+    }
+    const { values, positionals } = parsed;
+    if (values.help) {
+      return { kind: 'help' };
+    }
+    if (values.version) {
+      return { kind: 'version' };
+    }
+    const [verb, data, ...extra] = positionals;
+    if (verb === undefined) {
+      throw new PolyadicError('usage', 'No command given; try polyadic analyze DATA, or polyadic --help.', {});
+    }
+    if (verb !== 'analyze') {
+      throw new PolyadicError('usage', `Unknown command '${verb}'; the command is 'analyze' (see polyadic --help).`, {
+        value: verb
+      });
+    }
+    if (data === undefined) {
+      throw new PolyadicError('usage', 'analyze needs a DATA file: polyadic analyze DATA [options].', {});
+    }
+    if (extra.length > 0) {
+      throw new PolyadicError('usage', `Unexpected argument '${extra[0]}'; analyze takes one DATA file.`, {
+        value: extra[0]
+      });
+    }
+    const columns = values.columns === undefined ? undefined : columnList(values.columns);
+    const binsByColumn = (values.bin ?? []).map(binOption);
+    const out = values.out;
+    const format = values.format === undefined
+      ? out && path.extname(out).toLowerCase() === '.csv' ? 'csv' : 'json'
+      : choice('--format', values.format, CHOICES.format);
+    return {
+      kind: 'analyze',
+      data,
+      columns,
+      bins: values.bins === undefined ? undefined : binSpec('--bins', values.bins),
+      binsByColumn,
+      missing: values.missing === undefined ? undefined : choice('--missing', values.missing, CHOICES.missing),
+      estimator:
+        values.estimator === undefined ? undefined : choice('--estimator', values.estimator, CHOICES.estimator),
+      units: values.units === undefined ? undefined : choice('--units', values.units, CHOICES.units),
+      maxOrder: values['max-order'] === undefined ? undefined : positiveInteger('--max-order', values['max-order']),
+      top: values.top === undefined ? undefined : positiveInteger('--top', values.top),
+      format,
+      out
+    };
+  }
+
+  /** Engine options from a command, with --bin columns checked against the selection. */
+  export function analyzeOptions(command: Extract<Command, { kind: 'analyze' }>, source: IDataSource): IAnalyzeOptions {
+    const selected = source.columns.map(column => column.name);
+    const binsByColumn: Record<string, string> = {};
+    for (const [column, spec] of command.binsByColumn) {
+      if (!selected.includes(column)) {
+        if (!source.names.includes(column)) {
+          throw unknownColumn(column, source.names);
+        }
+        throw new PolyadicError(
+          'usage',
+          `--bin names column '${column}', which is not among --columns (${selected.join(', ')}).`,
+          { option: '--bin', column }
+        );
+      }
+      if (column in binsByColumn) {
+        throw new PolyadicError('usage', `--bin is given twice for column '${column}'.`, { option: '--bin', column });
+      }
+      binsByColumn[column] = spec;
+    }
+    const options: IAnalyzeOptions = {};
+    if (command.bins !== undefined) options.bins = command.bins;
+    if (command.binsByColumn.length > 0) options.binsByColumn = binsByColumn;
+    if (command.missing !== undefined) options.missing = command.missing;
+    if (command.estimator !== undefined) options.estimator = command.estimator;
+    if (command.units !== undefined) options.units = command.units;
+    if (command.maxOrder !== undefined) options.maxOrder = command.maxOrder;
+    if (command.top !== undefined) options.top = command.top;
+    return options;
+  }
+
+  /** `--columns a,b,c` as a list: no empty name, no name twice. */
+  function columnList(text: string): string[] {
+    const names = text.split(',');
+    names.forEach((name, index) => {
+      if (name === '') {
+        throw new PolyadicError('usage', `--columns has an empty name at position ${index + 1} in '${text}'.`, {
+          option: '--columns',
+          value: text
+        });
+      }
+      if (names.indexOf(name) !== index) {
+        throw new PolyadicError('usage', `--columns names '${name}' twice.`, { option: '--columns', column: name });
+      }
+    });
+    return names;
+  }
+
+  /** `--bin COLUMN=SPEC`: split at the last '=', since a spec never holds one. */
+  function binOption(text: string): [string, string] {
+    const at = text.lastIndexOf('=');
+    if (at <= 0 || at === text.length - 1) {
+      throw new PolyadicError(
+        'usage',
+        `--bin expects COLUMN=SPEC, got '${text}'; SPEC is one of ${BIN_SPEC_FORMS}.`,
+        { option: '--bin', value: text }
+      );
+    }
+    return [text.slice(0, at), binSpec(`--bin for column '${text.slice(0, at)}'`, text.slice(at + 1))];
+  }
+
+  /**
+   * Check a binning spec with the engine's parser before the data is read, so a typo is
+   * reported at once, with the option it came from.
+   */
+  function binSpec(option: string, spec: string): string {
+    try {
+      parseBinSpec(spec);
+    } catch (error) {
+      if (isPolyadicError(error)) {
+        throw new PolyadicError('usage', `${option}: ${error.message}`, { ...error.detail, option: option.split(' ')[0] });
+      }
+      throw error;
+    }
+    return spec;
+  }
+
+  /** One of a fixed set of values, or a usage error listing them. */
+  function choice<T extends string>(option: string, value: string, allowed: readonly T[]): T {
+    if (!(allowed as readonly string[]).includes(value)) {
+      throw new PolyadicError('usage', `${option} must be one of ${allowed.join(', ')}; got '${value}'.`, {
+        option,
+        value
+      });
+    }
+    return value as T;
+  }
+
+  /** A whole number ≥ 1, or a usage error. */
+  function positiveInteger(option: string, value: string): number {
+    if (!/^[1-9]\d*$/.test(value) || !Number.isSafeInteger(Number(value))) {
+      throw new PolyadicError('usage', `${option} must be a whole number of at least 1; got '${value}'.`, {
+        option,
+        value
+      });
+    }
+    return Number(value);
+  }
+
+  /** The first sentence of node's argument-parser message, in our lower-case style. */
+  function firstSentence(error: unknown): string {
+    const message = error instanceof Error ? error.message : String(error);
+    const sentence = message.split(/\.\s/)[0].replace(/\.$/, '');
+    return sentence.charAt(0).toUpperCase() + sentence.slice(1);
+  }
+
+  /** Write the output file, reporting a path that cannot be written as a usage error. */
+  export async function writeOutput(out: string, text: string): Promise<void> {
+    try {
+      await fs.writeFile(out, text, 'utf8');
+    } catch (error) {
+      throw new PolyadicError('usage', `--out '${out}' cannot be written (${(error as Error).message}).`, {
+        option: '--out',
+        value: out
+      });
+    }
+  }
+
+  /**
+   * A message on one line with control characters shown as escapes: messages quote column
+   * names and cells from untrusted files, which must not move the cursor or recolour a terminal.
+   */
+  export function oneLine(message: string): string {
+    // eslint-disable-next-line no-control-regex
+    return message.replace(/[\u0000-\u001f\u007f-\u009f]/g, c => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
+  }
+
+  /**
+   * The package version: written into the bundle at build time (scripts/build-cli.mjs), else
+   * read from the package.json above this file when running from source (tests).
+   */
+  export function packageVersion(): string {
+    if (typeof POLYADIC_VERSION === 'string') {
+      return POLYADIC_VERSION;
+    }
+    let dir = __dirname;
+    for (let depth = 0; depth < 4; depth++) {
+      try {
+        const manifest = JSON.parse(readFileSync(path.join(dir, 'package.json'), 'utf8'));
+        if (manifest.name === 'jupyterlab-polyadic') {
+          return String(manifest.version);
+        }
+      } catch {
+        // no manifest at this level: look one directory up
+      }
+      dir = path.dirname(dir);
+    }
+    return 'unknown';
+  }
+}
+
+if (require.main === module) {
+  void main(process.argv.slice(2)).then(code => {
+    process.exitCode = code;
+  });
+}
