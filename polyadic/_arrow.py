@@ -76,7 +76,7 @@ class _PieceSink(io.RawIOBase):
     def writable(self) -> bool:
         return True
 
-    def write(self, data: Any) -> int:  # type: ignore[override]
+    def write(self, data: Any) -> int:
         # The writer hands over views of the table's own buffers; joining copies them once.
         self._parts.append(data)
         return len(memoryview(data))

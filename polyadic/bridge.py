@@ -25,7 +25,7 @@ from typing import Any, Callable, Mapping
 
 from ._arrow import FETCH_BATCH_MAX_BYTES, frame_to_ipc_batches
 from ._errors import BridgeError
-from ._listing import frame_kind, list_frames
+from ._listing import IPYTHON_NAMES, frame_kind, list_frames
 from ._results import ResultsNotFound, ResultStore
 
 #: Name of the comm target the front end opens (DESIGN.md glossary).
@@ -162,7 +162,8 @@ class KernelBridge:
         if not isinstance(name, str) or not name:
             raise BridgeError("A fetch request needs the frame's 'name'.", option="name")
         namespace = self._namespace()
-        frame = namespace.get(name)
+        # Only names the listing could show: private names and IPython's history stay private.
+        frame = None if name.startswith("_") or name in IPYTHON_NAMES else namespace.get(name)
         if frame is None or frame_kind(frame) is None:
             raise BridgeError(
                 f"There is no frame named {name!r} in the kernel any more (deleted or replaced since "

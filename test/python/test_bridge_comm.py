@@ -139,6 +139,13 @@ class TestFakeComm:
         assert "no frame named 'greenhouse'" in message["message"]
         assert message["detail"] == {"frame": "greenhouse"}
 
+    def test_private_names_cannot_be_fetched(self, opened, namespace):
+        _, comm = opened
+        comm.take()
+        namespace["_"] = namespace["greenhouse"]
+        comm.deliver({"type": "fetch", "request_id": "f7", "name": "_"})
+        assert comm.take()[0][0]["detail"] == {"frame": "_"}
+
     def test_name_bound_to_something_else(self, opened):
         _, comm = opened
         comm.take()
