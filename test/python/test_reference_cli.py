@@ -241,3 +241,78 @@ def test_nats_are_bits_times_ln2(dataset, polyadic_analyze):
         # 1 bit = ln 2 nats (Cover & Thomas 2006, §2.1)
         assert nats[key]["entropy"] == pytest.approx(row["entropy"] * math.log(2), abs=TOLERANCE)
         assert nats[key]["coinformation"] == pytest.approx(row["coinformation"] * math.log(2), abs=TOLERANCE)
+
+
+def typed_table(rows: int = 300) -> pa.Table:
+    """A seeded Arrow table with one column per type the readers handle, with nulls (and NaN)."""
+    rng = np.random.default_rng(7)
+
+    def pick(values, null_share=0.1):
+        chosen = [values[i] for i in rng.integers(0, len(values), size=rows)]
+        return [None if rng.random() < null_share else v for v in chosen]
+
+    return pa.table(
+        {
+            "int8": pa.array(pick([-3, 0, 5]), pa.int8()),
+            "int16": pa.array(pick([0, 300, -300, 7]), pa.int16()),
+            "int32": pa.array(pick([0, 1, 2]), pa.int32()),
+            "int64": pa.array(pick([0, 2**40, -(2**40)]), pa.int64()),
+            "uint8": pa.array(pick([0, 200, 255]), pa.uint8()),
+            "uint16": pa.array(pick([0, 65535]), pa.uint16()),
+            "uint32": pa.array(pick([0, 4_000_000_000, 1]), pa.uint32()),
+            "uint64": pa.array(pick([0, 2**50, 3]), pa.uint64()),
+            "float32": pa.array(pick([0.0, 0.5, -1.25, float("nan")]), pa.float32()),
+            "float64": pa.array(pick([0.0, 1e-300, 2.5, float("nan")]), pa.float64()),
+            "bool": pa.array(pick([True, False]), pa.bool_()),
+            "string": pa.array(pick(["dry", "wet", "", "soaked"]), pa.string()),
+            "large_string": pa.array(pick(["a", "b"]), pa.large_string()),
+            "dictionary": pa.array(pick(["open", "shut"])).dictionary_encode(),
+            "timestamp": pa.array(pick([0, 10**9, 2 * 10**9]), pa.timestamp("ns")),
+            "timestamp_tz": pa.array(pick([0, 1000]), pa.timestamp("ms", tz="UTC")),
+            "date": pa.array(pick([19783, 19784, 19823]), pa.date32()),
+            "duration": pa.array(pick([1, 2, 3]), pa.duration("us")),
+        }
+    )
+
+
+def is_missing(value) -> bool:
+    return value is None or (isinstance(value, float) and math.isnan(value))
+
+
+def labels_of(column: pa.ChunkedArray) -> np.ndarray:
+    """Codes of a column with null and NaN as one more category (pandas.factorize keeps NA)."""
+    values = [None if is_missing(v) else v for v in column.to_pylist()]
+    return pd.factorize(pd.Series(values, dtype=object), use_na_sentinel=False)[0]
+
+
+@pytest.mark.parametrize("fmt", ["parquet", "arrow", "arrows"])
+def test_column_types_and_nulls_match_pandas(fmt, tmp_path, polyadic_analyze):
+    table = typed_table()
+    path = tmp_path / f"typed.{fmt}"
+    if fmt == "parquet":
+        import pyarrow.parquet as pq
+
+        pq.write_table(table, path, row_group_size=70)
+    elif fmt == "arrow":
+        feather.write_feather(table, path, compression="uncompressed", chunksize=64)
+    else:
+        with pa.OSFile(str(path), "wb") as sink, pa.ipc.new_stream(sink, table.schema) as writer:
+            for batch in table.to_batches(max_chunksize=45):
+                writer.write_batch(batch)
+    result = polyadic_analyze(path, "--bins", "categorical", "--missing", "category", "--max-order", "2")
+    assert [c["name"] for c in result["columns"]] == table.column_names
+    rows = by_columns(result)
+    codes = {name: labels_of(table.column(name)) for name in table.column_names}
+    for name, c in codes.items():
+        # reference: scipy.stats.entropy of pandas.factorize counts, null/NaN as one category
+        expected = scipy_entropy(np.bincount(c), base=2)
+        assert rows[frozenset([name])]["entropy"] == pytest.approx(expected, abs=TOLERANCE), name
+    for x, y in itertools.combinations(codes, 2):
+        # reference: sklearn.metrics.mutual_info_score / ln 2
+        expected = mutual_info_score(codes[x], codes[y]) / math.log(2)
+        assert rows[frozenset([x, y])]["coinformation"] == pytest.approx(expected, abs=TOLERANCE), (x, y)
+    # under 'drop' a row is used only when no selected column is null or NaN
+    dropped = polyadic_analyze(path, "--bins", "categorical", "--max-order", "1")
+    missing = np.array([[is_missing(v) for v in table.column(name).to_pylist()] for name in table.column_names])
+    assert dropped["rows"] == table.num_rows
+    assert dropped["rows_used"] == int((~missing.any(axis=0)).sum())
