@@ -1,0 +1,636 @@
+/**
+ * The pool of engine workers that runs analyses off the main thread (DESIGN.md §3: the walk is
+ * split across workers by subtree; results must not depend on the number of workers).
+ *
+ * One run at a time: the first worker bins the columns, every worker walks units of the lattice
+ * (largest first, each idle worker taking the next), and the first worker assembles the lattice
+ * in its fixed index order and computes the result. Progress goes to a plain callback at least
+ * every `progressInterval` ms. `cancel()` terminates the run's workers at once; new ones start
+ * lazily with the next run. Previews of a column's binning go to a worker of their own, so they
+ * stay quick while a run occupies the pool.
+ *
+ * No DOM and no Lumino here: the pool runs in the browser, in Node and in jest alike; the worker
+ * itself comes from the injected `createWorker`.
+ */
+
+import { PolyadicError } from '../engine/errors';
+import type { ILattice, ILatticeInput, ISubtreeResult } from '../engine/lattice';
+import { createIndexing } from '../engine/multiplets';
+import type { ColumnView, IAnalysisResult, IAnalyzeOptions } from '../engine/types';
+import { deserializeError } from './handlers';
+import {
+  EngineRequest,
+  EngineResponse,
+  IColumnPreview,
+  IEngineWorker,
+  IErrorResponse,
+  IWorkUnit,
+  PROTOCOL_VERSION
+} from './protocol';
+import { addColumn, packColumn, TransferList } from './transfer';
+import { IPlannedUnit, planUnits } from './units';
+
+/** Most workers a pool starts by default (more rarely pays: memory grows with each copy of the codes). */
+export const MAX_DEFAULT_WORKERS = 4;
+
+/** Default worker count: one core left for the page, at most {@link MAX_DEFAULT_WORKERS}, at least 1. */
+export function defaultWorkerCount(hardwareConcurrency?: number): number {
+  const cores = hardwareConcurrency && hardwareConcurrency > 0 ? Math.floor(hardwareConcurrency) : 2;
+  return Math.max(1, Math.min(cores - 1, MAX_DEFAULT_WORKERS));
+}
+
+/** The rejection of a run that was cancelled (or whose pool was disposed). */
+export class RunCancelled extends Error {
+  /** Always 'cancelled', so a view can tell it from a {@link PolyadicError} by `kind`. */
+  readonly kind = 'cancelled' as const;
+
+  /** Create the error; `message` says what stopped the run. */
+  constructor(message = 'The analysis was cancelled.') {
+    super(message);
+    this.name = 'RunCancelled';
+  }
+}
+
+/** Whether a value is a {@link RunCancelled}. */
+export function isRunCancelled(value: unknown): value is RunCancelled {
+  return value instanceof RunCancelled;
+}
+
+/** The phase a run is in: binning the columns, walking the lattice, computing the measures, done. */
+export type RunPhase = 'binning' | 'walking' | 'measuring' | 'done';
+
+/** A progress report of a run. */
+export interface IRunProgress {
+  run: number;
+  phase: RunPhase;
+  /** Fraction done, 0 … 1, never decreasing; 1 only with phase 'done'. */
+  fraction: number;
+  unitsDone: number;
+  unitsTotal: number;
+  multipletsDone: number;
+  multipletsTotal: number;
+  elapsedMs: number;
+  /** Estimated time left; null until there is something to estimate from. */
+  remainingMs: number | null;
+}
+
+/** What a run gives back. */
+export interface IRunResult {
+  result: IAnalysisResult;
+  /** The lattice (entropies in nats by multiplet index), when asked for. */
+  lattice?: ILattice;
+  /** Workers that walked the lattice. */
+  workers: number;
+  elapsedMs: number;
+}
+
+/** Runs analyses and binning previews in workers. */
+export class EnginePool {
+  /** Create a pool; no worker starts until it is needed. */
+  constructor(options: EnginePool.IOptions) {
+    this._createWorker = options.createWorker;
+    this._size = options.workers ?? defaultWorkerCount(Private.hardwareConcurrency());
+    if (!(Number.isInteger(this._size) && this._size >= 1)) {
+      throw new PolyadicError('usage', `A pool needs a whole number of workers ≥ 1, not ${this._size}.`, {
+        option: 'workers',
+        value: String(this._size)
+      });
+    }
+    this._interval = options.progressInterval ?? 200;
+    this._now = options.now ?? (() => globalThis.performance.now());
+  }
+
+  /** Number of workers a run may use. */
+  get size(): number {
+    return this._size;
+  }
+
+  /** Workers started and not terminated, the preview worker included. */
+  get liveWorkers(): number {
+    return this._slots.length + (this._previewSlot ? 1 : 0);
+  }
+
+  /** Whether a run is in progress. */
+  get isRunning(): boolean {
+    return this._run !== null;
+  }
+
+  /** Whether the pool is disposed. */
+  get isDisposed(): boolean {
+    return this._disposed;
+  }
+
+  /**
+   * Analyze columns as `analyze` does, in the workers. Rejects with a {@link PolyadicError}
+   * (bad input or options, limits, engine failures) or a {@link RunCancelled}.
+   */
+  analyze(
+    columns: ColumnView[],
+    options: IAnalyzeOptions = {},
+    runOptions: EnginePool.IRunOptions = {}
+  ): Promise<IRunResult> {
+    if (this._disposed) {
+      return Promise.reject(new RunCancelled('The engine pool is disposed.'));
+    }
+    if (this._run) {
+      return Promise.reject(
+        new PolyadicError('usage', 'An analysis is already running; wait for it to finish or cancel it.')
+      );
+    }
+    const selected = options.columns?.length ?? columns.length;
+    const slots = this._ensureSlots(Math.max(1, Math.min(this._size, selected)));
+    const transfer = new TransferList();
+    const packed = columns.map(column => {
+      const copy = packColumn(column, runOptions.transferColumns ?? false);
+      addColumn(transfer, copy);
+      return copy;
+    });
+    return new Promise<IRunResult>((resolve, reject) => {
+      const run: Private.IRun = {
+        id: ++this._runCount,
+        options,
+        runOptions,
+        resolve,
+        reject,
+        started: this._now(),
+        phase: 'binning',
+        slots,
+        input: null,
+        units: [],
+        next: 0,
+        unitsDone: 0,
+        multipletsDone: 0,
+        multipletsTotal: 0,
+        inFlight: new Map(),
+        parts: [],
+        fraction: 0,
+        timer: null,
+        walkers: 0
+      };
+      this._run = run;
+      if (runOptions.onProgress) {
+        run.timer = setInterval(() => this._report(run), this._interval);
+      }
+      this._report(run);
+      const prepare: EngineRequest = {
+        type: 'prepare',
+        id: this._nextId(),
+        protocol: PROTOCOL_VERSION,
+        run: run.id,
+        columns: packed,
+        options,
+        shareCodes: slots.length > 1
+      };
+      this._send(slots[0], prepare, transfer.buffers);
+    });
+  }
+
+  /**
+   * Bin one column by a spec (default: the column's default spec) and describe the result for
+   * drawing. The column is copied unless `transferColumn` hands it over.
+   */
+  preview(column: ColumnView, spec?: string, options: EnginePool.IPreviewOptions = {}): Promise<IColumnPreview> {
+    if (this._disposed) {
+      return Promise.reject(new RunCancelled('The engine pool is disposed.'));
+    }
+    const slot = this._ensurePreviewSlot();
+    const packed = packColumn(column, options.transferColumn ?? false);
+    const id = this._nextId();
+    return new Promise<IColumnPreview>((resolve, reject) => {
+      this._previews.set(id, { resolve, reject });
+      this._send(
+        slot,
+        { type: 'preview', id, protocol: PROTOCOL_VERSION, column: packed, spec, resolution: options.resolution },
+        addColumn(new TransferList(), packed).buffers
+      );
+    });
+  }
+
+  /**
+   * Cancel the run in progress: its workers are terminated at once, its promise rejects with a
+   * {@link RunCancelled}, and no progress is reported after this. Returns whether a run was cancelled.
+   */
+  cancel(): boolean {
+    const run = this._run;
+    if (!run) {
+      return false;
+    }
+    this._terminate(run.slots);
+    this._end(run);
+    run.reject(new RunCancelled());
+    return true;
+  }
+
+  /** Terminate every worker; a run or preview still pending rejects with a {@link RunCancelled}. */
+  dispose(): void {
+    if (this._disposed) {
+      return;
+    }
+    this._disposed = true;
+    const run = this._run;
+    if (run) {
+      this._end(run);
+      run.reject(new RunCancelled('The engine pool was disposed during the analysis.'));
+    }
+    this._terminate(this._slots.slice());
+    this._dropPreviewSlot(new RunCancelled('The engine pool was disposed before the preview was ready.'));
+  }
+
+  private _nextId(): number {
+    return ++this._requestCount;
+  }
+
+  private _ensureSlots(count: number): Private.ISlot[] {
+    while (this._slots.length < count) {
+      this._slots.push(this._startSlot(false));
+    }
+    return this._slots.slice(0, count);
+  }
+
+  private _ensurePreviewSlot(): Private.ISlot {
+    if (!this._previewSlot) {
+      this._previewSlot = this._startSlot(true);
+    }
+    return this._previewSlot;
+  }
+
+  private _startSlot(preview: boolean): Private.ISlot {
+    const slot: Private.ISlot = { worker: this._createWorker(), busy: false, holds: null, preview };
+    slot.worker.listen(
+      response => this._onResponse(slot, response),
+      reason => this._onFailure(slot, reason)
+    );
+    return slot;
+  }
+
+  private _send(slot: Private.ISlot, request: EngineRequest, transfer: ArrayBuffer[]): void {
+    slot.worker.post(request, transfer);
+  }
+
+  private _terminate(slots: Private.ISlot[]): void {
+    for (const slot of slots) {
+      slot.worker.terminate();
+      const at = this._slots.indexOf(slot);
+      if (at >= 0) {
+        this._slots.splice(at, 1);
+      }
+    }
+  }
+
+  private _dropPreviewSlot(reason: Error): void {
+    if (this._previewSlot) {
+      this._previewSlot.worker.terminate();
+      this._previewSlot = null;
+    }
+    const pending = Array.from(this._previews.values());
+    this._previews.clear();
+    pending.forEach(preview => preview.reject(reason));
+  }
+
+  private _onFailure(slot: Private.ISlot, reason: string): void {
+    const error = new PolyadicError(
+      'internal',
+      `An engine worker stopped unexpectedly: ${reason}. The analysis workers were restarted.`,
+      { reason }
+    );
+    if (slot.preview) {
+      this._dropPreviewSlot(error);
+      return;
+    }
+    const run = this._run;
+    if (run && run.slots.includes(slot)) {
+      this._terminate(run.slots);
+      this._end(run);
+      run.reject(error);
+      return;
+    }
+    this._terminate([slot]);
+  }
+
+  private _onResponse(slot: Private.ISlot, response: EngineResponse): void {
+    if (slot.preview) {
+      this._onPreviewResponse(response);
+      return;
+    }
+    const run = this._run;
+    if (!run || !('run' in response) || response.run !== run.id) {
+      // A late answer of a run that already ended (a release, or parts after an error).
+      return;
+    }
+    switch (response.type) {
+      case 'prepared':
+        this._onPrepared(run, response.input, response.multiplets);
+        return;
+      case 'progress': {
+        const request = run.inFlight.get(response.id);
+        if (request) {
+          request.reported = response.multipletsDone;
+          this._report(run);
+        }
+        return;
+      }
+      case 'parts':
+        this._onParts(run, slot, response.id, response.parts);
+        return;
+      case 'result':
+        this._onResult(run, response.result, response.lattice);
+        return;
+      case 'error':
+        this._onRunError(run, response);
+        return;
+      default:
+        return;
+    }
+  }
+
+  private _onPreviewResponse(response: EngineResponse): void {
+    const pending = this._previews.get(response.id);
+    if (!pending) {
+      return;
+    }
+    this._previews.delete(response.id);
+    if (response.type === 'preview') {
+      pending.resolve(response.preview);
+    } else if (response.type === 'error') {
+      pending.reject(deserializeError(response.error));
+    } else {
+      pending.reject(new PolyadicError('internal', `The preview worker answered '${response.type}' to a preview.`));
+    }
+  }
+
+  private _onPrepared(run: Private.IRun, input: ILatticeInput, multiplets: number): void {
+    const n = input.bins.length;
+    const indexing = createIndexing(n, Math.min(input.maxOrder, n));
+    run.units = planUnits(indexing, run.slots.length);
+    run.multipletsTotal = multiplets;
+    run.input = input;
+    run.slots[0].holds = run.id;
+    // Fewer units than workers: the spare workers stay idle (and alive for the next run).
+    run.slots = run.slots.slice(0, Math.min(run.slots.length, run.units.length));
+    run.walkers = run.slots.length;
+    run.phase = 'walking';
+    this._report(run);
+    this._dispatch(run);
+  }
+
+  /** Give each idle worker of the run its next unit; a worker's first unit carries the codes. */
+  private _dispatch(run: Private.IRun): void {
+    const input = run.input;
+    if (!input) {
+      return;
+    }
+    const needCodes = run.slots.filter(slot => slot.holds !== run.id);
+    for (const slot of run.slots) {
+      if (slot.busy || run.next >= run.units.length) {
+        continue;
+      }
+      const planned = run.units[run.next++];
+      const unit: IWorkUnit = { first: planned.first, last: planned.last };
+      const id = this._nextId();
+      const transfer = new TransferList();
+      let withCodes: ILatticeInput | undefined;
+      if (slot.holds !== run.id) {
+        // The last worker to need the codes gets the pool's own copy; the others get copies.
+        const last = needCodes[needCodes.length - 1] === slot;
+        const codes = last ? input.codes : input.codes.map(codes => codes.slice());
+        codes.forEach(array => transfer.add(array));
+        withCodes = { ...input, codes };
+        slot.holds = run.id;
+      }
+      slot.busy = true;
+      run.inFlight.set(id, { slot, unit: planned, reported: 0 });
+      const walk: EngineRequest = {
+        type: 'walk',
+        id,
+        protocol: PROTOCOL_VERSION,
+        run: run.id,
+        units: [unit],
+        input: withCodes
+      };
+      this._send(slot, walk, transfer.buffers);
+    }
+    if (run.slots.every(slot => slot.holds === run.id)) {
+      // Every worker has the codes now; the pool's copy may have been transferred, drop it.
+      input.codes = [];
+    }
+  }
+
+  private _onParts(run: Private.IRun, slot: Private.ISlot, id: number, parts: ISubtreeResult[]): void {
+    const request = run.inFlight.get(id);
+    if (!request) {
+      return;
+    }
+    run.inFlight.delete(id);
+    slot.busy = false;
+    run.parts.push(...parts);
+    run.unitsDone++;
+    run.multipletsDone += request.unit.multiplets;
+    if (run.next < run.units.length) {
+      this._dispatch(run);
+    } else if (run.inFlight.size === 0) {
+      run.phase = 'measuring';
+      const transfer = new TransferList().addParts(run.parts);
+      const finish: EngineRequest = {
+        type: 'finish',
+        id: this._nextId(),
+        protocol: PROTOCOL_VERSION,
+        run: run.id,
+        parts: run.parts,
+        includeLattice: run.runOptions.includeLattice ?? false
+      };
+      run.parts = [];
+      this._send(run.slots[0], finish, transfer.buffers);
+    }
+    this._report(run);
+  }
+
+  private _onResult(run: Private.IRun, result: IAnalysisResult, lattice: ILattice | undefined): void {
+    const helpers = run.slots.slice(1).filter(slot => slot.holds === run.id);
+    run.phase = 'done';
+    this._report(run);
+    this._end(run);
+    for (const slot of helpers) {
+      this._send(slot, { type: 'release', id: this._nextId(), protocol: PROTOCOL_VERSION, run: run.id }, []);
+    }
+    run.resolve({ result, lattice, workers: run.walkers, elapsedMs: this._now() - run.started });
+  }
+
+  private _onRunError(run: Private.IRun, response: IErrorResponse): void {
+    if (run.phase !== 'binning') {
+      // A failure after binning leaves other workers mid-walk: start afresh next time.
+      this._terminate(run.slots);
+    }
+    this._end(run);
+    run.reject(deserializeError(response.error));
+  }
+
+  /** Stop reporting and forget the run (its promise is settled by the caller). */
+  private _end(run: Private.IRun): void {
+    if (run.timer !== null) {
+      clearInterval(run.timer);
+      run.timer = null;
+    }
+    for (const slot of run.slots) {
+      slot.busy = false;
+      slot.holds = null;
+    }
+    run.input = null;
+    run.parts = [];
+    if (this._run === run) {
+      this._run = null;
+    }
+  }
+
+  private _report(run: Private.IRun): void {
+    if (this._run !== run || !run.runOptions.onProgress) {
+      return;
+    }
+    let walked = run.multipletsDone;
+    for (const request of run.inFlight.values()) {
+      walked += request.reported;
+    }
+    const walkedShare = run.multipletsTotal > 0 ? Math.min(1, walked / run.multipletsTotal) : 0;
+    const target =
+      run.phase === 'done'
+        ? 1
+        : run.phase === 'binning'
+          ? 0
+          : Private.BINNING_SHARE + Private.WALKING_SHARE * (run.phase === 'measuring' ? 1 : walkedShare);
+    run.fraction = Math.max(run.fraction, target);
+    const elapsedMs = this._now() - run.started;
+    const progress: IRunProgress = {
+      run: run.id,
+      phase: run.phase,
+      fraction: run.fraction,
+      unitsDone: run.unitsDone,
+      unitsTotal: run.units.length,
+      multipletsDone: Math.min(walked, run.multipletsTotal),
+      multipletsTotal: run.multipletsTotal,
+      elapsedMs,
+      remainingMs:
+        run.phase === 'done' ? 0 : run.fraction > 0 ? (elapsedMs * (1 - run.fraction)) / run.fraction : null
+    };
+    try {
+      run.runOptions.onProgress(progress);
+    } catch (error) {
+      // A failing listener must not stop the run; say so where a developer looks.
+      console.error('Polyadic: a progress listener failed', error);
+    }
+  }
+
+  private _createWorker: () => IEngineWorker;
+  private _size: number;
+  private _interval: number;
+  private _now: () => number;
+  private _slots: Private.ISlot[] = [];
+  private _previewSlot: Private.ISlot | null = null;
+  private _previews = new Map<number, Private.IPendingPreview>();
+  private _run: Private.IRun | null = null;
+  private _runCount = 0;
+  private _requestCount = 0;
+  private _disposed = false;
+}
+
+/** Types of {@link EnginePool}. */
+export namespace EnginePool {
+  /** Options of the pool. */
+  export interface IOptions {
+    /** Start one worker (in the browser: `createEngineWorker` from src/worker/browser.ts). */
+    createWorker: () => IEngineWorker;
+    /** Workers a run may use; default {@link defaultWorkerCount} of the machine's cores. */
+    workers?: number;
+    /** Longest time between two progress reports of a run, in ms (default 200). */
+    progressInterval?: number;
+    /** Clock in ms (default performance.now); tests inject one. */
+    now?: () => number;
+  }
+
+  /** Options of one run. */
+  export interface IRunOptions {
+    /** Called with each progress report. */
+    onProgress?: (progress: IRunProgress) => void;
+    /** Send the lattice back with the result. */
+    includeLattice?: boolean;
+    /**
+     * Hand the columns' buffers over to the worker instead of copying them; arrays that own
+     * their whole buffer are then detached from the caller. Default false.
+     */
+    transferColumns?: boolean;
+  }
+
+  /** Options of a preview. */
+  export interface IPreviewOptions {
+    /** Fine bins of the raw-value distribution. */
+    resolution?: number;
+    /** Hand the column's buffers over instead of copying them (see {@link IRunOptions.transferColumns}). */
+    transferColumn?: boolean;
+  }
+}
+
+namespace Private {
+  /**
+   * Shares of the progress bar: binning, then the walk, then the measures and rows take the rest.
+   * Rough proportions of the three steps' times (common practice: a phase gets a fixed slice).
+   */
+  export const BINNING_SHARE = 0.05;
+  export const WALKING_SHARE = 0.85;
+
+  /** One worker of the pool. */
+  export interface ISlot {
+    worker: IEngineWorker;
+    /** Working on a request of the current run. */
+    busy: boolean;
+    /** The run whose codes this worker holds. */
+    holds: number | null;
+    /** The preview worker. */
+    preview: boolean;
+  }
+
+  /** A walk request in flight. */
+  export interface IInFlight {
+    slot: ISlot;
+    unit: IPlannedUnit;
+    /** Multiplets the worker reported done for it. */
+    reported: number;
+  }
+
+  /** A pending preview. */
+  export interface IPendingPreview {
+    resolve: (preview: IColumnPreview) => void;
+    reject: (error: Error) => void;
+  }
+
+  /** The state of the run in progress. */
+  export interface IRun {
+    id: number;
+    options: IAnalyzeOptions;
+    runOptions: EnginePool.IRunOptions;
+    resolve: (result: IRunResult) => void;
+    reject: (error: Error) => void;
+    started: number;
+    phase: RunPhase;
+    /** The workers of the run; the first prepares and finishes. */
+    slots: ISlot[];
+    /** The lattice input from the preparing worker, with the codes until every worker has them. */
+    input: ILatticeInput | null;
+    units: IPlannedUnit[];
+    /** Index of the next unit to hand out. */
+    next: number;
+    unitsDone: number;
+    multipletsDone: number;
+    multipletsTotal: number;
+    inFlight: Map<number, IInFlight>;
+    parts: ISubtreeResult[];
+    /** Last fraction reported (reports never go back). */
+    fraction: number;
+    timer: ReturnType<typeof setInterval> | null;
+    /** Workers that walked. */
+    walkers: number;
+  }
+
+  /** The machine's logical cores, where the platform says. */
+  export function hardwareConcurrency(): number | undefined {
+    const navigator = (globalThis as { navigator?: { hardwareConcurrency?: number } }).navigator;
+    return navigator?.hardwareConcurrency;
+  }
+}

@@ -1,0 +1,121 @@
+/**
+ * Shared pieces of the worker tests: seeded test tables, bit-level comparison of typed arrays,
+ * a factory of in-process workers that remembers what it made, and numpy run at test time as an
+ * outside reference.
+ */
+
+import { spawnSync } from 'child_process';
+import * as path from 'path';
+
+import { unsafeUniformIntDistribution, xoroshiro128plus } from 'pure-rand';
+
+import type { ColumnView, ICategoricalColumn, INumericColumn } from '../../src/engine/types';
+import { InProcessWorker } from '../../src/worker/inprocess';
+
+/** Repository root. */
+export const ROOT = path.resolve(__dirname, '..', '..');
+
+/**
+ * A seeded test table of `count` columns: noise columns, noisy copies (redundancy), a noisy
+ * parity of two earlier columns (synergy), a string column with missing values and, from 6
+ * columns on, an identifier-like column (every row distinct, so the walk's all-distinct fill runs).
+ */
+export function makeColumns(rows: number, count: number, seed = 7): ColumnView[] {
+  const rng = xoroshiro128plus(seed);
+  const int = (lo: number, hi: number): number => unsafeUniformIntDistribution(lo, hi, rng);
+  const columns: ColumnView[] = [];
+  for (let c = 0; c < count; c++) {
+    const name = `c${String(c).padStart(2, '0')}`;
+    const values = new Float64Array(rows);
+    let missing: Uint8Array | null = null;
+    const kind = c % 6;
+    if (c === 5) {
+      for (let i = 0; i < rows; i++) {
+        values[i] = (i * 7919) % rows;
+      }
+    } else if (kind === 3) {
+      const a = columns[c - 2] as INumericColumn;
+      const b = columns[c - 3] as INumericColumn;
+      for (let i = 0; i < rows; i++) {
+        const bit = (Number(a.values[i]) > 0.5 ? 1 : 0) ^ (Number(b.values[i]) > 0.5 ? 1 : 0);
+        values[i] = int(0, 9) === 0 ? 1 - bit : bit;
+      }
+    } else if (kind === 4) {
+      const a = columns[c - 1];
+      for (let i = 0; i < rows; i++) {
+        const source = a.kind === 'numeric' ? Number(a.values[i]) : a.codes[i];
+        values[i] = source + int(0, 1000) / 5000;
+      }
+    } else if (kind === 2) {
+      const categories = ['dry', 'damp', 'wet'];
+      const codes = new Int32Array(rows);
+      missing = new Uint8Array(rows);
+      for (let i = 0; i < rows; i++) {
+        codes[i] = int(0, 2);
+        if (int(0, 29) === 0) {
+          codes[i] = -1;
+          missing[i] = 1;
+        }
+      }
+      const column: ICategoricalColumn = { kind: 'categorical', name, dtype: 'category', codes, categories, missing };
+      columns.push(column);
+      continue;
+    } else {
+      for (let i = 0; i < rows; i++) {
+        values[i] = int(0, 1 << 20) / (1 << 20);
+      }
+    }
+    columns.push({ kind: 'numeric', name, dtype: 'float64', values, missing });
+  }
+  return columns;
+}
+
+/** Index of the first element whose bits differ (NaN payloads and ±0 included), or −1; lengths must match. */
+export function firstBitDifference(a: Float64Array | Int32Array, b: Float64Array | Int32Array): number {
+  if (a.length !== b.length) {
+    return Math.min(a.length, b.length);
+  }
+  const x = new Uint8Array(a.buffer, a.byteOffset, a.byteLength);
+  const y = new Uint8Array(b.buffer, b.byteOffset, b.byteLength);
+  const width = a.BYTES_PER_ELEMENT;
+  for (let i = 0; i < x.length; i++) {
+    if (x[i] !== y[i]) {
+      return Math.floor(i / width);
+    }
+  }
+  return -1;
+}
+
+/** A worker factory for EnginePool that makes in-process workers and keeps them for inspection. */
+export class InProcessFactory {
+  /** Every worker made so far. */
+  readonly made: InProcessWorker[] = [];
+
+  /** The factory function to pass as `createWorker`. */
+  readonly create = (): InProcessWorker => {
+    const worker = new InProcessWorker();
+    this.made.push(worker);
+    return worker;
+  };
+}
+
+/** Wait for the tasks queued so far (in-process messages travel by setTimeout 0). */
+export function settle(ms = 20): Promise<void> {
+  return new Promise(resolve => setTimeout(resolve, ms));
+}
+
+/**
+ * Run a Python snippet with the project's virtual environment (numpy installed), passing `input`
+ * as JSON on stdin; the snippet prints JSON. Fails loudly when the environment is missing.
+ */
+export function runPython(snippet: string, input: unknown): unknown {
+  const python = path.join(ROOT, '.venv', 'bin', 'python');
+  const done = spawnSync(python, ['-c', snippet], { input: JSON.stringify(input), encoding: 'utf8' });
+  if (done.error || done.status !== 0) {
+    throw new Error(
+      `Reference computation with ${python} failed (create the environment with numpy first): ` +
+        `${done.error?.message ?? done.stderr}`
+    );
+  }
+  return JSON.parse(done.stdout);
+}
