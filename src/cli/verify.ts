@@ -1,0 +1,508 @@
+/**
+ * `polyadic verify NOTEBOOK --data NAME=PATH ...`: re-derive every analysis recorded in a
+ * notebook's metadata from the data files and say, one line per analysis, whether it
+ * reproduces.
+ *
+ * For each analysis: read the selected columns of the file given for its frame, compare the
+ * fingerprint, re-run the engine with the recorded settings (binning specs, missing-value
+ * policy, estimator, units, maximum order), and compare the resulting binning, the row and
+ * multiplet counts, every measure of every summary multiplet and the order histograms.
+ * Values must be identical when the engine version is the recorded one, and within 1e-9
+ * (relative above 1) across versions.
+ *
+ * Exit codes: 0 every analysis reproduces; 1 at least one does not (its line says which value
+ * and why); 2 bad input (no such notebook, not a notebook, no or an invalid record, a --data
+ * option that is malformed or missing, a data file that cannot be read).
+ */
+
+import { promises as fs } from 'fs';
+import { parseArgs } from 'util';
+
+import { latticeInput, prepareColumns } from '../engine/analyze';
+import { isPolyadicError, PolyadicError } from '../engine/errors';
+import { fromNats } from '../engine/estimators';
+import { computeLattice, type ILattice } from '../engine/lattice';
+import { coinformationAll, multipletMeasures } from '../engine/measures';
+import { checkMultipletCount, DEFAULT_MAX_MULTIPLETS, forEachMultiplet } from '../engine/multiplets';
+import type { ColumnView, IAnalyzeOptions, IColumnBinning, Units } from '../engine/types';
+import { ENGINE_NAME, ENGINE_VERSION } from '../engine/version';
+import { fingerprintColumns } from '../record/fingerprint';
+import { readRecords } from '../record/store';
+import { orderHistogram } from '../record/summary';
+import type { IAnalysisRecord, IMultipletSummary } from '../record/types';
+import { readDataFile, type IDataSource } from './readers';
+
+/** Where verify writes: process.stdout/stderr, or a capture in tests. */
+export interface IVerifyStreams {
+  stdout: { write(text: string): unknown };
+  stderr: { write(text: string): unknown };
+}
+
+/** Exit codes of verify. */
+export const VERIFY_EXIT = { reproduced: 0, differs: 1, badInput: 2 } as const;
+
+/** Largest difference allowed across engine versions (absolute up to 1, relative above). */
+export const CROSS_VERSION_TOLERANCE = 1e-9;
+
+/** The text of `polyadic verify --help`. */
+export const VERIFY_HELP = `Usage: polyadic verify NOTEBOOK --data NAME=PATH [--data NAME=PATH ...]
+
+Re-derive every Polyadic analysis recorded in NOTEBOOK's metadata. NAME is the
+dataframe name an analysis recorded (its frame); PATH is a .csv, .tsv, Arrow IPC
+(.arrow, .feather, .arrows, .ipc) or .parquet file holding that frame.
+
+For each analysis the fingerprint of the selected columns is compared, the
+analysis is re-run with the recorded settings, and every recorded value is
+compared: identical under the recorded engine version, within 1e-9 otherwise.
+
+Options:
+  --data NAME=PATH      the data file of frame NAME; repeat for several frames
+  -h, --help            show this help
+
+Exit codes: 0 all analyses reproduce, 1 at least one does not, 2 bad input.
+`;
+
+/** Run `polyadic verify` on its arguments (after the word `verify`); resolves to the exit code. */
+export async function runVerify(args: string[], io: IVerifyStreams): Promise<number> {
+  let parsed: Private.ICommand;
+  let analyses: IAnalysisRecord[];
+  try {
+    const command = Private.parseCommand(args);
+    if (command === 'help') {
+      io.stdout.write(VERIFY_HELP);
+      return VERIFY_EXIT.reproduced;
+    }
+    parsed = command;
+    analyses = await Private.readAnalyses(parsed.notebook);
+    Private.checkData(parsed, analyses);
+  } catch (error) {
+    return Private.reportFailure(error, io);
+  }
+  io.stdout.write(
+    `polyadic verify: ${Private.oneLine(parsed.notebook)}: ${analyses.length} analys${analyses.length === 1 ? 'is' : 'es'}\n`
+  );
+  const sources = new Map<string, Promise<IDataSource>>();
+  let reproduced = 0;
+  let badInput = false;
+  for (const analysis of analyses) {
+    const head = `${analysis.id}  ${Private.oneLine(analysis.label)}  `;
+    let outcome: Private.IOutcome;
+    try {
+      outcome = await Private.verifyAnalysis(analysis, parsed.data.get(analysis.source.frame) as string, sources);
+    } catch (error) {
+      if (isPolyadicError(error) && error.kind !== 'internal') {
+        badInput = true;
+        outcome = { ok: false, text: `CANNOT READ DATA: ${error.message}` };
+      } else {
+        outcome = { ok: false, text: `ERROR: ${error instanceof Error ? error.message : String(error)}` };
+      }
+    }
+    if (outcome.ok) {
+      reproduced++;
+    }
+    io.stdout.write(head + Private.oneLine(outcome.text) + '\n');
+  }
+  io.stdout.write(`${reproduced} of ${analyses.length} analyses reproduce.\n`);
+  if (badInput) {
+    return VERIFY_EXIT.badInput;
+  }
+  return reproduced === analyses.length ? VERIFY_EXIT.reproduced : VERIFY_EXIT.differs;
+}
+
+/** Module-private helpers. */
+namespace Private {
+  /** A parsed command line. */
+  export interface ICommand {
+    notebook: string;
+    /** Frame name → data file path. */
+    data: Map<string, string>;
+  }
+
+  /** The verdict on one analysis. */
+  export interface IOutcome {
+    ok: boolean;
+    text: string;
+  }
+
+  /** Parse the arguments strictly; usage errors name the option or value at fault. */
+  export function parseCommand(args: string[]): ICommand | 'help' {
+    let parsed;
+    try {
+      parsed = parseArgs({
+        args,
+        strict: true,
+        allowPositionals: true,
+        options: {
+          data: { type: 'string', multiple: true },
+          help: { type: 'boolean', short: 'h' }
+        }
+      });
+    } catch (error) {
+      const message = error instanceof Error ? error.message.split(/\.\s/)[0].replace(/\.$/, '') : String(error);
+      throw new PolyadicError('usage', `${message}; see polyadic verify --help.`);
+    }
+    if (parsed.values.help) {
+      return 'help';
+    }
+    const [notebook, ...extra] = parsed.positionals;
+    if (notebook === undefined) {
+      throw new PolyadicError('usage', 'verify needs a NOTEBOOK: polyadic verify NOTEBOOK --data NAME=PATH ...');
+    }
+    if (extra.length > 0) {
+      throw new PolyadicError('usage', `Unexpected argument '${extra[0]}'; verify takes one NOTEBOOK.`, {
+        value: extra[0]
+      });
+    }
+    const data = new Map<string, string>();
+    for (const text of parsed.values.data ?? []) {
+      const at = text.indexOf('=');
+      if (at <= 0 || at === text.length - 1) {
+        throw new PolyadicError('usage', `--data expects NAME=PATH (a frame name and a data file), got '${text}'.`, {
+          option: '--data',
+          value: text
+        });
+      }
+      const name = text.slice(0, at);
+      if (data.has(name)) {
+        throw new PolyadicError('usage', `--data is given twice for frame '${name}'.`, { option: '--data', value: name });
+      }
+      data.set(name, text.slice(at + 1));
+    }
+    return { notebook, data };
+  }
+
+  /** The analyses recorded in a notebook file; errors name the file and, for a bad record, the path. */
+  export async function readAnalyses(notebook: string): Promise<IAnalysisRecord[]> {
+    let text: string;
+    try {
+      text = await fs.readFile(notebook, 'utf8');
+    } catch (error) {
+      const code = (error as NodeJS.ErrnoException).code;
+      const reason = code === 'ENOENT' ? 'does not exist' : code === 'EISDIR' ? 'is a directory' : 'cannot be read';
+      throw new PolyadicError('input', `Notebook '${notebook}' ${reason}.`, { value: notebook });
+    }
+    let document: unknown;
+    try {
+      document = JSON.parse(text);
+    } catch (error) {
+      throw new PolyadicError('input', `'${notebook}' is not a notebook: it is not JSON (${(error as Error).message}).`, {
+        value: notebook
+      });
+    }
+    const metadata = (document as { metadata?: unknown } | null)?.metadata;
+    if (typeof metadata !== 'object' || metadata === null || Array.isArray(metadata)) {
+      throw new PolyadicError('input', `'${notebook}' is not a notebook: it has no metadata object.`, { value: notebook });
+    }
+    const state = readRecords({
+      get: key => (Object.prototype.hasOwnProperty.call(metadata, key) ? (metadata as Record<string, unknown>)[key] : undefined),
+      set: () => {
+        throw new PolyadicError('internal', 'verify never writes a notebook.');
+      }
+    });
+    if (!state.present) {
+      throw new PolyadicError('input', `'${notebook}' has no Polyadic record (no 'polyadic' key in its metadata); nothing to verify.`);
+    }
+    if (state.status === 'newer') {
+      throw new PolyadicError('input', `'${notebook}': ${state.notice}`);
+    }
+    if (state.status === 'invalid') {
+      const listed = state.problems.slice(0, 10).map(problem => problem.message).join(' ');
+      throw new PolyadicError('input', `'${notebook}' has an invalid Polyadic record: ${listed}`, {
+        path: state.problems[0]?.path
+      });
+    }
+    if (state.analyses.length === 0) {
+      throw new PolyadicError('input', `'${notebook}' has a Polyadic record with no analyses; nothing to verify.`);
+    }
+    return state.analyses;
+  }
+
+  /** Every recorded frame has a --data file, and every --data names a recorded frame. */
+  export function checkData(command: ICommand, analyses: IAnalysisRecord[]): void {
+    const frames = [...new Set(analyses.map(analysis => analysis.source.frame))];
+    for (const name of command.data.keys()) {
+      if (!frames.includes(name)) {
+        throw new PolyadicError(
+          'usage',
+          `--data names frame '${name}', which no analysis in the notebook used; recorded frames: ${frames.map(f => `'${f}'`).join(', ')}.`,
+          { option: '--data', value: name }
+        );
+      }
+    }
+    const missing = frames.filter(frame => !command.data.has(frame));
+    if (missing.length > 0) {
+      throw new PolyadicError(
+        'usage',
+        `No data file for frame${missing.length === 1 ? '' : 's'} ${missing.map(f => `'${f}'`).join(', ')}; ` +
+          `give ${missing.map(f => `--data ${f}=PATH`).join(' ')}.`,
+        { option: '--data', value: missing[0] }
+      );
+    }
+  }
+
+  /** Verify one analysis against its data file. */
+  export async function verifyAnalysis(
+    analysis: IAnalysisRecord,
+    file: string,
+    sources: Map<string, Promise<IDataSource>>
+  ): Promise<IOutcome> {
+    const key = `${file}\u0000${analysis.columns.join('\u0000')}`;
+    let pending = sources.get(key);
+    if (!pending) {
+      pending = readDataFile(file, { columns: analysis.columns });
+      sources.set(key, pending);
+    }
+    let source: IDataSource;
+    try {
+      source = await pending;
+    } catch (error) {
+      // a selected column that is gone is a change of the data, not a bad file
+      if (isPolyadicError(error) && error.kind === 'usage' && typeof error.detail.column === 'string') {
+        return { ok: false, text: `DATA CHANGED: column '${error.detail.column}' is not in ${file}.` };
+      }
+      throw error;
+    }
+    const sample = analysis.source.sample;
+    if (sample && source.rows !== analysis.source.rows) {
+      return {
+        ok: false,
+        text:
+          `NOT CHECKED: the analysis read a seeded sample of ${sample.row_cap} of ${sample.original_rows} rows ` +
+          `(seed ${sample.seed}); ${file} has ${source.rows} rows. Give a file holding the sampled rows.`
+      };
+    }
+    const changed = await dataChange(analysis, source.columns);
+    if (changed) {
+      return { ok: false, text: `DATA CHANGED: ${changed}` };
+    }
+    let differences: string[];
+    try {
+      differences = rerunDifferences(analysis, source.columns);
+    } catch (error) {
+      if (isPolyadicError(error) && error.kind !== 'internal') {
+        return { ok: false, text: `DIFFERS: the re-run with the recorded settings fails: ${error.message}` };
+      }
+      throw error;
+    }
+    if (differences.length > 0) {
+      const more = differences.length > 3 ? ` (and ${differences.length - 3} more)` : '';
+      return { ok: false, text: `DIFFERS: ${differences.slice(0, 3).join('; ')}${more}` };
+    }
+    const exact = sameEngine(analysis) ? 'identical' : `within ${CROSS_VERSION_TOLERANCE} (recorded with ${analysis.engine.name} ${analysis.engine.version})`;
+    return { ok: true, text: `reproduced (${countValues(analysis)} values ${exact})` };
+  }
+
+  /** Why the data differs from the recorded fingerprint, or null when it matches. */
+  async function dataChange(analysis: IAnalysisRecord, columns: ColumnView[]): Promise<string | null> {
+    const now = await fingerprintColumns(columns);
+    const recorded = analysis.source.fingerprint.sha256;
+    if (now.sha256 === recorded) {
+      return null;
+    }
+    const reasons: string[] = [];
+    const rows = columns.length ? lengthOf(columns[0]) : 0;
+    if (rows !== analysis.source.rows) {
+      reasons.push(`${analysis.source.rows} rows recorded, ${rows} now`);
+    }
+    const changed: string[] = [];
+    analysis.source.columns.forEach((column, i) => {
+      const current = columns[i];
+      if (current.kind !== column.kind) {
+        reasons.push(`column '${column.name}' was read as ${column.kind}, now as ${current.kind}`);
+      } else if (column.sha256 !== undefined && column.sha256 !== now.columns[i].sha256) {
+        changed.push(`'${column.name}'`);
+      }
+    });
+    if (changed.length > 0) {
+      reasons.push(`values differ in column${changed.length === 1 ? '' : 's'} ${changed.join(', ')}`);
+    }
+    return `fingerprint ${recorded.slice(0, 12)}… recorded, ${now.sha256.slice(0, 12)}… now` + (reasons.length ? ` (${reasons.join('; ')})` : '');
+  }
+
+  function lengthOf(column: ColumnView): number {
+    return column.kind === 'numeric' ? column.values.length : column.codes.length;
+  }
+
+  /** Whether the analysis was recorded by this engine version (values must then be identical). */
+  export function sameEngine(analysis: IAnalysisRecord): boolean {
+    return analysis.engine.name === ENGINE_NAME && analysis.engine.version === ENGINE_VERSION;
+  }
+
+  /** Re-run with the recorded settings; every difference from the record, as text. */
+  function rerunDifferences(analysis: IAnalysisRecord, columns: ColumnView[]): string[] {
+    const equal = sameEngine(analysis) ? (a: number, b: number) => a === b : withinTolerance;
+    const differences: string[] = [];
+    const options: IAnalyzeOptions = {
+      columns: analysis.columns,
+      binsByColumn: Object.fromEntries(analysis.binning.map(binning => [binning.name, binning.spec])),
+      missing: analysis.missing,
+      estimator: analysis.estimator,
+      units: analysis.units,
+      maxOrder: analysis.max_order,
+      maxMultiplets: Math.max(DEFAULT_MAX_MULTIPLETS, analysis.summary.multiplet_count)
+    };
+    const prepared = prepareColumns(columns, options);
+    prepared.binnings.forEach((binning, i) => {
+      differences.push(...binningDifferences(analysis.binning[i], binning, equal));
+    });
+    if (prepared.rowsUsed !== analysis.summary.rows_used) {
+      differences.push(`rows_used ${analysis.summary.rows_used} vs ${prepared.rowsUsed}`);
+    }
+    const input = latticeInput(prepared, options);
+    const count = checkMultipletCount(prepared.codes.length, input.maxOrder, options.maxMultiplets);
+    if (count !== analysis.summary.multiplet_count) {
+      differences.push(`multiplet_count ${analysis.summary.multiplet_count} vs ${count}`);
+    }
+    if (input.maxOrder !== analysis.max_order) {
+      differences.push(`max_order ${analysis.max_order} vs ${input.maxOrder}`);
+      return differences;
+    }
+    const lattice = computeLattice(input);
+    const coinformation = coinformationAll(lattice);
+    const units = analysis.units;
+    for (const side of ['synergy', 'redundancy'] as const) {
+      analysis.summary[side].forEach((multiplet, i) => {
+        differences.push(...multipletDifferences(`${side}[${i}]`, multiplet, lattice, coinformation, prepared.names, units, equal));
+      });
+    }
+    if (analysis.summary.histograms) {
+      differences.push(...histogramDifferences(analysis, lattice, coinformation, equal));
+    }
+    return differences;
+  }
+
+  /** Differences between a recorded binning and the re-run's. */
+  function binningDifferences(
+    recorded: IAnalysisRecord['binning'][number],
+    now: IColumnBinning,
+    equal: (a: number, b: number) => boolean
+  ): string[] {
+    const where = `binning of '${recorded.name}'`;
+    const out: string[] = [];
+    if (recorded.bins !== now.bins) {
+      out.push(`${where} bins ${recorded.bins} vs ${now.bins}`);
+    }
+    const edges = now.binning.edges;
+    if ((recorded.edges === undefined) !== (edges === undefined) || (recorded.edges && edges && recorded.edges.length !== edges.length)) {
+      out.push(`${where} edges [${recorded.edges?.join(', ') ?? ''}] vs [${edges?.join(', ') ?? ''}]`);
+    } else if (recorded.edges && edges) {
+      const j = recorded.edges.findIndex((edge, k) => !equal(edge, edges[k]));
+      if (j >= 0) {
+        out.push(`${where} edges[${j}] ${recorded.edges[j]} vs ${edges[j]}`);
+      }
+    }
+    const categories = now.binning.categories;
+    const recordedCategories = recorded.categories;
+    if (
+      (recordedCategories === undefined) !== (categories === undefined) ||
+      (recordedCategories && categories && (recordedCategories.length !== categories.length || recordedCategories.some((c, k) => c !== categories[k])))
+    ) {
+      out.push(`${where} categories ${JSON.stringify(recordedCategories ?? null)} vs ${JSON.stringify(categories ?? null)}`);
+    }
+    if (recorded.missing_code !== now.binning.missing_code) {
+      out.push(`${where} missing_code ${recorded.missing_code ?? 'none'} vs ${now.binning.missing_code ?? 'none'}`);
+    }
+    return out;
+  }
+
+  /** The measures of one recorded multiplet, recomputed from the lattice, compared. */
+  function multipletDifferences(
+    where: string,
+    recorded: IMultipletSummary,
+    lattice: ILattice,
+    coinformation: Float64Array,
+    names: string[],
+    units: Units,
+    equal: (a: number, b: number) => boolean
+  ): string[] {
+    const members = Int32Array.from(recorded.columns.map(name => names.indexOf(name))).sort();
+    const label = `${where} {${recorded.columns.join(', ')}}`;
+    const measures = multipletMeasures(lattice, members, members.length, coinformation);
+    const now: Record<string, number> = {
+      entropy: fromNats(measures.entropy, units),
+      coinformation: fromNats(measures.coinformation, units),
+      total_correlation: fromNats(measures.totalCorrelation, units),
+      dual_total_correlation: fromNats(measures.dualTotalCorrelation, units),
+      o_information: fromNats(measures.oInformation, units)
+    };
+    const out: string[] = [];
+    for (const field of ['coinformation', 'o_information', 'total_correlation', 'dual_total_correlation', 'entropy'] as const) {
+      if (!equal(recorded[field], now[field])) {
+        out.push(`${label} ${field} ${recorded[field]} vs ${now[field]}`);
+      }
+    }
+    return out;
+  }
+
+  /** The order histograms recomputed from every multiplet's co-information, compared. */
+  function histogramDifferences(
+    analysis: IAnalysisRecord,
+    lattice: ILattice,
+    coinformation: Float64Array,
+    equal: (a: number, b: number) => boolean
+  ): string[] {
+    const byOrder: number[][] = Array.from({ length: analysis.max_order + 1 }, () => []);
+    forEachMultiplet(lattice.indexing, (index, _members, order) => {
+      if (order >= 2) {
+        byOrder[order].push(fromNats(coinformation[index], analysis.units));
+      }
+    });
+    const out: string[] = [];
+    for (const recorded of analysis.summary.histograms ?? []) {
+      const now = orderHistogram(recorded.order, byOrder[recorded.order] ?? []);
+      const where = `order histogram ${recorded.order}`;
+      if (now.edges.length !== recorded.edges.length) {
+        out.push(`${where} has ${recorded.counts.length} bins recorded, ${now.counts.length} now`);
+        continue;
+      }
+      const j = recorded.edges.findIndex((edge, k) => !equal(edge, now.edges[k]));
+      if (j >= 0) {
+        out.push(`${where} edges[${j}] ${recorded.edges[j]} vs ${now.edges[j]}`);
+      }
+      // across versions a value within the tolerance may cross a bin edge: counts are compared
+      // only under the recorded engine version
+      if (sameEngine(analysis)) {
+        const k = recorded.counts.findIndex((count, b) => count !== now.counts[b]);
+        if (k >= 0) {
+          out.push(`${where} counts[${k}] ${recorded.counts[k]} vs ${now.counts[k]}`);
+        }
+      }
+    }
+    return out;
+  }
+
+  /** |a − b| ≤ 1e-9, relative for magnitudes above 1. */
+  export function withinTolerance(a: number, b: number): boolean {
+    return Math.abs(a - b) <= CROSS_VERSION_TOLERANCE * Math.max(1, Math.abs(a), Math.abs(b));
+  }
+
+  /** How many recorded values a reproduction covers (for the report). */
+  function countValues(analysis: IAnalysisRecord): number {
+    const multiplets = analysis.summary.synergy.length + analysis.summary.redundancy.length;
+    const edges = analysis.binning.reduce((sum, binning) => sum + (binning.edges?.length ?? 0), 0);
+    const histograms = (analysis.summary.histograms ?? []).reduce((sum, h) => sum + h.edges.length + h.counts.length, 0);
+    return 5 * multiplets + edges + histograms + 2;
+  }
+
+  /** Print a failure before any analysis ran: usage and input problems are 2, bugs 1. */
+  export function reportFailure(error: unknown, io: IVerifyStreams): number {
+    if (isPolyadicError(error) && error.kind !== 'internal') {
+      io.stderr.write(`polyadic: ${oneLine(error.message)}\n`);
+      return VERIFY_EXIT.badInput;
+    }
+    io.stderr.write(
+      `polyadic: internal error: ${oneLine(error instanceof Error ? error.message : String(error))}\n` +
+        'polyadic: this is a bug in Polyadic; please report it with the command you ran.\n'
+    );
+    return VERIFY_EXIT.differs;
+  }
+
+  /**
+   * A message on one line with control characters shown as escapes: labels and column names
+   * come from an untrusted notebook and must not move the cursor or recolour a terminal.
+   */
+  export function oneLine(message: string): string {
+    // eslint-disable-next-line no-control-regex
+    return message.replace(/[\u0000-\u001f\u007f-\u009f]/g, c => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
+  }
+}

@@ -1,0 +1,126 @@
+/**
+ * Build the record of a completed analysis from the options it ran with, its result and where
+ * its data came from. The panel calls this after every run and hands the record to the store.
+ */
+
+import { resolveOptions } from '../engine/analyze';
+import { PolyadicError } from '../engine/errors';
+import type { ColumnView, IAnalysisResult, IAnalyzeOptions } from '../engine/types';
+import type { IFingerprint } from './fingerprint';
+import { newRecordId } from './ids';
+import { DEFAULT_SUMMARY_SIZE, histogramsOfRows, topMultiplets } from './summary';
+import { MAX_LABEL_LENGTH, type IAnalysisRecord, type ISampleInfo, type IStatisticsSettings } from './types';
+import { completeAnalysis, problemsError } from './validate';
+
+/** Where the analysed data came from. */
+export interface IRecordSource {
+  /** Dataframe name (kernel variable) or, for the CLI, the file name. */
+  frame: string;
+  /** The selected columns as the engine read them (name, dtype and kind are recorded). */
+  columns: readonly ColumnView[];
+  /** Fingerprint of those columns (`fingerprintColumns`). */
+  fingerprint: IFingerprint;
+  /** The row-cap sample, when the frame was sampled. */
+  sample?: ISampleInfo;
+}
+
+/** Everything a record is built from. */
+export interface IRecordInput {
+  options: IAnalyzeOptions;
+  result: IAnalysisResult;
+  source: IRecordSource;
+  /** Statistics settings as chosen; what is left out takes the schema's defaults. */
+  statistics?: Partial<IStatisticsSettings>;
+  /** Label; default names the frame and the selection. */
+  label?: string;
+  /** Id; default a new random one. */
+  id?: string;
+  /** When the analysis ran; default now. */
+  created?: Date;
+  /** Multiplets kept on each side of the summary; default {@link DEFAULT_SUMMARY_SIZE}. */
+  summarySize?: number;
+}
+
+/**
+ * The record of an analysis, checked against the schema (a failure is a PolyadicError naming
+ * the field, e.g. a label that is too long).
+ */
+export function recordFromResult(input: IRecordInput): IAnalysisRecord {
+  const { result, source } = input;
+  const selected = result.columns.map(column => column.name);
+  const fingerprinted = source.fingerprint.columns.map(column => column.name);
+  const read = source.columns.map(column => column.name);
+  if (!Private.sameList(selected, fingerprinted) || !Private.sameList(selected, read)) {
+    throw new PolyadicError(
+      'internal',
+      `The fingerprint covers columns [${fingerprinted.join(', ')}] and the source lists [${read.join(', ')}], ` +
+        `but the analysis used [${selected.join(', ')}]; they must be the same, in the same order.`
+    );
+  }
+  const missing = resolveOptions(input.options, selected.length).missing;
+  const summary = topMultiplets(result.multiplets, input.summarySize ?? DEFAULT_SUMMARY_SIZE);
+  const histograms = histogramsOfRows(result.multiplets, result.multiplet_count, result.max_order);
+  const analysis: Record<string, unknown> = {
+    id: input.id ?? newRecordId(),
+    label: Private.cleanLabel(input.label ?? Private.defaultLabel(source.frame, selected.length, result.max_order)),
+    created: (input.created ?? new Date()).toISOString(),
+    engine: { name: result.engine.name, version: result.engine.version },
+    source: {
+      frame: source.frame,
+      rows: result.rows,
+      columns: source.columns.map((column, i) => ({
+        name: column.name,
+        dtype: column.dtype,
+        kind: column.kind,
+        sha256: source.fingerprint.columns[i].sha256
+      })),
+      ...(source.sample ? { sample: { ...source.sample } } : {}),
+      fingerprint: { encoding: source.fingerprint.encoding, sha256: source.fingerprint.sha256 }
+    },
+    columns: selected,
+    binning: result.columns.map(column => ({
+      name: column.name,
+      method: column.binning.method,
+      spec: column.binning.spec,
+      bins: column.bins,
+      ...(column.binning.edges ? { edges: [...column.binning.edges] } : {}),
+      ...(column.binning.categories ? { categories: [...column.binning.categories] } : {}),
+      ...(column.binning.missing_code !== undefined ? { missing_code: column.binning.missing_code } : {})
+    })),
+    missing,
+    estimator: result.estimator,
+    units: result.units,
+    max_order: result.max_order,
+    statistics: { ...(input.statistics ?? {}) },
+    summary: {
+      synergy: summary.synergy,
+      redundancy: summary.redundancy,
+      multiplet_count: result.multiplet_count,
+      rows_used: result.rows_used,
+      ...(histograms ? { histograms } : {})
+    }
+  };
+  const checked = completeAnalysis(analysis);
+  if (!checked.ok) {
+    throw problemsError('The analysis cannot be recorded', checked.problems);
+  }
+  return checked.value;
+}
+
+/** Module-private helpers. */
+namespace Private {
+  export function sameList(a: readonly string[], b: readonly string[]): boolean {
+    return a.length === b.length && a.every((name, i) => name === b[i]);
+  }
+
+  export function defaultLabel(frame: string, columns: number, maxOrder: number): string {
+    return `${frame}: ${columns} column${columns === 1 ? '' : 's'}, orders up to ${maxOrder}`;
+  }
+
+  /** One line, trimmed, within the length limit (the schema refuses anything else). */
+  export function cleanLabel(label: string): string {
+    // eslint-disable-next-line no-control-regex
+    const line = label.replace(/[\u0000-\u001f\u007f]+/g, ' ').trim();
+    return Array.from(line).slice(0, MAX_LABEL_LENGTH).join('') || 'analysis';
+  }
+}
