@@ -20,7 +20,7 @@ export class TransferList {
 
   /** Add the buffer of a typed array (shared buffers are never transferred: they are shared). */
   add(view: ArrayBufferView | null | undefined): this {
-    if (view && view.buffer instanceof ArrayBuffer && view.buffer.byteLength > 0) {
+    if (view && isArrayBuffer(view.buffer) && view.buffer.byteLength > 0) {
       this._buffers.add(view.buffer);
     }
     return this;
@@ -52,7 +52,7 @@ export class TransferList {
  */
 export function packColumn(column: ColumnView, inPlace = false): ColumnView {
   const own = <T extends ArrayBufferView & { slice(): T }>(view: T): T =>
-    inPlace && view.byteOffset === 0 && view.byteLength === view.buffer.byteLength && view.buffer instanceof ArrayBuffer
+    inPlace && view.byteOffset === 0 && view.byteLength === view.buffer.byteLength && isArrayBuffer(view.buffer)
       ? view
       : view.slice();
   const missing = column.missing ? own(column.missing) : null;
@@ -66,4 +66,13 @@ export function packColumn(column: ColumnView, inPlace = false): ColumnView {
 export function addColumn(list: TransferList, column: ColumnView): TransferList {
   list.add(column.kind === 'numeric' ? column.values : column.codes);
   return list.add(column.missing);
+}
+
+/**
+ * Whether a buffer is a plain (transferable) ArrayBuffer, not a SharedArrayBuffer. Tested by its
+ * tag, not instanceof, because buffers made in another realm (jest's sandbox, an iframe) fail
+ * instanceof.
+ */
+export function isArrayBuffer(buffer: ArrayBufferLike): buffer is ArrayBuffer {
+  return Object.prototype.toString.call(buffer) === '[object ArrayBuffer]';
 }
