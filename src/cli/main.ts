@@ -51,8 +51,8 @@ DATA is a .csv or .tsv file with a header row, an Arrow IPC file or stream (.arr
 
 Options:
   --columns a,b,c       columns to analyse (default: all)
-  --bins SPEC           binning of every column (default: categorical for text,
-                        quantile:4 for numbers)
+  --bins SPEC           binning of every numeric column (default: quantile:4);
+                        text and boolean columns stay categorical
   --bin COLUMN=SPEC     binning of one column; repeat for several
   --missing POLICY      drop | category | error (default: drop)
   --estimator NAME      plugin | miller-madow | chao-shen | shrinkage (default: plugin)
@@ -245,9 +245,17 @@ namespace Private {
       }
       binsByColumn[column] = spec;
     }
+    if (command.bins !== undefined) {
+      // --bins is for numbers: a text column keeps its categories unless --bin says otherwise
+      for (const column of source.columns) {
+        if (column.kind === 'categorical' && !(column.name in binsByColumn)) {
+          binsByColumn[column.name] = 'categorical';
+        }
+      }
+    }
     const options: IAnalyzeOptions = {};
     if (command.bins !== undefined) options.bins = command.bins;
-    if (command.binsByColumn.length > 0) options.binsByColumn = binsByColumn;
+    if (Object.keys(binsByColumn).length > 0) options.binsByColumn = binsByColumn;
     if (command.missing !== undefined) options.missing = command.missing;
     if (command.estimator !== undefined) options.estimator = command.estimator;
     if (command.units !== undefined) options.units = command.units;

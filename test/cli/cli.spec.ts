@@ -189,6 +189,13 @@ describe('polyadic analyze', () => {
       expect(names.some(n => n.startsWith('='))).toBe(false);
     });
 
+    it('should apply --bins to numeric columns and keep text columns categorical', () => {
+      const folder = fixtureFolder({ 'm.csv': mixedCsv() });
+      const result = parseResult(analyze(path.join(folder, 'm.csv'), '--bins', 'width:3'));
+      const methods = Object.fromEntries(result.columns.map(c => [c.name, c.binning.method]));
+      expect(methods).toEqual({ air: 'width', leaf: 'width', soil: 'categorical', light: 'width', fan: 'width' });
+    });
+
     it('should write --out files, CSV when the name ends in .csv', () => {
       const folder = fixtureFolder({ 'm.csv': mixedCsv() });
       const out = path.join(folder, 'result.csv');
