@@ -385,6 +385,13 @@ namespace Private {
 }
 
 if (require.main === module) {
+  // a reader that stops early (`polyadic analyze … | head`) is not an error
+  process.stdout.on('error', (error: NodeJS.ErrnoException) => {
+    if (error.code === 'EPIPE') {
+      process.exit(EXIT.done);
+    }
+    throw error;
+  });
   void main(process.argv.slice(2)).then(code => {
     process.exitCode = code;
   });

@@ -218,6 +218,18 @@ describe('polyadic analyze', () => {
       expect(higher(top.multiplets).map(row => row.columns.join('|')).sort()).toEqual(expected);
     });
 
+    it('should stop quietly when the reader of its output closes early', () => {
+      const header = Array.from({ length: 12 }, (_, j) => `s${j}`);
+      const rows = Array.from({ length: 200 }, (_, i) => header.map((_, j) => (i * (j + 3)) % 5));
+      const folder = fixtureFolder({ 'wide.csv': csv(header, rows) });
+      // 4095 multiplets of CSV are far more than a pipe holds, so `head` closes it mid-write
+      const script = `"${process.execPath}" "${bundle}" analyze wide.csv --format csv 2>err.txt | head -n 2; echo "status=\${PIPESTATUS[0]}"`;
+      const done = require('child_process').spawnSync('bash', ['-c', script], { cwd: folder, encoding: 'utf8' });
+      expect(done.stdout).toMatch(/^columns,order,entropy/);
+      expect(done.stdout).toMatch(/status=0\n$/);
+      expect(fs.readFileSync(path.join(folder, 'err.txt'), 'utf8')).not.toMatch(/EPIPE|\n\s+at /);
+    });
+
     it('should read an Arrow IPC file like the same CSV', () => {
       const table = arrow.tableFromArrays({
         A: new Int32Array([0, 0, 1, 1, 0, 0, 1, 1]),
