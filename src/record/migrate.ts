@@ -37,10 +37,15 @@ export type MigrationOutcome =
   | { status: 'invalid'; problems: IRecordProblem[] };
 
 /**
- * Bring a stored record to the current layout. The input is never changed; a migrated
- * document is a new object. A current one is returned as it is (the caller validates it).
+ * Bring a stored record to the current layout (`current`, by default {@link RECORD_VERSION}),
+ * applying `migrations` one step at a time. The input is never changed; a migrated document is
+ * a new object. A current one is returned as it is (the caller validates it).
  */
-export function migrateRecord(stored: unknown, migrations: readonly IMigration[] = MIGRATIONS): MigrationOutcome {
+export function migrateRecord(
+  stored: unknown,
+  migrations: readonly IMigration[] = MIGRATIONS,
+  current: number = RECORD_VERSION
+): MigrationOutcome {
   if (typeof stored !== 'object' || stored === null || Array.isArray(stored)) {
     return invalid('', "The Polyadic record must be an object such as { \"version\": 1, \"analyses\": [] }.");
   }
@@ -48,19 +53,19 @@ export function migrateRecord(stored: unknown, migrations: readonly IMigration[]
   if (typeof version !== 'number' || !Number.isInteger(version) || version < 0) {
     return invalid('/version', `/version must be a whole number ≥ 0 (the record layout version), not ${JSON.stringify(version) ?? 'missing'}.`);
   }
-  if (version > RECORD_VERSION) {
+  if (version > current) {
     return {
       status: 'newer',
       version,
       notice:
         `This notebook's Polyadic record has layout version ${version}, newer than the version ` +
-        `${RECORD_VERSION} this Polyadic reads. It is shown read-only; update Polyadic to change it.`
+        `${current} this Polyadic reads. It is shown read-only; update Polyadic to change it.`
     };
   }
   let document: unknown = stored;
   let at = version;
-  while (at < RECORD_VERSION) {
-    const step = migrations.find(migration => migration.from === at);
+  while (at < current) {
+    const step = migrations.find(migration => migration.from === at && migration.to > at);
     if (!step) {
       return invalid('/version', `/version is ${at}, a layout this Polyadic cannot read (no migration from it).`);
     }

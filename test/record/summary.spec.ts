@@ -1,0 +1,194 @@
+/**
+ * The summary of a record (top multiplets, order histograms) and recordFromResult, on the
+ * invented greenhouse table. The histogram rules are numpy.histogram's; test_fingerprint.py
+ * also compares orderHistogram with numpy.histogram computed at test time.
+ */
+import { readDelimitedText } from '../../src/cli/readers';
+import { analyze } from '../../src/engine/analyze';
+import type { IAnalyzeOptions, IMultipletRow } from '../../src/engine/types';
+import { fingerprintColumns } from '../../src/record/fingerprint';
+import { isRecordId } from '../../src/record/ids';
+import { recordFromResult } from '../../src/record/recordFromResult';
+import { histogramsOfRows, orderHistogram, topMultiplets } from '../../src/record/summary';
+import { validateAnalysis } from '../../src/record/validate';
+import { greenhouseTable, toCsv } from './helpers';
+
+function row(columns: string[], coinformation: number): IMultipletRow {
+  return {
+    columns,
+    order: columns.length,
+    entropy: 1,
+    coinformation,
+    total_correlation: 0,
+    dual_total_correlation: 0,
+    o_information: 0,
+    s_information: 0
+  };
+}
+
+describe('summary', () => {
+  describe('#topMultiplets', () => {
+    const rows = [
+      row(['a'], 1.2),
+      row(['a', 'b'], 0.3),
+      row(['a', 'c'], -0.1),
+      row(['b', 'c'], 0),
+      row(['a', 'b', 'c'], -0.4),
+      row(['a', 'd'], 0.3),
+      row(['c', 'd'], 0.9),
+      row(['b', 'd'], -0.1)
+    ];
+
+    it('should keep order ≥ 2, negatives most negative first and positives most positive first', () => {
+      const { synergy, redundancy } = topMultiplets(rows, 10);
+      expect(synergy.map(m => m.columns.join(''))).toEqual(['abc', 'ac', 'bd']);
+      expect(redundancy.map(m => m.columns.join(''))).toEqual(['cd', 'ab', 'ad']);
+    });
+
+    it('should cut each side to the size asked, ties in input order', () => {
+      const { synergy, redundancy } = topMultiplets(rows, 2);
+      expect(synergy.map(m => m.columns.join(''))).toEqual(['abc', 'ac']);
+      expect(redundancy.map(m => m.columns.join(''))).toEqual(['cd', 'ab']);
+      expect(synergy[0]).not.toHaveProperty('s_information');
+    });
+  });
+
+  describe('#orderHistogram', () => {
+    it('should bin as numpy.histogram(values, bins=⌈√n⌉) does', () => {
+      // numpy.histogram([0, 1, 2, 3], bins=2) → counts [2, 2], edges [0, 1.5, 3]: the last bin
+      // is closed, so 3 counts in it (numpy documentation, histogram "Notes")
+      expect(orderHistogram(2, [0, 1, 2, 3])).toEqual({ order: 2, edges: [0, 1.5, 3], counts: [2, 2] });
+      const nine = orderHistogram(3, [-1, -0.5, 0, 0.5, 1, 1, 1, 1, 1]);
+      expect(nine.counts).toEqual([2, 1, 6]);
+      expect(nine.edges).toHaveLength(4);
+      [-1, -1 / 3, 1 / 3, 1].forEach((edge, i) => expect(nine.edges[i]).toBeCloseTo(edge, 15));
+    });
+
+    it('should use at most 20 bins', () => {
+      const values = Array.from({ length: 1000 }, (_, i) => i);
+      const histogram = orderHistogram(2, values);
+      expect(histogram.counts).toHaveLength(20);
+      expect(histogram.counts.every(count => count === 50)).toBe(true);
+    });
+
+    it('should widen a constant input by 0.5 on each side, as numpy does', () => {
+      const histogram = orderHistogram(2, [4, 4, 4, 4]);
+      expect(histogram.edges).toEqual([3.5, 4, 4.5]);
+      expect(histogram.counts).toEqual([0, 4]);
+    });
+  });
+
+  describe('#histogramsOfRows', () => {
+    it('should leave the histograms out when the rows are not every multiplet', () => {
+      const rows = [row(['a'], 1), row(['b'], 1), row(['a', 'b'], 0.5)];
+      // one value: one bin, widened by 0.5 on each side
+      expect(histogramsOfRows(rows, 3, 2)).toEqual([{ order: 2, edges: [0, 1], counts: [1] }]);
+      expect(histogramsOfRows(rows.slice(2), 3, 2)).toBeUndefined();
+    });
+  });
+});
+
+describe('recordFromResult', () => {
+  const table = greenhouseTable(300, 21);
+  const source = readDelimitedText(toCsv(table), 'csv', 'greenhouse.csv');
+  const options: IAnalyzeOptions = { maxOrder: 3, estimator: 'shrinkage', units: 'nats' };
+
+  it('should record the settings, the source and the summary of a run', async () => {
+    const result = analyze(source.columns, options);
+    const fingerprint = await fingerprintColumns(source.columns);
+    const record = recordFromResult({
+      options,
+      result,
+      source: { frame: 'greenhouse', columns: source.columns, fingerprint },
+      summarySize: 4
+    });
+    expect(validateAnalysis(record).ok).toBe(true);
+    expect(isRecordId(record.id)).toBe(true);
+    expect(record.label).toBe('greenhouse: 6 columns, orders up to 3');
+    expect(Date.now() - Date.parse(record.created)).toBeLessThan(60000);
+    expect(record.engine).toEqual(result.engine);
+    expect(record.source).toEqual({
+      frame: 'greenhouse',
+      rows: 300,
+      columns: source.columns.map((column, i) => ({
+        name: column.name,
+        dtype: column.dtype,
+        kind: column.kind,
+        sha256: fingerprint.columns[i].sha256
+      })),
+      fingerprint: { encoding: 'pdfp1', sha256: fingerprint.sha256 }
+    });
+    expect(record.columns).toEqual(table.header);
+    expect(record.binning.map(b => [b.name, b.spec, b.bins])).toEqual(result.columns.map(c => [c.name, c.binning.spec, c.bins]));
+    expect(record.binning[1].edges).toEqual(result.columns[1].binning.edges);
+    expect(record.binning[0].categories).toEqual(['false', 'true']);
+    // the engine's default policy, as resolveOptions fills it in
+    expect(record.missing).toBe('drop');
+    expect([record.estimator, record.units, record.max_order]).toEqual(['shrinkage', 'nats', 3]);
+    expect(record.statistics).toEqual({ surrogates: 200, seed: 1, bootstrap: 0, alpha: 0.05 });
+    expect(record.summary.synergy).toHaveLength(4);
+    expect(record.summary.synergy[0].columns).toEqual(['valve_command', 'flow_l_min', 'leak_alarm']);
+    expect(record.summary.multiplet_count).toBe(result.multiplet_count);
+    expect(record.summary.rows_used).toBe(300);
+    const order3 = result.multiplets.filter(m => m.order === 3).map(m => m.coinformation);
+    expect(record.summary.histograms?.[1]).toEqual(orderHistogram(3, order3));
+  });
+
+  it('should keep the sample, the statistics chosen and a cleaned label', async () => {
+    const result = analyze(source.columns, options);
+    const record = recordFromResult({
+      options,
+      result,
+      source: {
+        frame: 'greenhouse',
+        columns: source.columns,
+        fingerprint: await fingerprintColumns(source.columns),
+        sample: { seed: 5, row_cap: 300, original_rows: 5000 }
+      },
+      statistics: { surrogates: 1000, alpha: 0.01 },
+      label: `  Valve\ncheck ${'é'.repeat(300)}`,
+      id: 'pd-chosen0001'
+    });
+    expect(record.id).toBe('pd-chosen0001');
+    expect(record.source.sample).toEqual({ seed: 5, row_cap: 300, original_rows: 5000 });
+    expect(record.statistics).toEqual({ surrogates: 1000, seed: 1, bootstrap: 0, alpha: 0.01 });
+    expect(Array.from(record.label)).toHaveLength(200);
+    expect(record.label.startsWith('Valve check éé')).toBe(true);
+  });
+
+  it('should leave the histograms out of a result cut to its top multiplets', async () => {
+    const cut = { ...options, top: 3 };
+    const result = analyze(source.columns, cut);
+    const record = recordFromResult({
+      options: cut,
+      result,
+      source: { frame: 'greenhouse', columns: source.columns, fingerprint: await fingerprintColumns(source.columns) }
+    });
+    expect(record.summary.histograms).toBeUndefined();
+    expect(record.summary.synergy.length).toBeGreaterThan(0);
+  });
+
+  it('should refuse a fingerprint of other columns than the analysis used', async () => {
+    const result = analyze(source.columns, { ...options, columns: ['valve_command', 'flow_l_min'] });
+    await expect(async () =>
+      recordFromResult({
+        options,
+        result,
+        source: { frame: 'greenhouse', columns: source.columns, fingerprint: await fingerprintColumns(source.columns) }
+      })
+    ).rejects.toThrow('they must be the same, in the same order');
+  });
+
+  it('should refuse statistics outside the schema, naming the field', async () => {
+    const result = analyze(source.columns, options);
+    const fingerprint = await fingerprintColumns(source.columns);
+    expect(() =>
+      recordFromResult({
+        options,
+        result,
+        source: { frame: 'greenhouse', columns: source.columns, fingerprint },
+        statistics: { alpha: 2 }
+      })
+    ).toThrow('The analysis cannot be recorded: /statistics/alpha must be <= 1.');
+  });
+});
