@@ -1,0 +1,167 @@
+/**
+ * Browser tests of the Polyadic side panel in a real JupyterLab (see playwright.config.ts).
+ */
+import { expect, type Locator, type Page, test } from '@playwright/test';
+import path from 'node:path';
+
+import { ARTIFACTS } from './paths';
+
+/** The part of JupyterLab's application object the tests use (`--expose-app-in-browser`). */
+interface IExposedApp {
+  started: Promise<void>;
+  restored: Promise<void>;
+  commands: { execute(id: string, args?: Record<string, unknown>): Promise<unknown> };
+}
+
+declare global {
+  interface Window {
+    jupyterapp?: IExposedApp;
+  }
+}
+
+/**
+ * Open JupyterLab in a workspace of its own (no notebook left open by another test) and
+ * wait until the application has started and restored its layout.
+ */
+async function openLab(page: Page, workspace: string): Promise<void> {
+  await page.goto(`lab/workspaces/${workspace}`);
+  await page.waitForFunction(() => window.jupyterapp !== undefined);
+  await page.evaluate(async () => {
+    await window.jupyterapp!.started;
+    await window.jupyterapp!.restored;
+  });
+  await expect(page.locator('#jp-main-dock-panel')).toBeVisible();
+  // A new workspace opens a launcher, which takes the focus just after the layout is
+  // restored; a palette opened before that would close again at once.
+  await expect(page.locator('.jp-Launcher')).toBeFocused();
+}
+
+/** Run a command the way a user does: Ctrl+Shift+C, type, pick the item. */
+async function runFromPalette(page: Page, label: string): Promise<void> {
+  const palette = page.locator('#modal-command-palette');
+  const search = palette.getByRole('textbox');
+  // The modal palette closes when it loses the focus; open it again if a widget that was
+  // still settling took the focus away.
+  await expect(async () => {
+    if (await palette.isHidden()) {
+      await page.keyboard.press('Control+Shift+C');
+    }
+    await expect(search).toBeFocused({ timeout: 2_000 });
+  }).toPass({ timeout: 20_000 });
+  await search.fill(label);
+  // Items are menuitem or, for toggles such as themes, menuitemcheckbox; the label element
+  // is the common ground.
+  await palette
+    .locator('.lm-CommandPalette-itemLabel')
+    .getByText(label, { exact: true })
+    .first()
+    .click();
+  await expect(palette).toBeHidden();
+}
+
+/** The Polyadic panel, found by its accessible name. */
+function polyadicPanel(page: Page): Locator {
+  return page.getByRole('region', { name: 'Polyadic', exact: true });
+}
+
+/**
+ * Collect console errors and warnings, and uncaught page errors, that come from the
+ * extension (its message or stack names it; its code is served under
+ * /lab/extensions/jupyterlab-polyadic/). JupyterLab's own noise is not ours to fail on.
+ */
+function watchConsole(page: Page): string[] {
+  const problems: string[] = [];
+  page.on('console', message => {
+    const where = `${message.text()} ${message.location().url}`;
+    if (['error', 'warning'].includes(message.type()) && /polyadic/i.test(where)) {
+      problems.push(`${message.type()}: ${message.text()}`);
+    }
+  });
+  page.on('pageerror', error => {
+    if (/polyadic/i.test(`${error.message}\n${error.stack ?? ''}`)) {
+      problems.push(`page error: ${error.message}`);
+    }
+  });
+  return problems;
+}
+
+test.describe('Polyadic panel', () => {
+  test('should open from the command palette, show an empty state and follow the dark theme', async ({
+    page
+  }, testInfo) => {
+    const problems = watchConsole(page);
+    await openLab(page, 'panel-dark');
+
+    await runFromPalette(page, 'Open Polyadic panel');
+    const panel = polyadicPanel(page);
+    await expect(panel).toBeVisible();
+    await expect(panel.getByRole('heading', { name: 'Polyadic' })).toBeVisible();
+
+    // No notebook is open in this workspace: the data section says what to do.
+    const empty = panel.getByRole('status');
+    await expect(empty).toContainText('No notebook is open');
+    await expect(panel.getByRole('button', { name: 'New notebook' })).toBeVisible();
+    // The defaults section lists the settings in the schema's words.
+    await expect(panel.getByText('Row cap')).toBeVisible();
+    await expect(panel.getByText('2,000,000')).toBeVisible();
+
+    const lightBackground = await panel.evaluate(node => getComputedStyle(node).backgroundColor);
+    await runFromPalette(page, 'Use Theme: JupyterLab Dark');
+    await expect(page.locator('body')).toHaveAttribute('data-jp-theme-name', 'JupyterLab Dark');
+    await expect(page.locator('body')).toHaveAttribute('data-jp-theme-light', 'false');
+    // The panel's colours come from the theme variables, so they must change with it.
+    await expect
+      .poll(() => panel.evaluate(node => getComputedStyle(node).backgroundColor))
+      .not.toBe(lightBackground);
+
+    const screenshot = path.join(ARTIFACTS, 'panel-dark.png');
+    await page.screenshot({ path: screenshot });
+    await testInfo.attach('panel-dark', { path: screenshot, contentType: 'image/png' });
+
+    // Back to the light theme, so later tests start from JupyterLab's default.
+    await runFromPalette(page, 'Use Theme: JupyterLab Light');
+    await expect(page.locator('body')).toHaveAttribute('data-jp-theme-light', 'true');
+    expect(problems).toEqual([]);
+  });
+
+  test('should follow the open notebook and return to the empty state when it closes', async ({
+    page
+  }) => {
+    const problems = watchConsole(page);
+    await openLab(page, 'panel-notebook');
+    await runFromPalette(page, 'Open Polyadic panel');
+    const panel = polyadicPanel(page);
+    await expect(panel.getByRole('status')).toContainText('No notebook is open');
+
+    await page.evaluate(() =>
+      window.jupyterapp!.commands.execute('docmanager:open', { path: 'followed.ipynb' })
+    );
+    await expect(panel.getByText('followed.ipynb')).toBeVisible();
+    await expect(panel.getByText(/Python 3 \(ipykernel\) \((idle|busy|starting)\)/)).toBeVisible({
+      timeout: 60_000
+    });
+    await expect(panel.getByRole('status')).toHaveCount(0);
+
+    await page.evaluate(() => window.jupyterapp!.commands.execute('application:close-all'));
+    // The kernel filled in the notebook's language metadata, so JupyterLab asks to save.
+    await page.getByRole('dialog').getByRole('button', { name: 'Discard' }).click();
+    await expect(panel.getByRole('status')).toContainText('No notebook is open');
+    expect(problems).toEqual([]);
+  });
+
+  test('should list its settings in the Settings Editor', async ({ page }) => {
+    const problems = watchConsole(page);
+    await openLab(page, 'panel-settings');
+    await runFromPalette(page, 'Open Polyadic panel');
+
+    await polyadicPanel(page).getByRole('button', { name: 'Edit settings' }).click();
+    const editor = page.locator('.jp-SettingsPanel, .jp-SettingsEditor').first();
+    await expect(editor).toBeVisible();
+    const entry = page.locator('.jp-PluginList').getByText('Polyadic', { exact: true });
+    await expect(entry).toBeVisible();
+    await entry.click();
+    await expect(page.getByText('Row cap', { exact: true }).last()).toBeVisible();
+    await expect(page.getByText('Entropy estimator', { exact: true }).last()).toBeVisible();
+    expect(problems).toEqual([]);
+  });
+});
