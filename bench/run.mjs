@@ -8,6 +8,7 @@
  */
 import { spawnSync } from 'node:child_process';
 import { mkdirSync, writeFileSync, existsSync } from 'node:fs';
+import { cpus, loadavg } from 'node:os';
 import { createRequire } from 'node:module';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -121,6 +122,8 @@ if (!withNumpy) {
   console.log(flags['no-numpy'] ? 'numpy baseline: off (--no-numpy)' : `numpy baseline: skipped, ${python} not found`);
 }
 
+// timings are only comparable on an idle machine: print the load next to them
+const loadAtStart = loadavg()[0];
 const rows = [];
 for (const testCase of CASES) {
   const data = synthetic(testCase.columns, testCase.rows, 20240611 + testCase.columns);
@@ -181,17 +184,21 @@ for (const testCase of CASES) {
   console.log(JSON.stringify(row));
 }
 
-writeFileSync(join(results, 'latest.json'), JSON.stringify({ node: process.version, cases: rows }, null, 2));
+const machine = { node: process.version, cpus: cpus().length, load_at_start: loadAtStart, load_at_end: loadavg()[0] };
+writeFileSync(join(results, 'latest.json'), JSON.stringify({ ...machine, cases: rows }, null, 2));
 
 const fmt = value => (value === undefined ? '—' : value >= 100 ? value.toFixed(0) : value.toFixed(1));
-console.log('\n| case | rows × cols | max order | multiplets | engine median ms | numpy median ms | numpy / engine | max |ΔH| bits |');
+console.log('\n| case | rows × cols | max order | multiplets | engine median ms (min) | numpy median ms | numpy / engine | max |ΔH| bits |');
 console.log('|---|---|---|---|---|---|---|---|');
 for (const row of rows) {
   const ratio = row.numpy_median_ms ? (row.numpy_median_ms / row.engine_median_ms).toFixed(1) + '×' : '—';
   const delta = row.max_abs_entropy_difference === undefined ? row.numpy_error ?? '—' : row.max_abs_entropy_difference.toExponential(1);
   console.log(
     `| ${row.case} | ${row.rows.toLocaleString('en')} × ${row.columns} | ${row.max_order} | ${row.multiplets} | ` +
-      `${fmt(row.engine_median_ms)} (n=${row.repeats}) | ${fmt(row.numpy_median_ms)}${row.numpy_repeats ? ` (n=${row.numpy_repeats})` : ''} | ${ratio} | ${delta} |`
+      `${fmt(row.engine_median_ms)} (${fmt(row.engine_min_ms)}; n=${row.repeats}) | ${fmt(row.numpy_median_ms)}${row.numpy_repeats ? ` (n=${row.numpy_repeats})` : ''} | ${ratio} | ${delta} |`
   );
 }
-console.log(`\nnode ${process.version}; results in ${join('bench', 'results', 'latest.json')}`);
+console.log(
+  `\nnode ${process.version}, ${machine.cpus} CPUs, 1-minute load ${loadAtStart.toFixed(1)} at start and ` +
+    `${machine.load_at_end.toFixed(1)} at end; results in ${join('bench', 'results', 'latest.json')}`
+);
