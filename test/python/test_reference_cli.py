@@ -136,7 +136,7 @@ def test_formats_give_the_same_result(tmp_path, polyadic_analyze):
 @pytest.mark.parametrize("rule", ["width:1", "width:7", "width:20", *RULES])
 def test_rule_edges_match_numpy_histogram_bin_edges(rule, dataset, polyadic_analyze):
     name, frame, path = dataset
-    result = polyadic_analyze(path, "--bins", rule, "--bin", "class=categorical", "--max-order", "1")
+    result = polyadic_analyze(path, "--bins", rule, "--bin", "class=categorical", "--max-order", "2")
     rows = by_columns(result)
     numpy_bins = int(rule.split(":")[1]) if rule.startswith("width:") else rule
     inexact = []
@@ -157,6 +157,9 @@ def test_rule_edges_match_numpy_histogram_bin_edges(rule, dataset, polyadic_anal
         counts = np.histogram(x, bins=edges)[0]
         expected_entropy = scipy_entropy(counts[counts > 0], base=2)
         assert rows[frozenset([column["name"]])]["entropy"] == pytest.approx(expected_entropy, abs=TOLERANCE)
+        # row by row: MI with the class from numpy.histogram's assignment (sklearn.metrics.mutual_info_score)
+        expected_mi = mutual_info_score(codes_from_edges(x, edges), frame["class"]) / math.log(2)
+        assert rows[frozenset([column["name"], "class"])]["coinformation"] == pytest.approx(expected_mi, abs=TOLERANCE)
     if inexact:
         warnings.warn(f"{name} {rule}: edges 1 ulp from numpy for {inexact}")
 
@@ -164,7 +167,7 @@ def test_rule_edges_match_numpy_histogram_bin_edges(rule, dataset, polyadic_anal
 @pytest.mark.parametrize("k", [2, 3, 4, 5, 8, 10, 25])
 def test_quantile_edges_match_numpy_quantile(k, dataset, polyadic_analyze):
     name, frame, path = dataset
-    result = polyadic_analyze(path, "--bins", f"quantile:{k}", "--bin", "class=categorical", "--max-order", "1")
+    result = polyadic_analyze(path, "--bins", f"quantile:{k}", "--bin", "class=categorical", "--max-order", "2")
     rows = by_columns(result)
     for column in result["columns"]:
         if column["name"] == "class":
@@ -180,6 +183,9 @@ def test_quantile_edges_match_numpy_quantile(k, dataset, polyadic_analyze):
         counts = np.histogram(x, bins=edges)[0]
         expected_entropy = scipy_entropy(counts[counts > 0], base=2)
         assert rows[frozenset([column["name"]])]["entropy"] == pytest.approx(expected_entropy, abs=TOLERANCE)
+        # row by row: MI with the class from numpy.histogram's assignment (sklearn.metrics.mutual_info_score)
+        expected_mi = mutual_info_score(codes_from_edges(x, edges), frame["class"]) / math.log(2)
+        assert rows[frozenset([column["name"], "class"])]["coinformation"] == pytest.approx(expected_mi, abs=TOLERANCE)
 
 
 def test_quantile_edges_drop_repeats(tmp_path, polyadic_analyze):
