@@ -1,0 +1,314 @@
+"""The pdfp1 fingerprint in Python, in Node and in a browser: one fixture, three implementations.
+
+The fixture is the invented greenhouse log (demo/generate.py) with a few columns added for the
+hard cases: NaN and nulls, −0.0, a nullable integer, an int64 above 2^53, a pandas categorical,
+booleans, a timestamp and a non-ASCII column name. It is written as Arrow IPC, Parquet and
+CSV; the kernel side (polyadic.fingerprint, hashlib) fingerprints the frame, the CLI code
+(src/cli/fingerprint.ts, WebCrypto in Node) the files, and the same TypeScript bundled for the
+browser runs in headless Chromium (WebCrypto in a browser) on the Arrow bytes.
+
+The known-answer bytes are the worked example of docs/fingerprint.md, written out by hand, and
+each digest is also checked against OpenSSL (the ``openssl dgst`` command-line tool).
+"""
+
+from __future__ import annotations
+
+import base64
+import hashlib
+import importlib.util
+import json
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pyarrow as pa
+import pyarrow.feather as feather
+import pytest
+
+ROOT = Path(__file__).resolve().parents[2]
+if str(ROOT) not in sys.path:
+    sys.path.insert(0, str(ROOT))
+
+import polyadic  # noqa: E402
+from polyadic.fingerprint import encode_column, fingerprint, fingerprint_table  # noqa: E402
+
+_spec = importlib.util.spec_from_file_location("polyadic_demo_generate", ROOT / "demo" / "generate.py")
+generate = importlib.util.module_from_spec(_spec)
+_spec.loader.exec_module(generate)
+
+CHROMIUM = Path("/usr/bin/chromium")
+CHROMIUM_FLAGS = [
+    "--headless",
+    "--no-sandbox",
+    "--disable-gpu",
+    "--disable-background-networking",
+    "--disable-component-update",
+    "--disable-sync",
+    "--no-first-run",
+]
+
+# The worked example of docs/fingerprint.md: x = [1.5, −0, NaN, null], é = ["aé", "b", null].
+X_BYTES = bytes(
+    [0x01, 0x00, 0x00, 0x00, 0x78, 0x01, 0x04, 0x00, 0x00, 0x00]
+    + [0x00, 0x00, 0x00, 0x00, 0x00, 0x00, 0x00, 0xF8, 0x3F]
+    + [0x00] * 9
+    + [0x01, 0x00, 0x00, 0x00, 0x00, 0x00, 0x00, 0xF8, 0x7F] * 2
+)
+E_BYTES = bytes(
+    [0x02, 0x00, 0x00, 0x00, 0xC3, 0xA9, 0x02, 0x03, 0x00, 0x00, 0x00]
+    + [0x00, 0x03, 0x00, 0x00, 0x00, 0x61, 0xC3, 0xA9]
+    + [0x00, 0x01, 0x00, 0x00, 0x00, 0x62]
+    + [0x01]
+)
+
+#: Columns whose values survive a CSV round trip as the same kind (docs/fingerprint.md).
+CSV_COLUMNS = [
+    "air_temp_c",
+    "humidity_a_pct",
+    "flow_l_min",
+    "visitor_zone",
+    "Δ_temp_°C",
+    "door_openings",
+    "sensor_serial",
+    "bed_zone",
+]
+
+
+def openssl_sha256(data: bytes) -> str | None:
+    """SHA-256 by the openssl tool, or None when it is not installed."""
+    tool = shutil.which("openssl")
+    if tool is None:
+        return None
+    done = subprocess.run([tool, "dgst", "-sha256", "-r"], input=data, capture_output=True, check=True)
+    return done.stdout.split()[0].decode()
+
+
+@pytest.fixture(scope="module")
+def frame() -> pd.DataFrame:
+    greenhouse = generate.generate(rows=500, seed=20310301)
+    rng = np.random.default_rng(11)
+    delta = greenhouse["air_temp_c"].to_numpy() - 20.0
+    delta[rng.choice(500, 25, replace=False)] = np.nan
+    delta[3] = -0.0
+    delta[4] = 0.0
+    greenhouse["Δ_temp_°C"] = delta
+    openings = pd.array(rng.integers(0, 6, 500), dtype="Int64")
+    openings[rng.choice(500, 10, replace=False)] = pd.NA
+    greenhouse["door_openings"] = openings
+    # above 2^53: float64 conversion must round alike in numpy and in JavaScript
+    greenhouse["sensor_serial"] = np.int64(2**53) + rng.integers(0, 7, 500)
+    greenhouse["bed_zone"] = pd.Categorical(
+        rng.choice(["west", "east", "north"], 500), categories=["west", "north", "east"]
+    )
+    return greenhouse
+
+
+@pytest.fixture(scope="module")
+def files(frame, tmp_path_factory) -> dict[str, Path]:
+    folder = tmp_path_factory.mktemp("fingerprint")
+    arrow_path = folder / "greenhouse.arrow"
+    feather.write_feather(pa.Table.from_pandas(frame, preserve_index=False), arrow_path, compression="uncompressed")
+    parquet_path = folder / "greenhouse.parquet"
+    frame.to_parquet(parquet_path, engine="pyarrow", index=False)
+    csv_path = folder / "greenhouse.csv"
+    frame[CSV_COLUMNS].to_csv(csv_path, index=False, lineterminator="\n")
+    return {"arrow": arrow_path, "parquet": parquet_path, "csv": csv_path}
+
+
+def _bundle(tmp: Path, entry: str, outfile: Path, platform: str) -> None:
+    """Bundle TypeScript source given as text with esbuild (the repository's dev dependency)."""
+    node = shutil.which("node")
+    if node is None:
+        pytest.fail("node is not on PATH: the cross-language fingerprint test runs the TypeScript code with node")
+    script = (
+        "require('esbuild').build({stdin: {contents: process.env.ENTRY, resolveDir: process.env.ROOT, "
+        "loader: 'ts', sourcefile: 'entry.ts'}, bundle: true, platform: process.env.PLATFORM, "
+        "format: process.env.PLATFORM === 'node' ? 'cjs' : 'iife', conditions: process.env.PLATFORM === 'node' ? ['node'] : [], "
+        "outfile: process.env.OUT, logLevel: 'error'}).catch(e => { console.error(e.message); process.exit(1); });"
+    )
+    env = {"ENTRY": entry, "ROOT": str(ROOT), "PLATFORM": platform, "OUT": str(outfile), "PATH": str(Path(node).parent)}
+    done = subprocess.run([node, "-e", script], cwd=ROOT, env=env, capture_output=True, text=True)
+    if done.returncode != 0 or not outfile.exists():
+        pytest.fail(f"bundling the {platform} entry failed:\n{done.stdout}\n{done.stderr}")
+
+
+@pytest.fixture(scope="module")
+def node_run(tmp_path_factory):
+    """Run src/cli/fingerprint.ts (and orderHistogram) under node; returns parsed JSON output."""
+    folder = tmp_path_factory.mktemp("node-fingerprint")
+    bundle = folder / "fingerprint.cjs"
+    entry = (
+        "import { runFingerprint } from './src/cli/fingerprint';\n"
+        "import { orderHistogram } from './src/record/summary';\n"
+        "const args = process.argv.slice(2);\n"
+        "if (args[0] === 'histogram') {\n"
+        "  process.stdout.write(JSON.stringify(orderHistogram(2, JSON.parse(args[1]))));\n"
+        "} else {\n"
+        "  void runFingerprint(args, process).then(code => { process.exitCode = code; });\n"
+        "}\n"
+    )
+    _bundle(folder, entry, bundle, "node")
+
+    def run(*args: str) -> dict:
+        done = subprocess.run([shutil.which("node"), str(bundle), *args], capture_output=True, text=True)
+        assert done.returncode == 0, f"node fingerprint failed ({done.returncode}): {done.stderr}"
+        return json.loads(done.stdout)
+
+    return run
+
+
+# --- known answers ---------------------------------------------------------------------------
+
+
+def test_encoding_is_the_worked_example_of_the_docs():
+    assert encode_column("x", pa.array([1.5, -0.0, float("nan"), None], pa.float64())) == X_BYTES
+    assert encode_column("é", pa.array(["aé", "b", None])) == E_BYTES
+    # a dictionary column with its categories in another order encodes the same rows
+    reordered = pa.DictionaryArray.from_arrays(pa.array([0, 1, None], pa.int32()), pa.array(["aé", "b"]))
+    assert encode_column("é", reordered) == E_BYTES
+
+
+def test_fingerprint_composes_as_documented():
+    # the two columns of the worked example have different lengths, so each is a table of its own
+    dx, de = hashlib.sha256(X_BYTES).digest(), hashlib.sha256(E_BYTES).digest()
+    for name, array, digest in (("x", pa.array([1.5, -0.0, float("nan"), None]), dx), ("é", pa.array(["aé", "b", None]), de)):
+        expected = hashlib.sha256(b"PDFP1" + bytes([1, 0, 0, 0]) + digest).hexdigest()
+        assert fingerprint_table(pa.table({name: array})) == {
+            "encoding": "pdfp1",
+            "sha256": expected,
+            "columns": [{"name": name, "sha256": digest.hex()}],
+        }
+        by_openssl = openssl_sha256(b"PDFP1" + bytes([1, 0, 0, 0]) + digest)
+        if by_openssl is not None:
+            assert by_openssl == expected
+    two = pa.table({"x": pa.array([1.5, 2.0]), "y": pa.array(["a", "b"])})
+    digests = [hashlib.sha256(encode_column(n, two.column(n))).digest() for n in ("x", "y")]
+    assert fingerprint_table(two)["sha256"] == hashlib.sha256(b"PDFP1" + bytes([2, 0, 0, 0]) + b"".join(digests)).hexdigest()
+
+
+def test_kernel_fingerprint_reads_values_as_the_engine_does():
+    base = fingerprint(pd.DataFrame({"n": [1.0, 2.0, np.nan]}))["sha256"]
+    # nullable integers with a missing value equal floats with NaN
+    assert fingerprint(pd.DataFrame({"n": pd.array([1, 2, None], dtype="Int64")}))["sha256"] == base
+    # booleans are the categories false/true, so they equal those strings
+    flags = fingerprint(pd.DataFrame({"f": [True, False, None]}, dtype="boolean"))["sha256"]
+    assert flags == fingerprint(pd.DataFrame({"f": ["true", "false", None]}, dtype=object))["sha256"]
+    assert fingerprint(pd.DataFrame({"n": [1.0, 2.0, 3.0]}))["sha256"] != base
+
+
+def test_row_cap_samples_as_the_bridge_does(frame):
+    from polyadic._arrow import frame_to_ipc_batches
+
+    payload = frame_to_ipc_batches(frame, ["air_temp_c", "bed_zone"], row_cap=100, seed=9)
+    sent = pa.Table.from_batches(payload.batches)
+    assert fingerprint(frame, ["air_temp_c", "bed_zone"], row_cap=100, sample_seed=9) == fingerprint_table(sent)
+
+
+def test_unreadable_types_are_refused_naming_the_column():
+    with pytest.raises(Exception, match="Column 'ratios' is a dictionary of float values"):
+        fingerprint_table(pa.table({"ratios": pa.array([0.5, 1.5]).dictionary_encode()}))
+
+
+# --- three implementations on one fixture ----------------------------------------------------
+
+
+def test_node_agrees_on_arrow_and_parquet_files(frame, files, node_run):
+    expected = polyadic.fingerprint(frame)
+    assert [c["name"] for c in expected["columns"]] == list(frame.columns)
+    for kind in ("arrow", "parquet"):
+        got = node_run(str(files[kind]))
+        assert got["rows"] == 500
+        mismatched = [a["name"] for a, b in zip(expected["columns"], got["columns"]) if a != b]
+        assert mismatched == [], f"{kind}: columns whose digests differ: {mismatched}"
+        assert got["sha256"] == expected["sha256"], kind
+
+
+def test_node_agrees_on_a_csv_file(frame, files, node_run):
+    expected = polyadic.fingerprint(frame, CSV_COLUMNS)
+    got = node_run(str(files["csv"]), "--columns", ",".join(CSV_COLUMNS))
+    mismatched = [a["name"] for a, b in zip(expected["columns"], got["columns"]) if a != b]
+    assert mismatched == []
+    assert got["sha256"] == expected["sha256"]
+
+
+def test_node_tells_a_changed_cell(frame, tmp_path, node_run):
+    changed = frame[CSV_COLUMNS].copy()
+    changed.loc[17, "humidity_a_pct"] += 0.001
+    path = tmp_path / "changed.csv"
+    changed.to_csv(path, index=False, lineterminator="\n")
+    got = node_run(str(path))
+    expected = polyadic.fingerprint(frame, CSV_COLUMNS)
+    assert got["sha256"] != expected["sha256"]
+    assert [a["name"] for a, b in zip(expected["columns"], got["columns"]) if a != b] == ["humidity_a_pct"]
+
+
+def test_browser_agrees_on_the_arrow_file(frame, files, tmp_path):
+    if not CHROMIUM.exists():
+        pytest.fail("/usr/bin/chromium is missing: the browser side of the fingerprint test needs Debian's chromium")
+    script = tmp_path / "fingerprint.js"
+    entry = (
+        "import { tableFromIPC } from 'apache-arrow';\n"
+        "import { columnsFromArrow } from './src/engine/table';\n"
+        "import { fingerprintColumns } from './src/record/fingerprint';\n"
+        "const out = document.getElementById('out')!;\n"
+        "const text = atob(document.getElementById('data')!.textContent!.trim());\n"
+        "const bytes = Uint8Array.from(text, c => c.charCodeAt(0));\n"
+        "fingerprintColumns(columnsFromArrow(tableFromIPC(bytes)))\n"
+        "  .then(f => { out.textContent = JSON.stringify({ secure: isSecureContext, ...f }); })\n"
+        "  .catch(e => { out.textContent = 'ERROR ' + String(e); });\n"
+    )
+    _bundle(tmp_path, entry, script, "browser")
+    data = base64.b64encode(files["arrow"].read_bytes()).decode()
+    page = tmp_path / "fingerprint.html"
+    # the page holds only base64 and our bundle; the result is read back from a <pre> as JSON
+    page.write_text(
+        "<!doctype html><html><body><pre id=\"out\">pending</pre>"
+        f"<script type=\"text/plain\" id=\"data\">{data}</script>"
+        f"<script>{script.read_text()}</script></body></html>",
+        encoding="utf-8",
+    )
+    done = subprocess.run(
+        [
+            str(CHROMIUM),
+            *CHROMIUM_FLAGS,
+            f"--user-data-dir={tmp_path / 'profile'}",
+            "--virtual-time-budget=20000",
+            "--dump-dom",
+            page.as_uri(),
+        ],
+        capture_output=True,
+        text=True,
+        timeout=120,
+    )
+    start = done.stdout.find('<pre id="out">')
+    assert start >= 0, f"chromium gave no page:\n{done.stderr[-2000:]}"
+    shown = done.stdout[start + len('<pre id="out">') : done.stdout.find("</pre>", start)]
+    assert not shown.startswith(("pending", "ERROR")), shown
+    got = json.loads(shown.replace("&quot;", '"').replace("&amp;", "&").replace("&lt;", "<").replace("&gt;", ">"))
+    expected = polyadic.fingerprint(frame)
+    assert got.pop("secure") is True
+    assert got == expected
+
+
+# --- order histograms against numpy --------------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    "values",
+    [
+        [0.0, 1.0, 2.0, 3.0],
+        [0.7, 0.7, 0.7],
+        list(np.random.default_rng(3).normal(-0.2, 0.3, 77)),
+        list(np.random.default_rng(4).exponential(1.0, 1000) - 0.5),
+    ],
+)
+def test_order_histogram_matches_numpy(values, node_run):
+    # numpy.histogram computed at test time is the reference for src/record/summary.ts
+    got = node_run("histogram", json.dumps(values))
+    bins = min(20, max(1, int(np.ceil(np.sqrt(len(values))))))
+    counts, edges = np.histogram(np.asarray(values), bins=bins)
+    assert got["counts"] == counts.tolist()
+    assert got["edges"] == edges.tolist()
