@@ -15,6 +15,8 @@ except ImportError:  # pragma: no cover - only in a source tree that was never b
 
 from .bridge import ResultsNotFound, results
 from .bridge import register as _register_bridge
+from .fingerprint import fingerprint
+from .show import show
 
 
 def _jupyter_labextension_paths():
@@ -35,4 +37,4 @@ def _register_quietly():
 
 _register_quietly()
 
-__all__ = ["ResultsNotFound", "__version__", "results"]
+__all__ = ["ResultsNotFound", "__version__", "fingerprint", "results", "show"]
