@@ -356,7 +356,10 @@ export class KernelBridge implements IDisposable {
     this._setStatus('error', Private.REFUSED);
   }
 
-  /** Stop using the current kernel: reject pending requests and close the comm. */
+  /**
+   * Stop using the current kernel: reject pending requests and drop the comm, telling the
+   * kernel (`close`) unless the kernel closed it or is restarting, and so forgot it already.
+   */
   private _teardown(reason: BridgeFailure, status: [BridgeState, string] | null): void {
     this._generation++;
     this._rejectAll(reason);
@@ -364,9 +367,13 @@ export class KernelBridge implements IDisposable {
     if (comm !== null) {
       this._forgetComm(comm);
       try {
-        comm.close();
+        if (reason === 'restart' || reason === 'closed') {
+          comm.dispose();
+        } else {
+          comm.close();
+        }
       } catch {
-        // A comm of a restarted or dead kernel is already gone: nothing left to close.
+        // The comm of a kernel whose connection is gone cannot send its close: nothing to tell.
       }
     }
     if (this._listing !== null) {
