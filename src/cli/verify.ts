@@ -391,13 +391,11 @@ namespace Private {
         out.push(`${where} edges[${j}] ${recorded.edges[j]} vs ${edges[j]}`);
       }
     }
-    const categories = now.binning.categories;
-    const recordedCategories = recorded.categories;
-    if (
-      (recordedCategories === undefined) !== (categories === undefined) ||
-      (recordedCategories && categories && (recordedCategories.length !== categories.length || recordedCategories.some((c, k) => c !== categories[k])))
-    ) {
-      out.push(`${where} categories ${JSON.stringify(recordedCategories ?? null)} vs ${JSON.stringify(categories ?? null)}`);
+    // the order of the categories is the source library's (a pandas categorical keeps its own,
+    // a CSV file reads sorted) and changes no measure: compare them as sets
+    const sorted = (list: string[] | undefined): string | null => (list ? JSON.stringify([...list].sort()) : null);
+    if (sorted(recorded.categories) !== sorted(now.binning.categories)) {
+      out.push(`${where} categories ${sorted(recorded.categories)} vs ${sorted(now.binning.categories)}`);
     }
     if (recorded.missing_code !== now.binning.missing_code) {
       out.push(`${where} missing_code ${recorded.missing_code ?? 'none'} vs ${now.binning.missing_code ?? 'none'}`);

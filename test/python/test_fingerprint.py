@@ -141,21 +141,42 @@ def node_run(tmp_path_factory):
     folder = tmp_path_factory.mktemp("node-fingerprint")
     bundle = folder / "fingerprint.cjs"
     entry = (
+        "import { readFileSync, writeFileSync } from 'fs';\n"
+        "import { decodePieces, fetchedFrame } from './src/bridge/decode';\n"
         "import { runFingerprint } from './src/cli/fingerprint';\n"
+        "import { runVerify } from './src/cli/verify';\n"
+        "import { analyze } from './src/engine/analyze';\n"
+        "import { fingerprintColumns } from './src/record/fingerprint';\n"
+        "import { recordFromResult } from './src/record/recordFromResult';\n"
         "import { orderHistogram } from './src/record/summary';\n"
         "const args = process.argv.slice(2);\n"
+        "async function record(stream: string, done: string, options: string, out: string) {\n"
+        "  // what the panel does after a run: decode the fetch, analyse, fingerprint, record\n"
+        "  const frame = fetchedFrame(decodePieces([readFileSync(stream)]), JSON.parse(readFileSync(done, 'utf8')));\n"
+        "  const opts = JSON.parse(options);\n"
+        "  const result = analyze(frame.columns, opts);\n"
+        "  const analysis = recordFromResult({ options: opts, result, source: { frame: frame.name, columns: frame.columns,\n"
+        "    fingerprint: await fingerprintColumns(frame.columns) }, label: 'Kernel frame' });\n"
+        "  writeFileSync(out, JSON.stringify({ cells: [], metadata: { polyadic: { version: 1, analyses: [analysis] } },\n"
+        "    nbformat: 4, nbformat_minor: 5 }));\n"
+        "  process.stdout.write(JSON.stringify(analysis));\n"
+        "}\n"
         "if (args[0] === 'histogram') {\n"
         "  process.stdout.write(JSON.stringify(orderHistogram(2, JSON.parse(args[1]))));\n"
+        "} else if (args[0] === 'record') {\n"
+        "  void record(args[1], args[2], args[3], args[4]);\n"
+        "} else if (args[0] === 'verify') {\n"
+        "  void runVerify(args.slice(1), process).then(code => { process.exitCode = code; });\n"
         "} else {\n"
         "  void runFingerprint(args, process).then(code => { process.exitCode = code; });\n"
         "}\n"
     )
     _bundle(folder, entry, bundle, "node")
 
-    def run(*args: str) -> dict:
+    def run(*args: str, expect: int = 0, raw: bool = False):
         done = subprocess.run([shutil.which("node"), str(bundle), *args], capture_output=True, text=True)
-        assert done.returncode == 0, f"node fingerprint failed ({done.returncode}): {done.stderr}"
-        return json.loads(done.stdout)
+        assert done.returncode == expect, f"node {args[0]} gave {done.returncode}: {done.stdout}\n{done.stderr}"
+        return done if raw else json.loads(done.stdout)
 
     return run
 
@@ -312,3 +333,46 @@ def test_order_histogram_matches_numpy(values, node_run):
     counts, edges = np.histogram(np.asarray(values), bins=bins)
     assert got["counts"] == counts.tolist()
     assert got["edges"] == edges.tolist()
+
+
+# --- the panel's path, end to end -----------------------------------------------------------
+
+
+def test_record_of_a_kernel_frame_verifies_against_its_parquet_file(frame, files, node_run, tmp_path):
+    """Bridge → front-end decoding → analyze → record → `polyadic verify` on the saved Parquet."""
+    from polyadic._arrow import frame_to_ipc_batches
+
+    columns = ["valve_command", "flow_l_min", "leak_alarm", "humidity_a_pct", "humidity_b_pct", "bed_zone", "door_openings"]
+    payload = frame_to_ipc_batches(frame, columns)
+    stream = tmp_path / "fetch.arrows"
+    stream.write_bytes(b"".join(payload.iter_pieces()))
+    done = {
+        "type": "fetch_done",
+        "request_id": "r1",
+        "name": "greenhouse",
+        "rows": payload.rows,
+        "original_rows": payload.original_rows,
+        "sampled": payload.sampled,
+        "seed": payload.seed,
+        "columns": payload.columns,
+        "batch_count": payload.batch_count,
+        "bytes_total": payload.bytes_total,
+    }
+    done_path = tmp_path / "done.json"
+    done_path.write_text(json.dumps(done))
+    notebook = tmp_path / "greenhouse.ipynb"
+    options = {"maxOrder": 3, "estimator": "miller-madow", "missing": "category"}
+    analysis = node_run("record", str(stream), str(done_path), json.dumps(options), str(notebook))
+    # the kernel's own fingerprint of the frame is the one the front end recorded
+    assert analysis["source"]["fingerprint"]["sha256"] == polyadic.fingerprint(frame, columns)["sha256"]
+    assert sorted(analysis["summary"]["synergy"][0]["columns"]) == ["flow_l_min", "leak_alarm", "valve_command"]
+
+    run = node_run("verify", str(notebook), "--data", f"greenhouse={files['parquet']}", raw=True)
+    assert "reproduced" in run.stdout and "1 of 1 analyses reproduce." in run.stdout
+
+    changed = frame.copy()
+    changed.loc[250, "humidity_b_pct"] += 0.5
+    changed_path = tmp_path / "changed.parquet"
+    changed.to_parquet(changed_path, engine="pyarrow", index=False)
+    run = node_run("verify", str(notebook), "--data", f"greenhouse={changed_path}", expect=1, raw=True)
+    assert "DATA CHANGED" in run.stdout and "values differ in column 'humidity_b_pct'" in run.stdout

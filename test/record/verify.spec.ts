@@ -146,6 +146,18 @@ describe('runVerify', () => {
     expect(run.stdout).toContain('order histogram 2 counts[0]');
   });
 
+  it('should accept categories recorded in another order, and report other categories', async () => {
+    // a pandas categorical keeps its own category order; the same values in a CSV read sorted
+    const reordered = clone(analysis);
+    reordered.binning[0].categories!.reverse();
+    let run = await verify(writeNotebook([reordered]), '--data', `greenhouse=${csvPath}`);
+    expect(run.code).toBe(VERIFY_EXIT.reproduced);
+    reordered.binning[0].categories![0] = 'open';
+    run = await verify(writeNotebook([reordered]), '--data', `greenhouse=${csvPath}`);
+    expect(run.code).toBe(VERIFY_EXIT.differs);
+    expect(run.stdout).toContain(`DIFFERS: binning of 'valve_command' categories ["false","open"] vs ["false","true"]`);
+  });
+
   it('should say DATA CHANGED when a selected column is gone from the file', async () => {
     const table = greenhouseTable(400, 7);
     const narrow = path.join(folder, 'narrow.csv');
