@@ -12,7 +12,8 @@ import type { EngineRequest, EngineResponse, IEngineWorker } from './protocol';
 /** The in-process stand-in for an engine worker. */
 export class InProcessWorker implements IEngineWorker {
   /** Create the stand-in; its host keeps the runs' codes as a worker would. */
-  constructor() {
+  constructor(options: InProcessWorker.IOptions = {}) {
+    this._clone = options.clone ?? ((value, transfer) => structuredClone(value, { transfer }));
     this._host = new WorkerHost((response, transfer) => this._deliver(response, transfer));
   }
 
@@ -31,7 +32,7 @@ export class InProcessWorker implements IEngineWorker {
     if (this._terminated) {
       return;
     }
-    const copy = structuredClone(request, { transfer });
+    const copy = this._clone(request, transfer);
     setTimeout(() => {
       if (!this._terminated) {
         this._host.handle(copy);
@@ -50,7 +51,7 @@ export class InProcessWorker implements IEngineWorker {
   }
 
   private _deliver(response: EngineResponse, transfer: ArrayBuffer[]): void {
-    const copy = structuredClone(response, { transfer });
+    const copy = this._clone(response, transfer);
     setTimeout(() => {
       if (!this._terminated && this._onResponse) {
         this._onResponse(copy);
@@ -58,7 +59,20 @@ export class InProcessWorker implements IEngineWorker {
     }, 0);
   }
 
+  private _clone: <T>(value: T, transfer: ArrayBuffer[]) => T;
   private _host: WorkerHost;
   private _onResponse: ((response: EngineResponse) => void) | null = null;
   private _terminated = false;
+}
+
+/** Types of {@link InProcessWorker}. */
+export namespace InProcessWorker {
+  /** Options of the stand-in. */
+  export interface IOptions {
+    /**
+     * How a message is copied (default structuredClone with the transfer list). jest's sandbox
+     * needs its own: there, structuredClone returns typed arrays of Node's outer realm.
+     */
+    clone?: <T>(value: T, transfer: ArrayBuffer[]) => T;
+  }
 }

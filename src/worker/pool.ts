@@ -447,8 +447,9 @@ export class EnginePool {
   private _onResult(run: Private.IRun, result: IAnalysisResult, lattice: ILattice | undefined): void {
     const helpers = run.slots.slice(1).filter(slot => slot.holds === run.id);
     run.phase = 'done';
-    this._report(run);
+    // Ended first, so a listener that cancels on the last report cannot turn the result into a rejection.
     this._end(run);
+    this._report(run, true);
     for (const slot of helpers) {
       this._send(slot, { type: 'release', id: this._nextId(), protocol: PROTOCOL_VERSION, run: run.id }, []);
     }
@@ -481,8 +482,9 @@ export class EnginePool {
     }
   }
 
-  private _report(run: Private.IRun): void {
-    if (this._run !== run || !run.runOptions.onProgress) {
+  /** Report a run's progress; after its end only the final report (`last`) goes out. */
+  private _report(run: Private.IRun, last = false): void {
+    if ((this._run !== run && !last) || !run.runOptions.onProgress) {
       return;
     }
     let walked = run.multipletsDone;

@@ -93,10 +93,71 @@ export class InProcessFactory {
 
   /** The factory function to pass as `createWorker`. */
   readonly create = (): InProcessWorker => {
-    const worker = new InProcessWorker();
+    const worker = new InProcessWorker({ clone: sandboxClone });
     this.made.push(worker);
     return worker;
   };
+}
+
+/**
+ * structuredClone (transfers detach the sender's buffers), with every typed array re-made by
+ * this realm's constructor. In jest's sandbox structuredClone returns arrays of Node's outer
+ * realm, which fail `instanceof Float64Array` in the code under test; a real worker's copies are
+ * of the worker's own realm, as these are.
+ */
+export function sandboxClone<T>(value: T, transfer: ArrayBuffer[]): T {
+  return toThisRealm(structuredClone(value, { transfer })) as T;
+}
+
+const TYPED_ARRAYS: Record<string, new (buffer: ArrayBufferLike, offset: number, length: number) => ArrayBufferView> = {
+  Float64Array,
+  Float32Array,
+  Int8Array,
+  Int16Array,
+  Int32Array,
+  Uint8Array,
+  Uint16Array,
+  Uint32Array,
+  BigInt64Array,
+  BigUint64Array
+};
+
+function toThisRealm(value: unknown): unknown {
+  if (ArrayBuffer.isView(value) && !(value instanceof DataView)) {
+    const name = Object.prototype.toString.call(value).slice(8, -1);
+    const make = TYPED_ARRAYS[name];
+    const length = (value as unknown as { length: number }).length;
+    return make ? new make(value.buffer, value.byteOffset, length) : value;
+  }
+  if (Array.isArray(value)) {
+    return value.map(toThisRealm);
+  }
+  if (value !== null && typeof value === 'object') {
+    const out: Record<string, unknown> = {};
+    for (const [key, item] of Object.entries(value)) {
+      out[key] = toThisRealm(item);
+    }
+    return out;
+  }
+  return value;
+}
+
+/**
+ * A value with each typed array replaced by its type name and a plain array, so that values from
+ * another realm (a worker thread's messages) compare equal to this realm's with toEqual.
+ */
+export function plainValue(value: unknown): unknown {
+  if (ArrayBuffer.isView(value) && !(value instanceof DataView)) {
+    const items = Array.from(value as unknown as ArrayLike<number | bigint>);
+    return { [Object.prototype.toString.call(value).slice(8, -1)]: items };
+  }
+  if (Array.isArray(value)) {
+    return value.map(plainValue);
+  }
+  if (value !== null && typeof value === 'object') {
+    return Object.fromEntries(Object.entries(value).map(([key, item]) => [key, plainValue(item)]));
+  }
+  return value;
 }
 
 /** Wait for the tasks queued so far (in-process messages travel by setTimeout 0). */
