@@ -23,10 +23,11 @@ import { isPolyadicError, PolyadicError } from '../engine/errors';
 import { fromNats } from '../engine/estimators';
 import { computeLattice, type ILattice } from '../engine/lattice';
 import { coinformationAll, multipletMeasures } from '../engine/measures';
-import { checkMultipletCount, DEFAULT_MAX_MULTIPLETS, forEachMultiplet } from '../engine/multiplets';
-import type { ColumnView, IAnalyzeOptions, IColumnBinning, Units } from '../engine/types';
+import { checkMultipletCount, forEachMultiplet } from '../engine/multiplets';
+import type { ColumnView, IColumnBinning, Units } from '../engine/types';
 import { ENGINE_NAME, ENGINE_VERSION } from '../engine/version';
 import { fingerprintColumns } from '../record/fingerprint';
+import { compareFingerprint, optionsFromRecord } from '../record/settings';
 import { readRecords } from '../record/store';
 import { orderHistogram } from '../record/summary';
 import type { IAnalysisRecord, IMultipletSummary } from '../record/types';
@@ -304,15 +305,16 @@ namespace Private {
     if (rows !== analysis.source.rows) {
       reasons.push(`${analysis.source.rows} rows recorded, ${rows} now`);
     }
+    const kinds = new Map(columns.map(column => [column.name, column.kind]));
     const changed: string[] = [];
-    analysis.source.columns.forEach((column, i) => {
-      const current = columns[i];
-      if (current.kind !== column.kind) {
-        reasons.push(`column '${column.name}' was read as ${column.kind}, now as ${current.kind}`);
-      } else if (column.sha256 !== undefined && column.sha256 !== now.columns[i].sha256) {
-        changed.push(`'${column.name}'`);
+    for (const name of compareFingerprint(analysis, now).changedColumns) {
+      const recordedKind = analysis.source.columns.find(column => column.name === name)?.kind;
+      if (recordedKind !== kinds.get(name)) {
+        reasons.push(`column '${name}' was read as ${recordedKind}, now as ${kinds.get(name)}`);
+      } else {
+        changed.push(`'${name}'`);
       }
-    });
+    }
     if (changed.length > 0) {
       reasons.push(`values differ in column${changed.length === 1 ? '' : 's'} ${changed.join(', ')}`);
     }
@@ -332,15 +334,7 @@ namespace Private {
   function rerunDifferences(analysis: IAnalysisRecord, columns: ColumnView[]): string[] {
     const equal = sameEngine(analysis) ? (a: number, b: number) => a === b : withinTolerance;
     const differences: string[] = [];
-    const options: IAnalyzeOptions = {
-      columns: analysis.columns,
-      binsByColumn: Object.fromEntries(analysis.binning.map(binning => [binning.name, binning.spec])),
-      missing: analysis.missing,
-      estimator: analysis.estimator,
-      units: analysis.units,
-      maxOrder: analysis.max_order,
-      maxMultiplets: Math.max(DEFAULT_MAX_MULTIPLETS, analysis.summary.multiplet_count)
-    };
+    const options = optionsFromRecord(analysis);
     const prepared = prepareColumns(columns, options);
     prepared.binnings.forEach((binning, i) => {
       differences.push(...binningDifferences(analysis.binning[i], binning, equal));

@@ -9,4 +9,5 @@ export * from './ids';
 export * from './summary';
 export * from './markdown';
 export * from './recordFromResult';
+export * from './settings';
 export * from './store';

@@ -1,0 +1,63 @@
+/**
+ * From a record back to settings: the engine options that re-run an analysis exactly (the
+ * panel restores them when a record is chosen; `polyadic verify` re-runs with them), and how
+ * the current data differs from the recorded fingerprint (the panel's "data changed" banner).
+ */
+
+import { DEFAULT_MAX_MULTIPLETS } from '../engine/multiplets';
+import type { IAnalyzeOptions } from '../engine/types';
+import type { IFingerprint } from './fingerprint';
+import type { IAnalysisRecord } from './types';
+
+/**
+ * The engine options of a recorded analysis: its selection, each column's binning spec, the
+ * missing-value policy, the estimator, the units and the maximum order. The multiplet limit is
+ * raised to the recorded count when that is above the default, so a recorded run always fits.
+ */
+export function optionsFromRecord(analysis: IAnalysisRecord): IAnalyzeOptions {
+  return {
+    columns: [...analysis.columns],
+    binsByColumn: Object.fromEntries(analysis.binning.map(binning => [binning.name, binning.spec])),
+    missing: analysis.missing,
+    estimator: analysis.estimator,
+    units: analysis.units,
+    maxOrder: analysis.max_order,
+    maxMultiplets: Math.max(DEFAULT_MAX_MULTIPLETS, analysis.summary.multiplet_count)
+  };
+}
+
+/** How current data compares with an analysis' recorded fingerprint. */
+export interface IDataComparison {
+  /** Whether the fingerprints are equal: the data is the data the analysis read. */
+  same: boolean;
+  /**
+   * Selected columns whose own digest differs (empty when the record has no per-column
+   * digests, as records migrated from version 0).
+   */
+  changedColumns: string[];
+  /** Selected columns that the current fingerprint does not cover (gone or renamed). */
+  missingColumns: string[];
+}
+
+/**
+ * Compare the fingerprint of the current data (the recorded columns, in the recorded order)
+ * with the record's.
+ */
+export function compareFingerprint(analysis: IAnalysisRecord, current: IFingerprint): IDataComparison {
+  const digests = new Map(current.columns.map(column => [column.name, column.sha256]));
+  const changedColumns: string[] = [];
+  const missingColumns: string[] = [];
+  for (const column of analysis.source.columns) {
+    const now = digests.get(column.name);
+    if (now === undefined) {
+      missingColumns.push(column.name);
+    } else if (column.sha256 !== undefined && column.sha256 !== now) {
+      changedColumns.push(column.name);
+    }
+  }
+  return {
+    same: current.encoding === analysis.source.fingerprint.encoding && current.sha256 === analysis.source.fingerprint.sha256,
+    changedColumns,
+    missingColumns
+  };
+}
