@@ -549,7 +549,12 @@ export class KernelBridge implements IDisposable {
     } catch (error) {
       this._pending.delete(id);
       pending.reject(
-        new BridgeError('closed', `The comm to the kernel is closed, so ${pending.what} could not start; ${pending.again}.`)
+        comm.isDisposed
+          ? new BridgeError('closed', `The comm to the kernel is closed, so ${pending.what} could not start; ${pending.again}.`)
+          : new BridgeError(
+              'connection',
+              `Polyadic could not start ${pending.what} (${Private.errorText(error)}); ${pending.again}.`
+            )
       );
       return;
     }
@@ -593,7 +598,7 @@ export class KernelBridge implements IDisposable {
         request.meta = meta;
       }
       this._send(comm, request, [Private.ownBuffer(chunk)], {
-        what: `sending the results of analysis '${analysisId}'`,
+        what: `the upload of the results of analysis '${analysisId}'`,
         again: 'send them again',
         reply: data => {
           if (data.type !== 'results_ack' && data.type !== 'results_stored') {

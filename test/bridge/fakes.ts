@@ -293,13 +293,13 @@ export class FakeKernel implements IBridgeKernel {
   }
 }
 
-/** A notebook session holding a fake kernel. */
-export class FakeSession implements IBridgeSession {
-  constructor(kernel: FakeKernel | null) {
+/** A notebook session holding a fake kernel (or any kernel of the bridge's shape). */
+export class FakeSession<K extends IBridgeKernel = FakeKernel> implements IBridgeSession {
+  constructor(kernel: K | null) {
     this.session = { kernel };
   }
 
-  session: { kernel: FakeKernel | null } | null;
+  session: { kernel: K | null } | null;
   isDisposed = false;
   readonly kernelChanged = new Signal<this, unknown>(this);
   readonly statusChanged = new Signal<this, Kernel.Status>(this);
@@ -307,7 +307,7 @@ export class FakeSession implements IBridgeSession {
   readonly disposed = new Signal<this, void>(this);
 
   /** The session's kernel. */
-  get kernel(): FakeKernel {
+  get kernel(): K {
     const kernel = this.session?.kernel;
     if (!kernel) {
       throw new Error('the fake session has no kernel');
@@ -316,7 +316,7 @@ export class FakeSession implements IBridgeSession {
   }
 
   /** Switch to another kernel (or none). */
-  changeKernel(kernel: FakeKernel | null): void {
+  changeKernel(kernel: K | null): void {
     const old = this.session?.kernel ?? null;
     this.session = { kernel };
     this.kernelChanged.emit({ name: 'kernel', oldValue: old, newValue: kernel });
@@ -325,7 +325,7 @@ export class FakeSession implements IBridgeSession {
   /** A restart as JupyterLab reports it: the status first, then the cleared connection. */
   restart(): void {
     this.statusChanged.emit('restarting');
-    this.kernel.clearState();
+    (this.kernel as IBridgeKernel & { clearState?: () => void }).clearState?.();
   }
 
   /** The restarted kernel is back. */

@@ -1,0 +1,314 @@
+/**
+ * KernelBridge against a real Jupyter server and IPython kernel (the repository's Python),
+ * through JupyterLab's own kernel connection (@jupyterlab/services, over a websocket): the
+ * silent import, the comm on a subshell, listings pushed after cells, fetched values compared
+ * with pandas and numpy in the same kernel, results read back with `polyadic.results`, and a
+ * restart in the middle of a fetch.
+ */
+import { ChildProcess, spawn } from 'child_process';
+import { randomBytes } from 'crypto';
+import * as net from 'net';
+import * as path from 'path';
+
+import { Kernel, KernelManager, KernelMessage, ServerConnection } from '@jupyterlab/services';
+import { Signal } from '@lumino/signaling';
+
+import { IBridgeStatus, KernelBridge } from '../../src/bridge/connector';
+import { BridgeError } from '../../src/bridge/errors';
+import type { IBridgeSession } from '../../src/bridge/kernel';
+import type { IMultipletRow } from '../../src/engine/types';
+import { manifestValues, python, ROOT, tempFolder } from './helpers';
+
+jest.setTimeout(120_000);
+
+/** A session over one kernel connection, as a notebook's session context forwards its signals. */
+class LiveSession implements IBridgeSession {
+  constructor(readonly kernel: Kernel.IKernelConnection) {
+    this.session = { kernel };
+    kernel.statusChanged.connect((_, status) => this.statusChanged.emit(status));
+    kernel.connectionStatusChanged.connect((_, status) => this.connectionStatusChanged.emit(status));
+  }
+
+  session: { kernel: Kernel.IKernelConnection | null } | null;
+  isDisposed = false;
+  readonly kernelChanged = new Signal<this, unknown>(this);
+  readonly statusChanged = new Signal<this, Kernel.Status>(this);
+  readonly connectionStatusChanged = new Signal<this, Kernel.ConnectionStatus>(this);
+  readonly disposed = new Signal<this, void>(this);
+}
+
+let server: ChildProcess | null = null;
+let serverLog = '';
+let manager: KernelManager;
+let kernel: Kernel.IKernelConnection;
+let session: LiveSession;
+let bridge: KernelBridge;
+/** The execution count of the last cell run before the bridge connected. */
+let countBefore = 0;
+
+/** A free TCP port on the loopback interface. */
+function freePort(): Promise<number> {
+  return new Promise((resolve, reject) => {
+    const probe = net.createServer();
+    probe.once('error', reject);
+    probe.listen(0, '127.0.0.1', () => {
+      const address = probe.address() as net.AddressInfo;
+      probe.close(() => resolve(address.port));
+    });
+  });
+}
+
+/** Poll until `condition` holds, or fail naming what was awaited. */
+async function waitFor(what: string, condition: () => boolean, timeoutMs = 60_000): Promise<void> {
+  const end = Date.now() + timeoutMs;
+  while (!condition()) {
+    if (Date.now() > end) {
+      throw new Error(`timed out waiting for ${what}\n${serverLog.slice(-2000)}`);
+    }
+    await new Promise(resolve => setTimeout(resolve, 50));
+  }
+}
+
+/** Run a cell as a user would; returns its execution count and what it printed. */
+async function cell(code: string): Promise<{ count: number; stdout: string }> {
+  const future = kernel.requestExecute({ code, store_history: true });
+  let stdout = '';
+  future.onIOPub = (msg: KernelMessage.IIOPubMessage) => {
+    if (msg.header.msg_type === 'stream') {
+      stdout += (msg.content as KernelMessage.IStreamMsg['content']).text;
+    }
+  };
+  const reply = await future.done;
+  const content = reply.content;
+  if (content.status !== 'ok') {
+    const error = content as KernelMessage.IReplyErrorContent;
+    throw new Error(`cell failed: ${error.ename}: ${error.evalue}`);
+  }
+  return { count: content.execution_count ?? -1, stdout };
+}
+
+/** Print a Python expression as JSON in the kernel and parse it. */
+async function evaluate<T>(expression: string): Promise<T> {
+  return JSON.parse((await cell(`print(json.dumps(${expression}))`)).stdout) as T;
+}
+
+/** The rejection of a promise, which must be a BridgeError. */
+async function failure(promise: Promise<unknown>): Promise<BridgeError> {
+  let caught: unknown = undefined;
+  await promise.then(
+    () => undefined,
+    error => {
+      caught = error;
+    }
+  );
+  expect(caught).toBeInstanceOf(BridgeError);
+  return caught as BridgeError;
+}
+
+/** The greenhouse frame (DESIGN.md §6), seeded, with one column of each kind the bridge sends. */
+const GREENHOUSE = `
+import json
+import numpy as np, pandas as pd
+rng = np.random.default_rng(5)
+n = 5000
+greenhouse = pd.DataFrame({
+    "air_temperature": np.where(rng.random(n) < 0.05, np.nan, rng.normal(21.0, 3.0, n)),
+    "humidity_a": pd.array(np.where(rng.random(n) < 0.02, None, rng.integers(30, 90, n)), dtype="Int64"),
+    "fan_on": rng.random(n) < 0.5,
+    "bed": pd.Categorical(rng.choice(["north", "south", "west"], n), categories=["west", "north", "south"]),
+    "operator": rng.choice(["ana", "Bo", "chen"], n).astype(object),
+    "logged_at": pd.date_range("2031-03-01", periods=n, freq="10min"),
+    "irrigation_time": pd.to_timedelta(rng.integers(0, 600, n), unit="s"),
+})
+`;
+
+beforeAll(async () => {
+  // JupyterLab's kernel connection logs every status change at debug level.
+  jest.spyOn(console, 'debug').mockImplementation(() => undefined);
+  const port = await freePort();
+  const token = randomBytes(16).toString('hex');
+  const folder = tempFolder('server');
+  server = spawn(
+    python(),
+    [
+      '-m',
+      'jupyter_server',
+      '--ServerApp.ip=127.0.0.1',
+      `--ServerApp.port=${port}`,
+      '--ServerApp.port_retries=0',
+      '--ServerApp.open_browser=False',
+      '--ServerApp.terminals_enabled=False',
+      // CI containers run as root; the server refuses to without this.
+      '--ServerApp.allow_root=True',
+      `--ServerApp.root_dir=${folder}`,
+      `--IdentityProvider.token=${token}`
+    ],
+    {
+      cwd: folder,
+      env: {
+        ...process.env,
+        JUPYTER_RUNTIME_DIR: path.join(folder, 'runtime'),
+        PYTHONPATH: [ROOT, process.env.PYTHONPATH].filter(Boolean).join(path.delimiter)
+      },
+      stdio: ['ignore', 'pipe', 'pipe']
+    }
+  );
+  server.stdout?.on('data', chunk => (serverLog += String(chunk)));
+  server.stderr?.on('data', chunk => (serverLog += String(chunk)));
+  const baseUrl = `http://127.0.0.1:${port}/`;
+  let up = false;
+  const end = Date.now() + 60_000;
+  while (!up) {
+    if (Date.now() > end || server.exitCode !== null) {
+      throw new Error(`the Jupyter server did not start (python -m jupyter_server):\n${serverLog.slice(-3000)}`);
+    }
+    try {
+      up = (await fetch(`${baseUrl}api/status`, { headers: { Authorization: `token ${token}` } })).ok;
+    } catch {
+      await new Promise(resolve => setTimeout(resolve, 200));
+    }
+  }
+  const serverSettings = ServerConnection.makeSettings({
+    baseUrl,
+    wsUrl: `ws://127.0.0.1:${port}/`,
+    token,
+    appendToken: true
+  });
+  manager = new KernelManager({ serverSettings });
+  await manager.ready;
+  kernel = await manager.startNew({ name: 'python3' });
+  countBefore = (await cell(GREENHOUSE)).count;
+  session = new LiveSession(kernel);
+  bridge = new KernelBridge({ sessionContext: session });
+  await waitFor('the bridge to be ready', () => bridge.status.state === 'ready' || bridge.status.state === 'error');
+});
+
+afterAll(async () => {
+  bridge?.dispose();
+  try {
+    await kernel?.shutdown();
+  } catch {
+    // The server may already be gone; it shuts its kernels down when it stops.
+  }
+  manager?.dispose();
+  if (server !== null && server.exitCode === null) {
+    const exited = new Promise(resolve => server!.once('exit', resolve));
+    server.kill('SIGTERM');
+    await exited;
+  }
+});
+
+describe('KernelBridge with a real kernel', () => {
+  it('should connect, list the frame, and leave the namespace and the history untouched', async () => {
+    expect(bridge.status).toMatchObject({ state: 'ready', language: 'python' });
+    expect(bridge.listing?.frames.map(frame => frame.name)).toEqual(['greenhouse']);
+    // The name is split so that this cell's own text does not match.
+    const next = await cell("name = 'poly' + 'adic'\nprint(json.dumps([name in globals(), [c for c in In[:-1] if name in c]]))");
+    // The silent import ran no cell: the next user cell is numbered right after the last one.
+    expect(next.count).toBe(countBefore + 1);
+    expect(JSON.parse(next.stdout)).toEqual([false, []]);
+  });
+
+  it('should take the listing the kernel pushes after a cell', async () => {
+    await cell('second = greenhouse.head(3)');
+    await waitFor('the pushed listing', () => (bridge.listing?.frames.length ?? 0) === 2);
+    expect(bridge.listing?.frames.map(frame => [frame.name, frame.rows])).toEqual([
+      ['greenhouse', 5000],
+      ['second', 3]
+    ]);
+  });
+
+  it('should fetch every column with the values pandas holds', async () => {
+    const frame = await bridge.fetch('greenhouse');
+    // Reference: pandas in the same kernel (missing values as null, 64-bit counts as strings).
+    const expected = await evaluate<Record<string, unknown[]>>(`{
+      "air_temperature": [None if pd.isna(v) else float(v) for v in greenhouse.air_temperature],
+      "humidity_a": [None if pd.isna(v) else str(int(v)) for v in greenhouse.humidity_a],
+      "fan_on": [bool(v) for v in greenhouse.fan_on],
+      "bed": [str(v) for v in greenhouse.bed],
+      "operator": [str(v) for v in greenhouse.operator],
+      "logged_at": [str(v) for v in greenhouse.logged_at.astype("int64")],
+      "irrigation_time": [str(v) for v in greenhouse.irrigation_time.astype("int64")],
+    }`);
+    expect(frame.rows).toBe(5000);
+    expect(frame.sampled).toBe(false);
+    for (const [i, column] of frame.columns.entries()) {
+      expect(manifestValues(column, frame.fields[i].kind === 'bool')).toEqual(expected[column.name]);
+    }
+    const fields = Object.fromEntries(frame.fields.map(field => [field.name, field]));
+    // Reference: numpy's own reading of each column's resolution.
+    const units = await evaluate<string[]>(
+      '[np.datetime_data(greenhouse[c].dtype)[0] for c in ("logged_at", "irrigation_time")]'
+    );
+    expect(fields.logged_at).toMatchObject({ kind: 'datetime', unit: units[0], timezone: null });
+    expect(fields.irrigation_time).toMatchObject({ kind: 'timedelta', unit: units[1] });
+    const bed = frame.columns.find(column => column.name === 'bed');
+    expect(bed?.kind === 'categorical' && bed.categories).toEqual(['west', 'north', 'south']);
+  });
+
+  it('should send the row cap and seed, and report the sample numpy drew', async () => {
+    const frame = await bridge.fetch('greenhouse', ['logged_at'], { rowCap: 100, seed: 3 });
+    expect(frame).toMatchObject({ rows: 100, originalRows: 5000, sampled: true, seed: 3 });
+    // Reference: numpy's default_rng(3) choosing 100 of 5000 rows, in row order.
+    const expected = await evaluate<string[]>(
+      '[str(v) for v in greenhouse.logged_at.astype("int64").iloc[np.sort(np.random.default_rng(3).choice(5000, size=100, replace=False))]]'
+    );
+    expect(manifestValues(frame.columns[0])).toEqual(expected);
+  });
+
+  it('should reject a deleted frame with an error naming it', async () => {
+    await cell('scratch = greenhouse.head(2)\ndel scratch');
+    const error = await failure(bridge.fetch('scratch'));
+    expect(error.reason).toBe('kernel');
+    expect(error.detail.frame).toBe('scratch');
+    expect(error.message).toContain("'scratch'");
+  });
+
+  it("should surface the kernel's error for a column of mixed types", async () => {
+    await cell("mixed = pd.DataFrame({'reading': [1.5, 'high', None, 2]})");
+    const error = await failure(bridge.fetch('mixed'));
+    expect(error.reason).toBe('kernel');
+    expect(error.detail.column).toBe('reading');
+    expect(error.detail.types).toEqual(['float', 'int', 'str']);
+  });
+
+  it('should send results in chunks that polyadic.results reads back', async () => {
+    const rows: IMultipletRow[] = Array.from({ length: 400 }, (_, i) => ({
+      columns: ['valve_command', 'flow_meter', `leak_alarm_${i}`],
+      order: 3,
+      entropy: i / 3,
+      coinformation: -i / 5,
+      total_correlation: i / 7,
+      dual_total_correlation: i / 9,
+      o_information: i / 7 - i / 9,
+      s_information: i / 7 + i / 9
+    }));
+    const receipt = await bridge.sendResults('live-1', rows, { chunkBytes: 4096, meta: { frame: 'greenhouse' } });
+    expect(receipt.chunks).toBeGreaterThan(3);
+    expect(receipt.rows).toBe(400);
+    await cell('import polyadic as _pd_test');
+    const back = await evaluate<{ rows: Record<string, unknown>[]; attrs: Record<string, unknown> }>(
+      '{"rows": [{k: (list(v) if isinstance(v, tuple) else v.item() if hasattr(v, "item") else v) for k, v in r.items()} ' +
+        'for r in _pd_test.results("live-1").to_dict(orient="records")], "attrs": _pd_test.results("live-1").attrs["polyadic"]}'
+    );
+    expect(back.rows).toEqual(rows);
+    expect(back.attrs).toEqual({ analysis_id: 'live-1', frame: 'greenhouse' });
+  });
+
+  it('should reject a fetch cut by a restart, then re-import and re-open the comm', async () => {
+    const states: IBridgeStatus['state'][] = [];
+    bridge.statusChanged.connect((_, status) => states.push(status.state));
+    const fetching = bridge.fetch('greenhouse');
+    const restarted = kernel.restart();
+    const error = await failure(fetching);
+    expect(error.reason).toBe('restart');
+    expect(error.message).toMatch(/during the fetch of 'greenhouse'/);
+    await restarted;
+    await waitFor('the bridge to be ready after the restart', () => bridge.status.state === 'ready');
+    expect(states[0]).toBe('starting');
+    // A fresh kernel: the frames are gone, and the new comm answers.
+    const listing = await bridge.refresh();
+    expect(listing.frames).toEqual([]);
+    expect((await failure(bridge.fetch('greenhouse'))).detail.frame).toBe('greenhouse');
+  });
+});
