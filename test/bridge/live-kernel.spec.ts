@@ -295,6 +295,23 @@ describe('KernelBridge with a real kernel', () => {
     expect(back.attrs).toEqual({ analysis_id: 'live-1', frame: 'greenhouse' });
   });
 
+  it('should fetch while a cell runs (the comm has its own subshell) and stay ready after an interrupt', async () => {
+    const running = kernel.requestExecute({
+      code: 'import time\nfor _ in range(600):\n    time.sleep(0.05)',
+      store_history: true
+    });
+    let cellDone = false;
+    void running.done.then(() => (cellDone = true));
+    await new Promise(resolve => setTimeout(resolve, 300));
+    const frame = await bridge.fetch('greenhouse', ['air_temperature']);
+    expect(frame.rows).toBe(5000);
+    expect(cellDone).toBe(false);
+    await kernel.interrupt();
+    expect((await running.done).content.status).toBe('error');
+    expect(bridge.status.state).toBe('ready');
+    expect((await bridge.refresh()).frames.map(f => f.name)).toContain('greenhouse');
+  });
+
   it('should reject a fetch cut by a restart, then re-import and re-open the comm', async () => {
     const states: IBridgeStatus['state'][] = [];
     bridge.statusChanged.connect((_, status) => states.push(status.state));
