@@ -1,0 +1,77 @@
+/** The engine's public API: pure TypeScript, no DOM, no JupyterLab (DESIGN.md §1–3). */
+
+export * from './types';
+export * from './errors';
+export * from './version';
+export * from './table';
+export {
+  BIN_SPEC_FORMS,
+  MAX_BIN_COUNT,
+  MISSING_CATEGORY,
+  applyMissingPolicy,
+  binColumn,
+  binIndexByEdges,
+  defaultBinSpec,
+  formatBinSpec,
+  parseBinSpec
+} from './binning';
+export type { IBinOptions, IBinnedColumn, IPreparedCodes } from './binning';
+export { optimalKMeans1D } from './kmeans1d';
+export type { IKMeansPartition } from './kmeans1d';
+export {
+  ESTIMATORS,
+  checkEstimator,
+  countLogCountTable,
+  entropyNats,
+  entropyOfCounts,
+  fromNats,
+  needsCounts
+} from './estimators';
+export type { ICountCells, ICountSummary } from './estimators';
+export {
+  DEFAULT_MAX_MULTIPLETS,
+  binomialOf,
+  checkMultipletCount,
+  createIndexing,
+  forEachInSubtree,
+  forEachMultiplet,
+  indexOfColumns,
+  indexOfMembers,
+  largestOrderWithin,
+  membersOfIndex,
+  multipletCount,
+  orderOfIndex,
+  subtreeSize
+} from './multiplets';
+export type { IMultipletIndexing } from './multiplets';
+export { assembleLattice, computeLattice, jointEntropyOfCodes, walkSubtree } from './lattice';
+export type { ILattice, ILatticeInput, ISubtreeResult } from './lattice';
+export {
+  chainAlong,
+  coinformationAll,
+  coinformationOf,
+  computeMeasures,
+  conditionalCoinformation,
+  conditionalMutualInformation,
+  extremalChains,
+  jointEntropy,
+  multipletMeasures,
+  mutualInformation
+} from './measures';
+export type {
+  ColumnSet,
+  IConditioningChain,
+  IEntropySource,
+  IMeasureArrays,
+  IMultipletMeasures
+} from './measures';
+export {
+  ALL_ORDERS_UP_TO,
+  DEFAULT_MAX_ORDER,
+  analyze,
+  analyzeCodes,
+  latticeInput,
+  prepareColumns,
+  resolveOptions
+} from './analyze';
+export type { IResolvedOptions } from './analyze';

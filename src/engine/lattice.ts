@@ -1,0 +1,674 @@
+/**
+ * The lattice walk: the joint entropy of every multiplet up to a maximum order, in one
+ * depth-first pass over subsets in lexicographic order (DESIGN.md §3).
+ *
+ * Each depth keeps one Int32 label array over its active rows. A child's labels are its parent's
+ * combined with the new column's code (parent·K + code), renumbered densely in order of first
+ * appearance, so each multiplet costs one pass over the rows still active. A row alone in its
+ * cell stays alone in every superset and adds 0 to Σ n·ln n, so it is dropped below that node and
+ * only counted; when every row is alone, every superset in the node's subtree has the same
+ * partition and is filled without walking.
+ *
+ * The subtree of multiplets whose smallest column is r ({@link walkSubtree}) depends on nothing
+ * outside it, so a pool of workers can split the walk by first column and
+ * {@link assembleLattice} puts the pieces together bit for bit as one walk would.
+ */
+
+import { entropyNats, ICountCells, ICountSummary, needsCounts, countLogCountTable } from './estimators';
+import { PolyadicError } from './errors';
+import {
+  checkMultipletCount,
+  createIndexing,
+  DEFAULT_MAX_MULTIPLETS,
+  forEachInSubtree,
+  IMultipletIndexing,
+  subsetsUpTo,
+  subtreeSize
+} from './multiplets';
+import type { EstimatorName } from './types';
+
+/** What the walk needs: codes ready for counting (no missing values). */
+export interface ILatticeInput {
+  /** One Int32Array per column, codes in 0 … bins − 1, all the same length. */
+  codes: Int32Array[];
+  /** Number of codes of each column (possible cells are their products). */
+  bins: number[];
+  /** Largest order to compute (clamped to the number of columns). */
+  maxOrder: number;
+  estimator: EstimatorName;
+  /** Refuse more multiplets than this (default 2^24). */
+  maxMultiplets?: number;
+  /** The two shortcuts, both on by default; tests turn them off to compare. */
+  dropSingletons?: boolean;
+  fillDistinct?: boolean;
+}
+
+/** Joint entropies of every multiplet up to the maximum order. */
+export interface ILattice {
+  indexing: IMultipletIndexing;
+  estimator: EstimatorName;
+  /** Rows counted. */
+  rows: number;
+  /** Code counts of the columns. */
+  bins: number[];
+  /** Entropy in nats by multiplet index; index 0 (the empty set) holds 0. */
+  entropy: Float64Array;
+  /** Number of occupied joint cells by multiplet index. */
+  occupied: Int32Array;
+}
+
+/** The multiplets whose smallest column is `root`, in the walk's order (see forEachInSubtree). */
+export interface ISubtreeResult {
+  root: number;
+  entropy: Float64Array;
+  occupied: Int32Array;
+}
+
+/** Walk the whole lattice in this thread. */
+export function computeLattice(input: ILatticeInput): ILattice {
+  const prepared = prepareInput(input);
+  const walker = new Private.Walker(prepared);
+  const parts: ISubtreeResult[] = [];
+  for (let root = 0; root < prepared.n; root++) {
+    parts.push(walker.walk(root));
+  }
+  return assembleLattice(input, parts);
+}
+
+/** Walk the subtree of multiplets whose smallest column is `root` (one worker's share). */
+export function walkSubtree(input: ILatticeInput, root: number): ISubtreeResult {
+  const prepared = prepareInput(input);
+  if (!(root >= 0 && root < prepared.n && Number.isInteger(root))) {
+    throw new PolyadicError('internal', `No column ${root} to start a subtree at.`);
+  }
+  return new Private.Walker(prepared).walk(root);
+}
+
+/** Put subtree results (one per first column, any order) into one lattice. */
+export function assembleLattice(input: ILatticeInput, parts: ISubtreeResult[]): ILattice {
+  const n = input.codes.length;
+  const rows = n ? input.codes[0].length : 0;
+  const indexing = createIndexing(n, Math.min(input.maxOrder, n));
+  const entropy = new Float64Array(indexing.size);
+  const occupied = new Int32Array(indexing.size);
+  occupied[0] = rows > 0 ? 1 : 0;
+  const seen = new Uint8Array(n);
+  for (const part of parts) {
+    if (seen[part.root]) {
+      throw new PolyadicError('internal', `Subtree ${part.root} given twice.`);
+    }
+    seen[part.root] = 1;
+    if (part.entropy.length !== subtreeSize(indexing, part.root)) {
+      throw new PolyadicError('internal', `Subtree ${part.root} has ${part.entropy.length} entries.`);
+    }
+    let position = 0;
+    forEachInSubtree(indexing, part.root, index => {
+      entropy[index] = part.entropy[position];
+      occupied[index] = part.occupied[position];
+      position++;
+    });
+  }
+  const missing = seen.indexOf(0);
+  if (missing >= 0) {
+    throw new PolyadicError('internal', `Subtree ${missing} missing from the lattice.`);
+  }
+  return { indexing, estimator: input.estimator, rows, bins: input.bins.slice(), entropy, occupied };
+}
+
+/** Joint entropy in nats of one multiplet computed directly from the codes (no lattice). */
+export function jointEntropyOfCodes(
+  codes: Int32Array[],
+  bins: number[],
+  columns: ArrayLike<number>,
+  estimator: EstimatorName
+): { entropy: number; occupied: number } {
+  const rows = codes.length ? codes[0].length : 0;
+  let labels = new Int32Array(rows);
+  let distinct = rows > 0 ? 1 : 0;
+  let possible = 1;
+  for (let c = 0; c < columns.length; c++) {
+    const code = codes[columns[c]];
+    const K = bins[columns[c]];
+    possible *= K;
+    const slot = new Map<number, number>();
+    const next = new Int32Array(rows);
+    for (let i = 0; i < rows; i++) {
+      const key = labels[i] * K + code[i];
+      let label = slot.get(key);
+      if (label === undefined) {
+        label = slot.size;
+        slot.set(key, label);
+      }
+      next[i] = label;
+    }
+    labels = next;
+    distinct = slot.size;
+  }
+  const counts = new Int32Array(distinct);
+  for (let i = 0; i < rows; i++) {
+    counts[labels[i]]++;
+  }
+  const table = countLogCountTable(rows);
+  let sum = 0;
+  let singletons = 0;
+  for (let b = 0; b < distinct; b++) {
+    sum += table[counts[b]];
+    if (counts[b] === 1) {
+      singletons++;
+    }
+  }
+  const summary: ICountSummary = {
+    total: rows,
+    occupied: distinct,
+    singletons,
+    sumCountLogCount: sum,
+    possibleCells: possible
+  };
+  return {
+    entropy: entropyNats(estimator, summary, { counts, length: distinct, extraSingletons: 0 }),
+    occupied: distinct
+  };
+}
+
+/** Codes as the walk reads them. */
+type CodeArray = Uint8Array | Uint16Array | Int32Array;
+
+/** Input checked, with codes renumbered so that each column's codes are dense. */
+interface IPrepared {
+  n: number;
+  m: number;
+  rows: number;
+  indexing: IMultipletIndexing;
+  /**
+   * Codes with unused codes squeezed out (the walk's label arithmetic stays small), in the
+   * narrowest array type that holds every column's codes, so the walk's random reads stay in cache.
+   */
+  dense: CodeArray[];
+  /** Used codes per column. */
+  used: number[];
+  /** Declared codes per column (for the possible cells). */
+  bins: number[];
+  estimator: EstimatorName;
+  dropSingletons: boolean;
+  fillDistinct: boolean;
+}
+
+function prepareInput(input: ILatticeInput): IPrepared {
+  const n = input.codes.length;
+  if (n === 0) {
+    throw new PolyadicError('usage', 'No column is selected.', { option: 'columns' });
+  }
+  if (input.bins.length !== n) {
+    throw new PolyadicError('internal', `${n} code arrays but ${input.bins.length} bin counts.`);
+  }
+  const rows = input.codes[0].length;
+  if (!(Number.isInteger(input.maxOrder) && input.maxOrder >= 1)) {
+    throw new PolyadicError('usage', `The maximum order must be a whole number ≥ 1, not ${input.maxOrder}.`, {
+      option: 'maxOrder',
+      value: String(input.maxOrder)
+    });
+  }
+  const m = Math.min(input.maxOrder, n);
+  checkMultipletCount(n, m, input.maxMultiplets ?? DEFAULT_MAX_MULTIPLETS);
+  const wide: Int32Array[] = [];
+  const used: number[] = [];
+  for (let c = 0; c < n; c++) {
+    const codes = input.codes[c];
+    const K = input.bins[c];
+    if (codes.length !== rows) {
+      throw new PolyadicError('internal', `Column ${c} has ${codes.length} rows, column 0 has ${rows}.`);
+    }
+    const recode = new Int32Array(K).fill(-1);
+    let next = 0;
+    for (let i = 0; i < rows; i++) {
+      const code = codes[i];
+      if (!(code >= 0 && code < K)) {
+        throw new PolyadicError('internal', `Column ${c} row ${i} has code ${code}, outside 0 … ${K - 1}.`);
+      }
+      if (recode[code] < 0) {
+        recode[code] = next++;
+      }
+    }
+    // Renumber in code order, not order of appearance, so the result does not depend on row order.
+    let rank = 0;
+    for (let code = 0; code < K; code++) {
+      if (recode[code] >= 0) {
+        recode[code] = rank++;
+      }
+    }
+    const out = new Int32Array(rows);
+    for (let i = 0; i < rows; i++) {
+      out[i] = recode[codes[i]];
+    }
+    wide.push(out);
+    used.push(Math.max(next, 1));
+  }
+  const widest = Math.max(...used);
+  const dense: CodeArray[] = wide.map(codes =>
+    widest <= 256 ? Uint8Array.from(codes) : widest <= 65536 ? Uint16Array.from(codes) : codes
+  );
+  return {
+    n,
+    m,
+    rows,
+    indexing: createIndexing(n, m),
+    dense,
+    used,
+    bins: input.bins,
+    estimator: input.estimator,
+    dropSingletons: input.dropSingletons ?? true,
+    fillDistinct: input.fillDistinct ?? true
+  };
+}
+
+/**
+ * Renumber parent label × code densely through a Map, for key ranges too large for a table;
+ * fills `childLabel` for the active rows and the cell counts; returns the number of cells.
+ */
+function relabelByMap(
+  active: Int32Array,
+  parentLabels: Int32Array,
+  activeCount: number,
+  code: CodeArray,
+  K: number,
+  childLabel: Int32Array,
+  counts: Int32Array
+): number {
+  const slot = new Map<number, number>();
+  for (let q = 0; q < activeCount; q++) {
+    const key = parentLabels[q] * K + code[active[q]];
+    let label = slot.get(key);
+    if (label === undefined) {
+      label = slot.size;
+      slot.set(key, label);
+    }
+    childLabel[q] = label;
+    counts[label]++;
+  }
+  return slot.size;
+}
+
+/** Σ n·ln n over the first `blocks` counts. */
+function sumCountLogCount(counts: Int32Array, blocks: number, table: Float64Array): number {
+  let sum = 0;
+  for (let b = 0; b < blocks; b++) {
+    sum += table[counts[b]];
+  }
+  return sum;
+}
+
+/** Number of counts equal to 1 among the first `blocks`. */
+function countSingletons(counts: Int32Array, blocks: number): number {
+  let singletons = 0;
+  for (let b = 0; b < blocks; b++) {
+    if (counts[b] === 1) {
+      singletons++;
+    }
+  }
+  return singletons;
+}
+
+/** New dense labels for tallies of at least `least` rows (−1 for the others); returns how many. */
+function denseRemap(tally: Int32Array, width: number, remap: Int32Array, least: number): number {
+  let next = 0;
+  for (let b = 0; b < width; b++) {
+    remap[b] = tally[b] >= least ? next++ : -1;
+  }
+  return next;
+}
+
+/**
+ * Keep the active rows whose label maps to a new label (≥ 0); returns how many were kept.
+ * Branch-free: every row is written, and the write position advances only for kept rows.
+ */
+function keepMapped(
+  parentActive: Int32Array,
+  parentCount: number,
+  childLabel: Int32Array,
+  remap: Int32Array,
+  active: Int32Array,
+  labels: Int32Array
+): number {
+  let kept = 0;
+  for (let q = 0; q < parentCount; q++) {
+    const label = remap[childLabel[q]];
+    active[kept] = parentActive[q];
+    labels[kept] = label;
+    kept += 1 + (label >> 31);
+  }
+  return kept;
+}
+
+/**
+ * Tally the active rows by key = parent label × K + code; the key of each row goes to `keys`,
+ * and each key met for the first time to `touched` (branch-free: always written, kept only
+ * when new). Returns the number of keys met.
+ */
+function countByKey(
+  active: Int32Array,
+  parentLabels: Int32Array,
+  activeCount: number,
+  code: CodeArray,
+  K: number,
+  keys: Int32Array,
+  byKey: Int32Array,
+  touched: Int32Array
+): number {
+  let met = 0;
+  for (let q = 0; q < activeCount; q++) {
+    const key = parentLabels[q] * K + code[active[q]];
+    keys[q] = key;
+    const before = byKey[key];
+    byKey[key] = before + 1;
+    touched[met] = key;
+    met += (before - 1) >>> 31;
+  }
+  return met;
+}
+
+/** {@link countByKey} without keeping the keys, for a node whose subtree is not walked. */
+function tallyByKey(
+  active: Int32Array,
+  parentLabels: Int32Array,
+  activeCount: number,
+  code: CodeArray,
+  K: number,
+  byKey: Int32Array,
+  touched: Int32Array
+): number {
+  let met = 0;
+  for (let q = 0; q < activeCount; q++) {
+    const key = parentLabels[q] * K + code[active[q]];
+    const before = byKey[key];
+    byKey[key] = before + 1;
+    touched[met] = key;
+    met += (before - 1) >>> 31;
+  }
+  return met;
+}
+
+/**
+ * Scan the keys met once (in order of first appearance): number of occupied cells, singletons
+ * and Σ n·ln n into `stats`; the counts into `counts` when given (estimators that read them);
+ * new dense labels for keys whose count passes `keeps` into `remap` when given; and the tally
+ * cleared for the next node. Branch-free through lookup tables indexed by the count (counts are
+ * data, so branches on them mispredict).
+ */
+function scanKeys(
+  byKey: Int32Array,
+  touched: Int32Array,
+  met: number,
+  tables: ICountTables,
+  stats: Float64Array,
+  counts: Int32Array | null,
+  remap: Int32Array | null,
+  keeps: Uint8Array
+): number {
+  const { countLogCount, single } = tables;
+  let singletons = 0;
+  let sum = 0;
+  let next = 0;
+  for (let t = 0; t < met; t++) {
+    const key = touched[t];
+    const count = byKey[key];
+    byKey[key] = 0;
+    if (counts !== null) {
+      counts[t] = count;
+    }
+    singletons += single[count];
+    sum += countLogCount[count];
+    if (remap !== null) {
+      const keep = keeps[count];
+      remap[key] = keep * (next + 1) - 1;
+      next += keep;
+    }
+  }
+  stats[0] = met;
+  stats[1] = singletons;
+  stats[2] = sum;
+  return next;
+}
+
+/** Lookup tables indexed by a cell count 0 … rows. */
+interface ICountTables {
+  /** n·ln n (0 for n ≤ 1). */
+  countLogCount: Float64Array;
+  /** 1 when n ≥ 1. */
+  occupied: Uint8Array;
+  /** 1 when n = 1. */
+  single: Uint8Array;
+  /** 1 when n ≥ 2: rows that stay active below a node when singletons are dropped. */
+  shared: Uint8Array;
+}
+
+function countTables(rows: number): ICountTables {
+  const occupied = new Uint8Array(rows + 1);
+  const single = new Uint8Array(rows + 1);
+  const shared = new Uint8Array(rows + 1);
+  occupied.fill(1, 1);
+  shared.fill(1, 2);
+  if (rows >= 1) {
+    single[1] = 1;
+  }
+  return { countLogCount: countLogCountTable(rows), occupied, single, shared };
+}
+
+namespace Private {
+  /** Largest key range tallied through a table; larger ones use a Map. */
+  const TABLE_LIMIT = 1 << 22;
+
+  /** The depth-first walk with its scratch buffers, allocated once per walker. */
+  export class Walker {
+    constructor(prepared: IPrepared) {
+      this._p = prepared;
+      const rows = prepared.rows;
+      this._tables = countTables(rows);
+      this._scratchLabel = new Int32Array(rows);
+      this._counts = new Int32Array(rows + 1);
+      this._remap = new Int32Array(rows + 1);
+      this._touched = new Int32Array(rows + 1);
+      // Level 0 is the empty set: every row active, one label.
+      const all = new Int32Array(rows);
+      for (let i = 0; i < rows; i++) {
+        all[i] = i;
+      }
+      this._active.push(all);
+      this._labels.push(new Int32Array(rows));
+      this._cells = { counts: this._counts, length: 0, extraSingletons: 0 };
+      this._summary = { total: rows, occupied: 0, singletons: 0, sumCountLogCount: 0, possibleCells: 1 };
+      this._needsCounts = needsCounts(prepared.estimator);
+    }
+
+    /** Entropies and occupied cells of the subtree of `root`, in the walk's order. */
+    walk(root: number): ISubtreeResult {
+      const size = subtreeSize(this._p.indexing, root);
+      this._entropy = new Float64Array(size);
+      this._occupied = new Int32Array(size);
+      this._position = 0;
+      this._activeCount[0] = this._p.rows;
+      this._labelCount[0] = this._p.rows > 0 ? 1 : 0;
+      this._dropped[0] = 0;
+      this._possible[0] = 1;
+      this._visit(1, root);
+      if (this._position !== size) {
+        throw new PolyadicError('internal', `Subtree ${root} wrote ${this._position} of ${size} entries.`);
+      }
+      return { root, entropy: this._entropy, occupied: this._occupied };
+    }
+
+    /** Compute the multiplet (parent at level − 1) ∪ {column}, then its subtree. */
+    private _visit(level: number, column: number): void {
+      const p = this._p;
+      const parent = level - 1;
+      const parentActive = this._active[parent];
+      const parentLabels = this._labels[parent];
+      const parentCount = this._activeCount[parent];
+      const dropped = this._dropped[parent];
+      const K = p.used[column];
+      const range = this._labelCount[parent] * K;
+      const possible = this._possible[parent] * p.bins[column];
+      this._possible[level] = possible;
+      const descend = level < p.m && column < p.n - 1;
+      const stats = this._stats;
+      const least = p.dropSingletons ? 2 : 1;
+      const keeps = p.dropSingletons ? this._tables.shared : this._tables.occupied;
+      const counts = this._counts;
+      const compact = this._needsCounts ? counts : null;
+      let direct = false;
+      let newLabels = 0;
+      if (range <= TABLE_LIMIT) {
+        direct = true;
+        const byKey = this._tallyTable(range);
+        const touched = this._touched;
+        if (descend) {
+          const met = countByKey(parentActive, parentLabels, parentCount, p.dense[column], K, this._scratchLabel, byKey, touched);
+          newLabels = scanKeys(byKey, touched, met, this._tables, stats, compact, this._remap, keeps);
+        } else {
+          const met = tallyByKey(parentActive, parentLabels, parentCount, p.dense[column], K, byKey, touched);
+          scanKeys(byKey, touched, met, this._tables, stats, compact, null, keeps);
+        }
+      } else {
+        const blocks = relabelByMap(parentActive, parentLabels, parentCount, p.dense[column], K, this._scratchLabel, counts);
+        stats[0] = blocks;
+        stats[1] = countSingletons(counts, blocks);
+        stats[2] = sumCountLogCount(counts, blocks, this._tables.countLogCount);
+      }
+      const blocks = stats[0];
+      const singletons = stats[1];
+      this._record(blocks, dropped, singletons, stats[2], possible);
+      if (!direct) {
+        // Renumber the kept labels densely.
+        if (descend) {
+          newLabels = denseRemap(counts, blocks, this._remap, least);
+        }
+        counts.fill(0, 0, blocks);
+      } else if (compact !== null) {
+        counts.fill(0, 0, blocks);
+      }
+      if (!descend) {
+        return;
+      }
+      if (singletons === blocks && p.fillDistinct) {
+        this._fillDistinct(level, column);
+        return;
+      }
+      const active = this._level(level);
+      this._activeCount[level] = keepMapped(
+        parentActive,
+        parentCount,
+        this._scratchLabel,
+        this._remap,
+        active,
+        this._labels[level]
+      );
+      this._labelCount[level] = newLabels;
+      this._dropped[level] = p.dropSingletons ? dropped + singletons : dropped;
+      for (let next = column + 1; next < p.n; next++) {
+        this._visit(level + 1, next);
+      }
+    }
+
+    /** Estimate the entropy of the node just counted and write it at the next position. */
+    private _record(blocks: number, dropped: number, singletons: number, sum: number, possible: number): void {
+      const summary = this._summary;
+      summary.occupied = blocks + dropped;
+      summary.singletons = singletons + dropped;
+      summary.sumCountLogCount = sum;
+      summary.possibleCells = possible;
+      const cells = this._cells;
+      cells.length = blocks;
+      cells.extraSingletons = dropped;
+      const position = this._position++;
+      this._entropy[position] = entropyNats(this._p.estimator, summary, cells);
+      this._occupied[position] = blocks + dropped;
+    }
+
+    /**
+     * Every row is alone in its cell at this node: each superset in the subtree has N
+     * singleton cells. Plug-in, Miller–Madow and Chao–Shen then give one value for all of them;
+     * shrinkage depends on each superset's possible cells, so it visits them in walk order.
+     */
+    private _fillDistinct(level: number, column: number): void {
+      const p = this._p;
+      const rows = p.rows;
+      const summary = this._summary;
+      const cells = this._cells;
+      summary.occupied = rows;
+      summary.singletons = rows;
+      summary.sumCountLogCount = 0;
+      cells.length = 0;
+      cells.extraSingletons = rows;
+      if (p.estimator !== 'shrinkage') {
+        summary.possibleCells = this._possible[level];
+        const value = entropyNats(p.estimator, summary, needsCounts(p.estimator) ? cells : undefined);
+        const count = subsetsUpTo(p.indexing, p.n - 1 - column, p.m - level) - 1;
+        const start = this._position;
+        this._entropy.fill(value, start, start + count);
+        this._occupied.fill(rows, start, start + count);
+        this._position += count;
+        return;
+      }
+      const descend = (depth: number, last: number, possible: number): void => {
+        for (let next = last + 1; next < p.n; next++) {
+          const product = possible * p.bins[next];
+          summary.possibleCells = product;
+          const position = this._position++;
+          this._entropy[position] = entropyNats(p.estimator, summary, cells);
+          this._occupied[position] = rows;
+          if (depth + 1 < p.m) {
+            descend(depth + 1, next, product);
+          }
+        }
+      };
+      descend(level, column, this._possible[level]);
+    }
+
+    /** The active-row array of a level, allocated on first use. */
+    private _level(level: number): Int32Array {
+      while (this._active.length <= level) {
+        this._active.push(new Int32Array(this._p.rows));
+        this._labels.push(new Int32Array(this._p.rows));
+      }
+      return this._active[level];
+    }
+
+    /**
+     * The tally table (all zero) for keys 0 … range − 1, and a remap table as long, grown on
+     * demand: the key range is parent labels × codes, which only a wide column makes large.
+     */
+    private _tallyTable(range: number): Int32Array {
+      if (this._byKey.length < range) {
+        const size = Math.min(TABLE_LIMIT, Math.max(range, this._byKey.length * 2, 1024));
+        this._byKey = new Int32Array(size);
+        if (this._remap.length < size) {
+          this._remap = new Int32Array(size);
+        }
+      }
+      return this._byKey;
+    }
+
+    private _p: IPrepared;
+    private _tables: ICountTables;
+    private _scratchLabel: Int32Array;
+    private _counts: Int32Array;
+    private _byKey = new Int32Array(0);
+    private _remap: Int32Array;
+    /** Keys met by the current node, in order of first appearance. */
+    private _touched: Int32Array;
+    /** Occupied cells, singletons and Σ n·ln n of the node being counted. */
+    private _stats = new Float64Array(3);
+    /** The estimator reads the counts, so the key scan also writes them compactly. */
+    private _needsCounts: boolean;
+    private _active: Int32Array[] = [];
+    private _labels: Int32Array[] = [];
+    private _activeCount: number[] = [];
+    private _labelCount: number[] = [];
+    private _dropped: number[] = [];
+    private _possible: number[] = [];
+    private _summary: ICountSummary;
+    private _cells: ICountCells;
+    private _entropy = new Float64Array(0);
+    private _occupied = new Int32Array(0);
+    private _position = 0;
+  }
+}
