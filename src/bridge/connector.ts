@@ -426,8 +426,10 @@ export class KernelBridge implements IDisposable {
       return;
     }
     if (status === 'connecting' || status === 'disconnected') {
-      if (this._pending.size > 0 || this._comm !== null || this._status.state === 'starting') {
-        this._teardown('connection', ['starting', Private.RECONNECTING]);
+      const inUse = this._pending.size > 0 || this._comm !== null;
+      if (inUse || this._status.state === 'starting') {
+        // While still starting (or restarting), keep the message the user already sees.
+        this._teardown('connection', inUse ? ['starting', Private.RECONNECTING] : null);
         this._reconnectWanted = true;
       }
     } else if (status === 'connected' && this._reconnectWanted) {
@@ -700,13 +702,20 @@ namespace Private {
   /** Two kernel-side closes within this many milliseconds count as a loop. */
   export const CLOSE_LOOP_MS = 5000;
 
+  /** Message of the `no-kernel` state. */
   export const NO_KERNEL = 'This notebook has no kernel: start one to list its dataframes.';
+  /** Message while importing and opening the comm. */
   export const STARTING = "Connecting to the notebook's kernel…";
+  /** Message while the kernel restarts. */
   export const RESTARTING = 'The kernel is restarting; Polyadic reconnects when it is back.';
+  /** Message while the websocket reconnects. */
   export const RECONNECTING = 'The connection to the kernel was lost; Polyadic reconnects when it is back.';
+  /** Message after the kernel died. */
   export const DEAD = 'The kernel died: restart it to use Polyadic with this notebook.';
+  /** Message when the kernel closed or ignored the comm it was asked to open. */
   export const REFUSED =
     "The kernel imported polyadic but did not open Polyadic's comm; restart the kernel and try again.";
+  /** Message when the kernel closes the comm again right after it was re-opened. */
   export const CLOSED_AGAIN =
     "The kernel keeps closing Polyadic's comm; restart the kernel and try again.";
   /** The command that installs the package, and the one for a source checkout. */
