@@ -6,7 +6,9 @@
  * bytes travel only in the comm message's binary `buffers`, never in the JSON.
  *
  * Opening: the kernel registers the target when the `polyadic` package is imported, so the
- * front end runs `import polyadic` (silent, not stored in history) before opening the comm.
+ * front end imports it first: a silent execute request (no output, not stored in history, no
+ * abort of queued cells) whose only user expression imports the package without binding a name
+ * in the user's namespace (src/bridge/connector.ts), then opens the comm.
  * On open the kernel pushes a {@link IListingMessage}; it pushes another after every executed
  * cell whose listing differs from the last one sent.
  */
