@@ -15,8 +15,10 @@ import { BIN_SPEC_FORMS, parseBinSpec } from '../engine/binning';
 import { isPolyadicError, PolyadicError } from '../engine/errors';
 import { unknownColumn } from '../engine/table';
 import type { EstimatorName, IAnalyzeOptions, MissingPolicy, Units } from '../engine/types';
+import { runFingerprint } from './fingerprint';
 import { formatResult, OUTPUT_FORMATS, OutputFormat } from './output';
 import { readDataFile, type IDataSource } from './readers';
+import { runVerify } from './verify';
 
 /** The package version, replaced by the bundler; undefined when running from source. */
 declare const POLYADIC_VERSION: string | undefined;
@@ -40,6 +42,8 @@ export const CHOICES = {
 
 /** The text of `polyadic --help`. */
 export const HELP = `Usage: polyadic analyze DATA [options]
+       polyadic verify NOTEBOOK --data NAME=PATH ...   (see polyadic verify --help)
+       polyadic fingerprint DATA [--columns a,b,c]     (see polyadic fingerprint --help)
        polyadic --help | --version
 
 Find higher-order structure in a table: entropy of every column, and co-information,
@@ -76,6 +80,13 @@ Exit codes: 0 done, 2 bad input or usage, 1 internal error.
 
 /** Run the CLI on arguments (without `node` and the script); resolves to the exit code. */
 export async function main(argv: string[], streams: ICliStreams = process): Promise<number> {
+  // the other commands parse their own options
+  if (argv[0] === 'verify') {
+    return runVerify(argv.slice(1), streams);
+  }
+  if (argv[0] === 'fingerprint') {
+    return runFingerprint(argv.slice(1), streams);
+  }
   let source: IDataSource | undefined;
   try {
     const command = Private.parseCommand(argv);
@@ -190,7 +201,7 @@ namespace Private {
       throw new PolyadicError('usage', 'No command given; try polyadic analyze DATA, or polyadic --help.', {});
     }
     if (verb !== 'analyze') {
-      throw new PolyadicError('usage', `Unknown command '${verb}'; the command is 'analyze' (see polyadic --help).`, {
+      throw new PolyadicError('usage', `Unknown command '${verb}'; the commands are analyze, verify and fingerprint (see polyadic --help).`, {
         value: verb
       });
     }

@@ -420,6 +420,15 @@ describe('polyadic analyze', () => {
       }
     });
 
+    it.each([
+      ['verify', /^Usage: polyadic verify NOTEBOOK/],
+      ['fingerprint', /^Usage: polyadic fingerprint DATA/]
+    ])('should hand %s to its own command', (command, usage) => {
+      const run = runCli(bundle, [command, '--help']);
+      expect(run.code).toBe(0);
+      expect(run.stdout).toMatch(usage);
+    });
+
     it('should print the version of package.json', () => {
       const { version } = JSON.parse(fs.readFileSync(path.join(ROOT, 'package.json'), 'utf8'));
       const run = runCli(bundle, ['--version']);
