@@ -140,7 +140,12 @@ export class EnginePool {
     const selected = options.columns?.length ?? columns.length;
     const slots = this._ensureSlots(Math.max(1, Math.min(this._size, selected)));
     const transfer = new TransferList();
+    const wanted = options.columns ? new Set(options.columns) : null;
     const packed = columns.map(column => {
+      if (wanted && !wanted.has(column.name)) {
+        // Only its name and kind matter (checks and messages list every column): send no rows.
+        return Private.withoutRows(column);
+      }
       const copy = packColumn(column, runOptions.transferColumns ?? false);
       addColumn(transfer, copy);
       return copy;
@@ -207,15 +212,16 @@ export class EnginePool {
   }
 
   /**
-   * Cancel the run in progress: its workers are terminated at once, its promise rejects with a
-   * {@link RunCancelled}, and no progress is reported after this. Returns whether a run was cancelled.
+   * Cancel the run in progress: the pool's workers are terminated at once (the preview worker
+   * stays), the run's promise rejects with a {@link RunCancelled}, and no progress is reported
+   * after this. Returns whether a run was cancelled.
    */
   cancel(): boolean {
     const run = this._run;
     if (!run) {
       return false;
     }
-    this._terminate(run.slots);
+    this._terminate(this._slots.slice());
     this._end(run);
     run.reject(new RunCancelled());
     return true;
@@ -290,7 +296,7 @@ export class EnginePool {
   private _onFailure(slot: Private.ISlot, reason: string): void {
     const error = new PolyadicError(
       'internal',
-      `An engine worker stopped unexpectedly: ${reason}. The analysis workers were restarted.`,
+      `An engine worker stopped unexpectedly: ${reason}. A new worker starts with the next request.`,
       { reason }
     );
     if (slot.preview) {
@@ -631,6 +637,13 @@ namespace Private {
     timer: ReturnType<typeof setInterval> | null;
     /** Workers that walked. */
     walkers: number;
+  }
+
+  /** A column with its name, kind and type but no rows. */
+  export function withoutRows(column: ColumnView): ColumnView {
+    return column.kind === 'numeric'
+      ? { ...column, values: new Float64Array(0), missing: null }
+      : { ...column, codes: new Int32Array(0), categories: [], missing: null };
   }
 
   /** The machine's logical cores, where the platform says. */

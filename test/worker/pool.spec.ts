@@ -230,7 +230,7 @@ describe('EnginePool', () => {
       const error = (await rejection(pool.analyze(columns, {}))) as PolyadicError;
       expect(error.kind).toBe('internal');
       expect(error.message).toBe(
-        'An engine worker stopped unexpectedly: SyntaxError: Unexpected token. The analysis workers were restarted.'
+        'An engine worker stopped unexpectedly: SyntaxError: Unexpected token. A new worker starts with the next request.'
       );
       expect(broken.map(w => w.terminated)).toEqual([true, true]);
       expect((await pool.analyze(columns, {})).result).toEqual(analyze(columns, {}));
@@ -259,6 +259,12 @@ describe('EnginePool', () => {
       await pool.analyze([...columns, view], {}, { transferColumns: true });
       expect(numeric.values.byteLength).toBe(0);
       expect(backing.length).toBe(300);
+      // Unselected columns are not sent at all, not even when handed over.
+      const fresh = makeColumns(100, 3);
+      const run = await pool.analyze(fresh, { columns: ['c01'], binsByColumn: { c00: 'width:2' } }, { transferColumns: true });
+      expect(fresh.map(column => (column.kind === 'numeric' ? column.values : column.codes).byteLength)).toEqual([800, 0, 400]);
+      expect(run.result).toEqual(analyze(makeColumns(100, 3), { columns: ['c01'], binsByColumn: { c00: 'width:2' } }));
+      expect(run.result.warnings).toContain("A binning is given for column 'c00', which is not selected; it was not used.");
     });
 
     it('should reject pending work when disposed, and refuse work afterwards', async () => {
