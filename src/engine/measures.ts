@@ -331,11 +331,15 @@ export function chainAlong(source: IEntropySource, order: ArrayLike<number>): IC
 }
 
 /**
- * Greedy extremal chains over all columns of the source, up to `maxOrder` columns. The synergy
- * chain starts with the pair of least mutual information (ties: lowest indices, smaller index
- * first) and adds at each step the column that makes the next co-information most negative;
- * the redundancy chain starts with the pair of most mutual information and adds the column that
- * makes it most positive. Ties go to the lowest column index.
+ * Greedy extremal chains over all columns of the source, up to `maxOrder` columns.
+ *
+ * The redundancy chain starts with the pair of most mutual information; the synergy chain with
+ * the triplet of most negative co-information, found by exhaustive search, because a pair's
+ * co-information is its mutual information (never negative), so synergy first shows at order 3
+ * and a greedy start from pairs would pick among independent pairs blindly. Within the starting
+ * triplet, the pair of least mutual information comes first. Each chain then adds the column that
+ * makes the next co-information most positive (redundancy) or most negative (synergy). Ties go
+ * to the lowest column indices.
  */
 export function extremalChains(
   source: IEntropySource,
@@ -349,28 +353,8 @@ export function extremalChains(
     });
   }
   const length = Math.min(maxOrder, n);
-  const build = (sign: 1 | -1): IConditioningChain => {
-    if (length === 1 || n === 1) {
-      let best = 0;
-      for (let c = 1; c < n; c++) {
-        if (sign * jointEntropy(source, [c]) > sign * jointEntropy(source, [best])) {
-          best = c;
-        }
-      }
-      return chainAlong(source, [best]);
-    }
-    let pair: [number, number] = [0, 1];
-    let bestValue = -Infinity;
-    for (let a = 0; a < n; a++) {
-      for (let b = a + 1; b < n; b++) {
-        const value = sign * mutualInformation(source, a, b);
-        if (value > bestValue) {
-          bestValue = value;
-          pair = [a, b];
-        }
-      }
-    }
-    const columns = [pair[0], pair[1]];
+  const extend = (start: number[], sign: 1 | -1): IConditioningChain => {
+    const columns = start.slice(0, length);
     const used = new Set(columns);
     while (columns.length < length) {
       let bestColumn = -1;
@@ -389,7 +373,47 @@ export function extremalChains(
     }
     return chainAlong(source, columns);
   };
-  return { synergy: build(-1), redundancy: build(1) };
+  const bestPair = (sign: 1 | -1, among: number[]): number[] => {
+    let pair = [among[0], among[1]];
+    let best = -Infinity;
+    for (let i = 0; i < among.length; i++) {
+      for (let j = i + 1; j < among.length; j++) {
+        const value = sign * mutualInformation(source, among[i], among[j]);
+        if (value > best) {
+          best = value;
+          pair = [among[i], among[j]];
+        }
+      }
+    }
+    return pair;
+  };
+  const all = [...Array(n).keys()];
+  if (n === 1) {
+    const single = chainAlong(source, [0]);
+    return { synergy: single, redundancy: { columns: [0], values: single.values.slice() } };
+  }
+  const redundancy = extend(bestPair(1, all), 1);
+  let synergyStart: number[];
+  if (length >= 3) {
+    let triplet = [0, 1, 2];
+    let best = Infinity;
+    for (let a = 0; a < n; a++) {
+      for (let b = a + 1; b < n; b++) {
+        for (let c = b + 1; c < n; c++) {
+          const value = coinformationOf(source, [a, b, c]);
+          if (value < best) {
+            best = value;
+            triplet = [a, b, c];
+          }
+        }
+      }
+    }
+    const pair = bestPair(-1, triplet);
+    synergyStart = [...pair, ...triplet.filter(c => !pair.includes(c))];
+  } else {
+    synergyStart = bestPair(-1, all);
+  }
+  return { synergy: extend(synergyStart, -1), redundancy };
 }
 
 namespace Private {

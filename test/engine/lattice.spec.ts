@@ -1,0 +1,218 @@
+/**
+ * The lattice walk (src/engine/lattice.ts) and multiplet indexing (src/engine/multiplets.ts),
+ * checked against a naive per-multiplet histogram (test/engine/helpers.ts) that shares no code
+ * with the walk.
+ */
+import fc from 'fast-check';
+
+import { entropyOfCounts } from '../../src/engine/estimators';
+import {
+  assembleLattice,
+  computeLattice,
+  ILatticeInput,
+  jointEntropyOfCodes,
+  walkSubtree
+} from '../../src/engine/lattice';
+import {
+  checkMultipletCount,
+  createIndexing,
+  forEachMultiplet,
+  indexOfColumns,
+  largestOrderWithin,
+  membersOfIndex,
+  multipletCount,
+  orderOfIndex,
+  subtreeSize
+} from '../../src/engine/multiplets';
+import type { EstimatorName } from '../../src/engine/types';
+import { codedTable, expectPolyadic, naiveCounts, subsetsOf } from './helpers';
+
+const ESTIMATORS: EstimatorName[] = ['plugin', 'miller-madow', 'chao-shen', 'shrinkage'];
+
+/** Naive entropy of one multiplet under an estimator: count tuples, then the estimator. */
+function naive(codes: Int32Array[], bins: number[], members: number[], estimator: EstimatorName): number {
+  const possible = members.reduce((product, c) => product * bins[c], 1);
+  return entropyOfCounts(estimator, naiveCounts(codes, members), possible);
+}
+
+describe('multiplets', () => {
+  describe('#multipletCount', () => {
+    it('should count Σ C(n, k) exactly, beyond 2^53', () => {
+      // 2^40 − 1 = 1099511627775 (all non-empty subsets of 40 columns).
+      expect(multipletCount(40, 40)).toBe(1099511627775n);
+      // C(10,1) + C(10,2) + C(10,3) = 10 + 45 + 120 = 175.
+      expect(multipletCount(10, 3)).toBe(175n);
+      expect(multipletCount(70, 70)).toBe(2n ** 70n - 1n);
+    });
+  });
+
+  describe('#checkMultipletCount', () => {
+    it('should refuse above the cap with the exact count and the largest order that fits', () => {
+      // 40 columns: Σ_{k≤6} C(40,k) = 40 + 780 + 9880 + 91390 + 658008 + 3838380 = 4598478 ≤ 2^24,
+      // and adding C(40,7) = 18643560 passes 2^24 = 16777216.
+      expectPolyadic(
+        () => checkMultipletCount(40, 40),
+        'limit',
+        /1099511627775 multiplets/,
+        /16777216/,
+        /largest maximum order that fits is 6/
+      );
+      expect(largestOrderWithin(40, 2 ** 24)).toBe(6);
+      expect(checkMultipletCount(40, 6)).toBe(4598478);
+    });
+
+    it('should say so when not even single columns fit', () => {
+      expectPolyadic(() => checkMultipletCount(5, 1, 3), 'limit', /not even single columns fit/);
+    });
+  });
+
+  describe('#membersOfIndex', () => {
+    it('should invert the index in both layouts', () => {
+      for (const [n, m] of [
+        [6, 6],
+        [7, 3],
+        [9, 1],
+        [5, 4]
+      ]) {
+        const indexing = createIndexing(n, m);
+        const seen = new Set<number>();
+        const out = new Int32Array(m);
+        let visited = 0;
+        forEachMultiplet(indexing, (index, members, order) => {
+          visited++;
+          expect(index).toBeGreaterThan(0);
+          expect(index).toBeLessThan(indexing.size);
+          expect(seen.has(index)).toBe(false);
+          seen.add(index);
+          expect(membersOfIndex(indexing, index, out)).toBe(order);
+          expect(Array.from(out.subarray(0, order))).toEqual(Array.from(members.subarray(0, order)));
+          expect(orderOfIndex(indexing, index)).toBe(order);
+          expect(indexOfColumns(indexing, Array.from(members.subarray(0, order)).reverse())).toBe(index);
+        });
+        expect(visited).toBe(Number(multipletCount(n, m)));
+        expect(indexing.kind).toBe(m === n ? 'mask' : 'rank');
+      }
+    });
+
+    it('should place a rank layout contiguously by order', () => {
+      // 5 columns up to order 2: 1 empty + 5 singles + 10 pairs = 16 slots, pairs at 6 … 15.
+      const indexing = createIndexing(5, 2);
+      expect(indexing.size).toBe(16);
+      expect(indexOfColumns(indexing, [0, 1])).toBe(6);
+      expect(indexOfColumns(indexing, [3, 4])).toBe(15);
+      expect(indexOfColumns(indexing, [0, 1, 2])).toBe(-1);
+    });
+  });
+});
+
+describe('lattice', () => {
+  describe('#computeLattice', () => {
+    it('should equal a naive histogram per multiplet, with and without the shortcuts (property)', () => {
+      fc.assert(
+        fc.property(
+          codedTable(5, 25, 4),
+          fc.constantFrom(...ESTIMATORS),
+          fc.boolean(),
+          fc.boolean(),
+          fc.integer({ min: 1, max: 5 }),
+          (table, estimator, dropSingletons, fillDistinct, order) => {
+            const n = table.codes.length;
+            const maxOrder = Math.min(order, n);
+            const lattice = computeLattice({ ...table, maxOrder, estimator, dropSingletons, fillDistinct });
+            for (const members of subsetsOf(n, maxOrder)) {
+              const index = indexOfColumns(lattice.indexing, members);
+              expect(lattice.entropy[index]).toBeCloseTo(naive(table.codes, table.bins, members, estimator), 12);
+              expect(lattice.occupied[index]).toBe(naiveCounts(table.codes, members).length);
+            }
+          }
+        ),
+        { numRuns: 300 }
+      );
+    });
+
+    it('should agree with the direct computation of one multiplet', () => {
+      fc.assert(
+        fc.property(codedTable(4, 30, 5), fc.constantFrom(...ESTIMATORS), (table, estimator) => {
+          const n = table.codes.length;
+          const lattice = computeLattice({ ...table, maxOrder: n, estimator });
+          for (const members of subsetsOf(n)) {
+            const direct = jointEntropyOfCodes(table.codes, table.bins, members, estimator);
+            expect(lattice.entropy[indexOfColumns(lattice.indexing, members)]).toBeCloseTo(direct.entropy, 12);
+          }
+        })
+      );
+    });
+
+    it('should take wide columns through the map fallback', () => {
+      // 6000 rows; two columns of 3000 codes each used twice, so the pair's key range is
+      // 3000 · 3000 = 9·10^6, above the table limit of 2^22.
+      const rows = 6000;
+      const a = new Int32Array(rows);
+      const b = new Int32Array(rows);
+      for (let i = 0; i < rows; i++) {
+        a[i] = i % 3000;
+        b[i] = (i * 7 + (i >= 3000 ? 1 : 0)) % 3000;
+      }
+      const input: ILatticeInput = { codes: [a, b], bins: [3000, 3000], maxOrder: 2, estimator: 'plugin' };
+      const lattice = computeLattice(input);
+      expect(lattice.entropy[indexOfColumns(lattice.indexing, [0, 1])]).toBeCloseTo(
+        naive(input.codes, input.bins, [0, 1], 'plugin'),
+        12
+      );
+    });
+
+    it('should fill every superset of an all-distinct multiplet', () => {
+      // Column 0 is a row identifier: every multiplet containing it has N singleton cells.
+      const rows = 8;
+      const id = Int32Array.from({ length: rows }, (_, i) => i);
+      const flag = Int32Array.from({ length: rows }, (_, i) => i % 2);
+      const other = Int32Array.from({ length: rows }, (_, i) => i % 3);
+      const lattice = computeLattice({ codes: [id, flag, other], bins: [8, 2, 3], maxOrder: 3, estimator: 'plugin' });
+      for (const members of [[0], [0, 1], [0, 2], [0, 1, 2]]) {
+        expect(lattice.entropy[indexOfColumns(lattice.indexing, members)]).toBeCloseTo(Math.log(8), 14);
+        expect(lattice.occupied[indexOfColumns(lattice.indexing, members)]).toBe(8);
+      }
+    });
+
+    it('should refuse a lattice above the multiplet cap', () => {
+      const codes = Array.from({ length: 40 }, () => new Int32Array(3));
+      expectPolyadic(
+        () => computeLattice({ codes, bins: codes.map(() => 1), maxOrder: 40, estimator: 'plugin' }),
+        'limit',
+        /1099511627775/
+      );
+    });
+  });
+
+  describe('#walkSubtree', () => {
+    it('should give bit-identical results whatever the split by first column (property)', () => {
+      fc.assert(
+        fc.property(
+          codedTable(6, 40, 4),
+          fc.constantFrom(...ESTIMATORS),
+          fc.integer({ min: 1, max: 6 }),
+          fc.integer({ min: 0, max: 1000 }),
+          (table, estimator, order, seed) => {
+            const n = table.codes.length;
+            const input: ILatticeInput = { ...table, maxOrder: Math.min(order, n), estimator };
+            const whole = computeLattice(input);
+            // Each subtree walked on its own (as separate workers would), gathered in a shuffled order.
+            const parts = Array.from({ length: n }, (_, root) => walkSubtree(input, root));
+            const shuffled = parts
+              .map((part, i) => ({ part, key: (i * 7919 + seed) % 1009 }))
+              .sort((x, y) => x.key - y.key)
+              .map(x => x.part);
+            const split = assembleLattice(input, shuffled);
+            expect(split.entropy.length).toBe(whole.entropy.length);
+            for (let i = 0; i < whole.entropy.length; i++) {
+              expect(Object.is(split.entropy[i], whole.entropy[i])).toBe(true);
+              expect(split.occupied[i]).toBe(whole.occupied[i]);
+            }
+            parts.forEach((part, root) => expect(part.entropy.length).toBe(subtreeSize(whole.indexing, root)));
+          }
+        ),
+        { numRuns: 150 }
+      );
+    });
+  });
+});
