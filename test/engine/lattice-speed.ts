@@ -80,6 +80,6 @@ const lattice = computeLattice({ codes: prepared.codes, bins: prepared.bins, max
 time('co-information transform', () => {
   coinformationAll(lattice);
 });
-time('analyze (binning + walk + measures + rows)', () => {
-  analyze(columns, { bins: 'quantile:4' });
+time('analyze, all orders (binning + walk + measures + one row per multiplet)', () => {
+  analyze(columns, { bins: 'quantile:4', maxOrder: columnCount });
 });
