@@ -256,14 +256,6 @@ namespace Private {
       }
       binsByColumn[column] = spec;
     }
-    if (command.bins !== undefined) {
-      // --bins is for numbers: a text column keeps its categories unless --bin says otherwise
-      for (const column of source.columns) {
-        if (column.kind === 'categorical' && !(column.name in binsByColumn)) {
-          binsByColumn[column.name] = 'categorical';
-        }
-      }
-    }
     const options: IAnalyzeOptions = {};
     if (command.bins !== undefined) options.bins = command.bins;
     if (Object.keys(binsByColumn).length > 0) options.binsByColumn = binsByColumn;

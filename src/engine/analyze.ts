@@ -111,7 +111,10 @@ export function prepareColumns(columns: ColumnView[], options: IAnalyzeOptions =
   }
   const binned: IBinnedColumn[] = selected.map(column => {
     const text = perColumn[column.name];
-    return binColumn(column, text !== undefined ? text : defaultSpec);
+    // The default spec is for numbers: a text or boolean column keeps its categories unless
+    // its own spec says otherwise.
+    const fallback = column.kind === 'numeric' ? defaultSpec : undefined;
+    return binColumn(column, text !== undefined ? text : fallback);
   });
   for (const column of binned) {
     warnings.push(...column.warnings);

@@ -375,9 +375,12 @@ namespace Private {
     const source = column.values;
     const n = source.length;
     const missing = column.missing;
-    const isBig = source instanceof BigInt64Array || source instanceof BigUint64Array;
+    // Type tags, not instanceof: typed arrays from another realm (a worker's structured clone,
+    // jest's sandbox, an iframe) fail instanceof against this realm's constructors.
+    const tag = Object.prototype.toString.call(source);
+    const isBig = tag === '[object BigInt64Array]' || tag === '[object BigUint64Array]';
     const integer =
-      !(source instanceof Float64Array || source instanceof Float32Array) || INTEGER_DTYPE.test(column.dtype);
+      !(tag === '[object Float64Array]' || tag === '[object Float32Array]') || INTEGER_DTYPE.test(column.dtype);
     const rows = new Int32Array(n);
     const values = new Float64Array(n);
     let count = 0;
@@ -502,7 +505,8 @@ namespace Private {
       }
       case 'quantile':
         edges = quantileEdges(x, spec.count ?? 4);
-        if (edges.length - 1 < (spec.count ?? 4)) {
+        // A constant column gets one warning, from addOccupancyWarnings, not a second about ties.
+        if (edges.length - 1 < (spec.count ?? 4) && edges[0] !== edges[edges.length - 1]) {
           result.warnings.push(
             `Column '${column.name}': ${specText} gave ${edges.length - 1} bin` +
               `${edges.length === 2 ? '' : 's'} instead of ${spec.count}, because tied values ` +

@@ -111,7 +111,7 @@ export interface IMultipletRow {
 export interface IAnalyzeOptions {
   /** Column names to use; default all. */
   columns?: string[];
-  /** Default spec for every column; default: `categorical` for non-numeric, `quantile:4` numeric. */
+  /** Spec for every numeric column (text and boolean columns stay `categorical`); default `quantile:4`. */
   bins?: string;
   /** Per-column specs, overriding `bins`. */
   binsByColumn?: Record<string, string>;

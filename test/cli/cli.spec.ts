@@ -271,10 +271,7 @@ describe('polyadic analyze', () => {
       expect(constantColumnWarnings(5, '--bins', 'width:3')).toHaveLength(1);
     });
 
-    // Known engine issue: under the default quantile:4 a constant numeric column gets two
-    // warnings (duplicate quantile edges dropped, and single value). Remove `.failing` once the
-    // engine gives one.
-    it.failing('should analyse a constant numeric column under quantile:4 with one warning naming it', () => {
+    it('should analyse a constant numeric column under quantile:4 with one warning naming it', () => {
       expect(constantColumnWarnings(5)).toHaveLength(1);
     });
 

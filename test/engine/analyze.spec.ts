@@ -130,6 +130,17 @@ describe('analyze', () => {
       ]);
     });
 
+    it('should apply the default spec to numeric columns only, text keeping its categories', () => {
+      const columns = [numericColumn('n', [1, 2, 3, 4, 5, 6]), categoricalColumn('s', ['a', 'b', 'a', 'c', 'a', 'b'])];
+      const result = analyze(columns, { bins: 'width:3' });
+      expect(result.columns.map(c => [c.name, c.binning.spec, c.bins])).toEqual([
+        ['n', 'width:3', 3],
+        ['s', 'categorical', 3]
+      ]);
+      const own = analyze(columns, { bins: 'width:3', binsByColumn: { s: 'categorical' } });
+      expect(own.columns[1].binning.spec).toBe('categorical');
+    });
+
     it('should use quantile:4 for numbers and categorical for categories by default', () => {
       const result = analyze([numericColumn('n', [1, 2, 3, 4, 5]), categoricalColumn('s', ['a', 'b', 'a', 'b', 'a'])]);
       expect(result.columns.map(c => c.binning.spec)).toEqual(['quantile:4', 'categorical']);
