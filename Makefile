@@ -75,26 +75,29 @@ $(VENV_PY):
 	  echo "error: '$(PYTHON) -m venv' failed (Debian: apt-get install python3-venv)" >&2; exit 1; }
 
 # SKIP_JUPYTER_BUILDER: the npm install and build are done by the targets below, once.
+# Both registries are checked before either install starts, so a machine without network
+# stops at once with one line.
 $(PY_TEST_STAMP): pyproject.toml | $(VENV_PY)
+	@$(check_npm_registry)
 	@$(check_python_index)
 	@echo "--- pip install -e .[test]"
-	@SKIP_JUPYTER_BUILDER=1 "$(VENV_PY)" -m pip install --quiet -e ".[test]" || { \
-	  echo "error: pip could not install the Python packages (see pip's messages above)" >&2; exit 1; }
+	@SKIP_JUPYTER_BUILDER=1 .ci/logged "$(ARTIFACTS)/logs/pip-install-test.log" "pip install -e .[test]" \
+	  "the Python package index" "$(VENV_PY)" -m pip install -e ".[test]"
 	@touch "$@"
 
 $(PY_DEMO_STAMP): pyproject.toml | $(VENV_PY)
+	@$(check_npm_registry)
 	@$(check_python_index)
 	@echo "--- pip install -e .[demo]"
-	@SKIP_JUPYTER_BUILDER=1 "$(VENV_PY)" -m pip install --quiet -e ".[demo]" || { \
-	  echo "error: pip could not install the Python packages (see pip's messages above)" >&2; exit 1; }
+	@SKIP_JUPYTER_BUILDER=1 .ci/logged "$(ARTIFACTS)/logs/pip-install-demo.log" "pip install -e .[demo]" \
+	  "the Python package index" "$(VENV_PY)" -m pip install -e ".[demo]"
 	@touch "$@"
 
 $(NPM_STAMP): package.json package-lock.json
 	@command -v npm >/dev/null 2>&1 || { echo "error: npm not found: install Node.js 20 with npm" >&2; exit 1; }
 	@$(check_npm_registry)
 	@echo "--- npm ci"
-	@npm ci --no-audit --no-fund || { \
-	  echo "error: npm ci failed (see npm's messages above)" >&2; exit 1; }
+	@.ci/logged "$(ARTIFACTS)/logs/npm-ci.log" "npm ci" "the npm registry" npm ci --no-audit --no-fund
 	@touch "$@"
 
 # Debian's Chromium for the browser tests; apt-get as root, or through sudo when allowed.

@@ -61,7 +61,8 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
     palette?.addItem({ command: CommandIDs.openPanel, category: PALETTE_CATEGORY });
 
     if (notebooks !== null) {
-      followNotebooks(notebooks, model.source);
+      const follower = followNotebooks(notebooks, model.source);
+      panel.disposed.connect(() => follower.dispose());
     }
     if (settingRegistry !== null) {
       void followSettings(settingRegistry, PLUGIN_ID, model.defaults);

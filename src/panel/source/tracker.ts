@@ -2,6 +2,7 @@
  * Keeps a {@link SourceModel} in step with the notebook the user last focused: its path,
  * its kernel and the kernel's status.
  */
+import { PathExt } from '@jupyterlab/coreutils';
 import { INotebookTracker, NotebookPanel } from '@jupyterlab/notebook';
 import { IDisposable } from '@lumino/disposable';
 
@@ -78,7 +79,7 @@ namespace Private {
     const path = panel.context.path;
     return {
       path,
-      name: path.split('/').pop() ?? path,
+      name: PathExt.basename(path),
       kernel: session.session?.kernel
         ? { displayName: session.kernelDisplayName, status: session.kernelDisplayStatus }
         : null
