@@ -12,7 +12,7 @@ import type { PanelModel } from './panel/model';
 export const EXTENSION_ID = 'jupyterlab-polyadic';
 
 /**
- * Id of the main plugin. Its settings schema is schema/plugin.json, which JupyterLab
+ * Id of the main plugin. Its settings schema is schema/settings/plugin.json, which JupyterLab
  * binds to `<package name>:plugin`, so the id must keep this exact form.
  */
 export const PLUGIN_ID = `${EXTENSION_ID}:plugin`;
@@ -30,7 +30,7 @@ export const PALETTE_CATEGORY = 'Polyadic';
 export type MaxOrderRule = 'auto' | 'all' | 'fixed';
 
 /**
- * The user settings of schema/plugin.json, as the settings registry returns them
+ * The user settings of schema/settings/plugin.json, as the settings registry returns them
  * (defaults already merged). The defaults live in the schema only.
  */
 export interface IPolyadicSettings {

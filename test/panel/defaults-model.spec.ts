@@ -1,7 +1,7 @@
 /**
  * DefaultsModel and describeSettings: the panel's list of settings, in the schema's words.
  */
-import schemaJson from '../../schema/plugin.json';
+import schemaJson from '../../schema/settings/plugin.json';
 import { DefaultsModel, describeSettings } from '../../src/panel/defaults/model';
 import { IPolyadicSettings } from '../../src/tokens';
 

@@ -1,12 +1,12 @@
 /**
- * The settings schema (schema/plugin.json) against JupyterLab's own plugin meta-schema and
+ * The settings schema (schema/settings/plugin.json) against JupyterLab's own plugin meta-schema and
  * the rules of STYLE.md: every property titled, described and defaulted; enums as oneOf.
  */
 import type { ISettingRegistry } from '@jupyterlab/settingregistry';
 import pluginMetaSchema from '@jupyterlab/settingregistry/lib/plugin-schema.json';
 import Ajv from 'ajv';
 
-import schemaJson from '../../schema/plugin.json';
+import schemaJson from '../../schema/settings/plugin.json';
 import { IPolyadicSettings } from '../../src/tokens';
 
 const schema = schemaJson as unknown as ISettingRegistry.ISchema;
@@ -70,7 +70,7 @@ function withoutJupyterKeys(value: Record<string, unknown>): Record<string, unkn
   );
 }
 
-describe('schema/plugin.json', () => {
+describe('schema/settings/plugin.json', () => {
   it('should declare exactly the fields of IPolyadicSettings', () => {
     expect(Object.keys(properties).sort()).toEqual(Object.keys(settingKeys).sort());
   });

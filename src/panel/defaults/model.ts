@@ -8,7 +8,7 @@ import type { IPolyadicSettings } from '../../tokens';
 
 /** One setting as the defaults section lists it. */
 export interface IDefaultRow {
-  /** Property name in schema/plugin.json. */
+  /** Property name in schema/settings/plugin.json. */
   key: string;
   /** The property's title from the schema. */
   label: string;

@@ -1,5 +1,5 @@
 /**
- * Feeds the user settings of schema/plugin.json into a {@link DefaultsModel} and keeps
+ * Feeds the user settings of schema/settings/plugin.json into a {@link DefaultsModel} and keeps
  * them current while the user edits them.
  */
 import { ISettingRegistry } from '@jupyterlab/settingregistry';
