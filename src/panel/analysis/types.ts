@@ -7,7 +7,7 @@ import type { ISignal } from '@lumino/signaling';
 
 import type { IFetchedField } from '../../bridge/decode';
 import type { IFrameInfo } from '../../bridge/protocol';
-import type { IAnalysisResult, IAnalyzeOptions } from '../../engine/types';
+import type { ColumnView, IAnalysisResult, IAnalyzeOptions } from '../../engine/types';
 import type { IRunProgress } from '../../worker/pool';
 
 /** Where a run stands. */
@@ -31,6 +31,11 @@ export interface IAnalysisFrameInfo {
   seed: number;
   /** Length of the IPC stream received, in bytes. */
   bytes: number;
+  /**
+   * The fetched columns the engine read (the selected ones, in order). The record section
+   * fingerprints them (src/record/fingerprint.ts); without them a run is not recorded.
+   */
+  columns?: readonly ColumnView[];
 }
 
 /** Everything a finished run leaves behind; carried by `runCompleted`. */
