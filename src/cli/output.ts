@@ -3,33 +3,17 @@
  * IAnalysisResult, unchanged) or as CSV with one row per multiplet.
  */
 
-import Papa from 'papaparse';
+import type { IAnalysisResult } from '../engine/types';
+import { multipletsCsv } from '../results-format';
 
-import type { IAnalysisResult, IMultipletRow } from '../engine/types';
+/** Re-exported for the CLI's callers; the CSV form itself lives in results-format.ts. */
+export { COLUMN_SEPARATOR, MULTIPLET_FIELDS } from '../results-format';
 
 /** Output formats of the CLI. */
 export type OutputFormat = 'json' | 'csv';
 
 /** Every output format, for validation and help. */
 export const OUTPUT_FORMATS: readonly OutputFormat[] = ['json', 'csv'];
-
-/** The CSV columns: the fields of IMultipletRow, in their declared order. */
-export const MULTIPLET_FIELDS: readonly (keyof IMultipletRow)[] = [
-  'columns',
-  'order',
-  'entropy',
-  'coinformation',
-  'total_correlation',
-  'dual_total_correlation',
-  'o_information',
-  's_information'
-];
-
-/**
- * Separator between the column names of a multiplet in one CSV cell. A name holding it makes
- * the cell ambiguous; the JSON output keeps names as a list and has no such limit.
- */
-export const COLUMN_SEPARATOR = '|';
 
 /** Render a result in a format; the text ends with a line break. */
 export function formatResult(result: IAnalysisResult, format: OutputFormat): string {
@@ -42,18 +26,9 @@ export function formatJson(result: IAnalysisResult): string {
 }
 
 /**
- * The multiplets as CSV, one row per multiplet, numbers at full precision. Cells that a
- * spreadsheet would run as a formula (a column name starting with `=`, `+`, `-` or `@`) are
- * prefixed with a quote mark, since column names come from untrusted data.
+ * The multiplets as CSV, one row per multiplet (see {@link multipletsCsv}: full precision,
+ * formula-like cells quoted).
  */
 export function formatCsv(result: IAnalysisResult): string {
-  const data = result.multiplets.map(row =>
-    MULTIPLET_FIELDS.map(field => (field === 'columns' ? row.columns.join(COLUMN_SEPARATOR) : row[field]))
-  );
-  return (
-    Papa.unparse(
-      { fields: [...MULTIPLET_FIELDS], data },
-      { quotes: false, escapeFormulae: true, newline: '\n', header: true }
-    ) + '\n'
-  );
+  return multipletsCsv(result.multiplets);
 }
