@@ -1,0 +1,369 @@
+/**
+ * State of the panel's records section: the analyses recorded in the followed notebook's
+ * metadata, which one is chosen, and whether the data the panel fetched still matches the
+ * chosen analysis' fingerprint. Every change goes through src/record/store.ts, so only the
+ * `polyadic` metadata key is ever written and an invalid or newer record is never rewritten.
+ * No JupyterLab imports: the metadata arrives through {@link IMetadataAccess}, so the model
+ * runs in unit tests without a DOM.
+ */
+import { ISignal, Signal } from '@lumino/signaling';
+
+import { isPolyadicError } from '../../engine/errors';
+import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
+import { fingerprintColumns } from '../../record/fingerprint';
+import { recordFromResult } from '../../record/recordFromResult';
+import { compareFingerprint, optionsFromRecord, type IDataComparison } from '../../record/settings';
+import {
+  addAnalysis,
+  deleteAnalysis,
+  findAnalysis,
+  readRecords,
+  renameAnalysis,
+  type IMetadataAccess,
+  type IRecordState
+} from '../../record/store';
+import type { IAnalysisRecord, ISampleInfo, IStatisticsSettings } from '../../record/types';
+import type { IRunCompleted } from '../analysis/types';
+
+/** The notebook whose record the section shows. */
+export interface IRecordsNotebook {
+  /** Path relative to the server root; tells one notebook from another. */
+  path: string;
+  /** Its metadata, as far as the record needs it. */
+  metadata: IMetadataAccess;
+}
+
+/** The rows an analysis read, as the bridge fetched them. */
+export interface IRunFrame {
+  /** Dataframe name in the kernel. */
+  name: string;
+  /** The columns the engine read, in the order it read them. */
+  columns: readonly ColumnView[];
+  /** Rows received. */
+  rows: number;
+  /** Rows of the frame in the kernel. */
+  originalRows: number;
+  /** Whether the rows are a seeded sample of the frame. */
+  sampled: boolean;
+  /** Seed of the sample. */
+  seed: number;
+}
+
+/** A request to put a recorded analysis' settings back into the analysis section. */
+export interface IRestoreRequest {
+  /** The recorded analysis. */
+  analysis: IAnalysisRecord;
+  /** Dataframe the analysis read. */
+  frame: string;
+  /** Engine options that re-run it exactly. */
+  options: IAnalyzeOptions;
+  /** Its statistics settings. */
+  statistics: IStatisticsSettings;
+}
+
+/** How the data the panel fetched compares with the chosen analysis. */
+export interface IDataCheck {
+  /** Id of the analysis compared. */
+  id: string;
+  /** `same`, `changed`, or `not-comparable` (a different sample or missing columns). */
+  status: 'same' | 'changed' | 'not-comparable';
+  /** A sentence for the banner. */
+  message: string;
+  /** Column-level detail of a comparison that was made. */
+  comparison: IDataComparison | null;
+}
+
+/** Holds the followed notebook's record and signals every change of it. */
+export class RecordsModel {
+  /** Emitted after the record, the choice, the data check or the last error changed. */
+  get changed(): ISignal<this, void> {
+    return this._changed;
+  }
+
+  /** Emitted when the person asks to restore an analysis' settings. */
+  get restoreRequested(): ISignal<this, IRestoreRequest> {
+    return this._restoreRequested;
+  }
+
+  /** The followed notebook, or `null` when none is open. */
+  get notebook(): IRecordsNotebook | null {
+    return this._notebook;
+  }
+
+  /** The record as last read, or `null` without a notebook. */
+  get state(): IRecordState | null {
+    return this._state;
+  }
+
+  /** Id of the chosen analysis, or `null`. */
+  get selectedId(): string | null {
+    return this._selectedId;
+  }
+
+  /** The chosen analysis, or `null`. */
+  get selected(): IAnalysisRecord | null {
+    if (this._state === null || this._selectedId === null) {
+      return null;
+    }
+    return findAnalysis(this._state, this._selectedId) ?? null;
+  }
+
+  /** The data check of the chosen analysis, or `null` when none was made. */
+  get dataCheck(): IDataCheck | null {
+    return this._dataCheck;
+  }
+
+  /** The message of the last action that failed, or `null`. */
+  get error(): string | null {
+    return this._error;
+  }
+
+  /** Follow another notebook (or none) and read its record. */
+  setNotebook(notebook: IRecordsNotebook | null): void {
+    if (this._notebook?.path === notebook?.path && this._notebook?.metadata === notebook?.metadata) {
+      return;
+    }
+    this._notebook = notebook;
+    this._selectedId = null;
+    this._dataCheck = null;
+    this._error = null;
+    this.refresh();
+  }
+
+  /** Read the record again (the notebook's metadata changed). */
+  refresh(): void {
+    this._state = this._notebook === null ? null : readRecords(this._notebook.metadata);
+    if (this._selectedId !== null && this.selected === null) {
+      this._selectedId = null;
+      this._dataCheck = null;
+    }
+    this._changed.emit();
+  }
+
+  /** Choose an analysis (or none). */
+  select(id: string | null): void {
+    if (id === this._selectedId) {
+      return;
+    }
+    this._selectedId = id !== null && this._state !== null && findAnalysis(this._state, id) ? id : null;
+    this._dataCheck = null;
+    this._changed.emit();
+  }
+
+  /**
+   * Record a completed run in the followed notebook (the metadata change marks it dirty) and
+   * choose it. Resolves to the new analysis, or `null` when it could not be recorded (the
+   * reason is in {@link error}).
+   */
+  async recordRun(run: IRunCompleted): Promise<IAnalysisRecord | null> {
+    const notebook = this._notebook;
+    if (notebook === null) {
+      return this._fail('No notebook is open, so the run was not recorded.');
+    }
+    const fetched = run.frame.columns;
+    if (fetched === undefined) {
+      return this._fail('The run was not recorded: the analysis section did not pass on the columns it read.');
+    }
+    let analysis: IAnalysisRecord;
+    try {
+      const selected = run.result.columns.map(column => column.name);
+      const byName = new Map(fetched.map(column => [column.name, column]));
+      const columns = selected.map(name => {
+        const column = byName.get(name);
+        if (column === undefined) {
+          throw new Error(`The run used column '${name}', which the fetched frame '${run.frame.name}' does not hold.`);
+        }
+        return column;
+      });
+      const fingerprint = await fingerprintColumns(columns);
+      analysis = recordFromResult({
+        options: run.options,
+        result: run.result,
+        source: { frame: run.frame.name, columns, fingerprint, sample: Private.sampleOf(run.frame) },
+        // the kernel keeps the results under the same id, so polyadic.show finds them
+        id: run.analysisId,
+        created: Private.dateOf(run.finished)
+      });
+    } catch (error) {
+      return this._fail(`The run was not recorded: ${Private.messageOf(error)}`);
+    }
+    // the person may have switched notebooks while the fingerprint was computed
+    if (this._notebook !== notebook) {
+      return this._fail('The notebook changed while the run was being recorded, so it was not recorded.');
+    }
+    try {
+      this._state = addAnalysis(notebook.metadata, analysis);
+    } catch (error) {
+      return this._fail(`The run was not recorded: ${Private.messageOf(error)}`);
+    }
+    this._selectedId = analysis.id;
+    this._dataCheck = { id: analysis.id, status: 'same', message: 'The data is the data this analysis read.', comparison: null };
+    this._error = null;
+    this._changed.emit();
+    return analysis;
+  }
+
+  /** Rename an analysis. Returns whether it was renamed (else see {@link error}). */
+  rename(id: string, label: string): boolean {
+    return this._change(metadata => renameAnalysis(metadata, id, label));
+  }
+
+  /** Delete an analysis. Returns whether it was deleted (else see {@link error}). */
+  remove(id: string): boolean {
+    return this._change(metadata => deleteAnalysis(metadata, id));
+  }
+
+  /** Choose an analysis and ask for its settings to be restored. Returns whether it was found. */
+  restore(id: string): boolean {
+    const analysis = this._state === null ? undefined : findAnalysis(this._state, id);
+    if (analysis === undefined) {
+      this._fail(`No analysis with id '${id.slice(0, 80)}' is recorded in this notebook.`);
+      return false;
+    }
+    this.select(id);
+    this._restoreRequested.emit({
+      analysis,
+      frame: analysis.source.frame,
+      options: optionsFromRecord(analysis),
+      statistics: { ...analysis.statistics }
+    });
+    return true;
+  }
+
+  /**
+   * Compare a frame the panel fetched with the chosen analysis' fingerprint (the "data
+   * changed" banner). A frame of another name is ignored; a different sample, or columns the
+   * fetch lacks, make the check `not-comparable`.
+   */
+  async checkData(frame: IRunFrame): Promise<IDataCheck | null> {
+    const analysis = this.selected;
+    if (analysis === null || frame.name !== analysis.source.frame) {
+      return null;
+    }
+    const check = await Private.check(analysis, frame);
+    if (this.selected !== analysis) {
+      return null;
+    }
+    this._dataCheck = check;
+    this._changed.emit();
+    return check;
+  }
+
+  /** Whether the model has been disposed. */
+  get isDisposed(): boolean {
+    return this._isDisposed;
+  }
+
+  /** Disconnect every listener. */
+  dispose(): void {
+    if (this._isDisposed) {
+      return;
+    }
+    this._isDisposed = true;
+    Signal.clearData(this);
+  }
+
+  private _change(write: (metadata: IMetadataAccess) => IRecordState): boolean {
+    if (this._notebook === null) {
+      this._fail('No notebook is open.');
+      return false;
+    }
+    try {
+      this._state = write(this._notebook.metadata);
+    } catch (error) {
+      this._fail(Private.messageOf(error));
+      return false;
+    }
+    if (this._selectedId !== null && this.selected === null) {
+      this._selectedId = null;
+      this._dataCheck = null;
+    }
+    this._error = null;
+    this._changed.emit();
+    return true;
+  }
+
+  private _fail(message: string): null {
+    this._error = message;
+    this._changed.emit();
+    return null;
+  }
+
+  private _notebook: IRecordsNotebook | null = null;
+  private _state: IRecordState | null = null;
+  private _selectedId: string | null = null;
+  private _dataCheck: IDataCheck | null = null;
+  private _error: string | null = null;
+  private _isDisposed = false;
+  private _changed = new Signal<this, void>(this);
+  private _restoreRequested = new Signal<this, IRestoreRequest>(this);
+}
+
+namespace Private {
+  /** The sample a record notes, when the frame was sampled. */
+  export function sampleOf(frame: Pick<IRunFrame, 'sampled' | 'seed' | 'rows' | 'originalRows'>): ISampleInfo | undefined {
+    return frame.sampled ? { seed: frame.seed, row_cap: frame.rows, original_rows: frame.originalRows } : undefined;
+  }
+
+  /** The time a run finished, or now when the text is not a date. */
+  export function dateOf(text: string): Date {
+    const date = new Date(text);
+    return Number.isNaN(date.getTime()) ? new Date() : date;
+  }
+
+  /** A user-facing message of any thrown value. */
+  export function messageOf(error: unknown): string {
+    if (isPolyadicError(error) || error instanceof Error) {
+      return error.message;
+    }
+    return String(error);
+  }
+
+  export async function check(analysis: IAnalysisRecord, frame: IRunFrame): Promise<IDataCheck> {
+    const id = analysis.id;
+    const recorded = analysis.source.sample;
+    const sampleNow = sampleOf(frame);
+    const sameSample =
+      recorded === undefined
+        ? sampleNow === undefined
+        : sampleNow !== undefined && recorded.seed === sampleNow.seed && recorded.row_cap === sampleNow.row_cap;
+    if (!sameSample) {
+      return {
+        id,
+        status: 'not-comparable',
+        comparison: null,
+        message:
+          recorded === undefined
+            ? `The panel read a sample of ${frame.rows} of ${frame.originalRows} rows of '${frame.name}', ` +
+              'but this analysis read every row; the data cannot be compared.'
+            : `This analysis read a sample of ${recorded.row_cap} rows (seed ${recorded.seed}); the panel read ` +
+              `${frame.rows} rows${frame.sampled ? ` (seed ${frame.seed})` : ''}, so the data cannot be compared.`
+      };
+    }
+    const byName = new Map(frame.columns.map(column => [column.name, column]));
+    const missing = analysis.columns.filter(name => !byName.has(name));
+    if (missing.length > 0) {
+      return {
+        id,
+        status: 'not-comparable',
+        comparison: null,
+        message: `The panel has not read column${missing.length === 1 ? '' : 's'} ${missing.map(n => `'${n}'`).join(', ')} of '${frame.name}'; the data cannot be compared.`
+      };
+    }
+    const fingerprint = await fingerprintColumns(analysis.columns.map(name => byName.get(name)!));
+    const comparison = compareFingerprint(analysis, fingerprint);
+    if (comparison.same) {
+      return { id, status: 'same', comparison, message: 'The data is the data this analysis read.' };
+    }
+    const where =
+      comparison.changedColumns.length > 0
+        ? ` (column${comparison.changedColumns.length === 1 ? '' : 's'} ${comparison.changedColumns.map(n => `'${n}'`).join(', ')})`
+        : '';
+    return {
+      id,
+      status: 'changed',
+      comparison,
+      message: `The data of '${frame.name}' changed since this analysis was recorded${where}.`
+    };
+  }
+}

@@ -1,0 +1,243 @@
+/**
+ * The panel's records section: the analyses recorded in the followed notebook, with restore,
+ * rename, delete and "insert analysis cell" per analysis, the banner of a record that is
+ * invalid, newer or migrated, and the "data changed" banner of the chosen analysis.
+ */
+import { Widget } from '@lumino/widgets';
+
+import type { IAnalysisRecord, IRecordProblem } from '../../record/types';
+import { textElement } from '../dom';
+import { RecordsModel } from './model';
+
+/** Shows a {@link RecordsModel}. Labels, frame and column names go in through `textContent` only. */
+export class RecordsView extends Widget {
+  /** Create the section for `options.model`. */
+  constructor(options: RecordsView.IOptions) {
+    super();
+    this.addClass('pd-Records');
+    this.title.label = 'Records';
+    this._model = options.model;
+    this._onInsertCell = options.onInsertCell ?? null;
+    this._model.changed.connect(this._render, this);
+    this._render();
+  }
+
+  /** Disconnect from the model and dispose the widget. */
+  dispose(): void {
+    if (this.isDisposed) {
+      return;
+    }
+    this._model.changed.disconnect(this._render, this);
+    super.dispose();
+  }
+
+  private _render(): void {
+    const model = this._model;
+    const state = model.state;
+    const parts: HTMLElement[] = [];
+    if (state === null) {
+      parts.push(textElement('p', 'pd-Records-note', 'Open a notebook to see the analyses recorded in it.'));
+      this.node.replaceChildren(...parts);
+      return;
+    }
+    if (state.notice !== null) {
+      parts.push(Private.notice(state.status, state.notice, state.problems));
+    }
+    if (model.error !== null) {
+      const error = textElement('p', 'pd-Records-error', model.error);
+      error.setAttribute('role', 'alert');
+      parts.push(error);
+    }
+    if (state.status !== 'invalid') {
+      if (state.analyses.length === 0) {
+        parts.push(
+          textElement(
+            'p',
+            'pd-Records-note',
+            'No analysis is recorded in this notebook yet. Every completed run is recorded here, ' +
+              'in the notebook’s metadata, and saved with the notebook.'
+          )
+        );
+      } else {
+        const list = textElement('ul', 'pd-Records-list');
+        list.setAttribute('aria-label', 'Recorded analyses');
+        for (const analysis of state.analyses) {
+          list.append(this._item(analysis, state.readOnly));
+        }
+        parts.push(list);
+      }
+    }
+    this.node.replaceChildren(...parts);
+  }
+
+  /** One analysis of the list. */
+  private _item(analysis: IAnalysisRecord, readOnly: boolean): HTMLElement {
+    const model = this._model;
+    const chosen = model.selectedId === analysis.id;
+    const item = textElement('li', `pd-Records-item${chosen ? ' jp-mod-selected' : ''}`);
+    item.dataset.recordId = analysis.id;
+
+    const label = textElement('button', 'pd-Records-label', analysis.label);
+    label.type = 'button';
+    label.title = `Choose this analysis (${analysis.id})`;
+    label.setAttribute('aria-pressed', String(chosen));
+    label.addEventListener('click', () => model.select(chosen ? null : analysis.id));
+    item.append(label);
+    item.append(
+      textElement(
+        'p',
+        'pd-Records-meta',
+        `${analysis.source.frame} · ${analysis.columns.length} columns · orders ≤ ${analysis.max_order} · ` +
+          `${analysis.estimator} · ${Private.when(analysis.created)}`
+      )
+    );
+
+    if (chosen) {
+      const check = model.dataCheck;
+      if (check !== null && check.id === analysis.id && check.status !== 'same') {
+        const banner = textElement(
+          'p',
+          `pd-Records-banner ${check.status === 'changed' ? 'jp-mod-warning' : 'jp-mod-info'}`,
+          check.message
+        );
+        banner.setAttribute('role', 'status');
+        item.append(banner);
+      }
+      if (this._renaming === analysis.id) {
+        item.append(this._renameForm(analysis));
+      } else if (this._confirmingDelete === analysis.id) {
+        item.append(this._deleteConfirm(analysis));
+      } else {
+        item.append(this._actions(analysis, readOnly));
+      }
+    }
+    return item;
+  }
+
+  private _actions(analysis: IAnalysisRecord, readOnly: boolean): HTMLElement {
+    const bar = textElement('div', 'pd-Records-actions');
+    bar.append(
+      Private.button('Restore settings', 'Put this analysis’ frame, columns and settings back in the panel', () =>
+        this._model.restore(analysis.id)
+      )
+    );
+    const insert = this._onInsertCell;
+    if (insert !== null) {
+      bar.append(
+        Private.button('Insert cell', 'Insert a code cell that shows this analysis in the notebook', () =>
+          insert(analysis.id)
+        )
+      );
+    }
+    if (!readOnly) {
+      bar.append(
+        Private.button('Rename', 'Give this analysis another name', () => {
+          this._renaming = analysis.id;
+          this._render();
+          this.node.querySelector<HTMLInputElement>('.pd-Records-renameInput')?.focus();
+        }),
+        Private.button('Delete', 'Remove this analysis from the notebook’s record', () => {
+          this._confirmingDelete = analysis.id;
+          this._render();
+        })
+      );
+    }
+    return bar;
+  }
+
+  private _renameForm(analysis: IAnalysisRecord): HTMLElement {
+    const form = textElement('form', 'pd-Records-rename');
+    const input = textElement('input', 'pd-Records-renameInput jp-mod-styled');
+    input.type = 'text';
+    input.value = analysis.label;
+    input.setAttribute('aria-label', 'New name');
+    const done = (): void => {
+      this._renaming = null;
+      this._render();
+    };
+    form.addEventListener('submit', event => {
+      event.preventDefault();
+      if (this._model.rename(analysis.id, input.value)) {
+        done();
+      }
+    });
+    input.addEventListener('keydown', event => {
+      if (event.key === 'Escape') {
+        event.preventDefault();
+        done();
+      }
+    });
+    const save = Private.button('Save', 'Save the new name', () => undefined);
+    save.type = 'submit';
+    form.append(input, save, Private.button('Cancel', 'Keep the old name', done));
+    return form;
+  }
+
+  private _deleteConfirm(analysis: IAnalysisRecord): HTMLElement {
+    const box = textElement('div', 'pd-Records-actions');
+    box.append(
+      textElement('span', 'pd-Records-question', 'Delete this analysis from the record?'),
+      Private.button('Delete', 'Delete it for good', () => {
+        this._confirmingDelete = null;
+        this._model.remove(analysis.id);
+        this._render();
+      }),
+      Private.button('Keep', 'Keep it', () => {
+        this._confirmingDelete = null;
+        this._render();
+      })
+    );
+    return box;
+  }
+
+  private readonly _model: RecordsModel;
+  private readonly _onInsertCell: ((id: string) => void) | null;
+  private _renaming: string | null = null;
+  private _confirmingDelete: string | null = null;
+}
+
+/** The statics of {@link RecordsView}. */
+export namespace RecordsView {
+  /** Options of a {@link RecordsView}. */
+  export interface IOptions {
+    /** The model to show. */
+    model: RecordsModel;
+    /** Inserts a decomposition cell for an analysis; no button without it. */
+    onInsertCell?: (id: string) => void;
+  }
+}
+
+namespace Private {
+  /** A small JupyterLab-styled button. */
+  export function button(text: string, title: string, onClick: () => void): HTMLButtonElement {
+    const node = textElement('button', 'pd-Records-button jp-mod-styled', text);
+    node.type = 'button';
+    node.title = title;
+    node.addEventListener('click', () => onClick());
+    return node;
+  }
+
+  /** The banner of a record that is invalid, newer or migrated; an invalid one lists its problems by path. */
+  export function notice(status: string, text: string, problems: IRecordProblem[]): HTMLElement {
+    const box = textElement(
+      'div',
+      `pd-Records-banner ${status === 'invalid' ? 'jp-mod-error' : status === 'newer' ? 'jp-mod-warning' : 'jp-mod-info'}`
+    );
+    box.setAttribute('role', status === 'invalid' ? 'alert' : 'status');
+    box.append(textElement('p', 'pd-Records-bannerText', text));
+    if (problems.length > 1) {
+      const list = textElement('ul', 'pd-Records-problems');
+      for (const problem of problems.slice(0, 10)) {
+        list.append(textElement('li', '', problem.message));
+      }
+      box.append(list);
+    }
+    return box;
+  }
+
+  /** A recorded time in the person's locale. */
+  export function when(iso: string): string {
+    const date = new Date(iso);
+    return Number.isNaN(date.getTime()) ? iso : date.toLocaleString();
+  }
+}
