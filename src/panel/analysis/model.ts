@@ -1,0 +1,380 @@
+/**
+ * The analysis state that ties the Data, Binning, Estimator and Run sections together: it
+ * builds the engine options from the three sections, runs them (fetch the selected columns
+ * through the bridge, then the engine pool), keeps the latest result and announces it to the
+ * Results and Record sections through the contract of ./types.ts.
+ */
+import type { JSONObject } from '@lumino/coreutils';
+import { ISignal, Signal } from '@lumino/signaling';
+
+import type { IFetchedFrame } from '../../bridge/decode';
+import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
+import { newRecordId } from '../../record/ids';
+import type { IPolyadicSettings } from '../../tokens';
+import type { EnginePool, IRunProgress, IRunResult } from '../../worker/pool';
+import type { IColumnPreview } from '../../worker/protocol';
+import { BinningModel } from '../binning/model';
+import { DataModel } from '../data/model';
+import { adequacyOf, EstimatorModel, IAdequacy } from '../estimator/model';
+import type { IAnalysisState, IRunCompleted, IRunStatus, RunState } from './types';
+
+/** What the model needs of the engine pool (an {@link EnginePool} in the panel). */
+export interface IEngineRunner {
+  analyze(columns: ColumnView[], options: IAnalyzeOptions, runOptions: EnginePool.IRunOptions): Promise<IRunResult>;
+  preview(column: ColumnView, spec?: string): Promise<IColumnPreview>;
+  cancel(): void;
+}
+
+/** The state of one analysis in the panel. */
+export class AnalysisModel implements IAnalysisState {
+  /** Create the model over an engine runner. */
+  constructor(options: AnalysisModel.IOptions) {
+    this._engine = options.engine;
+    this._now = options.now ?? (() => globalThis.performance.now());
+    this.data = new DataModel({});
+    this.binning = new BinningModel({
+      preview: (column, spec) => this._engine.preview(column, spec),
+      debounceMs: options.previewDebounceMs
+    });
+    this.estimator = new EstimatorModel();
+    this.data.changed.connect(this._onDataChanged, this);
+    this.data.frameChanged.connect(this._onFrameChanged, this);
+    this.binning.changed.connect(this._onInputsChanged, this);
+    this.estimator.changed.connect(this._onInputsChanged, this);
+  }
+
+  /** The Data section's state. */
+  readonly data: DataModel;
+  /** The Binning section's state. */
+  readonly binning: BinningModel;
+  /** The Estimator and order section's state. */
+  readonly estimator: EstimatorModel;
+
+  /** Fires when anything the sections show changes (inputs, adequacy). */
+  get changed(): ISignal<this, void> {
+    return this._changed;
+  }
+
+  /** The latest completed run, or null. */
+  get latest(): IRunCompleted | null {
+    return this._latest;
+  }
+
+  /** Fires when `latest` changes. */
+  get resultChanged(): ISignal<this, IRunCompleted | null> {
+    return this._resultChanged;
+  }
+
+  /** Fires once per successful run, after `latest` is set. */
+  get runCompleted(): ISignal<this, IRunCompleted> {
+    return this._runCompleted;
+  }
+
+  /** Where the current or last run stands. */
+  get runState(): RunState {
+    return this._run.state;
+  }
+
+  /** The run's state, progress and message. */
+  get run(): IRunStatus {
+    return this._run;
+  }
+
+  /** Fires on every progress report and state change of a run. */
+  get runChanged(): ISignal<this, IRunStatus> {
+    return this._runChanged;
+  }
+
+  /** Whether a run (fetch or engine) is in progress. */
+  get isRunning(): boolean {
+    return this._run.state === 'fetching' || this._run.state === 'running';
+  }
+
+  /** Take the user settings: row cap, estimator, units, order rule, limits, numeric binning. */
+  applySettings(settings: IPolyadicSettings): void {
+    this._settings = settings;
+    this.data.rowCap = settings.rowCap;
+    this.binning.numericDefault = settings.numericBinning;
+    this.estimator.setRule(settings.maxOrderRule, settings.fixedMaxOrder);
+    if (!this._estimatorTouched) {
+      this.estimator.setDefaults(settings.estimator, settings.units);
+      this._estimatorTouched = false;
+    }
+  }
+
+  /** Multiplets the current choices imply. */
+  get multipletCount(): bigint {
+    return this.estimator.multiplets(this.data.selected.length);
+  }
+
+  /** The highest order the current choices imply. */
+  get maxOrder(): number {
+    return this.estimator.effectiveMaxOrder(this.data.selected.length);
+  }
+
+  /** Adequacy of the loaded rows for the largest multiplets, or null while bin counts are unknown. */
+  get adequacy(): IAdequacy | null {
+    const fetched = this.data.fetched;
+    const selected = this.data.selected;
+    if (fetched === null || selected.length === 0) {
+      return null;
+    }
+    const counts = selected.map(name => this.binning.binCount(name));
+    if (counts.some(count => count === null)) {
+      return null;
+    }
+    return adequacyOf(fetched.rows, counts as number[], this.maxOrder);
+  }
+
+  /** Why Run cannot start now, or null. */
+  get blocker(): string | null {
+    if (this.data.bridge === null || this.data.status?.state !== 'ready') {
+      return 'Connect to a notebook whose kernel has polyadic installed.';
+    }
+    if (this.data.frame === null) {
+      return 'Pick a dataframe first.';
+    }
+    if (this.data.load.state !== 'loaded') {
+      return 'Wait until the dataframe has loaded.';
+    }
+    const selected = this.data.selected;
+    if (selected.length === 0) {
+      return 'Select at least one column.';
+    }
+    const bad = selected.find(name => this.binning.problemOf(name) !== null);
+    if (bad !== undefined) {
+      return `The binning of column "${bad}" is not valid.`;
+    }
+    const cap = this._settings?.multipletCap;
+    if (cap !== undefined && this.multipletCount > BigInt(cap)) {
+      return `${this.multipletCount} multiplets exceed the limit of ${cap} in the settings; lower the maximum order.`;
+    }
+    return null;
+  }
+
+  /** The engine options of the current choices. */
+  options(): IAnalyzeOptions {
+    const columns = this.data.selected;
+    const options: IAnalyzeOptions = {
+      columns,
+      binsByColumn: this.binning.specsFor(columns),
+      estimator: this.estimator.estimator,
+      units: this.estimator.units,
+      maxOrder: this.maxOrder
+    };
+    if (this._settings !== null) {
+      options.missing = this._settings.missing;
+      options.maxMultiplets = this._settings.multipletCap;
+    }
+    return options;
+  }
+
+  /**
+   * Run the analysis: fetch the selected columns, run the engine, keep the result, send the
+   * multiplets to the kernel. Resolves when the run has ended, however it ended.
+   */
+  async start(): Promise<void> {
+    const blocker = this.blocker;
+    const bridge = this.data.bridge;
+    const frameName = this.data.frame;
+    if (this.isRunning || blocker !== null || bridge === null || frameName === null) {
+      if (!this.isRunning && blocker !== null) {
+        this._setRun({ state: 'error', progress: null, message: blocker });
+      }
+      return;
+    }
+    const ticket = ++this._ticket;
+    const started = this._now();
+    const options = this.options();
+    const listed = this.data.frameInfo;
+    this._setRun({ state: 'fetching', progress: null, message: null });
+    try {
+      const fetched: IFetchedFrame = await bridge.fetch(frameName, options.columns ?? [], {
+        rowCap: this._settings?.rowCap,
+        onProgress: progress => {
+          if (ticket === this._ticket && progress.bytesTotal > 0) {
+            this._fetchFraction = progress.bytesReceived / progress.bytesTotal;
+            this._setRun({ state: 'fetching', progress: null, message: null });
+          }
+        }
+      });
+      if (ticket !== this._ticket) {
+        return;
+      }
+      this._setRun({ state: 'running', progress: null, message: null });
+      const outcome = await this._engine.analyze(fetched.columns, options, {
+        onProgress: progress => {
+          if (ticket === this._ticket) {
+            this._setRun({ state: 'running', progress, message: null });
+          }
+        }
+      });
+      if (ticket !== this._ticket) {
+        return;
+      }
+      const completed: IRunCompleted = {
+        analysisId: newRecordId(),
+        result: outcome.result,
+        options,
+        frame: {
+          name: fetched.name,
+          listed,
+          fields: fetched.fields,
+          rows: fetched.rows,
+          originalRows: fetched.originalRows,
+          sampled: fetched.sampled,
+          seed: fetched.seed,
+          bytes: fetched.bytes
+        },
+        finished: new Date().toISOString(),
+        elapsedMs: this._now() - started,
+        workers: outcome.workers
+      };
+      this._latest = completed;
+      this._setRun({ state: 'done', progress: null, message: null });
+      this._resultChanged.emit(completed);
+      this._runCompleted.emit(completed);
+      void this._sendToKernel(completed);
+    } catch (error) {
+      if (ticket !== this._ticket) {
+        return;
+      }
+      const cancelled = (error as { kind?: unknown } | null)?.kind === 'cancelled';
+      this._setRun({
+        state: cancelled ? 'cancelled' : 'error',
+        progress: null,
+        message: error instanceof Error ? error.message : String(error)
+      });
+    }
+  }
+
+  /** Cancel the run in progress: the engine's workers stop at once; a fetch is abandoned. */
+  cancel(): void {
+    if (!this.isRunning) {
+      return;
+    }
+    this._ticket++;
+    this._engine.cancel();
+    this._setRun({ state: 'cancelled', progress: null, message: 'The analysis was cancelled.' });
+  }
+
+  /** Fraction of the fetch of the current run received, 0 … 1. */
+  get fetchFraction(): number {
+    return this._fetchFraction;
+  }
+
+  /** What went wrong sending the latest result to the kernel, or null. */
+  get kernelMessage(): string | null {
+    return this._kernelMessage;
+  }
+
+  /** Whether the model has been disposed. */
+  get isDisposed(): boolean {
+    return this._isDisposed;
+  }
+
+  /** Cancel any run and dispose the section models. */
+  dispose(): void {
+    if (this._isDisposed) {
+      return;
+    }
+    this.cancel();
+    this._isDisposed = true;
+    this.data.dispose();
+    this.binning.dispose();
+    this.estimator.dispose();
+    Signal.clearData(this);
+  }
+
+  private async _sendToKernel(completed: IRunCompleted): Promise<void> {
+    const bridge = this.data.bridge;
+    if (bridge === null) {
+      return;
+    }
+    const meta: JSONObject = {
+      frame: completed.frame.name,
+      units: completed.result.units,
+      estimator: completed.result.estimator,
+      max_order: completed.result.max_order
+    };
+    try {
+      await bridge.sendResults(completed.analysisId, completed.result.multiplets, { meta });
+      this._kernelMessage = null;
+    } catch (error) {
+      this._kernelMessage = `The results could not be sent to the kernel: ${error instanceof Error ? error.message : String(error)}`;
+    }
+    this._changed.emit();
+  }
+
+  private _setRun(status: IRunStatus): void {
+    if (status.state !== 'fetching') {
+      this._fetchFraction = status.state === 'running' || status.state === 'done' ? 1 : 0;
+    }
+    this._run = status;
+    this._runChanged.emit(status);
+  }
+
+  private _onDataChanged(): void {
+    const fetched = this.data.fetched;
+    if (fetched !== this._binned) {
+      // The picked frame's rows arrived (or went): the binning section follows its columns.
+      this._binned = fetched;
+      this.binning.setColumns(fetched?.columns ?? []);
+    }
+    this.binning.requestBinCounts(this.data.selected);
+    this._changed.emit();
+  }
+
+  private _onFrameChanged(): void {
+    if (this.isRunning) {
+      this.cancel();
+    }
+    // A new frame: the previous result no longer belongs to what the sections show.
+    if (this._latest !== null) {
+      this._latest = null;
+      this._resultChanged.emit(null);
+    }
+    if (this._run.state !== 'idle') {
+      this._setRun({ state: 'idle', progress: null, message: null });
+    }
+  }
+
+  private _onInputsChanged(sender: unknown): void {
+    if (sender === this.estimator) {
+      this._estimatorTouched = true;
+    }
+    this._changed.emit();
+  }
+
+  private _engine: IEngineRunner;
+  private _now: () => number;
+  private _settings: IPolyadicSettings | null = null;
+  private _binned: IFetchedFrame | null = null;
+  private _estimatorTouched = false;
+  private _latest: IRunCompleted | null = null;
+  private _run: IRunStatus = { state: 'idle', progress: null, message: null };
+  private _fetchFraction = 0;
+  private _kernelMessage: string | null = null;
+  private _ticket = 0;
+  private _isDisposed = false;
+  private _changed = new Signal<this, void>(this);
+  private _resultChanged = new Signal<this, IRunCompleted | null>(this);
+  private _runCompleted = new Signal<this, IRunCompleted>(this);
+  private _runChanged = new Signal<this, IRunStatus>(this);
+}
+
+/** The statics of {@link AnalysisModel}. */
+export namespace AnalysisModel {
+  /** Options of an {@link AnalysisModel}. */
+  export interface IOptions {
+    /** Runs analyses and previews (the engine pool). */
+    engine: IEngineRunner;
+    /** Debounce of binning previews in ms. */
+    previewDebounceMs?: number;
+    /** Clock in ms; tests inject one. */
+    now?: () => number;
+  }
+}
+
+/** Progress type re-exported for the run view. */
+export type { IRunProgress };

@@ -1,0 +1,276 @@
+/**
+ * The Data section's state: the bridge of the followed notebook, its listing of dataframes,
+ * the picked frame, its columns with their checklist facts, and which columns are selected.
+ * Picking a frame fetches its columns once (capped at the settings' row cap) for the facts
+ * and the binning previews; a run fetches the selected columns again, so it reads the frame
+ * as it is when Run is pressed.
+ */
+import { ISignal, Signal } from '@lumino/signaling';
+
+import type { IBridgeStatus, IListing, KernelBridge } from '../../bridge/connector';
+import type { IFetchedFrame, IFetchProgress } from '../../bridge/decode';
+import { isBridgeError } from '../../bridge/errors';
+import type { ColumnKind, IFrameInfo } from '../../bridge/protocol';
+import type { ColumnView } from '../../engine/types';
+import { columnStats, IColumnStats } from './stats';
+
+/** One row of the column checklist. */
+export interface IColumnEntry {
+  name: string;
+  /** The source library's type name. */
+  dtype: string;
+  kind: ColumnKind;
+  /** Facts from the fetched rows; null until fetched, or for a column that cannot be fetched. */
+  stats: IColumnStats | null;
+  /** The fetched rows of the column, for previews. */
+  view: ColumnView | null;
+}
+
+/** Where loading the picked frame stands. */
+export interface ILoadState {
+  state: 'idle' | 'loading' | 'loaded' | 'error';
+  /** Fraction of the fetch received, 0 … 1, while loading. */
+  fraction: number;
+  /** What went wrong, plain text. */
+  message: string | null;
+}
+
+/** State of the Data section. */
+export class DataModel {
+  /** Create the model; `rowCap` gives the largest number of rows to fetch. */
+  constructor(options: DataModel.IOptions) {
+    this._rowCap = options.rowCap;
+  }
+
+  /** Fires on any change of the bridge status, listing, frame, columns or selection. */
+  get changed(): ISignal<this, void> {
+    return this._changed;
+  }
+
+  /** Fires when another frame is picked (or the picked frame is gone). */
+  get frameChanged(): ISignal<this, string | null> {
+    return this._frameChanged;
+  }
+
+  /** The bridge of the followed notebook, or null without a notebook. */
+  get bridge(): KernelBridge | null {
+    return this._bridge;
+  }
+  set bridge(bridge: KernelBridge | null) {
+    if (bridge === this._bridge) {
+      return;
+    }
+    if (this._bridge !== null && !this._bridge.isDisposed) {
+      this._bridge.statusChanged.disconnect(this._onStatus, this);
+      this._bridge.framesChanged.disconnect(this._onFrames, this);
+    }
+    this._bridge = bridge;
+    if (bridge !== null) {
+      bridge.statusChanged.connect(this._onStatus, this);
+      bridge.framesChanged.connect(this._onFrames, this);
+    }
+    this._pick(null);
+    this._changed.emit();
+  }
+
+  /** The bridge's status, or null without a notebook. */
+  get status(): IBridgeStatus | null {
+    return this._bridge?.status ?? null;
+  }
+
+  /** The frames of the latest listing. */
+  get frames(): readonly IFrameInfo[] {
+    return this._bridge?.listing?.frames ?? [];
+  }
+
+  /** The picked frame's name, or null. */
+  get frame(): string | null {
+    return this._frame;
+  }
+
+  /** The picked frame's listing entry, or null. */
+  get frameInfo(): IFrameInfo | null {
+    return this.frames.find(frame => frame.name === this._frame) ?? null;
+  }
+
+  /** The picked frame's columns, in frame order. */
+  get columns(): readonly IColumnEntry[] {
+    return this._columns;
+  }
+
+  /** The loaded rows of the picked frame (the checklist's fetch). */
+  get fetched(): IFetchedFrame | null {
+    return this._fetched;
+  }
+
+  /** Loading state of the picked frame. */
+  get load(): ILoadState {
+    return this._load;
+  }
+
+  /** Selected column names, in frame order. */
+  get selected(): string[] {
+    return this._columns.filter(column => this._selected.has(column.name)).map(column => column.name);
+  }
+
+  /** Whether a column is selected. */
+  isSelected(name: string): boolean {
+    return this._selected.has(name);
+  }
+
+  /** Select or deselect a column. */
+  setSelected(name: string, selected: boolean): void {
+    const column = this._columns.find(entry => entry.name === name);
+    if (column === undefined || column.view === null || this._selected.has(name) === selected) {
+      return;
+    }
+    if (selected) {
+      this._selected.add(name);
+    } else {
+      this._selected.delete(name);
+    }
+    this._changed.emit();
+  }
+
+  /** Largest number of rows to fetch. */
+  get rowCap(): number | undefined {
+    return this._rowCap;
+  }
+  set rowCap(value: number | undefined) {
+    this._rowCap = value;
+  }
+
+  /** Pick a frame (null: none) and load its columns. */
+  pick(name: string | null): Promise<void> {
+    return this._pick(name);
+  }
+
+  /** Ask the bridge to connect again (the "Try again" button). */
+  reconnect(): void {
+    void this._bridge?.reconnect();
+  }
+
+  /** Whether the model has been disposed. */
+  get isDisposed(): boolean {
+    return this._isDisposed;
+  }
+
+  /** Stop listening to the bridge. */
+  dispose(): void {
+    if (this._isDisposed) {
+      return;
+    }
+    this._isDisposed = true;
+    this.bridge = null;
+    Signal.clearData(this);
+  }
+
+  private async _pick(name: string | null): Promise<void> {
+    const ticket = ++this._ticket;
+    const changedFrame = name !== this._frame;
+    this._frame = name;
+    this._fetched = null;
+    const info = this.frameInfo;
+    const previous = new Set(this._selected);
+    this._selected.clear();
+    this._columns = (info?.columns ?? []).map(column => ({ ...column, stats: null, view: null }));
+    this._load = { state: name === null ? 'idle' : 'loading', fraction: 0, message: null };
+    if (changedFrame) {
+      this._frameChanged.emit(name);
+    }
+    this._changed.emit();
+    const bridge = this._bridge;
+    if (name === null || info === null || bridge === null) {
+      return;
+    }
+    const fetchable = info.columns.filter(column => column.kind !== 'other').map(column => column.name);
+    try {
+      const fetched = await bridge.fetch(name, fetchable, {
+        rowCap: this._rowCap,
+        onProgress: progress => {
+          if (ticket === this._ticket) {
+            this._load = { ...this._load, fraction: Private.fraction(progress) };
+            this._changed.emit();
+          }
+        }
+      });
+      if (ticket !== this._ticket) {
+        return;
+      }
+      this._fetched = fetched;
+      const views = new Map(fetched.columns.map(view => [view.name, view]));
+      for (const column of this._columns) {
+        column.view = views.get(column.name) ?? null;
+        // One column at a time, yielding between them, so a wide frame keeps the page responsive.
+        column.stats = column.view === null ? null : columnStats(column.view);
+        await Private.yieldToPage();
+        if (ticket !== this._ticket) {
+          return;
+        }
+      }
+      for (const column of this._columns) {
+        const keep = changedFrame ? column.stats !== null && column.stats.warnings.length === 0 : previous.has(column.name);
+        if (keep && column.view !== null) {
+          this._selected.add(column.name);
+        }
+      }
+      this._load = { state: 'loaded', fraction: 1, message: null };
+    } catch (error) {
+      if (ticket !== this._ticket) {
+        return;
+      }
+      const message = isBridgeError(error) || error instanceof Error ? error.message : String(error);
+      this._load = { state: 'error', fraction: 0, message };
+    }
+    this._changed.emit();
+  }
+
+  private _onStatus(): void {
+    this._changed.emit();
+  }
+
+  private _onFrames(_: unknown, listing: IListing | null): void {
+    const frames = listing?.frames ?? [];
+    if (this._frame !== null && !frames.some(frame => frame.name === this._frame)) {
+      void this._pick(null);
+    } else if (this._frame === null && frames.length === 1) {
+      // One frame only: there is nothing to choose, so take it.
+      void this._pick(frames[0].name);
+      return;
+    }
+    this._changed.emit();
+  }
+
+  private _bridge: KernelBridge | null = null;
+  private _frame: string | null = null;
+  private _columns: IColumnEntry[] = [];
+  private _selected = new Set<string>();
+  private _fetched: IFetchedFrame | null = null;
+  private _load: ILoadState = { state: 'idle', fraction: 0, message: null };
+  private _rowCap: number | undefined;
+  private _ticket = 0;
+  private _isDisposed = false;
+  private _changed = new Signal<this, void>(this);
+  private _frameChanged = new Signal<this, string | null>(this);
+}
+
+/** The statics of {@link DataModel}. */
+export namespace DataModel {
+  /** Options of a {@link DataModel}. */
+  export interface IOptions {
+    /** Largest number of rows to fetch; default the kernel's. */
+    rowCap?: number;
+  }
+}
+
+namespace Private {
+  /** Fraction of a fetch received. */
+  export function fraction(progress: IFetchProgress): number {
+    return progress.bytesTotal > 0 ? Math.min(1, progress.bytesReceived / progress.bytesTotal) : 0;
+  }
+
+  /** Let the page handle input before the next piece of work. */
+  export function yieldToPage(): Promise<void> {
+    return new Promise(resolve => setTimeout(resolve, 0));
+  }
+}

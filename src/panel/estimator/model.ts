@@ -1,0 +1,149 @@
+/**
+ * The Estimator and order section's state: the entropy estimator, the units, the highest
+ * order, and what they imply for the selected columns: the number of multiplets and the
+ * adequacy of the data for the largest multiplets.
+ */
+import { ISignal, Signal } from '@lumino/signaling';
+
+import { ALL_ORDERS_UP_TO, DEFAULT_MAX_ORDER } from '../../engine/analyze';
+import { multipletCount } from '../../engine/multiplets';
+import type { EstimatorName, Units } from '../../engine/types';
+import type { MaxOrderRule } from '../../tokens';
+
+/** The estimators the panel offers, with their labels. */
+export const ESTIMATOR_CHOICES: readonly { value: EstimatorName; label: string }[] = [
+  { value: 'plugin', label: 'Plug-in (maximum likelihood)' },
+  { value: 'miller-madow', label: 'Miller–Madow' },
+  { value: 'chao-shen', label: 'Chao–Shen' },
+  { value: 'shrinkage', label: 'James–Stein shrinkage' }
+];
+
+/** Adequacy below which the panel cautions (rows per possible joint cell; common practice). */
+export const ADEQUACY_CAUTION = 1;
+
+/** Rows per possible joint cell of the largest multiplets, and the cells it was computed from. */
+export interface IAdequacy {
+  /** rows / cells. */
+  value: number;
+  /** Possible joint cells of the multiplet with the most: the product of the largest bin counts. */
+  cells: number;
+  /** The order the cells are counted for. */
+  order: number;
+}
+
+/**
+ * Adequacy (DESIGN.md §3): rows divided by the possible joint cells of the largest multiplets
+ * of order `order`, i.e. the product of the `order` largest bin counts; null without counts.
+ */
+export function adequacyOf(rows: number, binCounts: readonly number[], order: number): IAdequacy | null {
+  if (binCounts.length === 0 || order < 1 || binCounts.some(count => !(count >= 1))) {
+    return null;
+  }
+  const largest = [...binCounts].sort((a, b) => b - a).slice(0, order);
+  const cells = largest.reduce((product, count) => product * count, 1);
+  return { value: rows / cells, cells, order: largest.length };
+}
+
+/** The highest order a rule gives for `columns` selected columns. */
+export function maxOrderByRule(rule: MaxOrderRule, fixed: number, columns: number): number {
+  if (columns < 1) {
+    return 0;
+  }
+  if (rule === 'all') {
+    return columns;
+  }
+  if (rule === 'fixed') {
+    return Math.min(fixed, columns);
+  }
+  // The engine's own default, so the panel and the CLI agree.
+  return columns <= ALL_ORDERS_UP_TO ? columns : Math.min(DEFAULT_MAX_ORDER, columns);
+}
+
+/** State of the Estimator and order section. */
+export class EstimatorModel {
+  /** Fires when a choice changes. */
+  get changed(): ISignal<this, void> {
+    return this._changed;
+  }
+
+  /** The entropy estimator. */
+  get estimator(): EstimatorName {
+    return this._estimator;
+  }
+  set estimator(value: EstimatorName) {
+    this._set(() => (this._estimator = value), value !== this._estimator);
+  }
+
+  /** The units of every information value. */
+  get units(): Units {
+    return this._units;
+  }
+  set units(value: Units) {
+    this._set(() => (this._units = value), value !== this._units);
+  }
+
+  /** The highest order chosen by the user, or null to follow the settings' rule. */
+  get maxOrder(): number | null {
+    return this._maxOrder;
+  }
+  set maxOrder(value: number | null) {
+    this._set(() => (this._maxOrder = value), value !== this._maxOrder);
+  }
+
+  /** How the highest order is chosen when the user has not chosen one. */
+  setRule(rule: MaxOrderRule, fixed: number): void {
+    this._rule = rule;
+    this._fixed = fixed;
+    this._changed.emit();
+  }
+
+  /** Take the settings' estimator and units (before the user changes them). */
+  setDefaults(estimator: EstimatorName, units: Units): void {
+    this._estimator = estimator;
+    this._units = units;
+    this._changed.emit();
+  }
+
+  /** The highest order a run on `columns` selected columns uses. */
+  effectiveMaxOrder(columns: number): number {
+    if (columns < 1) {
+      return 0;
+    }
+    return this._maxOrder === null ? maxOrderByRule(this._rule, this._fixed, columns) : Math.min(this._maxOrder, columns);
+  }
+
+  /** Multiplets of order 1 … max order among `columns` columns. */
+  multiplets(columns: number): bigint {
+    const order = this.effectiveMaxOrder(columns);
+    return order < 1 ? 0n : multipletCount(columns, order);
+  }
+
+  /** Whether the model has been disposed. */
+  get isDisposed(): boolean {
+    return this._isDisposed;
+  }
+
+  /** Disconnect the listeners. */
+  dispose(): void {
+    if (this._isDisposed) {
+      return;
+    }
+    this._isDisposed = true;
+    Signal.clearData(this);
+  }
+
+  private _set(apply: () => void, changed: boolean): void {
+    if (changed) {
+      apply();
+      this._changed.emit();
+    }
+  }
+
+  private _estimator: EstimatorName = 'plugin';
+  private _units: Units = 'bits';
+  private _maxOrder: number | null = null;
+  private _rule: MaxOrderRule = 'auto';
+  private _fixed = DEFAULT_MAX_ORDER;
+  private _isDisposed = false;
+  private _changed = new Signal<this, void>(this);
+}
