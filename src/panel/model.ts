@@ -2,6 +2,7 @@
  * The model of the whole Polyadic panel: one sub-model per section.
  */
 import { DefaultsModel } from './defaults/model';
+import { RecordsModel } from './records/model';
 import { SourceModel } from './source/model';
 
 /** State of the Polyadic side panel. */
@@ -11,6 +12,9 @@ export class PanelModel {
 
   /** The user settings new analyses start from (defaults section). */
   readonly defaults = new DefaultsModel();
+
+  /** The analyses recorded in the followed notebook (records section). */
+  readonly records = new RecordsModel();
 
   /** Whether the model has been disposed. */
   get isDisposed(): boolean {
@@ -25,6 +29,7 @@ export class PanelModel {
     this._isDisposed = true;
     this.source.dispose();
     this.defaults.dispose();
+    this.records.dispose();
   }
 
   private _isDisposed = false;

@@ -9,6 +9,7 @@ import { polyadicIcon } from '../icons';
 import { DefaultsView } from './defaults/view';
 import { textElement } from './dom';
 import { PanelModel } from './model';
+import { RecordsView } from './records/view';
 import { SourceView } from './source/view';
 
 /** The right-sidebar panel of Polyadic. */
@@ -34,6 +35,9 @@ export class PolyadicPanel extends SidePanel {
     this.addWidget(
       new DefaultsView({ model: this.model.defaults, onOpenSettings: options.onOpenSettings })
     );
+    this.addWidget(
+      new RecordsView({ model: this.model.records, onInsertCell: options.onInsertAnalysisCell })
+    );
   }
 
   /** The state the panel shows. */
@@ -53,5 +57,7 @@ export namespace PolyadicPanel {
     onNewNotebook?: () => void;
     /** Opens the Settings Editor on Polyadic's settings. */
     onOpenSettings?: () => void;
+    /** Inserts a decomposition cell for a recorded analysis (records section). */
+    onInsertAnalysisCell?: (id: string) => void;
   }
 }
