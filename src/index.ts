@@ -11,9 +11,11 @@ import { ICommandPalette } from '@jupyterlab/apputils';
 import { INotebookTracker } from '@jupyterlab/notebook';
 import { ISettingRegistry } from '@jupyterlab/settingregistry';
 
+import { INSERT_ANALYSIS_CELL, setupAnalysisCells } from './cells/command';
 import { polyadicIcon } from './icons';
 import { followNotebooks, followSettings, PanelModel, PolyadicPanel } from './panel';
-import { CommandIDs, IPolyadicPanel, PALETTE_CATEGORY, PLUGIN_ID } from './tokens';
+import { followRecords } from './panel/records/tracker';
+import { CommandIDs, EXTENSION_ID, IPolyadicPanel, PALETTE_CATEGORY, PLUGIN_ID } from './tokens';
 
 /** Commands of other JupyterLab plugins that the panel offers as buttons. */
 namespace ExternalCommands {
@@ -45,7 +47,8 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
         notebooks !== null
           ? () => void commands.execute(ExternalCommands.newNotebook)
           : undefined,
-      onOpenSettings: () => void commands.execute(ExternalCommands.openSettings, { query: 'Polyadic' })
+      onOpenSettings: () => void commands.execute(ExternalCommands.openSettings, { query: 'Polyadic' }),
+      onInsertAnalysisCell: id => void commands.execute(INSERT_ANALYSIS_CELL, { id })
     });
     panel.disposed.connect(() => model.dispose());
 
@@ -74,4 +77,29 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
   }
 };
 
-export default [panelPlugin];
+/** The notebook's record in the panel's records section, and decomposition cells. */
+const recordsPlugin: JupyterFrontEndPlugin<void> = {
+  id: `${EXTENSION_ID}:records`,
+  description: 'Records of analyses in notebook metadata, and cells that show a recorded analysis.',
+  autoStart: true,
+  requires: [IPolyadicPanel, INotebookTracker],
+  optional: [ICommandPalette],
+  activate: (
+    app: JupyterFrontEnd,
+    panel: IPolyadicPanel,
+    notebooks: INotebookTracker,
+    palette: ICommandPalette | null
+  ): void => {
+    const records = panel.model.records;
+    const follower = followRecords(notebooks, records);
+    const cells = setupAnalysisCells({ commands: app.commands, notebooks, chosenId: () => records.selectedId });
+    records.changed.connect(() => app.commands.notifyCommandChanged(INSERT_ANALYSIS_CELL));
+    palette?.addItem({ command: INSERT_ANALYSIS_CELL, category: PALETTE_CATEGORY });
+    panel.widget.disposed.connect(() => {
+      follower.dispose();
+      cells.dispose();
+    });
+  }
+};
+
+export default [panelPlugin, recordsPlugin];
