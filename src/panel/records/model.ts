@@ -110,7 +110,12 @@ export class RecordsModel {
 
   /** The data check of the chosen analysis, or `null` when none was made. */
   get dataCheck(): IDataCheck | null {
-    return this._dataCheck;
+    return this._selectedId === null ? null : this.dataCheckOf(this._selectedId);
+  }
+
+  /** The latest data check of an analysis, or `null` when none was made since the notebook was opened. */
+  dataCheckOf(id: string): IDataCheck | null {
+    return this._checks.get(id) ?? null;
   }
 
   /** The message of the last action that failed, or `null`. */
@@ -125,7 +130,7 @@ export class RecordsModel {
     }
     this._notebook = notebook;
     this._selectedId = null;
-    this._dataCheck = null;
+    this._checks.clear();
     this._error = null;
     this.refresh();
   }
@@ -135,7 +140,6 @@ export class RecordsModel {
     this._state = this._notebook === null ? null : readRecords(this._notebook.metadata);
     if (this._selectedId !== null && this.selected === null) {
       this._selectedId = null;
-      this._dataCheck = null;
     }
     this._changed.emit();
   }
@@ -146,7 +150,6 @@ export class RecordsModel {
       return;
     }
     this._selectedId = id !== null && this._state !== null && findAnalysis(this._state, id) ? id : null;
-    this._dataCheck = null;
     this._changed.emit();
   }
 
@@ -197,7 +200,6 @@ export class RecordsModel {
       return this._fail(`The run was not recorded: ${Private.messageOf(error)}`);
     }
     this._selectedId = analysis.id;
-    this._dataCheck = { id: analysis.id, status: 'same', message: 'The data is the data this analysis read.', comparison: null };
     this._error = null;
     this._changed.emit();
     return analysis;
@@ -240,11 +242,12 @@ export class RecordsModel {
     if (analysis === null || frame.name !== analysis.source.frame) {
       return null;
     }
+    const notebook = this._notebook;
     const check = await Private.check(analysis, frame);
-    if (this.selected !== analysis) {
+    if (this._notebook !== notebook) {
       return null;
     }
-    this._dataCheck = check;
+    this._checks.set(analysis.id, check);
     this._changed.emit();
     return check;
   }
@@ -276,7 +279,6 @@ export class RecordsModel {
     }
     if (this._selectedId !== null && this.selected === null) {
       this._selectedId = null;
-      this._dataCheck = null;
     }
     this._error = null;
     this._changed.emit();
@@ -292,7 +294,7 @@ export class RecordsModel {
   private _notebook: IRecordsNotebook | null = null;
   private _state: IRecordState | null = null;
   private _selectedId: string | null = null;
-  private _dataCheck: IDataCheck | null = null;
+  private _checks = new Map<string, IDataCheck>();
   private _error: string | null = null;
   private _isDisposed = false;
   private _changed = new Signal<this, void>(this);

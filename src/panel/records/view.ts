@@ -92,17 +92,17 @@ export class RecordsView extends Widget {
       )
     );
 
+    const check = model.dataCheckOf(analysis.id);
+    if (check !== null && check.status !== 'same') {
+      const banner = textElement(
+        'p',
+        `pd-Records-banner ${check.status === 'changed' ? 'jp-mod-warning' : 'jp-mod-info'}`,
+        check.message
+      );
+      banner.setAttribute('role', 'status');
+      item.append(banner);
+    }
     if (chosen) {
-      const check = model.dataCheck;
-      if (check !== null && check.id === analysis.id && check.status !== 'same') {
-        const banner = textElement(
-          'p',
-          `pd-Records-banner ${check.status === 'changed' ? 'jp-mod-warning' : 'jp-mod-info'}`,
-          check.message
-        );
-        banner.setAttribute('role', 'status');
-        item.append(banner);
-      }
       if (this._renaming === analysis.id) {
         item.append(this._renameForm(analysis));
       } else if (this._confirmingDelete === analysis.id) {
