@@ -1,0 +1,387 @@
+/**
+ * Model of the Results section: the multiplet store of the latest analysis, the order
+ * histograms of co-information, the synergy and redundancy tables, the histogram bar that
+ * filters them, and the conditioning chain of a selected multiplet. Views read numbers from
+ * here and never derive them.
+ */
+import { ISignal, Signal } from '@lumino/signaling';
+
+import { binIndexByEdges } from '../../engine/binning';
+import { fromNats } from '../../engine/estimators';
+import type { ILattice } from '../../engine/lattice';
+import { chainAlong, extremalChains } from '../../engine/measures';
+import type { IEntropySource } from '../../engine/measures';
+import { createIndexing, indexOfColumns } from '../../engine/multiplets';
+import type { IAnalysisResult } from '../../engine/types';
+import { orderHistogram } from '../../record/summary';
+import { MultipletStore } from './store';
+import { MultipletTable } from './table';
+
+/** Where a result came from, as far as the Results section shows it. */
+export interface IResultsContext {
+  /** Name of the data frame analysed. */
+  frame?: string;
+  /**
+   * Entropies from the binned codes, when the caller still has them; without it, chains are
+   * computed from the result's own joint entropies, which needs the full result (no top-N cut).
+   */
+  source?: IEntropySource;
+}
+
+/** One order histogram of co-information, with which rows fall in which bar. */
+export interface IResultsHistogram {
+  order: number;
+  /** Bar edges (numpy.histogram's rule; see orderHistogram). */
+  edges: number[];
+  /** Multiplets per bar. */
+  counts: number[];
+  /** Number of multiplets of this order. */
+  total: number;
+}
+
+/** The histogram bar that filters the tables. */
+export interface IBarSelection {
+  order: number;
+  bar: number;
+  /** Lower and upper edge of the bar. */
+  low: number;
+  high: number;
+  count: number;
+}
+
+/** A conditioning chain on show, in the result's units. */
+export interface IChainView {
+  /** What the chain follows: a table row, or a greedy chain over all columns. */
+  kind: 'multiplet' | 'synergy' | 'redundancy';
+  /** Column names in chain order. */
+  columns: string[];
+  /** I(X1), I(X1;X2), … */
+  values: number[];
+  /** Change at each step after the first (minus a conditional co-information). */
+  steps: number[];
+}
+
+/** State of the Results section. */
+export class ResultsModel {
+  /** Create an empty model. */
+  constructor(options: ResultsModel.IOptions = {}) {
+    this.synergy = new MultipletTable({ side: 'synergy', pageSize: options.pageSize });
+    this.redundancy = new MultipletTable({ side: 'redundancy', pageSize: options.pageSize });
+  }
+
+  /** The synergy table (most negative co-information first). */
+  readonly synergy: MultipletTable;
+
+  /** The redundancy table (most positive co-information first). */
+  readonly redundancy: MultipletTable;
+
+  /** Emitted when the result, the bar selection or the chain changes (tables have their own signals). */
+  get changed(): ISignal<this, void> {
+    return this._changed;
+  }
+
+  /** The result on show, or null. */
+  get result(): IAnalysisResult | null {
+    return this._result;
+  }
+
+  /** The context the result came with. */
+  get context(): IResultsContext {
+    return this._context;
+  }
+
+  /** The multiplet store, or null. */
+  get store(): MultipletStore | null {
+    return this._store;
+  }
+
+  /** Order histograms for orders 2 … max order. */
+  get histograms(): readonly IResultsHistogram[] {
+    return this._histograms;
+  }
+
+  /** Whether the result holds every multiplet (false when it was cut to its top multiplets). */
+  get complete(): boolean {
+    return this._result !== null && this._result.multiplets.length === this._result.multiplet_count;
+  }
+
+  /** Multiplets of order ≥ 2 whose adequacy is below 1. */
+  get inadequateCount(): number {
+    return this._inadequate;
+  }
+
+  /** Number of multiplets of order ≥ 2 listed. */
+  get multipletCount(): number {
+    return this._higher;
+  }
+
+  /** The bar filtering the tables, or null. */
+  get bar(): IBarSelection | null {
+    return this._bar;
+  }
+
+  /** The chain on show, or null. */
+  get chain(): IChainView | null {
+    return this._chain;
+  }
+
+  /** Why no chain could be computed, or null. */
+  get chainError(): string | null {
+    return this._chainError;
+  }
+
+  /** Store index of the multiplet whose chain is on show, or -1. */
+  get selected(): number {
+    return this._selected;
+  }
+
+  /** Show a new result; filters, bar and chain start afresh. */
+  setResult(result: IAnalysisResult, context: IResultsContext = {}): void {
+    const store = new MultipletStore(result);
+    this._result = result;
+    this._context = context;
+    this._store = store;
+    this._source = context.source ?? null;
+    this._histograms = [];
+    this._barOf = new Int16Array(store.size).fill(-1);
+    this._bar = null;
+    this._chain = null;
+    this._chainError = null;
+    this._selected = -1;
+    const byOrder = new Map<number, number[]>();
+    let inadequate = 0;
+    let higher = 0;
+    for (let i = 0; i < store.size; i++) {
+      const k = store.order[i];
+      if (k < 2) {
+        continue;
+      }
+      higher++;
+      if (store.adequacy[i] < 1) {
+        inadequate++;
+      }
+      let list = byOrder.get(k);
+      if (!list) {
+        list = [];
+        byOrder.set(k, list);
+      }
+      list.push(i);
+    }
+    this._inadequate = inadequate;
+    this._higher = higher;
+    for (const k of [...byOrder.keys()].sort((a, b) => a - b)) {
+      const members = byOrder.get(k)!;
+      const values = Float64Array.from(members, i => store.coinformation[i]);
+      const histogram = orderHistogram(k, values);
+      for (const i of members) {
+        this._barOf[i] = binIndexByEdges(histogram.edges, store.coinformation[i]);
+      }
+      this._histograms.push({ ...histogram, total: members.length });
+    }
+    this.synergy.setStore(store);
+    this.redundancy.setStore(store);
+    this._changed.emit();
+  }
+
+  /** Forget the result. */
+  clear(): void {
+    this._result = null;
+    this._store = null;
+    this._source = null;
+    this._context = {};
+    this._histograms = [];
+    this._bar = null;
+    this._chain = null;
+    this._chainError = null;
+    this._selected = -1;
+    this.synergy.setStore(null);
+    this.redundancy.setStore(null);
+    this._changed.emit();
+  }
+
+  /** Filter both tables to the multiplets of one histogram bar; null clears it. */
+  selectBar(order: number | null, bar = 0): void {
+    const store = this._store;
+    const histogram = this._histograms.find(h => h.order === order);
+    if (!store || !histogram || order === null || bar < 0 || bar >= histogram.counts.length) {
+      this._bar = null;
+      this.synergy.setFilter({ mask: null });
+      this.redundancy.setFilter({ mask: null });
+      this._changed.emit();
+      return;
+    }
+    const mask = new Uint8Array(store.size);
+    for (let i = 0; i < store.size; i++) {
+      mask[i] = store.order[i] === order && this._barOf[i] === bar ? 1 : 0;
+    }
+    this._bar = {
+      order,
+      bar,
+      low: histogram.edges[bar],
+      high: histogram.edges[bar + 1],
+      count: histogram.counts[bar]
+    };
+    this.synergy.setFilter({ mask });
+    this.redundancy.setFilter({ mask });
+    this._changed.emit();
+  }
+
+  /** Filter both tables by column name text and order. */
+  setFilter(filter: { column?: string; order?: number | null }): void {
+    this.synergy.setFilter(filter);
+    this.redundancy.setFilter(filter);
+  }
+
+  /**
+   * Show the conditioning chain of store row `index`, along `ordering` (its column names in
+   * the chain's order; default the multiplet's own order).
+   */
+  selectMultiplet(index: number, ordering?: string[]): void {
+    const store = this._store;
+    if (!store || index < 0 || index >= store.size) {
+      this._selected = -1;
+      this._chain = null;
+      this._chainError = null;
+      this._changed.emit();
+      return;
+    }
+    const names = ordering ?? store.namesOf(index);
+    this._selected = index;
+    this._computeChain('multiplet', names);
+  }
+
+  /** Show the chain of the current multiplet with its first column moved to the end. */
+  rotateChain(): void {
+    const chain = this._chain;
+    if (chain && chain.kind === 'multiplet' && chain.columns.length > 1) {
+      this._computeChain('multiplet', [...chain.columns.slice(1), chain.columns[0]]);
+    }
+  }
+
+  /** Show the greedy synergy or redundancy chain over all columns, up to the result's max order. */
+  showExtremalChain(kind: 'synergy' | 'redundancy'): void {
+    const result = this._result;
+    if (!result) {
+      return;
+    }
+    this._selected = -1;
+    const source = this._entropySource();
+    if (typeof source === 'string') {
+      this._chain = null;
+      this._chainError = source;
+    } else {
+      const chains = extremalChains(source, result.max_order);
+      const chain = chains[kind];
+      this._setChain(kind, chain.columns.map(c => result.columns[c].name), chain.values);
+    }
+    this._changed.emit();
+  }
+
+  /** Disconnect every listener and drop the data. */
+  dispose(): void {
+    if (this._isDisposed) {
+      return;
+    }
+    this._isDisposed = true;
+    this.synergy.dispose();
+    this.redundancy.dispose();
+    Signal.clearData(this);
+  }
+
+  /** Whether the model has been disposed. */
+  get isDisposed(): boolean {
+    return this._isDisposed;
+  }
+
+  private _computeChain(kind: IChainView['kind'], names: string[]): void {
+    const result = this._result!;
+    const source = this._entropySource();
+    if (typeof source === 'string') {
+      this._chain = null;
+      this._chainError = source;
+    } else {
+      const indexOf = new Map(result.columns.map((column, i) => [column.name, i]));
+      const order = names.map(name => indexOf.get(name)!);
+      const chain = chainAlong(source, order);
+      this._setChain(kind, names, chain.values);
+    }
+    this._changed.emit();
+  }
+
+  private _setChain(kind: IChainView['kind'], columns: string[], nats: number[]): void {
+    const units = this._result!.units;
+    const values = nats.map(v => fromNats(v, units));
+    const steps = values.slice(1).map((v, i) => v - values[i]);
+    this._chain = { kind, columns, values, steps };
+    this._chainError = null;
+  }
+
+  /**
+   * The entropies chains are computed from: the caller's source, or a lattice rebuilt from the
+   * result's joint entropies (every multiplet up to the max order is listed, so every prefix of
+   * a chain of at most that order is there). A message when neither is possible.
+   */
+  private _entropySource(): IEntropySource | string {
+    if (this._source) {
+      return this._source;
+    }
+    const result = this._result!;
+    if (!this.complete) {
+      return (
+        'Conditioning chains need every multiplet of the analysis; this result keeps only its ' +
+        'strongest ones. Run again without a top-N limit to see chains.'
+      );
+    }
+    const n = result.columns.length;
+    const indexing = createIndexing(n, Math.min(result.max_order, n));
+    const entropy = new Float64Array(indexing.size);
+    const toNats = result.units === 'bits' ? Math.LN2 : 1;
+    const indexOf = new Map(result.columns.map((column, i) => [column.name, i]));
+    for (const row of result.multiplets) {
+      const index = indexOfColumns(
+        indexing,
+        row.columns.map(name => indexOf.get(name)!)
+      );
+      entropy[index] = row.entropy * toNats;
+    }
+    const lattice: ILattice = {
+      indexing,
+      estimator: result.estimator,
+      rows: result.rows_used,
+      bins: result.columns.map(column => column.bins),
+      entropy,
+      occupied: new Int32Array(indexing.size)
+    };
+    this._source = {
+      codes: result.columns.map(() => new Int32Array(0)),
+      bins: lattice.bins,
+      estimator: result.estimator,
+      lattice
+    };
+    return this._source;
+  }
+
+  private _result: IAnalysisResult | null = null;
+  private _context: IResultsContext = {};
+  private _store: MultipletStore | null = null;
+  private _source: IEntropySource | null = null;
+  private _histograms: IResultsHistogram[] = [];
+  private _barOf = new Int16Array(0);
+  private _bar: IBarSelection | null = null;
+  private _chain: IChainView | null = null;
+  private _chainError: string | null = null;
+  private _selected = -1;
+  private _inadequate = 0;
+  private _higher = 0;
+  private _isDisposed = false;
+  private readonly _changed = new Signal<this, void>(this);
+}
+
+/** The statics of {@link ResultsModel}. */
+export namespace ResultsModel {
+  /** Options of a {@link ResultsModel}. */
+  export interface IOptions {
+    /** Rows per table page. */
+    pageSize?: number;
+  }
+}

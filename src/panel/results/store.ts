@@ -1,0 +1,114 @@
+/**
+ * The multiplet rows of one analysis result held column-wise in typed arrays, so that the
+ * results tables can sort, filter and page millions of rows through index arrays without
+ * copying row objects.
+ */
+import type { IAnalysisResult, IMultipletRow } from '../../engine/types';
+
+/** A sortable column of the results tables. */
+export type ResultsColumnKey =
+  | 'columns'
+  | 'order'
+  | 'coinformation'
+  | 'o_information'
+  | 'total_correlation'
+  | 'dual_total_correlation'
+  | 'adequacy';
+
+/** The table columns in display order, with their headings. */
+export const RESULTS_COLUMNS: readonly { key: ResultsColumnKey; label: string }[] = [
+  { key: 'columns', label: 'Multiplet' },
+  { key: 'order', label: 'Order' },
+  { key: 'coinformation', label: 'Co-information' },
+  { key: 'o_information', label: 'O-information' },
+  { key: 'total_correlation', label: 'Total correlation' },
+  { key: 'dual_total_correlation', label: 'Dual total correlation' },
+  { key: 'adequacy', label: 'Adequacy' }
+];
+
+/** Column-wise copy of a result's multiplet rows. */
+export class MultipletStore {
+  /** Build the store of `result`; the row objects are kept by reference, not copied. */
+  constructor(result: IAnalysisResult) {
+    const rows = result.multiplets;
+    const n = rows.length;
+    this.rows = rows;
+    this.columnNames = result.columns.map(column => column.name);
+    this.bins = result.columns.map(column => column.bins);
+    const indexOfName = new Map<string, number>();
+    this.columnNames.forEach((name, i) => indexOfName.set(name, i));
+
+    this.order = new Uint8Array(n);
+    this.coinformation = new Float64Array(n);
+    this.o_information = new Float64Array(n);
+    this.total_correlation = new Float64Array(n);
+    this.dual_total_correlation = new Float64Array(n);
+    this.adequacy = new Float64Array(n);
+    this.memberStart = new Int32Array(n + 1);
+    let memberTotal = 0;
+    for (let i = 0; i < n; i++) {
+      memberTotal += rows[i].columns.length;
+    }
+    this.members = new Int32Array(memberTotal);
+    let position = 0;
+    for (let i = 0; i < n; i++) {
+      const row = rows[i];
+      this.order[i] = row.order;
+      this.coinformation[i] = row.coinformation;
+      this.o_information[i] = row.o_information;
+      this.total_correlation[i] = row.total_correlation;
+      this.dual_total_correlation[i] = row.dual_total_correlation;
+      this.memberStart[i] = position;
+      let cells = 1;
+      for (const name of row.columns) {
+        const column = indexOfName.get(name);
+        if (column === undefined) {
+          throw new Error(`Multiplet ${i + 1} names a column '${name}' that the result does not list.`);
+        }
+        this.members[position++] = column;
+        cells *= this.bins[column];
+      }
+      // Adequacy: rows used per possible joint cell (DESIGN.md §3).
+      this.adequacy[i] = result.rows_used / cells;
+    }
+    this.memberStart[n] = position;
+  }
+
+  /** The rows, as the result lists them. */
+  readonly rows: readonly IMultipletRow[];
+  /** Names of the analysed columns; members index into this. */
+  readonly columnNames: readonly string[];
+  /** Number of codes of each analysed column. */
+  readonly bins: readonly number[];
+  /** Order of each row. */
+  readonly order: Uint8Array;
+  /** Co-information of each row, in the result's units. */
+  readonly coinformation: Float64Array;
+  /** O-information of each row. */
+  readonly o_information: Float64Array;
+  /** Total correlation of each row. */
+  readonly total_correlation: Float64Array;
+  /** Dual total correlation of each row. */
+  readonly dual_total_correlation: Float64Array;
+  /** Rows used per possible joint cell (product of the members' bin counts). */
+  readonly adequacy: Float64Array;
+  /** Row i's members are members[memberStart[i] … memberStart[i + 1] − 1]. */
+  readonly memberStart: Int32Array;
+  /** Column indices of every row's members, row after row. */
+  readonly members: Int32Array;
+
+  /** Number of rows. */
+  get size(): number {
+    return this.rows.length;
+  }
+
+  /** The numeric array behind a sortable column (the multiplet column has none). */
+  numeric(key: Exclude<ResultsColumnKey, 'columns'>): Uint8Array | Float64Array {
+    return this[key];
+  }
+
+  /** The member column names of row `index`, in the result's order. */
+  namesOf(index: number): string[] {
+    return this.rows[index].columns;
+  }
+}
