@@ -14,8 +14,11 @@ import { ISettingRegistry } from '@jupyterlab/settingregistry';
 import { INSERT_ANALYSIS_CELL, setupAnalysisCells } from './cells/command';
 import { polyadicIcon } from './icons';
 import { followNotebooks, followSettings, PanelModel, PolyadicPanel } from './panel';
+import { followAnalysis } from './panel/analysis/tracker';
 import { followRecords } from './panel/records/tracker';
 import { CommandIDs, EXTENSION_ID, IPolyadicPanel, PALETTE_CATEGORY, PLUGIN_ID } from './tokens';
+import { createEngineWorker } from './worker/browser';
+import { EnginePool } from './worker/pool';
 
 /** Commands of other JupyterLab plugins that the panel offers as buttons. */
 namespace ExternalCommands {
@@ -38,7 +41,8 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
     restorer: ILayoutRestorer | null
   ): IPolyadicPanel => {
     const { commands, shell } = app;
-    const model = new PanelModel();
+    const engine = new EnginePool({ createWorker: createEngineWorker });
+    const model = new PanelModel({ engine });
     const panel = new PolyadicPanel({
       model,
       // The notebook tracker and the create-new command come from the same JupyterLab
@@ -50,7 +54,10 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
       onOpenSettings: () => void commands.execute(ExternalCommands.openSettings, { query: 'Polyadic' }),
       onInsertAnalysisCell: id => void commands.execute(INSERT_ANALYSIS_CELL, { id })
     });
-    panel.disposed.connect(() => model.dispose());
+    panel.disposed.connect(() => {
+      model.dispose();
+      engine.dispose();
+    });
 
     shell.add(panel, 'right', { rank: 900 });
     restorer?.add(panel, PolyadicPanel.ID);
@@ -72,6 +79,8 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
     } else {
       model.defaults.fail('This JupyterLab has no settings registry, so no settings can be shown.');
     }
+    const analysisFollower = followAnalysis({ panel, notebooks, defaults: model.defaults, analysis: model.analysis });
+    panel.disposed.connect(() => analysisFollower.dispose());
 
     return { widget: panel, model };
   }

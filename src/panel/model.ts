@@ -1,12 +1,21 @@
 /**
  * The model of the whole Polyadic panel: one sub-model per section.
  */
+import { AnalysisModel, IEngineRunner } from './analysis/model';
 import { DefaultsModel } from './defaults/model';
 import { RecordsModel } from './records/model';
 import { SourceModel } from './source/model';
 
 /** State of the Polyadic side panel. */
 export class PanelModel {
+  /** Create the model; `options.engine` runs the analyses and previews. */
+  constructor(options: PanelModel.IOptions) {
+    this.analysis = new AnalysisModel({ engine: options.engine });
+  }
+
+  /** The analysis being set up and run (dataframe, binning, estimator and run sections). */
+  readonly analysis: AnalysisModel;
+
   /** The notebook the panel follows (data section). */
   readonly source = new SourceModel();
 
@@ -30,7 +39,17 @@ export class PanelModel {
     this.source.dispose();
     this.defaults.dispose();
     this.records.dispose();
+    this.analysis.dispose();
   }
 
   private _isDisposed = false;
+}
+
+/** The statics of {@link PanelModel}. */
+export namespace PanelModel {
+  /** Options of a {@link PanelModel}. */
+  export interface IOptions {
+    /** Runs analyses and binning previews off the main thread (the engine pool). */
+    engine: IEngineRunner;
+  }
 }

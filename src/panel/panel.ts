@@ -6,6 +6,10 @@ import { SidePanel } from '@jupyterlab/ui-components';
 import { Widget } from '@lumino/widgets';
 
 import { polyadicIcon } from '../icons';
+import { BinningView } from './binning/view';
+import { DataView } from './data/view';
+import { EstimatorView } from './estimator/view';
+import { RunView } from './run/view';
 import { DefaultsView } from './defaults/view';
 import { textElement } from './dom';
 import { PanelModel } from './model';
@@ -32,6 +36,11 @@ export class PolyadicPanel extends SidePanel {
     this.addWidget(
       new SourceView({ model: this.model.source, onNewNotebook: options.onNewNotebook })
     );
+    const analysis = this.model.analysis;
+    this.addWidget(new DataView({ model: analysis.data }));
+    this.addWidget(new BinningView({ model: analysis.binning }));
+    this.addWidget(new EstimatorView({ model: analysis }));
+    this.addWidget(new RunView({ model: analysis }));
     this.addWidget(
       new DefaultsView({ model: this.model.defaults, onOpenSettings: options.onOpenSettings })
     );

@@ -224,7 +224,8 @@ export class AnalysisModel implements IAnalysisState {
           originalRows: fetched.originalRows,
           sampled: fetched.sampled,
           seed: fetched.seed,
-          bytes: fetched.bytes
+          bytes: fetched.bytes,
+          columns: fetched.columns
         },
         finished: new Date().toISOString(),
         elapsedMs: this._now() - started,

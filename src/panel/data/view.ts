@@ -1,0 +1,212 @@
+/**
+ * The Data section: the bridge's state as a one-liner, the dataframe picker and the column
+ * checklist (type, distinct and missing counts, warnings). Column names, types and messages
+ * are untrusted text and only ever reach the DOM through `textContent`.
+ */
+import { Widget } from '@lumino/widgets';
+
+import { textElement } from '../dom';
+import { IColumnEntry, DataModel } from './model';
+import { WARNING_TEXT } from './stats';
+
+/** Shows a {@link DataModel}. */
+export class DataView extends Widget {
+  /** Create the section for `options.model`. */
+  constructor(options: DataView.IOptions) {
+    super();
+    this.addClass('pd-Data');
+    this.title.label = 'Dataframe';
+    this._model = options.model;
+    this._status = textElement('div', 'pd-Data-status');
+    this._status.setAttribute('role', 'status');
+    const pickerId = `pd-frame-picker-${Private.nextId()}`;
+    const label = textElement('label', 'pd-Data-label', 'Dataframe');
+    label.htmlFor = pickerId;
+    this._picker = document.createElement('select');
+    this._picker.id = pickerId;
+    this._picker.className = 'pd-Data-picker jp-mod-styled';
+    this._picker.addEventListener('change', () => void this._model.pick(this._picker.value === '' ? null : this._picker.value));
+    this._pickerRow = textElement('div', 'pd-Data-pickerRow');
+    this._pickerRow.append(label, this._picker);
+    this._progress = document.createElement('progress');
+    this._progress.className = 'pd-Data-progress';
+    this._progress.max = 1;
+    this._progress.setAttribute('aria-label', 'Loading the dataframe');
+    this._message = textElement('p', 'pd-Data-message');
+    this._list = textElement('div', 'pd-Data-columns');
+    this.node.append(this._status, this._pickerRow, this._progress, this._message, this._list);
+    this._model.changed.connect(this._render, this);
+    this._render();
+  }
+
+  /** Disconnect from the model and dispose the widget. */
+  dispose(): void {
+    if (this.isDisposed) {
+      return;
+    }
+    this._model.changed.disconnect(this._render, this);
+    super.dispose();
+  }
+
+  private _render(): void {
+    const model = this._model;
+    this._renderStatus();
+    const ready = model.status?.state === 'ready';
+    this._pickerRow.hidden = !ready || model.frames.length === 0;
+    this._renderPicker();
+    const load = model.load;
+    this._progress.hidden = load.state !== 'loading';
+    this._progress.value = load.fraction;
+    if (ready && model.frames.length === 0) {
+      this._message.textContent =
+        'No dataframe in this notebook’s kernel yet. Load a table in a cell, for example ' +
+        'df = pd.read_csv("data.csv"), and it appears here.';
+    } else if (ready && model.frame === null) {
+      this._message.textContent = 'Pick a dataframe to see its columns.';
+    } else if (load.state === 'error') {
+      this._message.textContent = load.message ?? 'The dataframe could not be loaded.';
+    } else if (load.state === 'loading') {
+      this._message.textContent = 'Loading the columns…';
+    } else {
+      this._message.textContent = '';
+    }
+    this._message.hidden = this._message.textContent === '';
+    this._renderColumns();
+  }
+
+  private _renderStatus(): void {
+    const status = this._model.status;
+    const box = this._status;
+    box.replaceChildren();
+    if (status === null) {
+      box.append(textElement('p', 'pd-Data-statusText', 'Open a notebook to analyse one of its dataframes.'));
+      box.dataset.state = 'no-notebook';
+      return;
+    }
+    box.dataset.state = status.state;
+    if (status.state === 'ready') {
+      return;
+    }
+    box.append(textElement('p', 'pd-Data-statusText', status.message));
+    for (const command of status.commands) {
+      const line = textElement('p', 'pd-Data-command');
+      line.append(textElement('code', 'pd-Code', command));
+      box.append(line);
+    }
+    if (status.state === 'error' || status.state === 'missing-package') {
+      const retry = textElement('button', 'pd-Data-retry jp-mod-styled jp-mod-accept', 'Try again');
+      retry.type = 'button';
+      retry.addEventListener('click', () => this._model.reconnect());
+      box.append(retry);
+    }
+  }
+
+  private _renderPicker(): void {
+    const frames = this._model.frames;
+    const key = JSON.stringify(frames.map(frame => [frame.name, frame.rows, frame.columns.length]));
+    if (key !== this._pickerKey) {
+      this._pickerKey = key;
+      const none = textElement('option', '', 'Choose a dataframe…');
+      none.value = '';
+      this._picker.replaceChildren(
+        none,
+        ...frames.map(frame => {
+          const option = textElement(
+            'option',
+            '',
+            `${frame.name} (${frame.rows.toLocaleString('en-US')} rows × ${frame.columns.length} columns, ${frame.kind})`
+          );
+          option.value = frame.name;
+          return option;
+        })
+      );
+    }
+    this._picker.value = this._model.frame ?? '';
+  }
+
+  private _renderColumns(): void {
+    const columns = this._model.columns;
+    const key = JSON.stringify([this._model.frame, columns.map(column => [column.name, column.stats?.distinct ?? null])]);
+    if (key !== this._columnsKey) {
+      this._columnsKey = key;
+      this._boxes.clear();
+      this._list.replaceChildren();
+      if (columns.length > 0) {
+        const table = textElement('table', 'pd-Table pd-Data-table');
+        const head = textElement('tr', '');
+        for (const text of ['Use', 'Column', 'Type', 'Distinct', 'Missing']) {
+          const cell = textElement('th', '', text);
+          cell.scope = 'col';
+          head.append(cell);
+        }
+        table.append(textElement('thead', ''), textElement('tbody', ''));
+        table.tHead!.append(head);
+        columns.forEach(column => table.tBodies[0].append(this._row(column)));
+        this._list.append(table);
+      }
+    }
+    for (const [name, box] of this._boxes) {
+      box.checked = this._model.isSelected(name);
+    }
+  }
+
+  private _row(column: IColumnEntry): HTMLTableRowElement {
+    const row = textElement('tr', 'pd-Data-row');
+    const use = textElement('td', '');
+    const box = document.createElement('input');
+    box.type = 'checkbox';
+    box.setAttribute('aria-label', `Use column ${column.name}`);
+    box.disabled = column.view === null;
+    box.addEventListener('change', () => this._model.setSelected(column.name, box.checked));
+    this._boxes.set(column.name, box);
+    use.append(box);
+    const name = textElement('td', 'pd-Data-name');
+    name.append(textElement('span', 'pd-Data-columnName', column.name));
+    for (const warning of column.stats?.warnings ?? []) {
+      const badge = textElement('span', 'pd-Badge pd-mod-warning', warning);
+      badge.title = WARNING_TEXT[warning];
+      name.append(' ', badge);
+    }
+    if (column.kind === 'other') {
+      const badge = textElement('span', 'pd-Badge pd-mod-warning', 'unsupported type');
+      name.append(' ', badge);
+    }
+    row.append(
+      use,
+      name,
+      textElement('td', 'pd-Data-type', `${column.dtype} (${column.kind})`),
+      textElement('td', 'pd-Number', column.stats === null ? '–' : column.stats.distinct.toLocaleString('en-US')),
+      textElement('td', 'pd-Number', column.stats === null ? '–' : column.stats.missing.toLocaleString('en-US'))
+    );
+    return row;
+  }
+
+  private _model: DataModel;
+  private _status: HTMLElement;
+  private _picker: HTMLSelectElement;
+  private _pickerRow: HTMLElement;
+  private _progress: HTMLProgressElement;
+  private _message: HTMLElement;
+  private _list: HTMLElement;
+  private _boxes = new Map<string, HTMLInputElement>();
+  private _pickerKey = '';
+  private _columnsKey = '';
+}
+
+/** The statics of {@link DataView}. */
+export namespace DataView {
+  /** Options of a {@link DataView}. */
+  export interface IOptions {
+    /** The section's state. */
+    model: DataModel;
+  }
+}
+
+namespace Private {
+  let counter = 0;
+
+  /** A fresh number for element ids (two panels never share one). */
+  export function nextId(): number {
+    return ++counter;
+  }
+}

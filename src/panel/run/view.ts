@@ -1,0 +1,122 @@
+/**
+ * The Run section: Run and Cancel, a progress bar with the fraction done and the time left,
+ * and one line on how the last run ended.
+ */
+import { Widget } from '@lumino/widgets';
+
+import type { AnalysisModel } from '../analysis/model';
+import { textElement } from '../dom';
+
+/** Shows the run state of an {@link AnalysisModel}. */
+export class RunView extends Widget {
+  /** Create the section for `options.model`. */
+  constructor(options: RunView.IOptions) {
+    super();
+    this.addClass('pd-Run');
+    this.title.label = 'Run';
+    this._model = options.model;
+    this._run = textElement('button', 'pd-Run-start jp-mod-styled jp-mod-accept', 'Run');
+    this._run.type = 'button';
+    this._run.addEventListener('click', () => void this._model.start());
+    this._cancel = textElement('button', 'pd-Run-cancel jp-mod-styled jp-mod-reject', 'Cancel');
+    this._cancel.type = 'button';
+    this._cancel.addEventListener('click', () => this._model.cancel());
+    const buttons = textElement('div', 'pd-Run-buttons');
+    buttons.append(this._run, this._cancel);
+    this._bar = document.createElement('progress');
+    this._bar.className = 'pd-Run-progress';
+    this._bar.max = 1;
+    this._bar.setAttribute('aria-label', 'Analysis progress');
+    this._progressText = textElement('p', 'pd-Run-progressText');
+    this._line = textElement('p', 'pd-Run-status');
+    this._line.setAttribute('role', 'status');
+    this._hint = textElement('p', 'pd-Run-hint');
+    this.node.append(buttons, this._bar, this._progressText, this._line, this._hint);
+    this._model.runChanged.connect(this._render, this);
+    this._model.changed.connect(this._render, this);
+    this._render();
+  }
+
+  /** Disconnect from the model and dispose the widget. */
+  dispose(): void {
+    if (this.isDisposed) {
+      return;
+    }
+    this._model.runChanged.disconnect(this._render, this);
+    this._model.changed.disconnect(this._render, this);
+    super.dispose();
+  }
+
+  private _render(): void {
+    const model = this._model;
+    const run = model.run;
+    const running = model.isRunning;
+    const blocker = model.blocker;
+    this._run.disabled = running || blocker !== null;
+    this._cancel.disabled = !running;
+    this.node.dataset.state = run.state;
+    this._bar.hidden = !running;
+    this._progressText.hidden = !running;
+    if (run.state === 'fetching') {
+      this._bar.value = model.fetchFraction;
+      this._progressText.textContent = `Fetching the columns from the kernel… ${Math.round(model.fetchFraction * 100)}%`;
+    } else if (run.state === 'running') {
+      const progress = run.progress;
+      const fraction = progress?.fraction ?? 0;
+      this._bar.value = fraction;
+      const left = progress?.remainingMs ?? null;
+      this._progressText.textContent =
+        `${Math.floor(fraction * 100)}% done` + (left === null ? ', estimating the time left…' : `, about ${Private.duration(left)} left`);
+    }
+    const latest = model.latest;
+    if (run.state === 'done' && latest !== null) {
+      const count = latest.result.multiplet_count;
+      this._line.textContent =
+        `${count.toLocaleString('en-US')} multiplets computed from ${latest.frame.rows.toLocaleString('en-US')} rows of ` +
+        `${latest.frame.name} in ${Private.duration(latest.elapsedMs)}` +
+        (latest.frame.sampled ? ` (a seeded sample of ${latest.frame.originalRows.toLocaleString('en-US')} rows, seed ${latest.frame.seed}).` : '.');
+    } else if (run.state === 'cancelled') {
+      this._line.textContent = 'Cancelled. Nothing was computed; press Run to start again.';
+    } else if (run.state === 'error') {
+      this._line.textContent = run.message ?? 'The analysis failed.';
+    } else if (running) {
+      this._line.textContent = 'Running. The notebook stays usable meanwhile.';
+    } else {
+      this._line.textContent = '';
+    }
+    this._line.classList.toggle('pd-mod-error', run.state === 'error');
+    this._hint.textContent = !running && blocker !== null ? blocker : (model.kernelMessage ?? '');
+    this._hint.hidden = this._hint.textContent === '';
+  }
+
+  private _model: AnalysisModel;
+  private _run: HTMLButtonElement;
+  private _cancel: HTMLButtonElement;
+  private _bar: HTMLProgressElement;
+  private _progressText: HTMLElement;
+  private _line: HTMLElement;
+  private _hint: HTMLElement;
+}
+
+/** The statics of {@link RunView}. */
+export namespace RunView {
+  /** Options of a {@link RunView}. */
+  export interface IOptions {
+    /** The analysis to run. */
+    model: AnalysisModel;
+  }
+}
+
+namespace Private {
+  /** A duration for people: "0.4 s", "12 s", "3 min 5 s". */
+  export function duration(ms: number): string {
+    const seconds = ms / 1000;
+    if (seconds < 10) {
+      return `${seconds.toFixed(1)} s`;
+    }
+    if (seconds < 60) {
+      return `${Math.round(seconds)} s`;
+    }
+    return `${Math.floor(seconds / 60)} min ${Math.round(seconds % 60)} s`;
+  }
+}
