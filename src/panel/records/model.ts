@@ -123,6 +123,15 @@ export class RecordsModel {
     return this._error;
   }
 
+  /** Show a sentence about the last action (e.g. what a restore could not set), or clear it. */
+  setNotice(message: string | null): void {
+    if (message === this._error) {
+      return;
+    }
+    this._error = message;
+    this._changed.emit();
+  }
+
   /** Follow another notebook (or none) and read its record. */
   setNotebook(notebook: IRecordsNotebook | null): void {
     if (this._notebook?.path === notebook?.path && this._notebook?.metadata === notebook?.metadata) {

@@ -1,0 +1,117 @@
+/**
+ * Putting a recorded analysis back into the analysis sections (Data, Binning, Estimator),
+ * and checking the frame the Data section loads against the chosen analysis' fingerprint.
+ * Written against the few members of the analysis model it uses, so it depends on no more.
+ */
+import type { IDisposable } from '@lumino/disposable';
+import type { ISignal } from '@lumino/signaling';
+
+import type { EstimatorName, Units } from '../../engine/types';
+import type { IRestoreRequest, IRunFrame, RecordsModel } from './model';
+
+/** The members of the analysis model a restore uses. */
+export interface IRestoreTarget {
+  data: {
+    readonly changed: ISignal<unknown, void>;
+    readonly frame: string | null;
+    readonly frames: readonly { name: string }[];
+    readonly columns: readonly { name: string }[];
+    readonly fetched: IRunFrame | null;
+    pick(name: string | null): Promise<void>;
+    setSelected(name: string, selected: boolean): void;
+    isSelected(name: string): boolean;
+  };
+  binning: {
+    specOf(name: string): string | undefined;
+    setSpec(name: string, spec: string): void;
+  };
+  estimator: {
+    estimator: EstimatorName;
+    units: Units;
+    maxOrder: number | null;
+  };
+}
+
+/**
+ * Restore the request's frame, selection, binning specs, estimator, units and maximum order.
+ * Resolves to a sentence naming what could not be restored, or null when everything was.
+ */
+export async function restoreSettings(target: IRestoreTarget, request: IRestoreRequest): Promise<string | null> {
+  const { data, binning, estimator } = target;
+  if (!data.frames.some(frame => frame.name === request.frame)) {
+    return `The kernel holds no dataframe named '${request.frame}'; run the cell that makes it, then restore again.`;
+  }
+  if (data.frame !== request.frame || data.fetched === null) {
+    await data.pick(request.frame);
+  }
+  if (data.frame !== request.frame) {
+    return `Another dataframe was picked while '${request.frame}' was loading; nothing was restored.`;
+  }
+  const wanted = new Set(request.options.columns ?? []);
+  const present = new Set(data.columns.map(column => column.name));
+  const absent = [...wanted].filter(name => !present.has(name));
+  for (const column of data.columns) {
+    data.setSelected(column.name, wanted.has(column.name));
+  }
+  const notSelectable = [...wanted].filter(name => present.has(name) && !data.isSelected(name));
+  for (const [name, spec] of Object.entries(request.options.binsByColumn ?? {})) {
+    if (binning.specOf(name) !== undefined) {
+      binning.setSpec(name, spec);
+    }
+  }
+  if (request.options.estimator !== undefined) {
+    estimator.estimator = request.options.estimator;
+  }
+  if (request.options.units !== undefined) {
+    estimator.units = request.options.units;
+  }
+  estimator.maxOrder = request.options.maxOrder ?? null;
+  const missing = [...absent, ...notSelectable];
+  return missing.length === 0
+    ? null
+    : `Column${missing.length === 1 ? '' : 's'} ${missing.map(name => `'${name}'`).join(', ')} of the record ` +
+        `could not be selected in '${request.frame}' (gone, renamed or not readable); the other settings were restored.`;
+}
+
+/**
+ * Keep the records section and the analysis sections together until disposed: a restore
+ * request sets the sections, and every frame the Data section loads is checked against the
+ * chosen analysis (the "data changed" banner).
+ */
+export function followRestores(target: IRestoreTarget, records: RecordsModel): IDisposable {
+  let disposed = false;
+  let lastChecked: IRunFrame | null = null;
+  const onRestore = (_: RecordsModel, request: IRestoreRequest): void => {
+    void restoreSettings(target, request).then(problem => {
+      if (!disposed) {
+        records.setNotice(problem);
+      }
+    });
+  };
+  const check = (): void => {
+    const fetched = target.data.fetched;
+    const chosen = records.selected;
+    if (fetched === null || chosen === null || fetched.name !== chosen.source.frame) {
+      return;
+    }
+    if (fetched === lastChecked && records.dataCheckOf(chosen.id) !== null) {
+      return;
+    }
+    lastChecked = fetched;
+    void records.checkData(fetched);
+  };
+  records.restoreRequested.connect(onRestore);
+  target.data.changed.connect(check);
+  records.changed.connect(check);
+  return {
+    get isDisposed() {
+      return disposed;
+    },
+    dispose: () => {
+      disposed = true;
+      records.restoreRequested.disconnect(onRestore);
+      target.data.changed.disconnect(check);
+      records.changed.disconnect(check);
+    }
+  };
+}
