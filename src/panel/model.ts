@@ -4,6 +4,7 @@
 import { AnalysisModel, IEngineRunner } from './analysis/model';
 import { DefaultsModel } from './defaults/model';
 import { RecordsModel } from './records/model';
+import { ResultsModel } from './results/model';
 import { SourceModel } from './source/model';
 
 /** State of the Polyadic side panel. */
@@ -11,6 +12,7 @@ export class PanelModel {
   /** Create the model; `options.engine` runs the analyses and previews. */
   constructor(options: PanelModel.IOptions) {
     this.analysis = new AnalysisModel({ engine: options.engine });
+    this._stopResults = this.results.follow(this.analysis);
   }
 
   /** The analysis being set up and run (dataframe, binning, estimator and run sections). */
@@ -24,6 +26,9 @@ export class PanelModel {
 
   /** The analyses recorded in the followed notebook (records section). */
   readonly records = new RecordsModel();
+
+  /** Histograms, tables and chains of the latest run (results section). */
+  readonly results = new ResultsModel();
 
   /** Whether the model has been disposed. */
   get isDisposed(): boolean {
@@ -39,10 +44,13 @@ export class PanelModel {
     this.source.dispose();
     this.defaults.dispose();
     this.records.dispose();
+    this._stopResults();
+    this.results.dispose();
     this.analysis.dispose();
   }
 
   private _isDisposed = false;
+  private readonly _stopResults: () => void;
 }
 
 /** The statics of {@link PanelModel}. */

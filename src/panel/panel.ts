@@ -14,6 +14,7 @@ import { DefaultsView } from './defaults/view';
 import { textElement } from './dom';
 import { PanelModel } from './model';
 import { RecordsView } from './records/view';
+import { ResultsView } from './results/view';
 import { SourceView } from './source/view';
 
 /** The right-sidebar panel of Polyadic. */
@@ -41,6 +42,7 @@ export class PolyadicPanel extends SidePanel {
     this.addWidget(new BinningView({ model: analysis.binning }));
     this.addWidget(new EstimatorView({ model: analysis }));
     this.addWidget(new RunView({ model: analysis }));
+    this.addWidget(new ResultsView({ model: this.model.results }));
     this.addWidget(
       new DefaultsView({ model: this.model.defaults, onOpenSettings: options.onOpenSettings })
     );

@@ -13,6 +13,7 @@ import { chainAlong, extremalChains } from '../../engine/measures';
 import type { IEntropySource } from '../../engine/measures';
 import { createIndexing, indexOfColumns } from '../../engine/multiplets';
 import type { IAnalysisResult } from '../../engine/types';
+import type { IAnalysisState, IRunCompleted } from '../analysis/types';
 import { orderHistogram } from '../../record/summary';
 import { MultipletStore } from './store';
 import { MultipletTable } from './table';
@@ -275,6 +276,27 @@ export class ResultsModel {
       this._setChain(kind, chain.columns.map(c => result.columns[c].name), chain.values);
     }
     this._changed.emit();
+  }
+
+  /**
+   * Show every completed run of `state` (and clear when its result is cleared), starting with
+   * its latest; returns a function that stops following.
+   */
+  follow(state: IAnalysisState): () => void {
+    const show = (_sender: IAnalysisState, run: IRunCompleted | null): void => {
+      if (run) {
+        this.setResult(run.result, { frame: run.frame.name });
+      } else {
+        this.clear();
+      }
+    };
+    state.resultChanged.connect(show);
+    if (state.latest) {
+      show(state, state.latest);
+    }
+    return () => {
+      state.resultChanged.disconnect(show);
+    };
   }
 
   /** Disconnect every listener and drop the data. */

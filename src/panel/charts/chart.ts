@@ -1,0 +1,212 @@
+/**
+ * A small chart widget over plotly.js: colours come from the JupyterLab theme's CSS variables
+ * (read from the widget's own node, so `--pd-*` tokens of the section apply), the chart is
+ * redrawn when the theme changes, and PNG and SVG export buttons sit under every chart.
+ * plotly.js is loaded on first draw, so the panel does not pay for it until there is a result.
+ */
+import { Widget } from '@lumino/widgets';
+import type * as PlotlyModule from 'plotly.js-dist-min';
+
+import { textElement } from '../dom';
+
+/** Theme colours a figure is built with (CSS colour strings). */
+export interface IChartColors {
+  text: string;
+  muted: string;
+  grid: string;
+  background: string;
+  synergy: string;
+  redundancy: string;
+  accent: string;
+  font: string;
+}
+
+/** A figure: traces and layout, as plotly.js takes them. */
+export interface IFigure {
+  data: PlotlyModule.Data[];
+  layout: PlotlyModule.Layout;
+}
+
+/** Builds a figure for the current theme colours. */
+export type FigureBuilder = (colors: IChartColors) => IFigure;
+
+/** One chart with its export buttons. */
+export class ChartView extends Widget {
+  /** Create an empty chart. */
+  constructor(options: ChartView.IOptions) {
+    super();
+    this.addClass('pd-Chart');
+    this._options = options;
+    this._plot = textElement('div', 'pd-Chart-plot');
+    this._plot.setAttribute('role', 'img');
+    this._plot.setAttribute('aria-label', options.label);
+    const actions = textElement('div', 'pd-Chart-actions');
+    for (const format of ['png', 'svg'] as const) {
+      const button = textElement('button', 'pd-Chart-export jp-mod-styled', format.toUpperCase());
+      button.type = 'button';
+      button.title = `Save this chart as ${format.toUpperCase()}`;
+      button.setAttribute('aria-label', `Save ${options.label} as ${format.toUpperCase()}`);
+      button.addEventListener('click', () => void this.exportImage(format));
+      actions.append(button);
+    }
+    this.node.append(this._plot, actions);
+    this._observer = new MutationObserver(() => this._draw());
+    this._observer.observe(document.body, {
+      attributes: true,
+      attributeFilter: ['data-jp-theme-name', 'data-jp-theme-light']
+    });
+  }
+
+  /** The element plotly draws into (for tests and events). */
+  get plotNode(): HTMLElement {
+    return this._plot;
+  }
+
+  /** Set the figure builder and draw. */
+  setFigure(build: FigureBuilder): void {
+    this._build = build;
+    this._draw();
+  }
+
+  /** Download the chart as an image named after the chart. */
+  async exportImage(format: 'png' | 'svg'): Promise<void> {
+    const Plotly = await Private.plotly();
+    const width = Math.max(480, this._plot.clientWidth);
+    await Plotly.downloadImage(this._plot, {
+      format,
+      width,
+      height: this._options.height,
+      filename: this._options.filename
+    });
+  }
+
+  /** Stop following the theme and release plotly's resources. */
+  dispose(): void {
+    if (this.isDisposed) {
+      return;
+    }
+    this._observer.disconnect();
+    if (Private.loaded) {
+      Private.loaded.purge(this._plot);
+    }
+    super.dispose();
+  }
+
+  protected onAfterAttach(): void {
+    this._draw();
+  }
+
+  protected onResize(): void {
+    if (this._drawn && Private.loaded) {
+      void Private.loaded.Plots.resize(this._plot);
+    }
+  }
+
+  protected onAfterShow(): void {
+    this._draw();
+  }
+
+  private _draw(): void {
+    const build = this._build;
+    if (!build || !this.isAttached || this.isDisposed) {
+      return;
+    }
+    const ticket = ++this._ticket;
+    void Private.plotly().then(async Plotly => {
+      if (ticket !== this._ticket || this.isDisposed) {
+        return;
+      }
+      const colors = Private.colors(this.node);
+      const figure = build(colors);
+      const layout: PlotlyModule.Layout = {
+        height: this._options.height,
+        autosize: true,
+        margin: { l: 40, r: 8, t: 8, b: 36 },
+        paper_bgcolor: colors.background,
+        plot_bgcolor: colors.background,
+        font: { family: colors.font, size: 11, color: colors.text },
+        showlegend: false,
+        hoverlabel: { bgcolor: colors.background, bordercolor: colors.grid, font: { color: colors.text } },
+        ...figure.layout
+      };
+      const root = await Plotly.react(this._plot, figure.data, layout, {
+        displayModeBar: false,
+        responsive: true
+      });
+      if (!this._drawn) {
+        this._drawn = true;
+        root.on('plotly_click', event => {
+          const point = event.points[0];
+          if (point && this._options.onClick) {
+            this._options.onClick(point.curveNumber, point.pointIndex ?? point.pointNumber);
+          }
+        });
+      }
+    });
+  }
+
+  private readonly _options: ChartView.IOptions;
+  private readonly _plot: HTMLDivElement;
+  private readonly _observer: MutationObserver;
+  private _build: FigureBuilder | null = null;
+  private _drawn = false;
+  private _ticket = 0;
+}
+
+/** The statics of {@link ChartView}. */
+export namespace ChartView {
+  /** Options of a {@link ChartView}. */
+  export interface IOptions {
+    /** Accessible name of the chart, also used by the export buttons. */
+    label: string;
+    /** File name (without extension) of exported images. */
+    filename: string;
+    /** Height in CSS pixels. */
+    height: number;
+    /** Called with the trace and point index when a point or bar is clicked. */
+    onClick?: (trace: number, point: number) => void;
+  }
+}
+
+/**
+ * Text for plotly labels: plotly reads a small HTML-like markup in labels (links, bold,
+ * line breaks), so untrusted text has its markup characters written as entities, which plotly
+ * shows as the characters themselves.
+ */
+export function plotlyText(text: string): string {
+  return text.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;');
+}
+
+namespace Private {
+  /** The loaded plotly module, once loaded. */
+  export let loaded: typeof PlotlyModule | null = null;
+  let loading: Promise<typeof PlotlyModule> | null = null;
+
+  /** Load plotly.js once, on first use. */
+  export function plotly(): Promise<typeof PlotlyModule> {
+    if (!loading) {
+      loading = import('plotly.js-dist-min').then(module => {
+        const Plotly = ((module as unknown as { default?: typeof PlotlyModule }).default ?? module) as typeof PlotlyModule;
+        loaded = Plotly;
+        return Plotly;
+      });
+    }
+    return loading;
+  }
+
+  /** Theme colours as the node sees them. */
+  export function colors(node: HTMLElement): IChartColors {
+    const style = getComputedStyle(node);
+    const read = (name: string, fallback: string): string => style.getPropertyValue(name).trim() || fallback;
+    return {
+      text: read('--jp-ui-font-color1', '#000'),
+      muted: read('--jp-ui-font-color2', '#666'),
+      grid: read('--jp-border-color2', '#ccc'),
+      background: read('--jp-layout-color1', '#fff'),
+      synergy: read('--pd-synergy-color', '#c60'),
+      redundancy: read('--pd-redundancy-color', '#16c'),
+      accent: read('--jp-brand-color1', '#16c'),
+      font: read('--jp-ui-font-family', 'sans-serif')
+    };
+  }
+}

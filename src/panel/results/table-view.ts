@@ -1,0 +1,216 @@
+/**
+ * One results table on screen: sortable headers, the rows of the current page only, a pager and
+ * CSV export. Every name and value goes in through `textContent`.
+ */
+import { Widget } from '@lumino/widgets';
+
+import { textElement } from '../dom';
+import { formatAdequacy, formatCount, formatValue } from './format';
+import { RESULTS_COLUMNS } from './store';
+import { MultipletTable } from './table';
+
+/** Shows a {@link MultipletTable}. */
+export class MultipletTableView extends Widget {
+  /** Create the view of `options.model`. */
+  constructor(options: MultipletTableView.IOptions) {
+    super();
+    this._model = options.model;
+    this._onSelect = options.onSelect;
+    const side = this._model.side;
+    this.addClass('pd-ResultsTable');
+    this.addClass(`pd-ResultsTable-${side}`);
+    const title = side === 'synergy' ? 'Synergy table' : 'Redundancy table';
+    const headingId = `pd-results-${side}-${Private.nextId++}`;
+    const heading = textElement('h3', 'pd-ResultsTable-title', title);
+    heading.id = headingId;
+    const note = textElement(
+      'p',
+      'pd-ResultsTable-note',
+      side === 'synergy'
+        ? 'Multiplets of negative co-information (synergy-dominated), most negative first.'
+        : 'Multiplets of positive co-information (redundancy-dominated), most positive first.'
+    );
+    this._table = textElement('table', 'pd-ResultsTable-table');
+    this._table.setAttribute('aria-labelledby', headingId);
+    const head = document.createElement('thead');
+    const headRow = document.createElement('tr');
+    for (const column of RESULTS_COLUMNS) {
+      const th = textElement('th', `pd-ResultsTable-head pd-mod-${column.key}`);
+      th.scope = 'col';
+      const button = textElement('button', 'pd-ResultsTable-sort', column.label);
+      button.type = 'button';
+      button.title = `Sort by ${column.label.toLowerCase()}`;
+      button.addEventListener('click', () => this._model.setSort(column.key));
+      th.append(button);
+      headRow.append(th);
+      this._headers.push(th);
+    }
+    head.append(headRow);
+    this._body = document.createElement('tbody');
+    this._table.append(head, this._body);
+    const scroll = textElement('div', 'pd-ResultsTable-scroll');
+    scroll.append(this._table);
+
+    const pager = textElement('div', 'pd-ResultsTable-pager');
+    this._previous = textElement('button', 'pd-ResultsTable-page jp-mod-styled', 'Previous');
+    this._previous.type = 'button';
+    this._previous.setAttribute('aria-label', `Previous page of the ${title.toLowerCase()}`);
+    this._previous.addEventListener('click', () => this._model.setPage(this._model.page - 1));
+    this._next = textElement('button', 'pd-ResultsTable-page jp-mod-styled', 'Next');
+    this._next.type = 'button';
+    this._next.setAttribute('aria-label', `Next page of the ${title.toLowerCase()}`);
+    this._next.addEventListener('click', () => this._model.setPage(this._model.page + 1));
+    this._status = textElement('span', 'pd-ResultsTable-status');
+    this._status.setAttribute('aria-live', 'polite');
+    const exportButton = textElement('button', 'pd-ResultsTable-export jp-mod-styled', 'Export CSV');
+    exportButton.type = 'button';
+    exportButton.setAttribute('aria-label', `Export the ${title.toLowerCase()} as CSV`);
+    exportButton.title = 'Save the filtered rows, in table order, as CSV';
+    exportButton.addEventListener('click', () => this._export());
+    pager.append(this._previous, this._status, this._next, exportButton);
+
+    this.node.append(heading, note, scroll, pager);
+    this._model.changed.connect(this._render, this);
+    this._render();
+  }
+
+  /** The table model shown. */
+  get model(): MultipletTable {
+    return this._model;
+  }
+
+  /** Mark the row of store index `index` as the selected one (or none with −1). */
+  setSelected(index: number): void {
+    this._selected = index;
+    for (const row of Array.from(this._body.rows)) {
+      const selected = Number(row.dataset.index) === index;
+      row.classList.toggle('jp-mod-selected', selected);
+      row.setAttribute('aria-selected', String(selected));
+    }
+  }
+
+  /** Disconnect from the model and dispose the widget. */
+  dispose(): void {
+    if (this.isDisposed) {
+      return;
+    }
+    this._model.changed.disconnect(this._render, this);
+    super.dispose();
+  }
+
+  private _render(): void {
+    const model = this._model;
+    const store = model.store;
+    const { key, descending } = model.sort;
+    RESULTS_COLUMNS.forEach((column, i) => {
+      this._headers[i].setAttribute(
+        'aria-sort',
+        column.key === key ? (descending ? 'descending' : 'ascending') : 'none'
+      );
+    });
+    const rows: HTMLTableRowElement[] = [];
+    if (store) {
+      for (const index of model.pageRows()) {
+        const tr = document.createElement('tr');
+        tr.className = 'pd-ResultsTable-row';
+        tr.tabIndex = 0;
+        tr.dataset.index = String(index);
+        const names = store.namesOf(index);
+        const adequacy = store.adequacy[index];
+        const multiplet = textElement('td', 'pd-ResultsTable-cell pd-mod-columns');
+        names.forEach((name, j) => {
+          if (j > 0) {
+            multiplet.append(document.createTextNode(' · '));
+          }
+          multiplet.append(textElement('span', 'pd-ResultsTable-name', name));
+        });
+        const adequacyCell = textElement('td', 'pd-ResultsTable-cell pd-mod-adequacy', formatAdequacy(adequacy));
+        if (adequacy < 1) {
+          adequacyCell.classList.add('jp-mod-warning');
+          adequacyCell.prepend(textElement('span', 'pd-ResultsTable-flag', '\u26a0 '));
+          adequacyCell.title = 'Fewer rows than possible joint cells: treat this value with care.';
+        }
+        tr.append(
+          multiplet,
+          textElement('td', 'pd-ResultsTable-cell pd-mod-order', String(store.order[index])),
+          textElement('td', 'pd-ResultsTable-cell pd-mod-number', formatValue(store.coinformation[index])),
+          textElement('td', 'pd-ResultsTable-cell pd-mod-number', formatValue(store.o_information[index])),
+          textElement('td', 'pd-ResultsTable-cell pd-mod-number', formatValue(store.total_correlation[index])),
+          textElement('td', 'pd-ResultsTable-cell pd-mod-number', formatValue(store.dual_total_correlation[index])),
+          adequacyCell
+        );
+        tr.title = 'Show the conditioning chain of this multiplet';
+        const select = (): void => this._onSelect(index);
+        tr.addEventListener('click', select);
+        tr.addEventListener('keydown', event => {
+          if (event.key === 'Enter' || event.key === ' ') {
+            event.preventDefault();
+            select();
+          }
+        });
+        rows.push(tr);
+      }
+    }
+    if (rows.length === 0) {
+      const tr = document.createElement('tr');
+      const td = textElement(
+        'td',
+        'pd-ResultsTable-empty',
+        model.totalCount === 0 ? 'No multiplets on this side.' : 'No multiplets match the filters.'
+      );
+      td.colSpan = RESULTS_COLUMNS.length;
+      tr.append(td);
+      rows.push(tr);
+    }
+    this._body.replaceChildren(...rows);
+    this.setSelected(this._selected);
+    const first = model.page * model.pageSize;
+    const shown = model.pageRows().length;
+    const filtered = model.rowCount !== model.totalCount ? ` (filtered from ${formatCount(model.totalCount)})` : '';
+    this._status.textContent =
+      model.rowCount === 0
+        ? `0 rows${filtered}`
+        : `Rows ${formatCount(first + 1)}–${formatCount(first + shown)} of ${formatCount(model.rowCount)}${filtered}`;
+    this._previous.disabled = model.page === 0;
+    this._next.disabled = model.page >= model.pageCount - 1;
+  }
+
+  private _export(): void {
+    const blob = new Blob([this._model.csv()], { type: 'text/csv;charset=utf-8' });
+    const url = URL.createObjectURL(blob);
+    const link = document.createElement('a');
+    link.href = url;
+    link.download = `polyadic-${this._model.side}.csv`;
+    link.style.display = 'none';
+    document.body.append(link);
+    link.click();
+    link.remove();
+    // Revoke after the click has been handled; the download keeps its own copy.
+    setTimeout(() => URL.revokeObjectURL(url), 0);
+  }
+
+  private readonly _model: MultipletTable;
+  private readonly _onSelect: (index: number) => void;
+  private readonly _table: HTMLTableElement;
+  private readonly _body: HTMLTableSectionElement;
+  private readonly _headers: HTMLTableCellElement[] = [];
+  private readonly _previous: HTMLButtonElement;
+  private readonly _next: HTMLButtonElement;
+  private readonly _status: HTMLSpanElement;
+  private _selected = -1;
+}
+
+/** The statics of {@link MultipletTableView}. */
+export namespace MultipletTableView {
+  /** Options of a {@link MultipletTableView}. */
+  export interface IOptions {
+    model: MultipletTable;
+    /** Called with a row's store index when it is clicked or entered. */
+    onSelect: (index: number) => void;
+  }
+}
+
+namespace Private {
+  /** Counter for unique heading ids. */
+  export let nextId = 0;
+}

@@ -1,0 +1,212 @@
+/**
+ * The panel's Results section: a summary of the run with its cautions, the order histograms,
+ * the column-name and order filters, the synergy and redundancy tables, and the conditioning
+ * chain of the selected multiplet.
+ */
+import { Panel, Widget } from '@lumino/widgets';
+
+import { textElement } from '../dom';
+import { ChainView } from './chain-view';
+import { formatCount } from './format';
+import { HistogramsView } from './histograms';
+import { ResultsModel } from './model';
+import { MultipletTableView } from './table-view';
+
+/** Shows a {@link ResultsModel}. Names and values only go in through `textContent`. */
+export class ResultsView extends Panel {
+  /** Create the section for `options.model`. */
+  constructor(options: ResultsView.IOptions) {
+    super();
+    this.addClass('pd-Results');
+    this.title.label = 'Results';
+    this._model = options.model;
+    this._summary = new Widget({ node: textElement('div', 'pd-Results-summary') });
+    this._histograms = new HistogramsView({ model: this._model });
+    this._filters = new Widget({ node: this._buildFilters() });
+    const select = (index: number): void => this._model.selectMultiplet(index);
+    this._synergy = new MultipletTableView({ model: this._model.synergy, onSelect: select });
+    this._redundancy = new MultipletTableView({ model: this._model.redundancy, onSelect: select });
+    this._chain = new ChainView({ model: this._model });
+    for (const widget of [this._summary, this._histograms, this._filters, this._synergy, this._redundancy, this._chain]) {
+      this.addWidget(widget);
+    }
+    this._model.changed.connect(this._render, this);
+    this._render();
+  }
+
+  /** Disconnect from the model and dispose the widget. */
+  dispose(): void {
+    if (this.isDisposed) {
+      return;
+    }
+    this._model.changed.disconnect(this._render, this);
+    if (this._debounce !== null) {
+      clearTimeout(this._debounce);
+    }
+    super.dispose();
+  }
+
+  private _buildFilters(): HTMLElement {
+    const node = textElement('div', 'pd-Results-filters');
+    node.setAttribute('role', 'search');
+    node.setAttribute('aria-label', 'Filter the results tables');
+    const columnId = `pd-results-column-${Private.nextId++}`;
+    const listId = `${columnId}-names`;
+    const columnLabel = textElement('label', 'pd-Results-filterLabel', 'Column name');
+    columnLabel.htmlFor = columnId;
+    this._column = textElement('input', 'pd-Results-filterInput jp-mod-styled');
+    this._column.id = columnId;
+    this._column.type = 'search';
+    this._column.placeholder = 'any column';
+    this._column.setAttribute('list', listId);
+    this._column.addEventListener('input', () => {
+      // Filtering a million rows takes a moment: wait for a pause in typing.
+      if (this._debounce !== null) {
+        clearTimeout(this._debounce);
+      }
+      this._debounce = setTimeout(() => {
+        this._debounce = null;
+        this._model.setFilter({ column: this._column.value });
+      }, 150);
+    });
+    this._names = textElement('datalist', '');
+    this._names.id = listId;
+    const orderId = `pd-results-order-${Private.nextId++}`;
+    const orderLabel = textElement('label', 'pd-Results-filterLabel', 'Order');
+    orderLabel.htmlFor = orderId;
+    this._order = textElement('select', 'pd-Results-filterSelect jp-mod-styled');
+    this._order.id = orderId;
+    this._order.addEventListener('change', () => {
+      const value = this._order.value;
+      this._model.setFilter({ order: value === '' ? null : Number(value) });
+    });
+    this._barNote = textElement('p', 'pd-Results-bar');
+    this._barNote.setAttribute('aria-live', 'polite');
+    this._clearBar = textElement('button', 'pd-Results-clearBar jp-mod-styled', 'Show all bars');
+    this._clearBar.type = 'button';
+    this._clearBar.addEventListener('click', () => this._model.selectBar(null));
+    const column = textElement('div', 'pd-Results-filter');
+    column.append(columnLabel, this._column, this._names);
+    const order = textElement('div', 'pd-Results-filter');
+    order.append(orderLabel, this._order);
+    const bar = textElement('div', 'pd-Results-barRow');
+    bar.append(this._barNote, this._clearBar);
+    node.append(column, order, bar);
+    return node;
+  }
+
+  private _render(): void {
+    const model = this._model;
+    const result = model.result;
+    const hasResult = result !== null;
+    for (const widget of [this._histograms, this._filters, this._synergy, this._redundancy, this._chain]) {
+      widget.setHidden(!hasResult);
+    }
+    if (!result) {
+      this._summary.node.replaceChildren(
+        textElement('p', 'pd-Results-empty', 'No results yet: pick a frame and press Run.')
+      );
+      this._shown = null;
+      return;
+    }
+    if (result !== this._shown) {
+      this._shown = result;
+      this._summary.node.replaceChildren(...this._summaryNodes());
+      this._column.value = '';
+      this._names.replaceChildren(
+        ...result.columns.map(column => {
+          const option = document.createElement('option');
+          option.value = column.name;
+          return option;
+        })
+      );
+      const all = textElement('option', '', 'All orders');
+      all.value = '';
+      this._order.replaceChildren(
+        all,
+        ...model.histograms.map(h => {
+          const option = textElement('option', '', String(h.order));
+          option.value = String(h.order);
+          return option;
+        })
+      );
+    }
+    const bar = model.bar;
+    this._barNote.textContent = bar
+      ? `Tables show the ${formatCount(bar.count)} order-${bar.order} multiplets of one histogram bar.`
+      : '';
+    this._clearBar.hidden = bar === null;
+    this._synergy.setSelected(model.selected);
+    this._redundancy.setSelected(model.selected);
+  }
+
+  private _summaryNodes(): HTMLElement[] {
+    const model = this._model;
+    const result = model.result!;
+    const frame = model.context.frame;
+    const nodes: HTMLElement[] = [];
+    nodes.push(
+      textElement(
+        'p',
+        'pd-Results-facts',
+        `${frame ? `${frame}: ` : ''}${formatCount(result.rows_used)} rows used of ${formatCount(result.rows)}, ` +
+          `${formatCount(result.columns.length)} columns, ${formatCount(model.multipletCount)} multiplets of ` +
+          `order 2 to ${result.max_order}, ${result.estimator} estimator, ${result.units}.`
+      )
+    );
+    const cautions: string[] = [
+      `These values are estimates from a sample. With ${formatCount(model.multipletCount)} multiplets, ` +
+        'some will look extreme by chance alone; significance tests (surrogate data, q-values) come ' +
+        'in a later version.'
+    ];
+    if (model.inadequateCount > 0) {
+      cautions.push(
+        `${formatCount(model.inadequateCount)} multiplets have adequacy below 1: fewer rows than possible ` +
+          'joint cells of their columns, so their entropies are biased and their values less ' +
+          'reliable (marked \u26a0 in the tables).'
+      );
+    }
+    if (!model.complete) {
+      cautions.push(
+        'This result keeps only its strongest multiplets: the histograms show those, not every multiplet.'
+      );
+    }
+    for (const text of cautions) {
+      const note = textElement('p', 'pd-Results-caution', text);
+      note.setAttribute('role', 'note');
+      nodes.push(note);
+    }
+    for (const warning of result.warnings) {
+      nodes.push(textElement('p', 'pd-Results-warning', warning));
+    }
+    return nodes;
+  }
+
+  private readonly _model: ResultsModel;
+  private readonly _summary: Widget;
+  private readonly _histograms: HistogramsView;
+  private readonly _filters: Widget;
+  private readonly _synergy: MultipletTableView;
+  private readonly _redundancy: MultipletTableView;
+  private readonly _chain: ChainView;
+  private _column!: HTMLInputElement;
+  private _names!: HTMLDataListElement;
+  private _order!: HTMLSelectElement;
+  private _barNote!: HTMLParagraphElement;
+  private _clearBar!: HTMLButtonElement;
+  private _debounce: ReturnType<typeof setTimeout> | null = null;
+  private _shown: unknown = null;
+}
+
+/** The statics of {@link ResultsView}. */
+export namespace ResultsView {
+  /** Options of a {@link ResultsView}. */
+  export interface IOptions {
+    model: ResultsModel;
+  }
+}
+
+namespace Private {
+  /** Counter for unique control ids. */
+  export let nextId = 0;
+}
