@@ -15,6 +15,8 @@ import { INSERT_ANALYSIS_CELL, setupAnalysisCells } from './cells/command';
 import { polyadicIcon } from './icons';
 import { followNotebooks, followSettings, PanelModel, PolyadicPanel } from './panel';
 import { followAnalysis } from './panel/analysis/tracker';
+import { recordCompletedRuns } from './panel/records/connect';
+import { followRestores } from './panel/records/restore';
 import { followRecords } from './panel/records/tracker';
 import { CommandIDs, EXTENSION_ID, IPolyadicPanel, PALETTE_CATEGORY, PLUGIN_ID } from './tokens';
 import { createEngineWorker } from './worker/browser';
@@ -101,11 +103,15 @@ const recordsPlugin: JupyterFrontEndPlugin<void> = {
   ): void => {
     const records = panel.model.records;
     const follower = followRecords(notebooks, records);
+    const recorder = recordCompletedRuns(panel.model.analysis, records);
+    const restores = followRestores(panel.model.analysis, records);
     const cells = setupAnalysisCells({ commands: app.commands, notebooks, chosenId: () => records.selectedId });
     records.changed.connect(() => app.commands.notifyCommandChanged(INSERT_ANALYSIS_CELL));
     palette?.addItem({ command: INSERT_ANALYSIS_CELL, category: PALETTE_CATEGORY });
     panel.widget.disposed.connect(() => {
       follower.dispose();
+      recorder.dispose();
+      restores.dispose();
       cells.dispose();
     });
   }
