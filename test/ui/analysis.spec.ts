@@ -41,7 +41,7 @@ async function execute(id: string, args?: Record<string, unknown>): Promise<void
 /** Pick a frame in the Dataframe section and wait for its checklist. */
 async function pickFrame(name: string, firstColumn: string): Promise<void> {
   const panel = polyadicPanel();
-  await panel.getByLabel('Dataframe', { exact: true }).selectOption(name);
+  await panel.getByRole('combobox', { name: 'Dataframe', exact: true }).selectOption(name);
   await expect(panel.getByRole('checkbox', { name: `Use column ${firstColumn}`, exact: true })).toBeVisible();
 }
 
@@ -66,7 +66,7 @@ test.beforeAll(async ({ browser }) => {
     timeout: 90_000
   });
   await execute('notebook:run-all-cells');
-  await expect(polyadicPanel().getByLabel('Dataframe', { exact: true })).toBeVisible({ timeout: 60_000 });
+  await expect(polyadicPanel().getByRole('combobox', { name: 'Dataframe', exact: true })).toBeVisible({ timeout: 60_000 });
 });
 
 test.afterAll(async () => {
