@@ -1,0 +1,196 @@
+/**
+ * Browser test of the record in a real JupyterLab with a real kernel: run an analysis, save,
+ * read the .ipynb the server wrote and validate its record against schema/record.schema.json,
+ * reopen the notebook and restore the settings, insert a decomposition cell and see it drawn
+ * (with the Markdown fallback saved beside it), then run `polyadic verify` on the saved
+ * notebook with the frame's CSV: it passes, and fails once one value changes.
+ */
+import { expect, type Locator, type Page, test } from '@playwright/test';
+import Ajv2020 from 'ajv/dist/2020';
+import { spawnSync } from 'node:child_process';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+
+import { ARTIFACTS, REPO } from './paths';
+
+interface IExposedApp {
+  started: Promise<void>;
+  restored: Promise<void>;
+  commands: { execute(id: string, args?: Record<string, unknown>): Promise<unknown> };
+}
+
+declare global {
+  interface Window {
+    jupyterapp?: IExposedApp;
+  }
+}
+
+test.describe.configure({ mode: 'serial' });
+
+const NOTEBOOK = 'record.ipynb';
+const FRAME = 'record_frame';
+const MIME = 'application/vnd.polyadic.analysis+json';
+
+let page: Page;
+let recordId = '';
+let recorded: { estimator: string; max_order: number; columns: string[] } | null = null;
+
+function polyadicPanel(): Locator {
+  return page.getByRole('region', { name: 'Polyadic', exact: true });
+}
+
+function recordsSection(): Locator {
+  return polyadicPanel().locator('.pd-Records');
+}
+
+async function execute(id: string, args?: Record<string, unknown>): Promise<void> {
+  await page.evaluate(
+    ([command, options]) => window.jupyterapp!.commands.execute(command as string, options as Record<string, unknown>),
+    [id, args ?? {}] as const
+  );
+}
+
+/** A file of the server root as the server reads it from disk (contents API). */
+async function serverFile(name: string, format: 'json' | 'text'): Promise<unknown> {
+  const response = await page.request.get(`api/contents/${name}?content=1&type=file&format=text`);
+  expect(response.ok()).toBe(true);
+  const text = ((await response.json()) as { content: string }).content;
+  return format === 'json' ? JSON.parse(text) : text;
+}
+
+/** Save the current notebook and wait until it is clean. */
+async function save(): Promise<void> {
+  await execute('docmanager:save');
+  await expect(page.locator('.jp-NotebookPanel .jp-mod-dirty')).toHaveCount(0);
+  await expect(page.locator('.lm-DockPanel-tabBar .lm-mod-current.jp-mod-dirty')).toHaveCount(0);
+}
+
+test.beforeAll(async ({ browser }) => {
+  page = await browser.newPage();
+  await page.goto('lab/workspaces/record');
+  await page.waitForFunction(() => window.jupyterapp !== undefined);
+  await page.evaluate(async () => {
+    await window.jupyterapp!.started;
+    await window.jupyterapp!.restored;
+  });
+  await execute('docmanager:open', { path: NOTEBOOK });
+  await expect(page.locator('.jp-NotebookPanel')).toBeVisible();
+  await execute('polyadic:open-panel');
+  await expect(polyadicPanel()).toBeVisible();
+  await expect(polyadicPanel().getByText('No dataframe in this notebook’s kernel yet', { exact: false })).toBeVisible({
+    timeout: 90_000
+  });
+  await execute('notebook:run-all-cells');
+});
+
+test.afterAll(async () => {
+  await page.close();
+});
+
+test('should record a completed run in the notebook and save a record that validates', async () => {
+  const panel = polyadicPanel();
+  await panel.getByLabel('Dataframe', { exact: true }).selectOption(FRAME);
+  await expect(panel.getByRole('checkbox', { name: 'Use column valve_command', exact: true })).toBeVisible({
+    timeout: 60_000
+  });
+  await panel.getByRole('button', { name: 'Run', exact: true }).click();
+  await expect(panel.locator('.pd-Run')).toHaveAttribute('data-state', 'done', { timeout: 60_000 });
+
+  const item = recordsSection().locator('.pd-Records-item');
+  await expect(item).toHaveCount(1);
+  await expect(item.locator('.pd-Records-label')).toContainText(FRAME);
+  recordId = (await item.getAttribute('data-record-id')) ?? '';
+  expect(recordId).toMatch(/^pd-[0-9a-z]{8,32}$/);
+  // recording is an edit: the notebook must be dirty until saved
+  await expect(page.locator('.lm-DockPanel-tabBar .lm-mod-current.jp-mod-dirty')).toHaveCount(1);
+
+  await save();
+  const notebook = (await serverFile(NOTEBOOK, 'json')) as { metadata: Record<string, unknown> };
+  const record = notebook.metadata.polyadic as { version: number; analyses: { id: string; estimator: string; max_order: number; columns: string[]; summary: { synergy: { columns: string[] }[] } }[] };
+  const schema = JSON.parse(readFileSync(path.join(REPO, 'schema', 'record.schema.json'), 'utf8')) as object;
+  const ajv = new Ajv2020({ allErrors: true, strict: false });
+  ajv.addFormat('date-time', true);
+  const validate = ajv.compile(schema);
+  expect(validate(record) ? [] : validate.errors).toEqual([]);
+  expect(record.analyses.map(analysis => analysis.id)).toEqual([recordId]);
+  // the planted parity triplet leads the synergy side
+  expect([...record.analyses[0].summary.synergy[0].columns].sort()).toEqual(['flowing', 'leak_alarm', 'valve_command']);
+  expect(Object.keys(notebook.metadata).sort()).toEqual(['kernelspec', 'language_info', 'polyadic']);
+  recorded = record.analyses[0];
+});
+
+test('should list the record after reopening and restore its settings', async () => {
+  expect(recorded).not.toBeNull();
+  await execute('application:close-all');
+  await expect(page.locator('.jp-NotebookPanel')).toHaveCount(0);
+  await expect(recordsSection().locator('.pd-Records-item')).toHaveCount(0);
+  await execute('docmanager:open', { path: NOTEBOOK });
+  const item = recordsSection().locator(`.pd-Records-item[data-record-id="${recordId}"]`);
+  await expect(item).toBeVisible({ timeout: 60_000 });
+
+  const panel = polyadicPanel();
+  // move the settings away from the record, so the restore has something to do
+  await expect(panel.getByRole('combobox', { name: 'Estimator', exact: true })).toBeVisible({ timeout: 60_000 });
+  const otherEstimator = recorded!.estimator === 'plugin' ? 'miller-madow' : 'plugin';
+  await panel.getByRole('combobox', { name: 'Estimator', exact: true }).selectOption(otherEstimator);
+  await panel.getByLabel('Maximum order', { exact: true }).fill('2');
+
+  await item.locator('.pd-Records-label').click();
+  await item.getByRole('button', { name: 'Restore settings' }).click();
+  await expect(panel.getByLabel('Dataframe', { exact: true })).toHaveValue(FRAME, { timeout: 60_000 });
+  await expect(panel.getByRole('combobox', { name: 'Estimator', exact: true })).toHaveValue(recorded!.estimator);
+  await expect(panel.getByLabel('Maximum order', { exact: true })).toHaveValue(String(recorded!.max_order));
+  for (const name of recorded!.columns) {
+    await expect(panel.getByRole('checkbox', { name: `Use column ${name}`, exact: true })).toBeChecked();
+  }
+  // the loaded frame is the recorded data: no "data changed" banner
+  await expect(item.locator('.pd-Records-banner')).toHaveCount(0);
+  await polyadicPanel().screenshot({ path: path.join(ARTIFACTS, 'records-restored.png') });
+});
+
+test('should insert an analysis cell, draw it, and save the Markdown fallback', async () => {
+  await execute('polyadic:insert-analysis-cell');
+  const cell = page.locator('.jp-Notebook .jp-Cell.jp-mod-active');
+  await expect(cell.locator('.jp-InputArea-editor')).toContainText(`polyadic.show("${recordId}")`);
+  await execute('notebook:run-cell');
+  const output = cell.locator('.pd-AnalysisCell');
+  await expect(output).toBeVisible({ timeout: 60_000 });
+  await expect(output.locator('.pd-AnalysisCell-plot').first()).toBeVisible();
+  await expect(output.locator('.pd-AnalysisCell-table').first()).toContainText('leak_alarm');
+  await output.screenshot({ path: path.join(ARTIFACTS, 'analysis-cell.png') });
+
+  await save();
+  const notebook = (await serverFile(NOTEBOOK, 'json')) as {
+    cells: { cell_type: string; outputs?: { data?: Record<string, unknown> }[] }[];
+  };
+  const outputs = notebook.cells.flatMap(c => c.outputs ?? []).filter(o => o.data?.[MIME] !== undefined);
+  expect(outputs).toHaveLength(1);
+  expect(outputs[0].data![MIME]).toMatchObject({ record_id: recordId });
+  const markdown = outputs[0].data!['text/markdown'];
+  expect(Array.isArray(markdown) ? markdown.join('') : markdown).toContain(`Polyadic analysis ${recordId.replace(/-/g, '\\-')}`);
+});
+
+test('should verify the saved notebook with its data and fail after one value changes', async () => {
+  const folder = mkdtempSync(path.join(os.tmpdir(), 'polyadic-ui-verify-'));
+  const notebookPath = path.join(folder, NOTEBOOK);
+  const csvPath = path.join(folder, `${FRAME}.csv`);
+  writeFileSync(notebookPath, JSON.stringify(await serverFile(NOTEBOOK, 'json')));
+  const csvText = (await serverFile(`${FRAME}.csv`, 'text')) as string;
+  writeFileSync(csvPath, csvText);
+  const cli = path.join(REPO, 'bin', 'polyadic.cjs');
+  const same = spawnSync(process.execPath, [cli, 'verify', notebookPath, '--data', `${FRAME}=${csvPath}`], { encoding: 'utf8' });
+  expect(same.stderr).toBe('');
+  expect(same.stdout).toContain(recordId);
+  expect(same.status).toBe(0);
+
+  const lines = csvText.split('\n');
+  const cells = lines[10].split(',');
+  cells[5] = '-40.5';
+  lines[10] = cells.join(',');
+  writeFileSync(csvPath, lines.join('\n'));
+  const changed = spawnSync(process.execPath, [cli, 'verify', notebookPath, '--data', `${FRAME}=${csvPath}`], { encoding: 'utf8' });
+  expect(changed.status).toBe(1);
+  expect(changed.stdout).toMatch(/DATA CHANGED/);
+  expect(changed.stdout).toContain('air_temp_c');
+});
