@@ -95,10 +95,15 @@ export class AnalysisModel implements IAnalysisState {
     this._settings = settings;
     this.data.rowCap = settings.rowCap;
     this.binning.numericDefault = settings.numericBinning;
-    this.estimator.setRule(settings.maxOrderRule, settings.fixedMaxOrder);
-    if (!this._estimatorTouched) {
-      this.estimator.setDefaults(settings.estimator, settings.units);
-      this._estimatorTouched = false;
+    // The settings' own changes must not count as the user's choice.
+    this._applyingSettings = true;
+    try {
+      this.estimator.setRule(settings.maxOrderRule, settings.fixedMaxOrder);
+      if (!this._estimatorTouched) {
+        this.estimator.setDefaults(settings.estimator, settings.units);
+      }
+    } finally {
+      this._applyingSettings = false;
     }
   }
 
@@ -341,7 +346,7 @@ export class AnalysisModel implements IAnalysisState {
   }
 
   private _onInputsChanged(sender: unknown): void {
-    if (sender === this.estimator) {
+    if (sender === this.estimator && !this._applyingSettings) {
       this._estimatorTouched = true;
     }
     this._changed.emit();
@@ -352,6 +357,7 @@ export class AnalysisModel implements IAnalysisState {
   private _settings: IPolyadicSettings | null = null;
   private _binned: IFetchedFrame | null = null;
   private _estimatorTouched = false;
+  private _applyingSettings = false;
   private _latest: IRunCompleted | null = null;
   private _run: IRunStatus = { state: 'idle', progress: null, message: null };
   private _fetchFraction = 0;
