@@ -3,7 +3,7 @@
  * read the .ipynb the server wrote and validate its record against schema/record.schema.json,
  * reopen the notebook and restore the settings, insert a decomposition cell and see it drawn
  * (with the Markdown fallback saved beside it), then run `polyadic verify` on the saved
- * notebook with the frame's CSV: it passes, and fails once one value changes.
+ * notebook with the frame's Parquet file: it passes, and fails on a copy with one value changed.
  */
 import { expect, type Locator, type Page, test } from '@playwright/test';
 import Ajv2020 from 'ajv/dist/2020';
@@ -52,11 +52,13 @@ async function execute(id: string, args?: Record<string, unknown>): Promise<void
 }
 
 /** A file of the server root as the server reads it from disk (contents API). */
-async function serverFile(name: string, format: 'json' | 'text'): Promise<unknown> {
-  const response = await page.request.get(`api/contents/${name}?content=1&type=file&format=text`);
+async function serverFile(name: string, format: 'json' | 'base64'): Promise<unknown> {
+  const response = await page.request.get(
+    `api/contents/${name}?content=1&type=file&format=${format === 'json' ? 'text' : 'base64'}`
+  );
   expect(response.ok()).toBe(true);
-  const text = ((await response.json()) as { content: string }).content;
-  return format === 'json' ? JSON.parse(text) : text;
+  const content = ((await response.json()) as { content: string }).content;
+  return format === 'json' ? JSON.parse(content) : Buffer.from(content, 'base64');
 }
 
 /** Save the current notebook and wait until it is clean. */
@@ -90,7 +92,7 @@ test.afterAll(async () => {
 
 test('should record a completed run in the notebook and save a record that validates', async () => {
   const panel = polyadicPanel();
-  await panel.getByLabel('Dataframe', { exact: true }).selectOption(FRAME);
+  await panel.getByRole('combobox', { name: 'Dataframe', exact: true }).selectOption(FRAME);
   await expect(panel.getByRole('checkbox', { name: 'Use column valve_command', exact: true })).toBeVisible({
     timeout: 60_000
   });
@@ -138,7 +140,7 @@ test('should list the record after reopening and restore its settings', async ()
 
   await item.locator('.pd-Records-label').click();
   await item.getByRole('button', { name: 'Restore settings' }).click();
-  await expect(panel.getByLabel('Dataframe', { exact: true })).toHaveValue(FRAME, { timeout: 60_000 });
+  await expect(panel.getByRole('combobox', { name: 'Dataframe', exact: true })).toHaveValue(FRAME, { timeout: 60_000 });
   await expect(panel.getByRole('combobox', { name: 'Estimator', exact: true })).toHaveValue(recorded!.estimator);
   await expect(panel.getByLabel('Maximum order', { exact: true })).toHaveValue(String(recorded!.max_order));
   for (const name of recorded!.columns) {
@@ -174,22 +176,22 @@ test('should insert an analysis cell, draw it, and save the Markdown fallback', 
 test('should verify the saved notebook with its data and fail after one value changes', async () => {
   const folder = mkdtempSync(path.join(os.tmpdir(), 'polyadic-ui-verify-'));
   const notebookPath = path.join(folder, NOTEBOOK);
-  const csvPath = path.join(folder, `${FRAME}.csv`);
+  const dataPath = path.join(folder, `${FRAME}.parquet`);
+  const changedPath = path.join(folder, `${FRAME}_changed.parquet`);
   writeFileSync(notebookPath, JSON.stringify(await serverFile(NOTEBOOK, 'json')));
-  const csvText = (await serverFile(`${FRAME}.csv`, 'text')) as string;
-  writeFileSync(csvPath, csvText);
+  // both files were written by the fixture's kernel: the frame, and the frame with one value changed
+  writeFileSync(dataPath, (await serverFile(`${FRAME}.parquet`, 'base64')) as Buffer);
+  writeFileSync(changedPath, (await serverFile(`${FRAME}_changed.parquet`, 'base64')) as Buffer);
   const cli = path.join(REPO, 'bin', 'polyadic.cjs');
-  const same = spawnSync(process.execPath, [cli, 'verify', notebookPath, '--data', `${FRAME}=${csvPath}`], { encoding: 'utf8' });
+  const same = spawnSync(process.execPath, [cli, 'verify', notebookPath, '--data', `${FRAME}=${dataPath}`], { encoding: 'utf8' });
   expect(same.stderr).toBe('');
   expect(same.stdout).toContain(recordId);
-  expect(same.status).toBe(0);
+  // the output goes with the code so a failure shows which value differed
+  expect({ status: same.status, stdout: same.stdout }).toEqual({ status: 0, stdout: expect.stringContaining('1 of 1 analyses reproduce') });
 
-  const lines = csvText.split('\n');
-  const cells = lines[10].split(',');
-  cells[5] = '-40.5';
-  lines[10] = cells.join(',');
-  writeFileSync(csvPath, lines.join('\n'));
-  const changed = spawnSync(process.execPath, [cli, 'verify', notebookPath, '--data', `${FRAME}=${csvPath}`], { encoding: 'utf8' });
+  const changed = spawnSync(process.execPath, [cli, 'verify', notebookPath, '--data', `${FRAME}=${changedPath}`], {
+    encoding: 'utf8'
+  });
   expect(changed.status).toBe(1);
   expect(changed.stdout).toMatch(/DATA CHANGED/);
   expect(changed.stdout).toContain('air_temp_c');
