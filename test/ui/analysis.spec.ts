@@ -83,6 +83,8 @@ test('should pick the greenhouse frame and show its columns with their facts', a
   await expect(panel.getByRole('checkbox', { name: 'Use column leak_alarm', exact: true })).toBeChecked();
   // 9 columns, all orders: 2^9 − 1 multiplets.
   await expect(panel.getByText('511 multiplets of order 1 to 9 among 9 columns.')).toBeVisible();
+  // The estimator starts from the user settings (the schema's default).
+  await expect(panel.getByRole('combobox', { name: 'Estimator', exact: true })).toHaveValue('miller-madow');
 });
 
 test('should redraw the preview when one column’s binning changes', async ({}, testInfo) => {
@@ -140,6 +142,13 @@ test('should keep a dark-theme screenshot of the analysis sections', async ({}, 
   const brand = await page.evaluate(() => getComputedStyle(document.body).getPropertyValue('--jp-brand-color2').trim());
   expect(brand).not.toBe('');
   expect(fill).not.toBe('');
+  // Room for the analysis sections: the notebook and settings sections shut.
+  for (const title of ['Data', 'Defaults', 'Records']) {
+    const header = polyadicPanel().locator('.jp-AccordionPanel-title', { hasText: new RegExp(`^${title}$`, 'i') });
+    if ((await header.count()) === 1 && (await header.getAttribute('aria-expanded')) === 'true') {
+      await header.click();
+    }
+  }
   const screenshot = path.join(ARTIFACTS, 'panel-analysis-dark.png');
   await page.screenshot({ path: screenshot });
   await testInfo.attach('panel-analysis-dark', { path: screenshot, contentType: 'image/png' });
