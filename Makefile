@@ -185,7 +185,9 @@ demo: install-demo
 	@if [ -f demo/generate.py ]; then echo "--- python demo/generate.py"; "$(VENV_PY)" demo/generate.py; fi
 	@test -f demo/greenhouse.ipynb || { echo "error: demo/greenhouse.ipynb is missing" >&2; exit 1; }
 	@echo "--- jupyter lab demo/greenhouse.ipynb (Ctrl+C to stop)"
-	@"$(VENV_BIN)/jupyter" lab demo/greenhouse.ipynb --ServerApp.ip=127.0.0.1 $(LAB_ARGS)
+	@# JupyterLab refuses to run as root without --allow-root; containers often only have root.
+	@"$(VENV_BIN)/jupyter" lab demo/greenhouse.ipynb --ServerApp.ip=127.0.0.1 \
+	  $$( [ "$$(id -u)" = 0 ] && echo --allow-root ) $(LAB_ARGS)
 
 # ---------------------------------------------------------------------------------------------
 # Packaging check: `pip install .` from a clean export must give an extension that JupyterLab

@@ -3,7 +3,8 @@
  * part of an analysis.
  */
 import { SidePanel } from '@jupyterlab/ui-components';
-import { Widget } from '@lumino/widgets';
+import type { Message } from '@lumino/messaging';
+import { AccordionPanel, Widget } from '@lumino/widgets';
 
 import { polyadicIcon } from '../icons';
 import { BinningView } from './binning/view';
@@ -53,6 +54,26 @@ export class PolyadicPanel extends SidePanel {
 
   /** The state the panel shows. */
   readonly model: PanelModel;
+
+  /**
+   * On the first show, expand every section if all of them are collapsed. JupyterLab 4.5
+   * saves a sidebar accordion's sections as collapsed when the panel was not on screen at
+   * save time (it records each section's visibility), so a panel the user never opened
+   * would otherwise come back after a reload with every section shut.
+   */
+  protected onAfterShow(msg: Message): void {
+    super.onAfterShow(msg);
+    if (this._shownOnce) {
+      return;
+    }
+    this._shownOnce = true;
+    const content = this.content;
+    if (content instanceof AccordionPanel && content.widgets.every(section => section.isHidden)) {
+      content.widgets.forEach((_, index) => content.expand(index));
+    }
+  }
+
+  private _shownOnce = false;
 }
 
 /** The statics of {@link PolyadicPanel}. */

@@ -64,6 +64,11 @@ function polyadicPanel(page: Page): Locator {
   return page.getByRole('region', { name: 'Polyadic', exact: true });
 }
 
+/** One accordion section of the panel, named after its title ("Data" → "Data Section"). */
+function section(page: Page, title: string): Locator {
+  return polyadicPanel(page).getByRole('region', { name: `${title} Section`, exact: true });
+}
+
 /**
  * Collect console errors and warnings, and uncaught page errors, that come from the
  * extension (its message or stack names it; its code is served under
@@ -98,12 +103,13 @@ test.describe('Polyadic panel', () => {
     await expect(panel.getByRole('heading', { name: 'Polyadic' })).toBeVisible();
 
     // No notebook is open in this workspace: the data section says what to do.
-    const empty = panel.getByRole('status');
-    await expect(empty).toContainText('No notebook is open');
-    await expect(panel.getByRole('button', { name: 'New notebook' })).toBeVisible();
+    const data = section(page, 'Data');
+    await expect(data.getByRole('status')).toContainText('No notebook is open');
+    await expect(data.getByRole('button', { name: 'New notebook' })).toBeVisible();
     // The defaults section lists the settings in the schema's words.
-    await expect(panel.getByText('Row cap')).toBeVisible();
-    await expect(panel.getByText('2,000,000')).toBeVisible();
+    const defaults = section(page, 'Defaults');
+    await expect(defaults.getByText('Row cap', { exact: true })).toBeAttached();
+    await expect(defaults.getByText('2,000,000', { exact: true })).toBeAttached();
 
     const lightBackground = await panel.evaluate(node => getComputedStyle(node).backgroundColor);
     await runFromPalette(page, 'Use Theme: JupyterLab Dark');
@@ -130,23 +136,50 @@ test.describe('Polyadic panel', () => {
     const problems = watchConsole(page);
     await openLab(page, 'panel-notebook');
     await runFromPalette(page, 'Open Polyadic panel');
-    const panel = polyadicPanel(page);
-    await expect(panel.getByRole('status')).toContainText('No notebook is open');
+    const data = section(page, 'Data');
+    await expect(data.getByRole('status')).toContainText('No notebook is open');
 
     await page.evaluate(() =>
       window.jupyterapp!.commands.execute('docmanager:open', { path: 'followed.ipynb' })
     );
-    await expect(panel.getByText('followed.ipynb')).toBeVisible();
-    await expect(panel.getByText(/Python 3 \(ipykernel\) \((idle|busy|starting)\)/)).toBeVisible({
+    await expect(data.getByText('followed.ipynb', { exact: true })).toBeVisible();
+    await expect(data.getByText(/Python 3 \(ipykernel\) \((idle|busy|starting)\)/)).toBeVisible({
       timeout: 60_000
     });
-    await expect(panel.getByRole('status')).toHaveCount(0);
+    await expect(data.getByRole('status')).toHaveCount(0);
 
     await page.evaluate(() => window.jupyterapp!.commands.execute('application:close-all'));
     // The kernel filled in the notebook's language metadata, so JupyterLab asks to save.
     await page.getByRole('dialog').getByRole('button', { name: 'Discard' }).click();
-    await expect(panel.getByRole('status')).toContainText('No notebook is open');
+    await expect(data.getByRole('status')).toContainText('No notebook is open');
     expect(problems).toEqual([]);
+  });
+
+  test('should show its sections expanded after a reload in which it was never opened', async ({
+    page
+  }) => {
+    const workspace = 'panel-reload';
+    await openLab(page, workspace);
+    // Wait until JupyterLab has saved the layout with the panel closed in the right sidebar.
+    await expect
+      .poll(
+        () =>
+          page.evaluate(async name => {
+            const reply = await fetch(`/lab/api/workspaces/${name}`);
+            return JSON.stringify(await reply.json()).includes('pd-polyadic-panel');
+          }, workspace),
+        { timeout: 30_000 }
+      )
+      .toBe(true);
+
+    await openLab(page, workspace);
+    await runFromPalette(page, 'Open Polyadic panel');
+    const titles = polyadicPanel(page).locator('.lm-AccordionPanel-title');
+    await expect(titles.first()).toBeVisible();
+    for (const title of await titles.all()) {
+      await expect(title).toHaveAttribute('aria-expanded', 'true');
+    }
+    await expect(section(page, 'Data').getByRole('status')).toContainText('No notebook is open');
   });
 
   test('should list its settings in the Settings Editor', async ({ page }) => {
@@ -154,7 +187,7 @@ test.describe('Polyadic panel', () => {
     await openLab(page, 'panel-settings');
     await runFromPalette(page, 'Open Polyadic panel');
 
-    await polyadicPanel(page).getByRole('button', { name: 'Edit settings' }).click();
+    await section(page, 'Defaults').getByRole('button', { name: 'Edit settings' }).click();
     const editor = page.locator('.jp-SettingsPanel, .jp-SettingsEditor').first();
     await expect(editor).toBeVisible();
     const entry = page.locator('.jp-PluginList').getByText('Polyadic', { exact: true });
