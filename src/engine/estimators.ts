@@ -11,6 +11,7 @@
 
 import { PolyadicError } from './errors';
 import type { EstimatorName, Units } from './types';
+import { expm1, ln, log1p } from './detmath';
 
 /** Every estimator name, in the order the user interface lists them. */
 export const ESTIMATORS: readonly EstimatorName[] = ['plugin', 'miller-madow', 'chao-shen', 'shrinkage'];
@@ -55,11 +56,14 @@ export function checkEstimator(name: string): EstimatorName {
   );
 }
 
-/** n·ln n for n = 0 … maxCount (0 for n ≤ 1), so a walk looks it up instead of calling log. */
+/**
+ * n·ln n for n = 0 … maxCount (0 for n ≤ 1), so a walk looks it up instead of calling log.
+ * Every logarithm of the engine goes through detmath's `ln`, so a browser and Node give the same bits.
+ */
 export function countLogCountTable(maxCount: number): Float64Array {
   const table = new Float64Array(maxCount + 1);
   for (let n = 2; n <= maxCount; n++) {
-    table[n] = n * Math.log(n);
+    table[n] = n * ln(n);
   }
   return table;
 }
@@ -117,7 +121,7 @@ export function entropyOfCounts(
       if (n === 1) {
         singletons++;
       } else {
-        sum += n * Math.log(n);
+        sum += n * ln(n);
       }
     }
   }
@@ -138,7 +142,7 @@ export function fromNats(nats: number, units: Units): number {
 
 function pluginNats(summary: ICountSummary): number {
   const N = summary.total;
-  return Math.log(N) - summary.sumCountLogCount / N;
+  return ln(N) - summary.sumCountLogCount / N;
 }
 
 function requireCells(estimator: EstimatorName, cells: ICountCells | undefined): ICountCells {
@@ -158,8 +162,8 @@ function chaoShenNats(summary: ICountSummary, cells: ICountCells): number {
       return 0;
     }
     // 1 − (1 − p)^N through log1p keeps precision when p is small.
-    const unseen = -Math.expm1(N * Math.log1p(-p));
-    return (-p * Math.log(p)) / unseen;
+    const unseen = -expm1(N * log1p(-p));
+    return (-p * ln(p)) / unseen;
   };
   let H = 0;
   const counts = cells.counts;
@@ -200,7 +204,7 @@ function shrinkageNats(summary: ICountSummary, cells: ICountCells): number {
   }
   const shrunk = (u: number): number => {
     const theta = lambda * target + (1 - lambda) * u;
-    return theta > 0 ? -theta * Math.log(theta) : 0;
+    return theta > 0 ? -theta * ln(theta) : 0;
   };
   let H = 0;
   for (let i = 0; i < cells.length; i++) {

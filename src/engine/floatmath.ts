@@ -9,8 +9,10 @@
  * `Math.log2` are not, while the C library numpy calls is correctly rounded in all but a few
  * cases. The correctly rounded versions compute in double-double arithmetic (Dekker 1971,
  * "A floating-point technique for extending the available precision", Numer. Math. 18) and round
- * once.
+ * once. The starting guess of the logarithm is detmath's engine-independent `ln`.
  */
+
+import { ln } from './detmath';
 
 /** Rows per block of numpy's pairwise summation (`PW_BLOCKSIZE` in numpy's loops). */
 const PAIRWISE_BLOCK = 128;
@@ -259,7 +261,7 @@ function powerOfTwo(k: number): number {
 
 /** ln x in double-double for a positive finite x: two Newton steps on e^y = x. */
 function ddLog(x: number): IDD {
-  let y: IDD = { hi: Math.log(x), lo: 0 };
+  let y: IDD = { hi: ln(x), lo: 0 };
   for (let step = 0; step < 2; step++) {
     const e = ddExp({ hi: -y.hi, lo: -y.lo });
     const t = ddMulNumber(e, x);
