@@ -40,6 +40,8 @@ export class ChartView extends Widget {
     this._plot = textElement('div', 'pd-Chart-plot');
     this._plot.setAttribute('role', 'img');
     this._plot.setAttribute('aria-label', options.label);
+    // plotly sizes its SVG to the layout height; the box must reserve the same room.
+    this._plot.style.height = `${options.height}px`;
     const actions = textElement('div', 'pd-Chart-actions');
     for (const format of ['png', 'svg'] as const) {
       const button = textElement('button', 'pd-Chart-export jp-mod-styled', format.toUpperCase());

@@ -1,0 +1,241 @@
+/**
+ * Browser tests of the Results section in a real JupyterLab with a real kernel: the fixture
+ * notebook results.ipynb builds a frame with a planted parity triplet, a redundant humidity
+ * pair and a column named with markup; the tests run it with the defaults and read the
+ * histograms, tables, CSV export and chain.
+ */
+import { expect, type Locator, type Page, test } from '@playwright/test';
+import { execFileSync } from 'node:child_process';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+
+import { ARTIFACTS, REPO } from './paths';
+
+interface IExposedApp {
+  started: Promise<void>;
+  restored: Promise<void>;
+  commands: { execute(id: string, args?: Record<string, unknown>): Promise<unknown> };
+}
+
+declare global {
+  interface Window {
+    jupyterapp?: IExposedApp;
+  }
+}
+
+test.describe.configure({ mode: 'serial' });
+
+const MARKUP = '<img src=x onerror=alert(1)>';
+const TRIPLET = ['flowing', 'leak_alarm', 'valve_command'];
+const PAIR = ['humidity_a_pct', 'humidity_b_pct'];
+
+let page: Page;
+let dialogs = 0;
+
+function polyadicPanel(): Locator {
+  return page.getByRole('region', { name: 'Polyadic', exact: true });
+}
+
+function results(): Locator {
+  return polyadicPanel().locator('.pd-Results');
+}
+
+async function execute(id: string, args?: Record<string, unknown>): Promise<void> {
+  await page.evaluate(
+    ([command, options]) => window.jupyterapp!.commands.execute(command as string, options as Record<string, unknown>),
+    [id, args ?? {}] as const
+  );
+}
+
+/** Member names of the first row of a table, sorted. */
+async function firstRowNames(side: 'synergy' | 'redundancy'): Promise<string[]> {
+  const row = results().locator(`.pd-ResultsTable-${side} tbody tr`).first();
+  return (await row.locator('.pd-ResultsTable-name').allTextContents()).sort();
+}
+
+test.beforeAll(async ({ browser }) => {
+  page = await browser.newPage();
+  page.on('dialog', dialog => {
+    dialogs++;
+    void dialog.dismiss();
+  });
+  await page.goto('lab/workspaces/results');
+  await page.waitForFunction(() => window.jupyterapp !== undefined);
+  await page.evaluate(async () => {
+    await window.jupyterapp!.started;
+    await window.jupyterapp!.restored;
+  });
+  await execute('docmanager:open', { path: 'results.ipynb' });
+  await expect(page.locator('.jp-NotebookPanel')).toBeVisible();
+  await execute('polyadic:open-panel');
+  await expect(polyadicPanel()).toBeVisible();
+  await expect(polyadicPanel().getByText('No dataframe in this notebook’s kernel yet', { exact: false })).toBeVisible({
+    timeout: 90_000
+  });
+  await execute('notebook:run-all-cells');
+  const panel = polyadicPanel();
+  await panel.getByRole('combobox', { name: 'Dataframe', exact: true }).selectOption('results_frame');
+  await expect(panel.getByRole('checkbox', { name: 'Use column valve_command', exact: true })).toBeVisible({
+    timeout: 60_000
+  });
+  await panel.getByRole('button', { name: 'Run', exact: true }).click();
+  await expect(panel.locator('.pd-Run')).toHaveAttribute('data-state', 'done', { timeout: 60_000 });
+  // Room for the results: a wider sidebar, and every other section folded.
+  const handle = page.locator('#jp-main-split-panel > .lm-SplitPanel-handle:visible').last();
+  const box = (await handle.boundingBox())!;
+  await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
+  await page.mouse.down();
+  await page.mouse.move(box.x - 300, box.y + box.height / 2, { steps: 5 });
+  await page.mouse.up();
+  const titles = panel.locator('.lm-AccordionPanel-title');
+  for (let i = 0; i < (await titles.count()); i++) {
+    const title = titles.nth(i);
+    const expanded = (await title.getAttribute('aria-expanded')) === 'true';
+    const isResults = (await title.textContent())?.trim() === 'Results';
+    if (expanded !== isResults) {
+      await title.click();
+    }
+  }
+});
+
+test.afterAll(async () => {
+  await page.close();
+});
+
+test('should draw one order histogram per order with the sign convention beside it', async () => {
+  const histograms = results().locator('.pd-Histogram');
+  // 7 columns, all orders: histograms for orders 2 … 7.
+  await expect(histograms).toHaveCount(6);
+  for (let i = 0; i < 6; i++) {
+    const histogram = histograms.nth(i);
+    await expect(histogram.locator('.pd-Histogram-title')).toHaveText(new RegExp(`^Order ${i + 2}: `));
+    await expect(histogram.locator('.pd-Histogram-convention')).toContainText('negative, synergy-dominated');
+    await expect(histogram.locator('.pd-Histogram-convention')).toContainText('Bell 2003');
+    await expect(histogram.locator('svg.main-svg').first()).toBeVisible();
+  }
+  await expect(results().getByRole('note').first()).toContainText('by chance alone');
+});
+
+test('should rank the planted triplet first for synergy and the pair first for redundancy', async () => {
+  expect(await firstRowNames('synergy')).toEqual(TRIPLET);
+  expect(await firstRowNames('redundancy')).toEqual(PAIR);
+});
+
+test('should show a markup column name as text and run nothing', async () => {
+  const names = results().locator('.pd-ResultsTable-name', { hasText: MARKUP });
+  await expect(names.first()).toBeVisible();
+  expect(await names.first().textContent()).toBe(MARKUP);
+  await expect(results().locator('img')).toHaveCount(0);
+  expect(dialogs).toBe(0);
+});
+
+test('should filter both tables by a column name', async () => {
+  await results().getByLabel('Column name', { exact: true }).fill('humidity_b');
+  const rows = results().locator('.pd-ResultsTable-redundancy tbody tr');
+  await expect(results().locator('.pd-ResultsTable-redundancy .pd-ResultsTable-status')).toContainText('filtered from');
+  const count = await rows.count();
+  expect(count).toBeGreaterThan(0);
+  for (const side of ['synergy', 'redundancy']) {
+    const sideRows = results().locator(`.pd-ResultsTable-${side} tbody tr.pd-ResultsTable-row`);
+    for (let i = 0; i < (await sideRows.count()); i++) {
+      expect(await sideRows.nth(i).locator('.pd-ResultsTable-name').allTextContents()).toContain('humidity_b_pct');
+    }
+  }
+  expect(await firstRowNames('redundancy')).toEqual(PAIR);
+});
+
+test('should export the filtered table as CSV with the CLI header', async () => {
+  const downloadEvent = page.waitForEvent('download');
+  await results().getByRole('button', { name: 'Export the redundancy table as CSV' }).click();
+  const download = await downloadEvent;
+  expect(download.suggestedFilename()).toBe('polyadic-redundancy.csv');
+  const file = await download.path();
+  const lines = readFileSync(file, 'utf8').split('\n');
+  // The CLI's own header, from the built CLI on a two-column file.
+  const dir = mkdtempSync(path.join(os.tmpdir(), 'pd-results-'));
+  const input = path.join(dir, 'tiny.csv');
+  writeFileSync(input, 'a,b\n1,2\n2,1\n1,1\n');
+  const cli = execFileSync(process.execPath, [path.join(REPO, 'bin', 'polyadic.cjs'), 'analyze', input, '--format', 'csv'], {
+    encoding: 'utf8'
+  });
+  expect(lines[0]).toBe(cli.split('\n')[0]);
+  const status = await results().locator('.pd-ResultsTable-redundancy .pd-ResultsTable-status').textContent();
+  const total = Number(/of ([\d,]+)/.exec(status ?? '')![1].replace(/,/g, ''));
+  expect(lines.filter(line => line !== '').length - 1).toBe(total);
+  for (const line of lines.slice(1).filter(l => l !== '')) {
+    expect(line.split(',')[0]).toContain('humidity_b_pct');
+  }
+  await results().getByLabel('Column name', { exact: true }).fill('');
+  await expect(results().locator('.pd-ResultsTable-redundancy .pd-ResultsTable-status')).not.toContainText('filtered from');
+});
+
+test('should filter the tables to a histogram bar when the bar is clicked', async () => {
+  const order3 = results().locator('.pd-Histogram').nth(1);
+  // The leftmost bar of order 3 holds the most negative triplet, the planted one.
+  await order3.locator('.bars .point path').first().click({ force: true });
+  await expect(results().locator('.pd-Results-bar')).toContainText('order-3 multiplets of one histogram bar');
+  expect(await firstRowNames('synergy')).toEqual(TRIPLET);
+  const synergyRows = results().locator('.pd-ResultsTable-synergy tbody tr.pd-ResultsTable-row');
+  for (let i = 0; i < (await synergyRows.count()); i++) {
+    await expect(synergyRows.nth(i).locator('.pd-mod-order')).toHaveText('3');
+  }
+  await results().getByRole('button', { name: 'Show all bars' }).click();
+  await expect(results().locator('.pd-Results-bar')).toHaveText('');
+});
+
+test('should chart the conditioning chain of a selected multiplet and export charts', async () => {
+  await results().locator('.pd-ResultsTable-synergy tbody tr').first().click();
+  const chain = results().locator('.pd-Chain');
+  await expect(chain.locator('.pd-Chain-item')).toHaveCount(3);
+  await expect(chain.locator('svg.main-svg').first()).toBeVisible();
+  const downloadEvent = page.waitForEvent('download');
+  await chain.getByRole('button', { name: 'Save Conditioning chain as SVG' }).click();
+  const download = await downloadEvent;
+  expect(download.suggestedFilename()).toBe('polyadic-conditioning-chain.svg');
+  expect(readFileSync(await download.path(), 'utf8')).toMatch(/^<svg/);
+  const png = page.waitForEvent('download');
+  await results()
+    .locator('.pd-Histogram')
+    .first()
+    .getByRole('button', { name: 'Save Order 2 histogram of co-information as PNG' })
+    .click();
+  const pngFile = readFileSync(await (await png).path());
+  // PNG signature (PNG specification, section 5.2).
+  expect(pngFile.subarray(0, 8).toString('hex')).toBe('89504e470d0a1a0a');
+});
+
+test('should keep a dark-theme screenshot of the results', async () => {
+  await execute('apputils:change-theme', { theme: 'JupyterLab Dark' });
+  await expect(page.locator('body')).toHaveAttribute('data-jp-theme-light', 'false');
+  // Plot backgrounds follow the theme: the histogram's paper takes --jp-layout-color1.
+  const layout = await page.evaluate(() => getComputedStyle(document.body).getPropertyValue('--jp-layout-color1').trim());
+  await expect
+    .poll(async () =>
+      (
+        await results()
+          .locator('.pd-Histogram svg.main-svg')
+          .first()
+          .evaluate(node => (node as SVGElement).style.background)
+      ).replace(/\s/g, '')
+    )
+    .toBe(Private.rgb(layout));
+  await results().locator('.pd-Histograms').scrollIntoViewIfNeeded();
+  await polyadicPanel().screenshot({ path: path.join(ARTIFACTS, 'results-dark.png') });
+  await results().locator('.pd-ResultsTable-synergy').scrollIntoViewIfNeeded();
+  await polyadicPanel().screenshot({ path: path.join(ARTIFACTS, 'results-dark-tables.png') });
+  await execute('apputils:change-theme', { theme: 'JupyterLab Light' });
+  await expect(page.locator('body')).toHaveAttribute('data-jp-theme-light', 'true');
+});
+
+namespace Private {
+  /** A CSS hex colour as the rgb(…) text a browser reports, without spaces. */
+  export function rgb(color: string): string {
+    const hex = color.replace('#', '');
+    if (!/^[0-9a-f]{6}$/i.test(hex)) {
+      return color.replace(/\s/g, '');
+    }
+    const [r, g, b] = [0, 2, 4].map(i => parseInt(hex.slice(i, i + 2), 16));
+    return `rgb(${r},${g},${b})`;
+  }
+}
