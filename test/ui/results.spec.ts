@@ -156,7 +156,7 @@ test('should export the filtered table as CSV with the CLI header', async () => 
   const dir = mkdtempSync(path.join(os.tmpdir(), 'pd-results-'));
   const input = path.join(dir, 'tiny.csv');
   writeFileSync(input, 'a,b\n1,2\n2,1\n1,1\n');
-  const cli = execFileSync(process.execPath, [path.join(REPO, 'bin', 'polyadic.cjs'), 'analyze', input, '--format', 'csv'], {
+  const cli = execFileSync(process.execPath, [path.join(REPO, 'bin', 'polyadic.cjs'), 'analyze', input, '--format', 'csv', '--bins', 'categorical'], {
     encoding: 'utf8'
   });
   expect(lines[0]).toBe(cli.split('\n')[0]);
@@ -220,9 +220,9 @@ test('should keep a dark-theme screenshot of the results', async () => {
       ).replace(/\s/g, '')
     )
     .toBe(Private.rgb(layout));
-  await results().locator('.pd-Histograms').scrollIntoViewIfNeeded();
+  await results().locator('.pd-Results-summary').evaluate(node => node.scrollIntoView({ block: 'start' }));
   await polyadicPanel().screenshot({ path: path.join(ARTIFACTS, 'results-dark.png') });
-  await results().locator('.pd-ResultsTable-synergy').scrollIntoViewIfNeeded();
+  await results().locator('.pd-Results-filters').evaluate(node => node.scrollIntoView({ block: 'start' }));
   await polyadicPanel().screenshot({ path: path.join(ARTIFACTS, 'results-dark-tables.png') });
   await execute('apputils:change-theme', { theme: 'JupyterLab Light' });
   await expect(page.locator('body')).toHaveAttribute('data-jp-theme-light', 'true');

@@ -35,16 +35,16 @@ export class ChartView extends Widget {
   /** Create an empty chart. */
   constructor(options: ChartView.IOptions) {
     super();
-    this.addClass('pd-Chart');
+    this.addClass('pd-Plot');
     this._options = options;
-    this._plot = textElement('div', 'pd-Chart-plot');
+    this._plot = textElement('div', 'pd-Plot-area');
     this._plot.setAttribute('role', 'img');
     this._plot.setAttribute('aria-label', options.label);
     // plotly sizes its SVG to the layout height; the box must reserve the same room.
     this._plot.style.height = `${options.height}px`;
-    const actions = textElement('div', 'pd-Chart-actions');
+    const actions = textElement('div', 'pd-Plot-actions');
     for (const format of ['png', 'svg'] as const) {
-      const button = textElement('button', 'pd-Chart-export jp-mod-styled', format.toUpperCase());
+      const button = textElement('button', 'pd-Plot-export jp-mod-styled', format.toUpperCase());
       button.type = 'button';
       button.title = `Save this chart as ${format.toUpperCase()}`;
       button.setAttribute('aria-label', `Save ${options.label} as ${format.toUpperCase()}`);

@@ -161,7 +161,8 @@ export class ResultsView extends Panel {
     ];
     if (model.inadequateCount > 0) {
       cautions.push(
-        `${formatCount(model.inadequateCount)} multiplets have adequacy below 1: fewer rows than possible ` +
+        `${formatCount(model.inadequateCount)} ${model.inadequateCount === 1 ? 'multiplet has' : 'multiplets have'} ` +
+          'adequacy below 1: fewer rows than possible ' +
           'joint cells of their columns, so their entropies are biased and their values less ' +
           'reliable (marked \u26a0 in the tables).'
       );
