@@ -6,6 +6,7 @@
 import { ISignal, Signal } from '@lumino/signaling';
 
 import { multipletsCsv } from '../../results-format';
+import { argsortByValue } from './argsort';
 import type { ResultsColumnKey } from './store';
 import { MultipletStore } from './store';
 
@@ -160,24 +161,33 @@ export class MultipletTable {
 
   private _resort(): void {
     const store = this._store;
-    const indices = this._side.slice();
+    let indices: Uint32Array = this._side.slice();
     if (store) {
       const { key, descending } = this._sort;
       const sign = descending ? -1 : 1;
       if (key === 'columns') {
-        const text = new Map<number, string>();
-        for (const i of indices) {
-          text.set(i, store.namesOf(i).join('\u0000'));
-        }
+        // Names compare by their rank among the column names, member by member: the order of
+        // the joined names, without building a string per row.
+        const names = store.columnNames;
+        const byName = [...names.keys()].sort((a, b) => (names[a] < names[b] ? -1 : names[a] > names[b] ? 1 : 0));
+        const rank = new Int32Array(names.length);
+        byName.forEach((column, r) => (rank[column] = r));
+        const { memberStart, members } = store;
         indices.sort((a, b) => {
-          const x = text.get(a)!;
-          const y = text.get(b)!;
-          return (x < y ? -sign : x > y ? sign : 0) || a - b;
+          const aEnd = memberStart[a + 1];
+          const bEnd = memberStart[b + 1];
+          let i = memberStart[a];
+          let j = memberStart[b];
+          for (; i < aEnd && j < bEnd; i++, j++) {
+            const d = rank[members[i]] - rank[members[j]];
+            if (d !== 0) {
+              return sign * d;
+            }
+          }
+          return sign * ((aEnd - i) - (bEnd - j)) || a - b;
         });
       } else {
-        const values = store.numeric(key);
-        // Ties keep the result's order, so equal values list in the engine's order.
-        indices.sort((a, b) => sign * (values[a] - values[b]) || a - b);
+        indices = argsortByValue(indices, store.numeric(key), descending);
       }
     }
     this._sorted = indices;
@@ -229,9 +239,9 @@ export class MultipletTable {
   }
 
   private _store: MultipletStore | null = null;
-  private _side = new Uint32Array(0);
-  private _sorted = new Uint32Array(0);
-  private _visible = new Uint32Array(0);
+  private _side: Uint32Array = new Uint32Array(0);
+  private _sorted: Uint32Array = new Uint32Array(0);
+  private _visible: Uint32Array = new Uint32Array(0);
   private _sort: ITableSort;
   private _filter: ITableFilter = { column: '', order: null, mask: null };
   private _page = 0;
