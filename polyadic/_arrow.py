@@ -8,7 +8,9 @@ The stream follows one contract (src/bridge/protocol.ts), whatever the source li
 * categoricals and strings become ``dictionary<int32, utf8>`` (one dictionary for the whole
   stream, so every record batch shares it);
 * datetimes and timedeltas become ``int64`` counts; the unit (and time zone, if any) is stated
-  in the column metadata of the reply. Dates become seconds since the epoch.
+  in the column metadata of the reply. ``date32`` columns stay ``date32`` (days since the
+  epoch, unit ``"day"``), as the CLI's file readers read them, so a date column fingerprints
+  the same from the kernel and from a file; ``date64`` becomes ``int64`` milliseconds.
 
 Everything here is a pure function of its arguments, so tests call it without a kernel.
 """
@@ -310,11 +312,14 @@ def normalize_column(array: pa.Array | pa.ChunkedArray, name: str, dtype: str) -
             if arrow_type.tz is not None:
                 meta["timezone"] = arrow_type.tz
             array = array.view(pa.int64())
-        elif pa.types.is_date32(arrow_type) or pa.types.is_date64(arrow_type):
+        elif pa.types.is_date32(arrow_type):
+            # Arrow's own unit, as src/engine/table.ts reads a date32 column of a file.
             kind = "datetime"
-            unit = "s" if pa.types.is_date32(arrow_type) else "ms"
-            meta["unit"] = unit
-            array = array.cast(pa.timestamp(unit)).view(pa.int64())
+            meta["unit"] = "day"
+        elif pa.types.is_date64(arrow_type):
+            kind = "datetime"
+            meta["unit"] = "ms"
+            array = array.view(pa.int64())
         elif pa.types.is_duration(arrow_type):
             kind = "timedelta"
             meta["unit"] = arrow_type.unit

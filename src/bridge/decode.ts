@@ -26,7 +26,7 @@ export interface IFetchedField {
   arrowType: string;
   /** Missing values in the sent rows. */
   nullCount: number;
-  /** Resolution of the int64 counts of a datetime or timedelta column; otherwise null. */
+  /** Resolution of a datetime or timedelta column ('day' for date32); otherwise null. */
   unit: TimeUnit | null;
   /** Time zone of an aware datetime column (values are UTC instants); otherwise null. */
   timezone: string | null;
@@ -38,7 +38,7 @@ export interface IFetchedFrame {
   name: string;
   /**
    * One view per requested column, in request order. `dtype` is the source library's type
-   * name; datetimes and timedeltas are int64 counts of their field's `unit`.
+   * name; datetimes and timedeltas are counts of their field's `unit` (int64, or int32 days).
    */
   columns: ColumnView[];
   /** How each column was encoded, in the same order as `columns`. */
@@ -252,13 +252,14 @@ export function describeTimeUnit(field: IFetchedField): string | null {
   if (field.timezone !== null) {
     return `${unit} since 1970-01-01 00:00 UTC (time zone ${field.timezone})`;
   }
-  return `${unit} since 1970-01-01 00:00`;
+  return field.unit === 'day' ? `${unit} since 1970-01-01` : `${unit} since 1970-01-01 00:00`;
 }
 
 /** Module-private helpers. */
 namespace Private {
   /** Plural names of the time units. */
   export const UNIT_NAMES: Record<TimeUnit, string> = {
+    day: 'days',
     s: 'seconds',
     ms: 'milliseconds',
     us: 'microseconds',

@@ -44,8 +44,11 @@ export type ColumnKind =
 /** The library a frame comes from. */
 export type FrameKind = 'pandas' | 'polars' | 'arrow';
 
-/** Resolution of a datetime or timedelta column sent as int64 counts. */
-export type TimeUnit = 's' | 'ms' | 'us' | 'ns';
+/**
+ * Resolution of a datetime or timedelta column: int64 counts of 's' … 'ns', or 'day' for a
+ * date32 column, which keeps Arrow's own int32 days since the epoch.
+ */
+export type TimeUnit = 'day' | 's' | 'ms' | 'us' | 'ns';
 
 /** One column as listed. */
 export interface IListedColumn {
@@ -156,7 +159,8 @@ export interface IFetchChunk {
 /**
  * How a fetched column was encoded. Numbers keep their width (float16 arrives as float32,
  * decimals as float64); categoricals and strings arrive as Dictionary<Int32, Utf8>; datetimes
- * and timedeltas as Int64 counts of `unit` (dates as seconds). Missing values are nulls.
+ * and timedeltas as Int64 counts of `unit`, except date32 columns, which arrive unchanged as
+ * days (`unit` 'day'), as a file reader reads them. Missing values are nulls.
  */
 export interface IFetchedColumn {
   name: string;

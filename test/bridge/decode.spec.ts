@@ -138,7 +138,9 @@ describe('FetchAssembler', () => {
       expect(byName.datetime.field).toMatchObject({ kind: 'datetime', unit: 'ns', timezone: null });
       expect(byName.datetime_tz.field).toMatchObject({ kind: 'datetime', unit: 'us', timezone: 'Europe/Paris' });
       expect(byName.timedelta.field).toMatchObject({ kind: 'timedelta', unit: 'ms' });
-      expect(byName.date.field).toMatchObject({ kind: 'datetime', unit: 's' });
+      expect(byName.date.field).toMatchObject({ kind: 'datetime', unit: 'day', arrowType: 'date32[day]' });
+      expect(byName.date.column.dtype).toBe('object');
+      expect(describeTimeUnit(byName.date.field)).toBe('days since 1970-01-01');
       expect(byName.float64.field.unit).toBeNull();
       expect(describeTimeUnit(byName.datetime.field)).toBe('nanoseconds since 1970-01-01 00:00');
       expect(describeTimeUnit(byName.datetime_tz.field)).toBe(
@@ -147,6 +149,7 @@ describe('FetchAssembler', () => {
       expect(describeTimeUnit(byName.timedelta.field)).toBe('milliseconds');
       expect(describeTimeUnit(byName.float64.field)).toBeNull();
       expect(timeUnitName('s')).toBe('seconds');
+      expect(timeUnitName('day')).toBe('days');
     });
 
     it("should order a string column's categories by code unit and keep a categorical's own order", () => {

@@ -13,7 +13,8 @@ Writes into OUT_DIR:
 
 Expected values are JSON: null for a missing value; 64-bit integers (int64, uint64, and
 datetimes and timedeltas, which travel as int64) as decimal strings, so JavaScript can compare
-them with BigInt without losing precision; other numbers as numbers; categorical and string
+them with BigInt without losing precision; dates (``date32``) as numbers of days since the
+epoch; other numbers as numbers; categorical and string
 columns as their string values; booleans as booleans.
 """
 
@@ -90,6 +91,9 @@ def expected_values(array: pa.Array) -> list[Any]:
     """A column's decoded values in the manifest's JSON conventions (module docstring)."""
     if pa.types.is_dictionary(array.type):
         return array.to_pylist()
+    if pa.types.is_date32(array.type):
+        # days since the epoch, as the front end reads the int32 values
+        return array.view(pa.int32()).to_pylist()
     if pa.types.is_integer(array.type) and array.type.bit_width == 64:
         return [None if v is None else str(v) for v in array.to_pylist()]
     return array.to_pylist()

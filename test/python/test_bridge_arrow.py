@@ -192,16 +192,17 @@ class TestTimes:
         }
         assert table.column("d").to_pylist() == [600_000, None, -1000]
 
-    def test_dates_as_seconds(self):
+    def test_dates_as_days(self):
         days = [dt.date(2031, 3, 1), None, dt.date(1969, 12, 31)]
         frame = pd.DataFrame({"day": np.array(days, dtype=object)})
         payload = frame_to_ipc_batches(frame)
-        expected = [
-            None if d is None else int(dt.datetime(d.year, d.month, d.day, tzinfo=dt.timezone.utc).timestamp())
-            for d in days
-        ]
-        assert decode(payload).column("day").to_pylist() == expected
-        assert meta_by_name(payload)["day"]["unit"] == "s"
+        # Source: Python's datetime module (date subtraction gives whole days).
+        expected = [None if d is None else (d - dt.date(1970, 1, 1)).days for d in days]
+        column = decode(payload).column("day").combine_chunks()
+        assert column.type == pa.date32()
+        assert column.view(pa.int32()).to_pylist() == expected == [22339, None, -1]
+        assert meta_by_name(payload)["day"]["unit"] == "day"
+        assert meta_by_name(payload)["day"]["arrow_type"] == "date32[day]"
 
 
 class TestOtherLibraries:
@@ -236,11 +237,11 @@ class TestOtherLibraries:
         assert table.column("c").to_pylist() == ["x", "y", None]
         assert table.column("e").to_pylist() == ["lo", "hi", "lo"]
         assert table.column("t").to_pylist() == [0, None, 1_000_000]
-        assert table.column("d").to_pylist() == [0, 86_400, None]
+        assert table.column("d").combine_chunks().view(pa.int32()).to_pylist() == [0, 1, None]
         assert table.column("du").to_pylist() == [5, None, 7]
         assert table.column("dec").to_pylist() == [1.25, 2.5, None]
         meta = meta_by_name(payload)
-        assert meta["t"]["timezone"] == "UTC" and meta["du"]["unit"] == "ms"
+        assert meta["t"]["timezone"] == "UTC" and meta["du"]["unit"] == "ms" and meta["d"]["unit"] == "day"
         assert meta["e"]["kind"] == "categorical" and meta["s"]["kind"] == "string"
 
     def test_arrow_types_and_chunked_dictionaries(self):

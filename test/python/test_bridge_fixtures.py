@@ -85,12 +85,9 @@ def test_expected_values_match_the_source_frame(written):
             values = series.array.asi8.tolist()
             wide = True
         elif name == "date":
-            # Source: Python's datetime module; dates travel as seconds since the epoch.
-            values = [
-                None if d is None else dt.datetime(d.year, d.month, d.day, tzinfo=dt.timezone.utc).timestamp()
-                for d in series
-            ]
-            wide = True
+            # Source: Python's datetime module; dates travel as Arrow's date32 days since the epoch.
+            values = [None if d is None else (d - dt.date(1970, 1, 1)).days for d in series]
+            wide = False
         else:
             values = series.astype(object).tolist()
             wide = meta[name]["arrow_type"] in ("int64", "uint64")

@@ -14,6 +14,7 @@ each digest is also checked against OpenSSL (the ``openssl dgst`` command-line t
 from __future__ import annotations
 
 import base64
+import datetime as dt
 import hashlib
 import importlib.util
 import json
@@ -26,6 +27,7 @@ import numpy as np
 import pandas as pd
 import pyarrow as pa
 import pyarrow.feather as feather
+import pyarrow.parquet as pq
 import pytest
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -245,6 +247,36 @@ def test_node_agrees_on_arrow_and_parquet_files(frame, files, node_run):
         mismatched = [a["name"] for a, b in zip(expected["columns"], got["columns"]) if a != b]
         assert mismatched == [], f"{kind}: columns whose digests differ: {mismatched}"
         assert got["sha256"] == expected["sha256"], kind
+
+
+def test_date_column_agrees_between_kernel_and_cli_on_parquet(frame, tmp_path):
+    """A date column reads as days since the epoch in the kernel and in the CLI (Arrow's date32 unit)."""
+    cli = ROOT / "bin" / "polyadic.cjs"
+    node = shutil.which("node")
+    if node is None or not cli.exists():
+        pytest.fail("the built CLI is needed: run `npm run build:cli` (node bin/polyadic.cjs)")
+    rng = np.random.default_rng(5)
+    dated = frame[["air_temp_c", "bed_zone"]].copy()
+    # one day per 144 rows (the log's 10-minute rows), a few missing, one before 1970
+    days = [dt.date(2031, 3, 1) + dt.timedelta(days=i // 144) for i in range(len(dated))]
+    for i in rng.choice(len(days), 7, replace=False):
+        days[i] = None
+    days[0] = dt.date(1969, 12, 31)
+    dated["log_day"] = np.array(days, dtype=object)
+    path = tmp_path / "dated.parquet"
+    dated.to_parquet(path, engine="pyarrow", index=False)
+    # Source: pyarrow's Parquet writer stores Python dates with the DATE logical type (date32).
+    assert pq.read_schema(path).field("log_day").type == pa.date32()
+    done = subprocess.run([node, str(cli), "fingerprint", str(path)], capture_output=True, text=True)
+    assert done.returncode == 0, done.stderr
+    from_file = json.loads(done.stdout)
+    from_kernel = polyadic.fingerprint(dated)
+    mismatched = [a["name"] for a, b in zip(from_kernel["columns"], from_file["columns"]) if a != b]
+    assert mismatched == [], f"columns whose digests differ: {mismatched}"
+    assert from_file["sha256"] == from_kernel["sha256"]
+    # the same frame with dates as seconds (the old wire rule) must not match: the check can fail
+    as_seconds = dated.assign(log_day=pd.to_datetime(dated["log_day"]).astype("datetime64[s]"))
+    assert polyadic.fingerprint(as_seconds)["sha256"] != from_file["sha256"]
 
 
 def test_node_agrees_on_a_csv_file(frame, files, node_run):
