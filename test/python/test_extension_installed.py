@@ -64,7 +64,10 @@ def test_labextension_paths_point_at_the_built_extension():
 def test_built_extension_ships_the_current_settings_schema():
     shipped = Path(polyadic.__file__).parent / "labextension" / "schemas" / NPM_NAME / "plugin.json"
     assert shipped.is_file(), f"{shipped} is missing; run `make build`"
-    source = json.loads((ROOT / "schema" / "plugin.json").read_text(encoding="utf-8"))
+    # The builder copies the schemas from package.json's jupyterlab.schemaDir.
+    source_path = ROOT / PACKAGE_JSON["jupyterlab"]["schemaDir"] / "plugin.json"
+    assert source_path.is_file(), f"{source_path} (jupyterlab.schemaDir in package.json) is missing"
+    source = json.loads(source_path.read_text(encoding="utf-8"))
     assert json.loads(shipped.read_text(encoding="utf-8")) == source, (
-        "the built settings schema differs from schema/plugin.json; run `make build`"
+        f"the built settings schema differs from {source_path.relative_to(ROOT)}; run `make build`"
     )
