@@ -55,6 +55,8 @@ async function firstRowNames(side: 'synergy' | 'redundancy'): Promise<string[]> 
 }
 
 test.beforeAll(async ({ browser }) => {
+  // Kernel start, the frame's fetch and the run each wait up to a minute on a loaded machine.
+  test.setTimeout(300_000);
   page = await browser.newPage();
   page.on('dialog', dialog => {
     dialogs++;
@@ -79,6 +81,8 @@ test.beforeAll(async ({ browser }) => {
   await expect(panel.getByRole('checkbox', { name: 'Use column valve_command', exact: true })).toBeVisible({
     timeout: 60_000
   });
+  // The checklist shows the listing's columns at once; Run opens once the fetch has selected them.
+  await expect(panel.getByRole('button', { name: 'Run', exact: true })).toBeEnabled({ timeout: 120_000 });
   await panel.getByRole('button', { name: 'Run', exact: true }).click();
   await expect(panel.locator('.pd-Run')).toHaveAttribute('data-state', 'done', { timeout: 60_000 });
   // Room for the results: a wider sidebar, and every other section folded.
