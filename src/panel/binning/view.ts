@@ -4,9 +4,8 @@
  * per bin. The chart is plain SVG whose colours are CSS classes over --jp-* variables, so a
  * theme change recolours it without a redraw. Column names and category labels are text.
  */
-import { Widget } from '@lumino/widgets';
-
 import { textElement } from '../dom';
+import { SectionView } from '../section';
 import type { IColumnPreview } from '../../worker/protocol';
 import { BinningModel } from './model';
 
@@ -26,13 +25,10 @@ const SPEC_SUGGESTIONS = [
 ];
 
 /** Shows a {@link BinningModel}. */
-export class BinningView extends Widget {
+export class BinningView extends SectionView<BinningModel> {
   /** Create the section for `options.model`. */
   constructor(options: BinningView.IOptions) {
-    super();
-    this.addClass('pd-Binning');
-    this.title.label = 'Binning';
-    this._model = options.model;
+    super({ model: options.model, className: 'pd-Binning', label: 'Binning' });
     const listId = `pd-binning-forms-${Private.nextId()}`;
     this._datalist = document.createElement('datalist');
     this._datalist.id = listId;
@@ -43,29 +39,20 @@ export class BinningView extends Widget {
     this._apply = textElement('button', 'pd-Binning-apply jp-mod-styled', 'Apply to all numeric columns');
     this._apply.type = 'button';
     this._apply.addEventListener('click', () => {
-      const focused = this._model.focused;
+      const focused = this.model.focused;
       if (focused !== null) {
-        this._model.applyToAllNumeric(focused);
+        this.model.applyToAllNumeric(focused);
       }
     });
     this._preview = textElement('figure', 'pd-Binning-preview');
     this._preview.setAttribute('aria-live', 'polite');
     this.node.append(this._datalist, this._empty, this._rows, this._apply, this._preview);
-    this._model.changed.connect(this._render, this);
-    this._render();
+    this.render();
   }
 
-  /** Disconnect from the model and dispose the widget. */
-  dispose(): void {
-    if (this.isDisposed) {
-      return;
-    }
-    this._model.changed.disconnect(this._render, this);
-    super.dispose();
-  }
-
-  private _render(): void {
-    const names = this._model.names;
+  /** Redraw from the model. */
+  protected render(): void {
+    const names = this.model.names;
     this._empty.hidden = names.length > 0;
     this._apply.hidden = names.length === 0;
     const key = JSON.stringify(names);
@@ -75,18 +62,18 @@ export class BinningView extends Widget {
       this._rows.replaceChildren(...names.map(name => this._row(name)));
     }
     for (const [name, { input, problem, row }] of this._fields) {
-      const spec = this._model.specOf(name) ?? '';
+      const spec = this.model.specOf(name) ?? '';
       if (input.value !== spec && document.activeElement !== input) {
         input.value = spec;
       }
-      const text = this._model.problemOf(name);
+      const text = this.model.problemOf(name);
       problem.textContent = text ?? '';
       problem.hidden = text === null;
       input.setAttribute('aria-invalid', text === null ? 'false' : 'true');
-      row.classList.toggle('jp-mod-active', this._model.focused === name);
+      row.classList.toggle('jp-mod-active', this.model.focused === name);
     }
-    const focused = this._model.focused;
-    this._apply.disabled = focused === null || !this._model.isNumeric(focused);
+    const focused = this.model.focused;
+    this._apply.disabled = focused === null || !this.model.isNumeric(focused);
     this._renderPreview();
   }
 
@@ -102,9 +89,9 @@ export class BinningView extends Widget {
     input.spellcheck = false;
     input.setAttribute('list', this._listId);
     input.setAttribute('aria-label', `Binning of column ${name}`);
-    input.value = this._model.specOf(name) ?? '';
-    input.addEventListener('input', () => this._model.setSpec(name, input.value));
-    input.addEventListener('focus', () => this._model.focus(name));
+    input.value = this.model.specOf(name) ?? '';
+    input.addEventListener('input', () => this.model.setSpec(name, input.value));
+    input.addEventListener('focus', () => this.model.focus(name));
     const problem = textElement('p', 'pd-Binning-problem');
     problem.setAttribute('role', 'alert');
     problem.hidden = true;
@@ -114,7 +101,7 @@ export class BinningView extends Widget {
   }
 
   private _renderPreview(): void {
-    const state = this._model.preview;
+    const state = this.model.preview;
     const figure = this._preview;
     figure.classList.toggle('jp-mod-pending', state.pending);
     figure.dataset.column = state.column ?? '';
@@ -144,7 +131,6 @@ export class BinningView extends Widget {
     );
   }
 
-  private _model: BinningModel;
   private _datalist: HTMLDataListElement;
   private _listId: string;
   private _empty: HTMLElement;

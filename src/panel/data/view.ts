@@ -3,20 +3,16 @@
  * checklist (type, distinct and missing counts, warnings). Column names, types and messages
  * are untrusted text and only ever reach the DOM through `textContent`.
  */
-import { Widget } from '@lumino/widgets';
-
 import { textElement } from '../dom';
+import { SectionView } from '../section';
 import { IColumnEntry, DataModel } from './model';
 import { WARNING_TEXT } from './stats';
 
 /** Shows a {@link DataModel}. */
-export class DataView extends Widget {
+export class DataView extends SectionView<DataModel> {
   /** Create the section for `options.model`. */
   constructor(options: DataView.IOptions) {
-    super();
-    this.addClass('pd-Data');
-    this.title.label = 'Dataframe';
-    this._model = options.model;
+    super({ model: options.model, className: 'pd-Data', label: 'Dataframe' });
     this._status = textElement('div', 'pd-Data-status');
     this._status.setAttribute('role', 'status');
     const pickerId = `pd-frame-picker-${Private.nextId()}`;
@@ -25,7 +21,7 @@ export class DataView extends Widget {
     this._picker = document.createElement('select');
     this._picker.id = pickerId;
     this._picker.className = 'pd-Data-picker jp-mod-styled';
-    this._picker.addEventListener('change', () => void this._model.pick(this._picker.value === '' ? null : this._picker.value));
+    this._picker.addEventListener('change', () => void this.model.pick(this._picker.value === '' ? null : this._picker.value));
     this._pickerRow = textElement('div', 'pd-Data-pickerRow');
     this._pickerRow.append(label, this._picker);
     this._progress = document.createElement('progress');
@@ -35,21 +31,12 @@ export class DataView extends Widget {
     this._message = textElement('p', 'pd-Data-message');
     this._list = textElement('div', 'pd-Data-columns');
     this.node.append(this._status, this._pickerRow, this._progress, this._message, this._list);
-    this._model.changed.connect(this._render, this);
-    this._render();
+    this.render();
   }
 
-  /** Disconnect from the model and dispose the widget. */
-  dispose(): void {
-    if (this.isDisposed) {
-      return;
-    }
-    this._model.changed.disconnect(this._render, this);
-    super.dispose();
-  }
-
-  private _render(): void {
-    const model = this._model;
+  /** Redraw from the model. */
+  protected render(): void {
+    const model = this.model;
     this._renderStatus();
     const ready = model.status?.state === 'ready';
     this._pickerRow.hidden = !ready || model.frames.length === 0;
@@ -75,7 +62,7 @@ export class DataView extends Widget {
   }
 
   private _renderStatus(): void {
-    const status = this._model.status;
+    const status = this.model.status;
     const box = this._status;
     box.replaceChildren();
     if (status === null) {
@@ -96,13 +83,13 @@ export class DataView extends Widget {
     if (status.state === 'error' || status.state === 'missing-package') {
       const retry = textElement('button', 'pd-Data-retry jp-mod-styled jp-mod-accept', 'Try again');
       retry.type = 'button';
-      retry.addEventListener('click', () => this._model.reconnect());
+      retry.addEventListener('click', () => this.model.reconnect());
       box.append(retry);
     }
   }
 
   private _renderPicker(): void {
-    const frames = this._model.frames;
+    const frames = this.model.frames;
     const key = JSON.stringify(frames.map(frame => [frame.name, frame.rows, frame.columns.length]));
     if (key !== this._pickerKey) {
       this._pickerKey = key;
@@ -121,12 +108,12 @@ export class DataView extends Widget {
         })
       );
     }
-    this._picker.value = this._model.frame ?? '';
+    this._picker.value = this.model.frame ?? '';
   }
 
   private _renderColumns(): void {
-    const columns = this._model.columns;
-    const key = JSON.stringify([this._model.frame, columns.map(column => [column.name, column.stats?.distinct ?? null])]);
+    const columns = this.model.columns;
+    const key = JSON.stringify([this.model.frame, columns.map(column => [column.name, column.stats?.distinct ?? null])]);
     if (key !== this._columnsKey) {
       this._columnsKey = key;
       this._boxes.clear();
@@ -146,7 +133,7 @@ export class DataView extends Widget {
       }
     }
     for (const [name, box] of this._boxes) {
-      box.checked = this._model.isSelected(name);
+      box.checked = this.model.isSelected(name);
     }
   }
 
@@ -157,7 +144,7 @@ export class DataView extends Widget {
     box.type = 'checkbox';
     box.setAttribute('aria-label', `Use column ${column.name}`);
     box.disabled = column.view === null;
-    box.addEventListener('change', () => this._model.setSelected(column.name, box.checked));
+    box.addEventListener('change', () => this.model.setSelected(column.name, box.checked));
     this._boxes.set(column.name, box);
     use.append(box);
     const name = textElement('td', 'pd-Data-name');
@@ -181,7 +168,6 @@ export class DataView extends Widget {
     return row;
   }
 
-  private _model: DataModel;
   private _status: HTMLElement;
   private _picker: HTMLSelectElement;
   private _pickerRow: HTMLElement;

@@ -2,45 +2,32 @@
  * The panel's defaults section: the settings new analyses start from, with a way to the
  * Settings Editor.
  */
-import { Widget } from '@lumino/widgets';
-
 import { textElement } from '../dom';
+import { SectionView } from '../section';
 import { DefaultsModel } from './model';
 
 /** Shows a {@link DefaultsModel}. Text only goes in through `textContent`. */
-export class DefaultsView extends Widget {
+export class DefaultsView extends SectionView<DefaultsModel> {
   /** Create the section for `options.model`. */
   constructor(options: DefaultsView.IOptions) {
-    super();
-    this.addClass('pd-Defaults');
-    this.title.label = 'Defaults';
-    this._model = options.model;
+    super({ model: options.model, className: 'pd-Defaults', label: 'Defaults' });
     this._onOpenSettings = options.onOpenSettings ?? null;
-    this._model.changed.connect(this._render, this);
-    this._render();
+    this.render();
   }
 
-  /** Disconnect from the model and dispose the widget. */
-  dispose(): void {
-    if (this.isDisposed) {
-      return;
-    }
-    this._model.changed.disconnect(this._render, this);
-    super.dispose();
-  }
-
-  private _render(): void {
+  /** Redraw from the model. */
+  protected render(): void {
     const children: HTMLElement[] = [];
-    const error = this._model.error;
+    const error = this.model.error;
     if (error !== null) {
       const message = textElement('p', 'pd-Defaults-error', error);
       message.setAttribute('role', 'alert');
       children.push(message);
-    } else if (this._model.rows.length === 0) {
+    } else if (this.model.rows.length === 0) {
       children.push(textElement('p', 'pd-Defaults-note', 'Loading settings…'));
     } else {
       const list = textElement('dl', 'pd-Facts');
-      for (const row of this._model.rows) {
+      for (const row of this.model.rows) {
         list.append(
           textElement('dt', 'pd-Facts-label', row.label),
           textElement('dd', 'pd-Facts-value', row.value)
@@ -58,7 +45,6 @@ export class DefaultsView extends Widget {
     this.node.replaceChildren(...children);
   }
 
-  private readonly _model: DefaultsModel;
   private readonly _onOpenSettings: (() => void) | null;
 }
 

@@ -3,36 +3,23 @@
  * rename, delete and "insert analysis cell" per analysis, the banner of a record that is
  * invalid, newer or migrated, and the "data changed" banner of the chosen analysis.
  */
-import { Widget } from '@lumino/widgets';
-
 import type { IAnalysisRecord, IRecordProblem } from '../../record/types';
 import { textElement } from '../dom';
+import { SectionView } from '../section';
 import { RecordsModel } from './model';
 
 /** Shows a {@link RecordsModel}. Labels, frame and column names go in through `textContent` only. */
-export class RecordsView extends Widget {
+export class RecordsView extends SectionView<RecordsModel> {
   /** Create the section for `options.model`. */
   constructor(options: RecordsView.IOptions) {
-    super();
-    this.addClass('pd-Records');
-    this.title.label = 'Records';
-    this._model = options.model;
+    super({ model: options.model, className: 'pd-Records', label: 'Records' });
     this._onInsertCell = options.onInsertCell ?? null;
-    this._model.changed.connect(this._render, this);
-    this._render();
+    this.render();
   }
 
-  /** Disconnect from the model and dispose the widget. */
-  dispose(): void {
-    if (this.isDisposed) {
-      return;
-    }
-    this._model.changed.disconnect(this._render, this);
-    super.dispose();
-  }
-
-  private _render(): void {
-    const model = this._model;
+  /** Redraw from the model. */
+  protected render(): void {
+    const model = this.model;
     const state = model.state;
     const parts: HTMLElement[] = [];
     if (state === null) {
@@ -72,7 +59,7 @@ export class RecordsView extends Widget {
 
   /** One analysis of the list. */
   private _item(analysis: IAnalysisRecord, readOnly: boolean): HTMLElement {
-    const model = this._model;
+    const model = this.model;
     const chosen = model.selectedId === analysis.id;
     const item = textElement('li', `pd-Records-item${chosen ? ' jp-mod-selected' : ''}`);
     item.dataset.recordId = analysis.id;
@@ -118,7 +105,7 @@ export class RecordsView extends Widget {
     const bar = textElement('div', 'pd-Records-actions');
     bar.append(
       Private.button('Restore settings', 'Put this analysis’ frame, columns and settings back in the panel', () =>
-        this._model.restore(analysis.id)
+        this.model.restore(analysis.id)
       )
     );
     const insert = this._onInsertCell;
@@ -133,12 +120,12 @@ export class RecordsView extends Widget {
       bar.append(
         Private.button('Rename', 'Give this analysis another name', () => {
           this._renaming = analysis.id;
-          this._render();
+          this.render();
           this.node.querySelector<HTMLInputElement>('.pd-Records-renameInput')?.focus();
         }),
         Private.button('Delete', 'Remove this analysis from the notebook’s record', () => {
           this._confirmingDelete = analysis.id;
-          this._render();
+          this.render();
         })
       );
     }
@@ -153,11 +140,11 @@ export class RecordsView extends Widget {
     input.setAttribute('aria-label', 'New name');
     const done = (): void => {
       this._renaming = null;
-      this._render();
+      this.render();
     };
     form.addEventListener('submit', event => {
       event.preventDefault();
-      if (this._model.rename(analysis.id, input.value)) {
+      if (this.model.rename(analysis.id, input.value)) {
         done();
       }
     });
@@ -179,18 +166,17 @@ export class RecordsView extends Widget {
       textElement('span', 'pd-Records-question', 'Delete this analysis from the record?'),
       Private.button('Delete', 'Delete it for good', () => {
         this._confirmingDelete = null;
-        this._model.remove(analysis.id);
-        this._render();
+        this.model.remove(analysis.id);
+        this.render();
       }),
       Private.button('Keep', 'Keep it', () => {
         this._confirmingDelete = null;
-        this._render();
+        this.render();
       })
     );
     return box;
   }
 
-  private readonly _model: RecordsModel;
   private readonly _onInsertCell: ((id: string) => void) | null;
   private _renaming: string | null = null;
   private _confirmingDelete: string | null = null;

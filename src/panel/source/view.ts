@@ -2,35 +2,22 @@
  * The panel's data section: the notebook the panel follows, or an empty state that says
  * what to do when no notebook is open.
  */
-import { Widget } from '@lumino/widgets';
-
 import { textElement } from '../dom';
+import { SectionView } from '../section';
 import { INotebookSummary, SourceModel } from './model';
 
 /** Shows a {@link SourceModel}. Text only goes in through `textContent`. */
-export class SourceView extends Widget {
+export class SourceView extends SectionView<SourceModel> {
   /** Create the section for `options.model`. */
   constructor(options: SourceView.IOptions) {
-    super();
-    this.addClass('pd-Source');
-    this.title.label = 'Data';
-    this._model = options.model;
+    super({ model: options.model, className: 'pd-Source', label: 'Data' });
     this._onNewNotebook = options.onNewNotebook ?? null;
-    this._model.changed.connect(this._render, this);
-    this._render();
+    this.render();
   }
 
-  /** Disconnect from the model and dispose the widget. */
-  dispose(): void {
-    if (this.isDisposed) {
-      return;
-    }
-    this._model.changed.disconnect(this._render, this);
-    super.dispose();
-  }
-
-  private _render(): void {
-    const notebook = this._model.notebook;
+  /** Redraw from the model. */
+  protected render(): void {
+    const notebook = this.model.notebook;
     this.node.replaceChildren(
       notebook === null ? this._renderEmpty() : Private.renderNotebook(notebook)
     );
@@ -63,7 +50,6 @@ export class SourceView extends Widget {
     return box;
   }
 
-  private readonly _model: SourceModel;
   private readonly _onNewNotebook: (() => void) | null;
 }
 
