@@ -3,20 +3,14 @@
  * real JupyterLab with a real kernel: the fixture notebook analysis.ipynb builds the frames.
  * Latencies are measured in the page and reported as annotations, never asserted.
  */
-import { expect, type Locator, type Page, test } from '@playwright/test';
+import { expect, type Page, test } from '@playwright/test';
 import path from 'node:path';
 
+import { execute, openLab, openNotebookAndPanel, polyadicPanel } from './helpers';
 import { ARTIFACTS } from './paths';
-
-interface IExposedApp {
-  started: Promise<void>;
-  restored: Promise<void>;
-  commands: { execute(id: string, args?: Record<string, unknown>): Promise<unknown> };
-}
 
 declare global {
   interface Window {
-    jupyterapp?: IExposedApp;
     pdDialogs?: number;
   }
 }
@@ -26,21 +20,9 @@ test.describe.configure({ mode: 'serial' });
 let page: Page;
 let dialogs = 0;
 
-/** The Polyadic panel, found by its accessible name. */
-function polyadicPanel(): Locator {
-  return page.getByRole('region', { name: 'Polyadic', exact: true });
-}
-
-async function execute(id: string, args?: Record<string, unknown>): Promise<void> {
-  await page.evaluate(([command, options]) => window.jupyterapp!.commands.execute(command as string, options as Record<string, unknown>), [
-    id,
-    args ?? {}
-  ] as const);
-}
-
 /** Pick a frame in the Dataframe section and wait for its checklist. */
 async function pickFrame(name: string, firstColumn: string): Promise<void> {
-  const panel = polyadicPanel();
+  const panel = polyadicPanel(page);
   await panel.getByRole('combobox', { name: 'Dataframe', exact: true }).selectOption(name);
   await expect(panel.getByRole('checkbox', { name: `Use column ${firstColumn}`, exact: true })).toBeVisible();
 }
@@ -51,22 +33,14 @@ test.beforeAll(async ({ browser }) => {
     dialogs++;
     void dialog.dismiss();
   });
-  await page.goto('lab/workspaces/analysis');
-  await page.waitForFunction(() => window.jupyterapp !== undefined);
-  await page.evaluate(async () => {
-    await window.jupyterapp!.started;
-    await window.jupyterapp!.restored;
-  });
-  await execute('docmanager:open', { path: 'analysis.ipynb' });
-  await expect(page.locator('.jp-NotebookPanel')).toBeVisible();
-  await execute('polyadic:open-panel');
-  await expect(polyadicPanel()).toBeVisible();
+  await openLab(page, 'analysis');
+  await openNotebookAndPanel(page, 'analysis.ipynb');
   // The kernel must be up before the cell runs; the panel says so once the bridge is ready.
-  await expect(polyadicPanel().getByText('No dataframe in this notebook’s kernel yet', { exact: false })).toBeVisible({
+  await expect(polyadicPanel(page).getByText('No dataframe in this notebook’s kernel yet', { exact: false })).toBeVisible({
     timeout: 90_000
   });
-  await execute('notebook:run-all-cells');
-  await expect(polyadicPanel().getByRole('combobox', { name: 'Dataframe', exact: true })).toBeVisible({ timeout: 60_000 });
+  await execute(page, 'notebook:run-all-cells');
+  await expect(polyadicPanel(page).getByRole('combobox', { name: 'Dataframe', exact: true })).toBeVisible({ timeout: 60_000 });
 });
 
 test.afterAll(async () => {
@@ -75,7 +49,7 @@ test.afterAll(async () => {
 
 test('should pick the greenhouse frame and show its columns with their facts', async () => {
   await pickFrame('greenhouse', 'humidity_a_pct');
-  const panel = polyadicPanel();
+  const panel = polyadicPanel(page);
   const row = panel.locator('.pd-Data-row', { hasText: 'visitor_zone' });
   // 4 zones, none missing (the fixture draws from four names).
   await expect(row.locator('td').nth(3)).toHaveText('4');
@@ -88,7 +62,7 @@ test('should pick the greenhouse frame and show its columns with their facts', a
 });
 
 test('should redraw the preview when one column’s binning changes', async ({}, testInfo) => {
-  const panel = polyadicPanel();
+  const panel = polyadicPanel(page);
   const input = panel.getByLabel('Binning of column humidity_a_pct', { exact: true });
   await input.focus();
   const figure = panel.locator('.pd-Binning-preview');
@@ -128,23 +102,23 @@ test('should redraw the preview when one column’s binning changes', async ({},
 });
 
 test('should run with the defaults and report the result', async () => {
-  const panel = polyadicPanel();
+  const panel = polyadicPanel(page);
   await panel.getByRole('button', { name: 'Run', exact: true }).click();
   await expect(panel.getByText(/^511 multiplets computed from 3,000 rows of greenhouse/)).toBeVisible({ timeout: 60_000 });
   await expect(panel.locator('.pd-Run')).toHaveAttribute('data-state', 'done');
 });
 
 test('should keep a dark-theme screenshot of the analysis sections', async ({}, testInfo) => {
-  await execute('apputils:change-theme', { theme: 'JupyterLab Dark' });
+  await execute(page, 'apputils:change-theme', { theme: 'JupyterLab Dark' });
   await expect(page.locator('body')).toHaveAttribute('data-jp-theme-light', 'false');
   // The chart's bars take their fill from the theme.
-  const fill = await polyadicPanel().locator('.pd-Chart-bar').first().evaluate(node => getComputedStyle(node).fill);
+  const fill = await polyadicPanel(page).locator('.pd-Chart-bar').first().evaluate(node => getComputedStyle(node).fill);
   const brand = await page.evaluate(() => getComputedStyle(document.body).getPropertyValue('--jp-brand-color2').trim());
   expect(brand).not.toBe('');
   expect(fill).not.toBe('');
   // Room for the analysis sections: the notebook and settings sections shut.
   for (const title of ['Data', 'Defaults', 'Records']) {
-    const header = polyadicPanel().locator('.jp-AccordionPanel-title', { hasText: new RegExp(`^${title}$`, 'i') });
+    const header = polyadicPanel(page).locator('.jp-AccordionPanel-title', { hasText: new RegExp(`^${title}$`, 'i') });
     if ((await header.count()) === 1 && (await header.getAttribute('aria-expanded')) === 'true') {
       await header.click();
     }
@@ -152,14 +126,14 @@ test('should keep a dark-theme screenshot of the analysis sections', async ({}, 
   const screenshot = path.join(ARTIFACTS, 'panel-analysis-dark.png');
   await page.screenshot({ path: screenshot });
   await testInfo.attach('panel-analysis-dark', { path: screenshot, contentType: 'image/png' });
-  await execute('apputils:change-theme', { theme: 'JupyterLab Light' });
+  await execute(page, 'apputils:change-theme', { theme: 'JupyterLab Light' });
   await expect(page.locator('body')).toHaveAttribute('data-jp-theme-light', 'true');
 });
 
 test('should show a column named like markup as text and run nothing', async () => {
   const name = '<img src=x onerror=alert(1)>';
   await pickFrame('odd_names', name);
-  const panel = polyadicPanel();
+  const panel = polyadicPanel(page);
   await expect(panel.locator('.pd-Data-columnName', { hasText: name })).toHaveText(name);
   await expect(panel.locator('.pd-Binning-name', { hasText: name })).toHaveText(name);
   await expect(panel.locator('img')).toHaveCount(0);
@@ -168,7 +142,7 @@ test('should show a column named like markup as text and run nothing', async () 
 
 test('should cancel a long run within a second', async ({}, testInfo) => {
   await pickFrame('wide', 'noise_00');
-  const panel = polyadicPanel();
+  const panel = polyadicPanel(page);
   await panel.getByLabel('Maximum order', { exact: true }).fill('22');
   await expect(panel.getByText('4,194,303 multiplets of order 1 to 22 among 22 columns.')).toBeVisible();
   await panel.getByRole('button', { name: 'Run', exact: true }).click();

@@ -7,17 +7,7 @@
  */
 import { expect, type Locator, type Page, test } from '@playwright/test';
 
-interface IExposedApp {
-  started: Promise<void>;
-  restored: Promise<void>;
-  commands: { execute(id: string, args?: Record<string, unknown>): Promise<unknown> };
-}
-
-declare global {
-  interface Window {
-    jupyterapp?: IExposedApp;
-  }
-}
+import { execute, openLab, openNotebookAndPanel, polyadicPanel } from './helpers';
 
 test.describe.configure({ mode: 'serial' });
 
@@ -36,18 +26,6 @@ const ROWS_WITH_A_GAP = 6;
 
 let page: Page;
 
-/** The Polyadic panel, found by its accessible name. */
-function polyadicPanel(): Locator {
-  return page.getByRole('region', { name: 'Polyadic', exact: true });
-}
-
-async function execute(id: string, args?: Record<string, unknown>): Promise<void> {
-  await page.evaluate(([command, options]) => window.jupyterapp!.commands.execute(command as string, options as Record<string, unknown>), [
-    id,
-    args ?? {}
-  ] as const);
-}
-
 /** The code cells of the open notebook, in order. */
 function codeCells(): Locator {
   return page.locator('.jp-NotebookPanel .jp-CodeCell');
@@ -55,18 +33,10 @@ function codeCells(): Locator {
 
 test.beforeAll(async ({ browser }) => {
   page = await browser.newPage();
-  await page.goto('lab/workspaces/bridge');
-  await page.waitForFunction(() => window.jupyterapp !== undefined);
-  await page.evaluate(async () => {
-    await window.jupyterapp!.started;
-    await window.jupyterapp!.restored;
-  });
-  await execute('docmanager:open', { path: 'bridge.ipynb' });
-  await expect(page.locator('.jp-NotebookPanel')).toBeVisible();
-  await execute('polyadic:open-panel');
-  await expect(polyadicPanel()).toBeVisible();
+  await openLab(page, 'bridge');
+  await openNotebookAndPanel(page, 'bridge.ipynb');
   // The bridge is ready (polyadic imported silently) once the panel says the kernel has no frame.
-  await expect(polyadicPanel().getByText('No dataframe in this notebook’s kernel yet', { exact: false })).toBeVisible({
+  await expect(polyadicPanel(page).getByText('No dataframe in this notebook’s kernel yet', { exact: false })).toBeVisible({
     timeout: 90_000
   });
 });
@@ -77,9 +47,9 @@ test.afterAll(async () => {
 
 test('should list a frame made by a cell that does not import polyadic', async () => {
   await codeCells().first().click();
-  await execute('notebook:run-cell');
+  await execute(page, 'notebook:run-cell');
   await expect(codeCells().first().locator('.jp-InputPrompt')).toHaveText('[1]:', { timeout: 60_000 });
-  const picker = polyadicPanel().getByRole('combobox', { name: 'Dataframe', exact: true });
+  const picker = polyadicPanel(page).getByRole('combobox', { name: 'Dataframe', exact: true });
   await expect(picker).toBeVisible({ timeout: 60_000 });
   await expect(picker.locator('option', { hasText: 'log_gaps' })).toHaveText(
     `log_gaps (${ROWS} rows × 4 columns, pandas)`
@@ -87,7 +57,7 @@ test('should list a frame made by a cell that does not import polyadic', async (
 });
 
 test('should show the planted missing counts and the source types of the columns', async () => {
-  const panel = polyadicPanel();
+  const panel = polyadicPanel(page);
   await panel.getByRole('combobox', { name: 'Dataframe', exact: true }).selectOption('log_gaps');
   for (const [name, missing] of Object.entries(PLANTED_MISSING)) {
     const row = panel.locator('.pd-Data-row', { has: page.getByRole('checkbox', { name: `Use column ${name}`, exact: true }) });
@@ -107,7 +77,7 @@ test('should show the planted missing counts and the source types of the columns
 });
 
 test('should run on three columns with the defaults', async () => {
-  const panel = polyadicPanel();
+  const panel = polyadicPanel(page);
   for (const name of Object.keys(PLANTED_MISSING)) {
     const box = panel.getByRole('checkbox', { name: `Use column ${name}`, exact: true });
     await box.setChecked(SELECTED.includes(name));
@@ -126,7 +96,7 @@ test('should run on three columns with the defaults', async () => {
 test('should hand the multiplet table to the kernel and leave the history alone', async () => {
   const cell = codeCells().nth(1);
   await cell.click();
-  await execute('notebook:run-cell');
+  await execute(page, 'notebook:run-cell');
   const output = cell.locator('.jp-OutputArea-output');
   await expect(output).toContainText('rows:', { timeout: 60_000 });
   // The user's two cells are In[1] and In[2]: the silent import took no execution count.

@@ -4,32 +4,15 @@
 import { expect, type Locator, type Page, test } from '@playwright/test';
 import path from 'node:path';
 
+import { execute, openLab, polyadicPanel } from './helpers';
 import { ARTIFACTS } from './paths';
 
-/** The part of JupyterLab's application object the tests use (`--expose-app-in-browser`). */
-interface IExposedApp {
-  started: Promise<void>;
-  restored: Promise<void>;
-  commands: { execute(id: string, args?: Record<string, unknown>): Promise<unknown> };
-}
-
-declare global {
-  interface Window {
-    jupyterapp?: IExposedApp;
-  }
-}
-
 /**
- * Open JupyterLab in a workspace of its own (no notebook left open by another test) and
- * wait until the application has started and restored its layout.
+ * Open JupyterLab in a workspace of its own (no notebook left open by another test), wait
+ * until the application has started and restored its layout, and until its launcher has the focus.
  */
-async function openLab(page: Page, workspace: string): Promise<void> {
-  await page.goto(`lab/workspaces/${workspace}`);
-  await page.waitForFunction(() => window.jupyterapp !== undefined);
-  await page.evaluate(async () => {
-    await window.jupyterapp!.started;
-    await window.jupyterapp!.restored;
-  });
+async function openLabAtLauncher(page: Page, workspace: string): Promise<void> {
+  await openLab(page, workspace);
   await expect(page.locator('#jp-main-dock-panel')).toBeVisible();
   // A new workspace opens a launcher, which takes the focus just after the layout is
   // restored; a palette opened before that would close again at once.
@@ -57,11 +40,6 @@ async function runFromPalette(page: Page, label: string): Promise<void> {
     .first()
     .click();
   await expect(palette).toBeHidden();
-}
-
-/** The Polyadic panel, found by its accessible name. */
-function polyadicPanel(page: Page): Locator {
-  return page.getByRole('region', { name: 'Polyadic', exact: true });
 }
 
 /** One accordion section of the panel, named after its title ("Data" → "Data Section"). */
@@ -95,7 +73,7 @@ test.describe('Polyadic panel', () => {
     page
   }, testInfo) => {
     const problems = watchConsole(page);
-    await openLab(page, 'panel-dark');
+    await openLabAtLauncher(page, 'panel-dark');
 
     await runFromPalette(page, 'Open Polyadic panel');
     const panel = polyadicPanel(page);
@@ -134,21 +112,19 @@ test.describe('Polyadic panel', () => {
     page
   }) => {
     const problems = watchConsole(page);
-    await openLab(page, 'panel-notebook');
+    await openLabAtLauncher(page, 'panel-notebook');
     await runFromPalette(page, 'Open Polyadic panel');
     const data = section(page, 'Data');
     await expect(data.getByRole('status')).toContainText('No notebook is open');
 
-    await page.evaluate(() =>
-      window.jupyterapp!.commands.execute('docmanager:open', { path: 'followed.ipynb' })
-    );
+    await execute(page, 'docmanager:open', { path: 'followed.ipynb' });
     await expect(data.getByText('followed.ipynb', { exact: true })).toBeVisible();
     await expect(data.getByText(/Python 3 \(ipykernel\) \((idle|busy|starting)\)/)).toBeVisible({
       timeout: 60_000
     });
     await expect(data.getByRole('status')).toHaveCount(0);
 
-    await page.evaluate(() => window.jupyterapp!.commands.execute('application:close-all'));
+    await execute(page, 'application:close-all');
     // The kernel filled in the notebook's language metadata, so JupyterLab asks to save.
     await page.getByRole('dialog').getByRole('button', { name: 'Discard' }).click();
     await expect(data.getByRole('status')).toContainText('No notebook is open');
@@ -159,7 +135,7 @@ test.describe('Polyadic panel', () => {
     page
   }) => {
     const workspace = 'panel-reload';
-    await openLab(page, workspace);
+    await openLabAtLauncher(page, workspace);
     // Wait until JupyterLab has saved the layout with the panel closed in the right sidebar.
     await expect
       .poll(
@@ -172,7 +148,7 @@ test.describe('Polyadic panel', () => {
       )
       .toBe(true);
 
-    await openLab(page, workspace);
+    await openLabAtLauncher(page, workspace);
     await runFromPalette(page, 'Open Polyadic panel');
     const titles = polyadicPanel(page).locator('.lm-AccordionPanel-title');
     await expect(titles.first()).toBeVisible();
@@ -184,7 +160,7 @@ test.describe('Polyadic panel', () => {
 
   test('should list its settings in the Settings Editor', async ({ page }) => {
     const problems = watchConsole(page);
-    await openLab(page, 'panel-settings');
+    await openLabAtLauncher(page, 'panel-settings');
     await runFromPalette(page, 'Open Polyadic panel');
 
     await section(page, 'Defaults').getByRole('button', { name: 'Edit settings' }).click();

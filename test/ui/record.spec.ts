@@ -12,19 +12,8 @@ import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 
+import { execute, openLab, openNotebookAndPanel, polyadicPanel } from './helpers';
 import { ARTIFACTS, REPO } from './paths';
-
-interface IExposedApp {
-  started: Promise<void>;
-  restored: Promise<void>;
-  commands: { execute(id: string, args?: Record<string, unknown>): Promise<unknown> };
-}
-
-declare global {
-  interface Window {
-    jupyterapp?: IExposedApp;
-  }
-}
 
 test.describe.configure({ mode: 'serial' });
 
@@ -36,19 +25,8 @@ let page: Page;
 let recordId = '';
 let recorded: { estimator: string; max_order: number; columns: string[] } | null = null;
 
-function polyadicPanel(): Locator {
-  return page.getByRole('region', { name: 'Polyadic', exact: true });
-}
-
 function recordsSection(): Locator {
-  return polyadicPanel().locator('.pd-Records');
-}
-
-async function execute(id: string, args?: Record<string, unknown>): Promise<void> {
-  await page.evaluate(
-    ([command, options]) => window.jupyterapp!.commands.execute(command as string, options as Record<string, unknown>),
-    [id, args ?? {}] as const
-  );
+  return polyadicPanel(page).locator('.pd-Records');
 }
 
 /** A file of the server root as the server reads it from disk (contents API). */
@@ -63,27 +41,19 @@ async function serverFile(name: string, format: 'json' | 'base64'): Promise<unkn
 
 /** Save the current notebook and wait until it is clean. */
 async function save(): Promise<void> {
-  await execute('docmanager:save');
+  await execute(page, 'docmanager:save');
   await expect(page.locator('.jp-NotebookPanel .jp-mod-dirty')).toHaveCount(0);
   await expect(page.locator('.lm-DockPanel-tabBar .lm-mod-current.jp-mod-dirty')).toHaveCount(0);
 }
 
 test.beforeAll(async ({ browser }) => {
   page = await browser.newPage();
-  await page.goto('lab/workspaces/record');
-  await page.waitForFunction(() => window.jupyterapp !== undefined);
-  await page.evaluate(async () => {
-    await window.jupyterapp!.started;
-    await window.jupyterapp!.restored;
-  });
-  await execute('docmanager:open', { path: NOTEBOOK });
-  await expect(page.locator('.jp-NotebookPanel')).toBeVisible();
-  await execute('polyadic:open-panel');
-  await expect(polyadicPanel()).toBeVisible();
-  await expect(polyadicPanel().getByText('No dataframe in this notebook’s kernel yet', { exact: false })).toBeVisible({
+  await openLab(page, 'record');
+  await openNotebookAndPanel(page, NOTEBOOK);
+  await expect(polyadicPanel(page).getByText('No dataframe in this notebook’s kernel yet', { exact: false })).toBeVisible({
     timeout: 90_000
   });
-  await execute('notebook:run-all-cells');
+  await execute(page, 'notebook:run-all-cells');
 });
 
 test.afterAll(async () => {
@@ -91,7 +61,7 @@ test.afterAll(async () => {
 });
 
 test('should record a completed run in the notebook and save a record that validates', async () => {
-  const panel = polyadicPanel();
+  const panel = polyadicPanel(page);
   await panel.getByRole('combobox', { name: 'Dataframe', exact: true }).selectOption(FRAME);
   await expect(panel.getByRole('checkbox', { name: 'Use column valve_command', exact: true })).toBeVisible({
     timeout: 60_000
@@ -124,14 +94,14 @@ test('should record a completed run in the notebook and save a record that valid
 
 test('should list the record after reopening and restore its settings', async () => {
   expect(recorded).not.toBeNull();
-  await execute('application:close-all');
+  await execute(page, 'application:close-all');
   await expect(page.locator('.jp-NotebookPanel')).toHaveCount(0);
   await expect(recordsSection().locator('.pd-Records-item')).toHaveCount(0);
-  await execute('docmanager:open', { path: NOTEBOOK });
+  await execute(page, 'docmanager:open', { path: NOTEBOOK });
   const item = recordsSection().locator(`.pd-Records-item[data-record-id="${recordId}"]`);
   await expect(item).toBeVisible({ timeout: 60_000 });
 
-  const panel = polyadicPanel();
+  const panel = polyadicPanel(page);
   // move the settings away from the record, so the restore has something to do
   await expect(panel.getByRole('combobox', { name: 'Estimator', exact: true })).toBeVisible({ timeout: 60_000 });
   const otherEstimator = recorded!.estimator === 'plugin' ? 'miller-madow' : 'plugin';
@@ -148,14 +118,14 @@ test('should list the record after reopening and restore its settings', async ()
   }
   // the loaded frame is the recorded data: no "data changed" banner
   await expect(item.locator('.pd-Records-banner')).toHaveCount(0);
-  await polyadicPanel().screenshot({ path: path.join(ARTIFACTS, 'records-restored.png') });
+  await polyadicPanel(page).screenshot({ path: path.join(ARTIFACTS, 'records-restored.png') });
 });
 
 test('should insert an analysis cell, draw it, and save the Markdown fallback', async () => {
-  await execute('polyadic:insert-analysis-cell');
+  await execute(page, 'polyadic:insert-analysis-cell');
   const cell = page.locator('.jp-Notebook .jp-Cell.jp-mod-active');
   await expect(cell.locator('.jp-InputArea-editor')).toContainText(`polyadic.show("${recordId}")`);
-  await execute('notebook:run-cell');
+  await execute(page, 'notebook:run-cell');
   const output = cell.locator('.pd-AnalysisCell');
   await expect(output).toBeVisible({ timeout: 60_000 });
   await expect(output.locator('.pd-AnalysisCell-plot').first()).toBeVisible();

@@ -10,19 +10,8 @@ import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 
+import { execute, openLab, openNotebookAndPanel, polyadicPanel } from './helpers';
 import { ARTIFACTS, REPO } from './paths';
-
-interface IExposedApp {
-  started: Promise<void>;
-  restored: Promise<void>;
-  commands: { execute(id: string, args?: Record<string, unknown>): Promise<unknown> };
-}
-
-declare global {
-  interface Window {
-    jupyterapp?: IExposedApp;
-  }
-}
 
 test.describe.configure({ mode: 'serial' });
 
@@ -33,19 +22,8 @@ const PAIR = ['humidity_a_pct', 'humidity_b_pct'];
 let page: Page;
 let dialogs = 0;
 
-function polyadicPanel(): Locator {
-  return page.getByRole('region', { name: 'Polyadic', exact: true });
-}
-
 function results(): Locator {
-  return polyadicPanel().locator('.pd-Results');
-}
-
-async function execute(id: string, args?: Record<string, unknown>): Promise<void> {
-  await page.evaluate(
-    ([command, options]) => window.jupyterapp!.commands.execute(command as string, options as Record<string, unknown>),
-    [id, args ?? {}] as const
-  );
+  return polyadicPanel(page).locator('.pd-Results');
 }
 
 /** Member names of the first row of a table, sorted. */
@@ -62,21 +40,13 @@ test.beforeAll(async ({ browser }) => {
     dialogs++;
     void dialog.dismiss();
   });
-  await page.goto('lab/workspaces/results');
-  await page.waitForFunction(() => window.jupyterapp !== undefined);
-  await page.evaluate(async () => {
-    await window.jupyterapp!.started;
-    await window.jupyterapp!.restored;
-  });
-  await execute('docmanager:open', { path: 'results.ipynb' });
-  await expect(page.locator('.jp-NotebookPanel')).toBeVisible();
-  await execute('polyadic:open-panel');
-  await expect(polyadicPanel()).toBeVisible();
-  await expect(polyadicPanel().getByText('No dataframe in this notebook’s kernel yet', { exact: false })).toBeVisible({
+  await openLab(page, 'results');
+  await openNotebookAndPanel(page, 'results.ipynb');
+  await expect(polyadicPanel(page).getByText('No dataframe in this notebook’s kernel yet', { exact: false })).toBeVisible({
     timeout: 90_000
   });
-  await execute('notebook:run-all-cells');
-  const panel = polyadicPanel();
+  await execute(page, 'notebook:run-all-cells');
+  const panel = polyadicPanel(page);
   await panel.getByRole('combobox', { name: 'Dataframe', exact: true }).selectOption('results_frame');
   await expect(panel.getByRole('checkbox', { name: 'Use column valve_command', exact: true })).toBeVisible({
     timeout: 60_000
@@ -210,7 +180,7 @@ test('should chart the conditioning chain of a selected multiplet and export cha
 });
 
 test('should keep a dark-theme screenshot of the results', async () => {
-  await execute('apputils:change-theme', { theme: 'JupyterLab Dark' });
+  await execute(page, 'apputils:change-theme', { theme: 'JupyterLab Dark' });
   await expect(page.locator('body')).toHaveAttribute('data-jp-theme-light', 'false');
   // Plot backgrounds follow the theme: the histogram's paper takes --jp-layout-color1.
   const layout = await page.evaluate(() => getComputedStyle(document.body).getPropertyValue('--jp-layout-color1').trim());
@@ -225,10 +195,10 @@ test('should keep a dark-theme screenshot of the results', async () => {
     )
     .toBe(Private.rgb(layout));
   await results().locator('.pd-Results-summary').evaluate(node => node.scrollIntoView({ block: 'start' }));
-  await polyadicPanel().screenshot({ path: path.join(ARTIFACTS, 'results-dark.png') });
+  await polyadicPanel(page).screenshot({ path: path.join(ARTIFACTS, 'results-dark.png') });
   await results().locator('.pd-Results-filters').evaluate(node => node.scrollIntoView({ block: 'start' }));
-  await polyadicPanel().screenshot({ path: path.join(ARTIFACTS, 'results-dark-tables.png') });
-  await execute('apputils:change-theme', { theme: 'JupyterLab Light' });
+  await polyadicPanel(page).screenshot({ path: path.join(ARTIFACTS, 'results-dark-tables.png') });
+  await execute(page, 'apputils:change-theme', { theme: 'JupyterLab Light' });
   await expect(page.locator('body')).toHaveAttribute('data-jp-theme-light', 'true');
 });
 

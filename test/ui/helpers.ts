@@ -1,0 +1,55 @@
+/**
+ * Set-up steps the browser tests share: open JupyterLab in a workspace of its own, run its
+ * commands, open a fixture notebook beside the Polyadic panel and find that panel.
+ */
+import { expect, type Locator, type Page } from '@playwright/test';
+
+/** The part of JupyterLab's application object the tests use (`--expose-app-in-browser`). */
+export interface IExposedApp {
+  /** Resolves once the application has started. */
+  started: Promise<void>;
+  /** Resolves once the application has restored its layout. */
+  restored: Promise<void>;
+  /** The command registry. */
+  commands: { execute(id: string, args?: Record<string, unknown>): Promise<unknown> };
+}
+
+declare global {
+  interface Window {
+    jupyterapp?: IExposedApp;
+  }
+}
+
+/**
+ * Open JupyterLab in workspace `workspace` (so no layout is left over from another test) and
+ * wait until the application has started and restored its layout.
+ */
+export async function openLab(page: Page, workspace: string): Promise<void> {
+  await page.goto(`lab/workspaces/${workspace}`);
+  await page.waitForFunction(() => window.jupyterapp !== undefined);
+  await page.evaluate(async () => {
+    await window.jupyterapp!.started;
+    await window.jupyterapp!.restored;
+  });
+}
+
+/** Run JupyterLab command `id` with `args` in the page and wait for it to finish. */
+export async function execute(page: Page, id: string, args?: Record<string, unknown>): Promise<void> {
+  await page.evaluate(
+    ([command, options]) => window.jupyterapp!.commands.execute(command as string, options as Record<string, unknown>),
+    [id, args ?? {}] as const
+  );
+}
+
+/** The Polyadic panel, found by its accessible name. */
+export function polyadicPanel(page: Page): Locator {
+  return page.getByRole('region', { name: 'Polyadic', exact: true });
+}
+
+/** Open the notebook at `notebook` (server path), then the Polyadic panel, and wait for both to show. */
+export async function openNotebookAndPanel(page: Page, notebook: string): Promise<void> {
+  await execute(page, 'docmanager:open', { path: notebook });
+  await expect(page.locator('.jp-NotebookPanel')).toBeVisible();
+  await execute(page, 'polyadic:open-panel');
+  await expect(polyadicPanel(page)).toBeVisible();
+}
