@@ -40,6 +40,12 @@ const top = mkdtempSync(path.join(tmpdir(), 'polyadic-ui-'));
 const root = path.join(top, 'root');
 const home = path.join(top, 'home');
 cpSync(path.join(here, 'fixtures'), root, { recursive: true });
+// demo.spec.ts runs the real demo notebook. Its kernel starts in the notebook's folder,
+// imports generate.py from there and writes data/greenhouse.csv there when it is missing,
+// so the two files are copied side by side and the data is generated afresh from the seed.
+for (const name of ['greenhouse.ipynb', 'generate.py']) {
+  cpSync(path.join(repo, 'demo', name), path.join(root, 'demo', name));
+}
 for (const dir of ['config', 'data', 'runtime', 'ipython', 'settings', 'workspaces']) {
   mkdirSync(path.join(home, dir), { recursive: true });
 }
