@@ -168,6 +168,10 @@ export class DataModel {
   private async _pick(name: string | null): Promise<void> {
     const ticket = ++this._ticket;
     const changedFrame = name !== this._frame;
+    // The person's own selection is kept only across a reload of a frame that had finished
+    // loading; a pick that interrupts a load (say, the automatic pick of a lone frame) starts
+    // from the defaults, or the selection would stay empty.
+    const keepSelection = !changedFrame && this._load.state === 'loaded';
     this._frame = name;
     this._fetched = null;
     const info = this.frameInfo;
@@ -209,7 +213,9 @@ export class DataModel {
         }
       }
       for (const column of this._columns) {
-        const keep = changedFrame ? column.stats !== null && column.stats.warnings.length === 0 : previous.has(column.name);
+        const keep = keepSelection
+          ? previous.has(column.name)
+          : column.stats !== null && column.stats.warnings.length === 0;
         if (keep && column.view !== null) {
           this._selected.add(column.name);
         }
