@@ -7,19 +7,11 @@ import * as arrow from 'apache-arrow';
 
 import type { IMultipletRow } from '../engine/types';
 import { BridgeError } from './errors';
+import { MULTIPLET_FIELDS } from '../results-format';
 import { RESULTS_CHUNK_MAX_BYTES } from './protocol';
 
-/** The fields every multiplet row carries, in table order (polyadic/_results.py). */
-export const MULTIPLET_FIELDS = [
-  'columns',
-  'order',
-  'entropy',
-  'coinformation',
-  'total_correlation',
-  'dual_total_correlation',
-  'o_information',
-  's_information'
-] as const;
+/** The fields every multiplet row carries, in table order (polyadic/_results.py; the CLI's too). */
+export { MULTIPLET_FIELDS };
 
 /** The measure fields of a multiplet row: every field after `columns` and `order`. */
 const MEASURES = MULTIPLET_FIELDS.slice(2) as ReadonlyArray<Exclude<keyof IMultipletRow, 'columns' | 'order'>>;
