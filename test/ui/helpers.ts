@@ -53,3 +53,25 @@ export async function openNotebookAndPanel(page: Page, notebook: string): Promis
   await execute(page, 'polyadic:open-panel');
   await expect(polyadicPanel(page)).toBeVisible();
 }
+
+/**
+ * Make room for the Results section: drag the right sidebar 300 px wider and fold every section
+ * of the panel but Results.
+ */
+export async function focusResults(page: Page): Promise<void> {
+  const handle = page.locator('#jp-main-split-panel > .lm-SplitPanel-handle:visible').last();
+  const box = (await handle.boundingBox())!;
+  await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
+  await page.mouse.down();
+  await page.mouse.move(box.x - 300, box.y + box.height / 2, { steps: 5 });
+  await page.mouse.up();
+  const titles = polyadicPanel(page).locator('.lm-AccordionPanel-title');
+  for (let i = 0; i < (await titles.count()); i++) {
+    const title = titles.nth(i);
+    const expanded = (await title.getAttribute('aria-expanded')) === 'true';
+    const isResults = (await title.textContent())?.trim() === 'Results';
+    if (expanded !== isResults) {
+      await title.click();
+    }
+  }
+}

@@ -10,7 +10,7 @@ import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 
-import { execute, openLab, openNotebookAndPanel, polyadicPanel } from './helpers';
+import { execute, focusResults, openLab, openNotebookAndPanel, polyadicPanel } from './helpers';
 import { ARTIFACTS, REPO } from './paths';
 
 test.describe.configure({ mode: 'serial' });
@@ -56,21 +56,7 @@ test.beforeAll(async ({ browser }) => {
   await panel.getByRole('button', { name: 'Run', exact: true }).click();
   await expect(panel.locator('.pd-Run')).toHaveAttribute('data-state', 'done', { timeout: 60_000 });
   // Room for the results: a wider sidebar, and every other section folded.
-  const handle = page.locator('#jp-main-split-panel > .lm-SplitPanel-handle:visible').last();
-  const box = (await handle.boundingBox())!;
-  await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
-  await page.mouse.down();
-  await page.mouse.move(box.x - 300, box.y + box.height / 2, { steps: 5 });
-  await page.mouse.up();
-  const titles = panel.locator('.lm-AccordionPanel-title');
-  for (let i = 0; i < (await titles.count()); i++) {
-    const title = titles.nth(i);
-    const expanded = (await title.getAttribute('aria-expanded')) === 'true';
-    const isResults = (await title.textContent())?.trim() === 'Results';
-    if (expanded !== isResults) {
-      await title.click();
-    }
-  }
+  await focusResults(page);
 });
 
 test.afterAll(async () => {
