@@ -117,7 +117,7 @@ test('should keep a dark-theme screenshot of the analysis sections', async ({}, 
   expect(brand).not.toBe('');
   expect(fill).not.toBe('');
   // Room for the analysis sections: the notebook and settings sections shut.
-  for (const title of ['Data', 'Defaults', 'Records']) {
+  for (const title of ['Notebook', 'Defaults', 'Records']) {
     const header = polyadicPanel(page).locator('.jp-AccordionPanel-title', { hasText: new RegExp(`^${title}$`, 'i') });
     if ((await header.count()) === 1 && (await header.getAttribute('aria-expanded')) === 'true') {
       await header.click();

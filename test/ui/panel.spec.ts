@@ -42,7 +42,7 @@ async function runFromPalette(page: Page, label: string): Promise<void> {
   await expect(palette).toBeHidden();
 }
 
-/** One accordion section of the panel, named after its title ("Data" → "Data Section"). */
+/** One accordion section of the panel, named after its title ("Notebook" → "Notebook Section"). */
 function section(page: Page, title: string): Locator {
   return polyadicPanel(page).getByRole('region', { name: `${title} Section`, exact: true });
 }
@@ -81,7 +81,7 @@ test.describe('Polyadic panel', () => {
     await expect(panel.getByRole('heading', { name: 'Polyadic' })).toBeVisible();
 
     // No notebook is open in this workspace: the data section says what to do.
-    const data = section(page, 'Data');
+    const data = section(page, 'Notebook');
     await expect(data.getByRole('status')).toContainText('No notebook is open');
     await expect(data.getByRole('button', { name: 'New notebook' })).toBeVisible();
     // The defaults section lists the settings in the schema's words.
@@ -114,7 +114,7 @@ test.describe('Polyadic panel', () => {
     const problems = watchConsole(page);
     await openLabAtLauncher(page, 'panel-notebook');
     await runFromPalette(page, 'Open Polyadic panel');
-    const data = section(page, 'Data');
+    const data = section(page, 'Notebook');
     await expect(data.getByRole('status')).toContainText('No notebook is open');
 
     await execute(page, 'docmanager:open', { path: 'followed.ipynb' });
@@ -155,7 +155,7 @@ test.describe('Polyadic panel', () => {
     for (const title of await titles.all()) {
       await expect(title).toHaveAttribute('aria-expanded', 'true');
     }
-    await expect(section(page, 'Data').getByRole('status')).toContainText('No notebook is open');
+    await expect(section(page, 'Notebook').getByRole('status')).toContainText('No notebook is open');
   });
 
   test('should list its settings in the Settings Editor', async ({ page }) => {

@@ -1,5 +1,5 @@
 /**
- * The Data section's state: the bridge of the followed notebook, its listing of dataframes,
+ * The Dataframe section's state: the bridge of the followed notebook, its listing of dataframes,
  * the picked frame, its columns with their checklist facts, and which columns are selected.
  * Picking a frame fetches its columns once (capped at the settings' row cap) for the facts
  * and the binning previews; a run fetches the selected columns again, so it reads the frame
@@ -35,7 +35,7 @@ export interface ILoadState {
   message: string | null;
 }
 
-/** State of the Data section. */
+/** State of the Dataframe section. */
 export class DataModel {
   /** Create the model; `rowCap` gives the largest number of rows to fetch. */
   constructor(options: DataModel.IOptions) {

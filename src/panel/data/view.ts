@@ -1,5 +1,5 @@
 /**
- * The Data section: the bridge's state as a one-liner, the dataframe picker and the column
+ * The Dataframe section: the bridge's state as a one-liner, the dataframe picker and the column
  * checklist (type, distinct and missing counts, warnings). Column names, types and messages
  * are untrusted text and only ever reach the DOM through `textContent`.
  */

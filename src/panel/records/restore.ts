@@ -1,6 +1,6 @@
 /**
  * Putting a recorded analysis back into the analysis sections (Data, Binning, Estimator),
- * and checking the frame the Data section loads against the chosen analysis' fingerprint.
+ * and checking the frame the Dataframe section loads against the chosen analysis' fingerprint.
  * Written against the few members of the analysis model it uses, so it depends on no more.
  */
 import type { IDisposable } from '@lumino/disposable';
@@ -75,7 +75,7 @@ export async function restoreSettings(target: IRestoreTarget, request: IRestoreR
 
 /**
  * Keep the records section and the analysis sections together until disposed: a restore
- * request sets the sections, and every frame the Data section loads is checked against the
+ * request sets the sections, and every frame the Dataframe section loads is checked against the
  * chosen analysis (the "data changed" banner).
  */
 export function followRestores(target: IRestoreTarget, records: RecordsModel): IDisposable {

@@ -10,7 +10,7 @@ import { INotebookSummary, SourceModel } from './model';
 export class SourceView extends SectionView<SourceModel> {
   /** Create the section for `options.model`. */
   constructor(options: SourceView.IOptions) {
-    super({ model: options.model, className: 'pd-Source', label: 'Data' });
+    super({ model: options.model, className: 'pd-Source', label: 'Notebook' });
     this._onNewNotebook = options.onNewNotebook ?? null;
     this.render();
   }
