@@ -1,5 +1,5 @@
 /**
- * The CSV form of multiplet rows, shared by the CLI (`polyadic analyze --format csv`) and the
+ * The CSV form of multiplet rows (the core measures, then adequacy and any statistics), shared by the CLI (`polyadic analyze --format csv`) and the
  * panel's CSV export, so both write the same header and the same cell escaping.
  */
 
@@ -7,8 +7,19 @@ import Papa from 'papaparse';
 
 import type { IMultipletRow } from './engine/types';
 
-/** The CSV columns: the fields of IMultipletRow, in their declared order. */
-export const MULTIPLET_FIELDS: readonly (keyof IMultipletRow)[] = [
+/** The fields every multiplet row carries. */
+export type CoreMultipletField =
+  | 'columns'
+  | 'order'
+  | 'entropy'
+  | 'coinformation'
+  | 'total_correlation'
+  | 'dual_total_correlation'
+  | 'o_information'
+  | 's_information';
+
+/** The CSV columns every table has: the core fields of IMultipletRow, in their declared order. */
+export const MULTIPLET_FIELDS: readonly CoreMultipletField[] = [
   'columns',
   'order',
   'entropy',
@@ -18,6 +29,51 @@ export const MULTIPLET_FIELDS: readonly (keyof IMultipletRow)[] = [
   'o_information',
   's_information'
 ];
+
+/**
+ * Fields a row may carry after the core ones (adequacy and the statistics), in the order the
+ * CSV writes them; a table gets those that any of its rows has.
+ */
+export const EVIDENCE_FIELDS: readonly Exclude<keyof IMultipletRow, CoreMultipletField>[] = [
+  'adequacy',
+  'p_value',
+  'q_value',
+  'null_mean',
+  'null_sd',
+  'co_information_corrected',
+  'o_information_p_value',
+  'o_information_q_value',
+  'o_information_null_mean',
+  'o_information_null_sd',
+  'ci_low',
+  'ci_high',
+  'same_sign',
+  'entropy_ci_low',
+  'entropy_ci_high',
+  'total_correlation_ci_low',
+  'total_correlation_ci_high',
+  'dual_total_correlation_ci_low',
+  'dual_total_correlation_ci_high',
+  'o_information_ci_low',
+  'o_information_ci_high',
+  's_information_ci_low',
+  's_information_ci_high',
+  'connected_information',
+  'connected_p_value'
+];
+
+/** The evidence fields that at least one row carries, in {@link EVIDENCE_FIELDS} order. */
+export function evidenceFieldsOf(rows: Iterable<IMultipletRow>): Exclude<keyof IMultipletRow, CoreMultipletField>[] {
+  const present = new Set<string>();
+  for (const row of rows) {
+    for (const field of EVIDENCE_FIELDS) {
+      if (row[field] !== undefined) {
+        present.add(field);
+      }
+    }
+  }
+  return EVIDENCE_FIELDS.filter(field => present.has(field));
+}
 
 /**
  * Separator between the column names of a multiplet in one CSV cell. A name holding it makes
@@ -32,15 +88,22 @@ export const COLUMN_SEPARATOR = '|';
  * come from untrusted data (OWASP's CSV injection advice; papaparse's `escapeFormulae`).
  */
 export function multipletsCsv(rows: Iterable<IMultipletRow>): string {
+  const list = Array.from(rows);
+  const extras = evidenceFieldsOf(list);
   const data: (string | number)[][] = [];
-  for (const row of rows) {
-    data.push(
-      MULTIPLET_FIELDS.map(field => (field === 'columns' ? row.columns.join(COLUMN_SEPARATOR) : row[field]))
+  for (const row of list) {
+    const cells: (string | number)[] = MULTIPLET_FIELDS.map(field =>
+      field === 'columns' ? row.columns.join(COLUMN_SEPARATOR) : row[field]
     );
+    for (const field of extras) {
+      // A value that was not computed for this row (null) is an empty cell.
+      cells.push(row[field] ?? '');
+    }
+    data.push(cells);
   }
   return (
     Papa.unparse(
-      { fields: [...MULTIPLET_FIELDS], data },
+      { fields: [...MULTIPLET_FIELDS, ...extras], data },
       { quotes: false, escapeFormulae: true, newline: '\n', header: true }
     ) + '\n'
   );

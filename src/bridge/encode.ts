@@ -7,14 +7,14 @@ import * as arrow from 'apache-arrow';
 
 import type { IMultipletRow } from '../engine/types';
 import { BridgeError } from './errors';
-import { MULTIPLET_FIELDS } from '../results-format';
+import { CoreMultipletField, MULTIPLET_FIELDS } from '../results-format';
 import { RESULTS_CHUNK_MAX_BYTES } from './protocol';
 
 /** The fields every multiplet row carries, in table order (polyadic/_results.py; the CLI's too). */
 export { MULTIPLET_FIELDS };
 
 /** The measure fields of a multiplet row: every field after `columns` and `order`. */
-const MEASURES = MULTIPLET_FIELDS.slice(2) as ReadonlyArray<Exclude<keyof IMultipletRow, 'columns' | 'order'>>;
+const MEASURES = MULTIPLET_FIELDS.slice(2) as ReadonlyArray<Exclude<CoreMultipletField, 'columns' | 'order'>>;
 
 /**
  * The multiplet table as an Arrow IPC stream: `columns` as List<Utf8>, `order` as Int32, the

@@ -9,8 +9,17 @@ import { applyMissingPolicy, binColumn, IBinnedColumn, IPreparedCodes, parseBinS
 import { checkEstimator, fromNats } from './estimators';
 import { PolyadicError } from './errors';
 import { computeLattice, ILattice, ILatticeInput } from './lattice';
-import { coinformationAll, multipletMeasures } from './measures';
+import { connectedInformation } from './maxent';
+import { coinformationAll, computeMeasures, IMeasureArrays, multipletMeasures } from './measures';
 import { checkMultipletCount, DEFAULT_MAX_MULTIPLETS, forEachMultiplet, membersOfIndex } from './multiplets';
+import { chooseBootstrapped, concludeStatistics, IStatisticsOutcome } from './statistics/conclude';
+import { IResolvedStatistics, resolveStatistics } from './statistics/options';
+import {
+  BOOTSTRAP_MEASURES,
+  IReplicateTargets,
+  ReplicateAccumulator,
+  runAllReplicates
+} from './statistics/replicates';
 import { columnLength, unknownColumn } from './table';
 import type {
   ColumnView,
@@ -18,6 +27,7 @@ import type {
   IAnalysisResult,
   IAnalyzeOptions,
   IMultipletRow,
+  IStatisticsReport,
   MissingPolicy,
   Units
 } from './types';
@@ -38,6 +48,8 @@ export interface IResolvedOptions {
   maxOrder: number;
   maxMultiplets: number;
   top: number | null;
+  /** Statistics settings, or null when none were asked for. */
+  statistics: IResolvedStatistics | null;
   warnings: string[];
 }
 
@@ -169,7 +181,8 @@ export function resolveOptions(options: IAnalyzeOptions, columnCount: number): I
     }
     top = options.top;
   }
-  return { estimator, units, missing, maxOrder, maxMultiplets, top, warnings };
+  const statistics = resolveStatistics(options.statistics);
+  return { estimator, units, missing, maxOrder, maxMultiplets, top, statistics, warnings };
 }
 
 /** The lattice input of prepared codes under the options (what a worker pool splits). */
@@ -186,12 +199,15 @@ export function latticeInput(prepared: IPreparedCodes, options: IAnalyzeOptions 
 
 /**
  * Analyze columns that are already binned (see {@link prepareColumns}). A lattice computed
- * elsewhere (a worker pool) may be passed; it must come from the same codes and options.
+ * elsewhere (a worker pool) may be passed; it must come from the same codes and options. With
+ * statistics requested, their replicates run in this thread unless `evidence` (merged and
+ * concluded elsewhere, see {@link concludeRun}) is passed.
  */
 export function analyzeCodes(
   prepared: IPreparedCodes,
   options: IAnalyzeOptions = {},
-  lattice?: ILattice
+  lattice?: ILattice,
+  evidence?: IRunEvidence
 ): IAnalysisResult {
   const n = prepared.codes.length;
   const resolved = resolveOptions(options, n);
@@ -208,14 +224,32 @@ export function analyzeCodes(
   if (walked.indexing.maxOrder !== resolved.maxOrder || walked.indexing.columnCount !== n) {
     throw new PolyadicError('internal', 'The lattice given does not match the selection and maximum order.');
   }
-  const coinformation = coinformationAll(walked);
-  const selected = Private.selectMultiplets(walked, coinformation, resolved.top);
+  let found = evidence;
+  if (!found && resolved.statistics) {
+    const plan = planEvidence(prepared, options, walked);
+    const accumulator = runAllReplicates(
+      latticeInput(prepared, options),
+      plan.targets,
+      resolved.statistics,
+      walked.indexing.size
+    );
+    found = concludeRun(prepared, options, walked, plan, accumulator);
+  }
+  const coinformation = found?.measures.coinformation ?? coinformationAll(walked);
+  const selected = selectMultiplets(walked, coinformation, resolved.top);
   const members = new Int32Array(resolved.maxOrder);
   const units = resolved.units;
+  const inUnits = (nats: number): number | null => (Number.isNaN(nats) ? null : fromNats(nats, units));
+  const bootstrapAt = new Map<number, number>();
+  found?.outcome.evidence.bootstrapped.forEach((index, j) => bootstrapAt.set(index, j));
   const multiplets: IMultipletRow[] = selected.map(index => {
     const order = membersOfIndex(walked.indexing, index, members);
     const measures = multipletMeasures(walked, members, order, coinformation);
-    return {
+    let cells = 1;
+    for (let i = 0; i < order; i++) {
+      cells *= prepared.bins[members[i]];
+    }
+    const row: IMultipletRow = {
       columns: Array.from(members.subarray(0, order), c => prepared.names[c]),
       order,
       entropy: fromNats(measures.entropy, units),
@@ -223,10 +257,27 @@ export function analyzeCodes(
       total_correlation: fromNats(measures.totalCorrelation, units),
       dual_total_correlation: fromNats(measures.dualTotalCorrelation, units),
       o_information: fromNats(measures.oInformation, units),
-      s_information: fromNats(measures.sInformation, units)
+      s_information: fromNats(measures.sInformation, units),
+      adequacy: prepared.rowsUsed / cells
     };
+    if (found && resolved.statistics) {
+      Private.addEvidence(row, index, found, resolved.statistics, bootstrapAt.get(index), inUnits);
+    }
+    return row;
   });
-  return {
+  let inadequate = 0;
+  forEachMultiplet(walked.indexing, (_index, ids, order) => {
+    if (order >= 2) {
+      let cells = 1;
+      for (let i = 0; i < order; i++) {
+        cells *= prepared.bins[ids[i]];
+      }
+      if (prepared.rowsUsed < cells) {
+        inadequate++;
+      }
+    }
+  });
+  const result: IAnalysisResult = {
     engine: { name: ENGINE_NAME, version: ENGINE_VERSION },
     rows: prepared.rows,
     rows_used: prepared.rowsUsed,
@@ -236,8 +287,134 @@ export function analyzeCodes(
     columns: prepared.binnings,
     multiplets,
     multiplet_count: count,
-    warnings: [...prepared.warnings, ...resolved.warnings]
+    inadequate_count: inadequate,
+    warnings: [...prepared.warnings, ...resolved.warnings, ...(found?.warnings ?? [])]
   };
+  if (found && resolved.statistics) {
+    result.statistics = Private.report(found, resolved.statistics, units);
+  }
+  return result;
+}
+
+/** What a run's replicates need, computed once from the observed lattice (see {@link planEvidence}). */
+export interface IEvidencePlan {
+  measures: IMeasureArrays;
+  targets: IReplicateTargets;
+}
+
+/** The evidence of a run, ready to be written into its rows. */
+export interface IRunEvidence {
+  measures: IMeasureArrays;
+  outcome: IStatisticsOutcome;
+  /** Connected information (nats) and its p-value by lattice index, for the multiplets fitted. */
+  connected: Map<number, { value: number; pValue: number | null }>;
+  /** Multiplets the pairwise-preserving null was refused for, with the reason. */
+  refused: { columns: string[]; reason: string }[];
+  warnings: string[];
+}
+
+/**
+ * The observed measures and what the replicates compare against: step one of the statistics,
+ * run where the lattice is (the worker that finishes a run, or this thread).
+ */
+export function planEvidence(prepared: IPreparedCodes, options: IAnalyzeOptions, lattice: ILattice): IEvidencePlan {
+  const resolved = resolveOptions(options, prepared.codes.length);
+  const measures = computeMeasures(lattice);
+  const statistics = resolved.statistics;
+  const reported = resolved.top === null ? null : selectMultiplets(lattice, measures.coinformation, resolved.top);
+  const bootstrapped = chooseBootstrapped(
+    lattice.indexing,
+    measures.coinformation,
+    statistics?.bootstrap ?? 0,
+    reported
+  );
+  return {
+    measures,
+    targets: { coinformation: measures.coinformation, oInformation: measures.oInformation, bootstrapped }
+  };
+}
+
+/**
+ * The last step of the statistics: merged replicates into p, q, intervals and bands, and the
+ * pairwise-preserving null of the most extreme multiplets of order ≥ 3.
+ */
+export function concludeRun(
+  prepared: IPreparedCodes,
+  options: IAnalyzeOptions,
+  lattice: ILattice,
+  plan: IEvidencePlan,
+  accumulator: ReplicateAccumulator
+): IRunEvidence {
+  const resolved = resolveOptions(options, prepared.codes.length);
+  const statistics = resolved.statistics;
+  if (!statistics) {
+    throw new PolyadicError('internal', 'Statistics concluded for an analysis that asked for none.');
+  }
+  const outcome = concludeStatistics(lattice, plan.measures, accumulator, statistics, plan.targets.bootstrapped);
+  const connected = new Map<number, { value: number; pValue: number | null }>();
+  const refused: { columns: string[]; reason: string }[] = [];
+  const warnings: string[] = [];
+  if (statistics.beyondPairs > 0) {
+    const chosen = Private.extremeOfOrder(lattice, plan.measures.coinformation, statistics.beyondPairs, 3);
+    const members = new Int32Array(lattice.indexing.maxOrder);
+    for (const index of chosen) {
+      const order = membersOfIndex(lattice.indexing, index, members);
+      const ids = Array.from(members.subarray(0, order));
+      const names = ids.map(c => prepared.names[c]);
+      try {
+        const fit = connectedInformation(
+          ids.map(c => prepared.codes[c]),
+          { names, draws: statistics.fitDraws, seed: statistics.seed }
+        );
+        connected.set(index, { value: fit.value, pValue: fit.pValue });
+      } catch (error) {
+        if (error instanceof PolyadicError && error.kind === 'limit') {
+          refused.push({ columns: names, reason: error.message });
+        } else {
+          throw error;
+        }
+      }
+    }
+    if (refused.length > 0) {
+      warnings.push(
+        `The pairwise-preserving null was not fitted for ${refused.length} multiplet` +
+          `${refused.length === 1 ? '' : 's'} whose joint table is too large; the first: ${refused[0].reason}`
+      );
+    }
+  }
+  return { measures: plan.measures, outcome, connected, refused, warnings };
+}
+
+/**
+ * Indices of the multiplets to report, by order and then lexicographically; or, with `top`,
+ * the `top` lowest co-informations of order ≥ 2 (lowest first) followed by the `top` highest
+ * (highest first) that are not already among the lowest. Ties keep the order-then-lexicographic
+ * order.
+ */
+export function selectMultiplets(lattice: ILattice, coinformation: Float64Array, top: number | null): number[] {
+  const byOrder: number[][] = [];
+  for (let k = 0; k <= lattice.indexing.maxOrder; k++) {
+    byOrder.push([]);
+  }
+  const lowestOrder = top === null ? 1 : 2;
+  forEachMultiplet(lattice.indexing, (index, _members, order) => {
+    if (order >= lowestOrder) {
+      byOrder[order].push(index);
+    }
+  });
+  const all = byOrder.flat();
+  if (top === null) {
+    return all;
+  }
+  // Array sort is stable, so ties stay in order-then-lexicographic order.
+  const lowest = all.slice().sort((a, b) => coinformation[a] - coinformation[b]).slice(0, top);
+  const taken = new Set(lowest);
+  const highest = all
+    .slice()
+    .sort((a, b) => coinformation[b] - coinformation[a])
+    .slice(0, top)
+    .filter(index => !taken.has(index));
+  return [...lowest, ...highest];
 }
 
 function checkMissing(policy: MissingPolicy | undefined): MissingPolicy {
@@ -253,35 +430,97 @@ function checkMissing(policy: MissingPolicy | undefined): MissingPolicy {
 }
 
 namespace Private {
-  /**
-   * Indices of the multiplets to report, by order and then lexicographically; or, with `top`,
-   * the `top` lowest co-informations of order ≥ 2 (lowest first) followed by the `top` highest
-   * (highest first) that are not already among the lowest. Ties keep the order-then-lexicographic
-   * order.
-   */
-  export function selectMultiplets(lattice: ILattice, coinformation: Float64Array, top: number | null): number[] {
-    const byOrder: number[][] = [];
-    for (let k = 0; k <= lattice.indexing.maxOrder; k++) {
-      byOrder.push([]);
-    }
-    const lowestOrder = top === null ? 1 : 2;
+  /** The `count` lowest and `count` highest co-informations among multiplets of order ≥ `least`. */
+  export function extremeOfOrder(lattice: ILattice, coinformation: Float64Array, count: number, least: number): number[] {
+    const candidates: number[] = [];
     forEachMultiplet(lattice.indexing, (index, _members, order) => {
-      if (order >= lowestOrder) {
-        byOrder[order].push(index);
+      if (order >= least) {
+        candidates.push(index);
       }
     });
-    const all = byOrder.flat();
-    if (top === null) {
-      return all;
+    const ascending = candidates.slice().sort((a, b) => coinformation[a] - coinformation[b] || a - b);
+    const chosen = new Set(ascending.slice(0, count));
+    for (let i = ascending.length - 1, added = 0; i >= 0 && added < count; i--, added++) {
+      chosen.add(ascending[i]);
     }
-    // Array sort is stable, so ties stay in order-then-lexicographic order.
-    const lowest = all.slice().sort((a, b) => coinformation[a] - coinformation[b]).slice(0, top);
-    const taken = new Set(lowest);
-    const highest = all
-      .slice()
-      .sort((a, b) => coinformation[b] - coinformation[a])
-      .slice(0, top)
-      .filter(index => !taken.has(index));
-    return [...lowest, ...highest];
+    return Array.from(chosen);
+  }
+
+  /** Write the evidence of multiplet `index` into its row (values in the result's units). */
+  export function addEvidence(
+    row: IMultipletRow,
+    index: number,
+    found: IRunEvidence,
+    statistics: IResolvedStatistics,
+    bootstrapRow: number | undefined,
+    inUnits: (nats: number) => number | null
+  ): void {
+    const e = found.outcome.evidence;
+    const orNull = (value: number): number | null => (Number.isNaN(value) ? null : value);
+    if (statistics.surrogates > 0) {
+      row.p_value = orNull(e.pValue[index]);
+      row.q_value = orNull(e.qValue[index]);
+      row.null_mean = inUnits(e.nullMean[index]);
+      row.null_sd = inUnits(e.nullSd[index]);
+      row.co_information_corrected = Number.isNaN(e.nullMean[index])
+        ? null
+        : inUnits(found.measures.coinformation[index] - e.nullMean[index]);
+      row.o_information_p_value = orNull(e.oPValue[index]);
+      row.o_information_q_value = orNull(e.oQValue[index]);
+      row.o_information_null_mean = inUnits(e.oNullMean[index]);
+      row.o_information_null_sd = inUnits(e.oNullSd[index]);
+    }
+    if (statistics.bootstrap > 0) {
+      const at = (measure: number, end: number): number | null =>
+        bootstrapRow === undefined ? null : inUnits(e.intervals[(bootstrapRow * BOOTSTRAP_MEASURES.length + measure) * 2 + end]);
+      row.ci_low = at(1, 0);
+      row.ci_high = at(1, 1);
+      row.same_sign = bootstrapRow === undefined ? null : orNull(e.sameSign[bootstrapRow]);
+      row.entropy_ci_low = at(0, 0);
+      row.entropy_ci_high = at(0, 1);
+      row.total_correlation_ci_low = at(2, 0);
+      row.total_correlation_ci_high = at(2, 1);
+      row.dual_total_correlation_ci_low = at(3, 0);
+      row.dual_total_correlation_ci_high = at(3, 1);
+      row.o_information_ci_low = at(4, 0);
+      row.o_information_ci_high = at(4, 1);
+      row.s_information_ci_low = at(5, 0);
+      row.s_information_ci_high = at(5, 1);
+    }
+    if (statistics.beyondPairs > 0) {
+      const fit = found.connected.get(index);
+      row.connected_information = fit ? inUnits(fit.value) : null;
+      row.connected_p_value = fit ? fit.pValue : null;
+    }
+  }
+
+  /** The statistics block of a result. */
+  export function report(found: IRunEvidence, statistics: IResolvedStatistics, units: Units): IStatisticsReport {
+    return {
+      surrogates: statistics.surrogates,
+      seed: statistics.seed,
+      tail: statistics.tail,
+      bootstrap: statistics.bootstrap,
+      alpha: statistics.alpha,
+      interval_level: 1 - statistics.alpha,
+      families: found.outcome.families,
+      null_bands: found.outcome.bands.map(band => ({
+        order: band.order,
+        low: fromNats(band.low, units),
+        high: fromNats(band.high, units),
+        mean: fromNats(band.mean, units),
+        values: band.values
+      })),
+      bootstrap_multiplets: found.outcome.evidence.bootstrapped.length,
+      beyond_pairs:
+        statistics.beyondPairs > 0
+          ? {
+              per_table: statistics.beyondPairs,
+              draws: statistics.fitDraws,
+              fitted: found.connected.size,
+              refused: found.refused
+            }
+          : null
+    };
   }
 }

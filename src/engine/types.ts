@@ -4,6 +4,8 @@
  * arrays only, so every value crosses a worker boundary by structured clone.
  */
 
+import type { IStatisticsOptions, StatisticsTail } from './statistics/options';
+
 /** Numeric typed arrays a column may arrive as (Arrow's value buffers). */
 export type NumericArray =
   | Float64Array
@@ -105,6 +107,42 @@ export interface IMultipletRow {
   dual_total_correlation: number;
   o_information: number;
   s_information: number;
+  /** Rows used per possible joint cell (the product of the members' code counts); below 1 is flagged. */
+  adequacy?: number;
+  /** Surrogate evidence on co-information (present with surrogates; null for a single column). */
+  p_value?: number | null;
+  /** Benjamini–Hochberg q-value over the tested family (orders ≥ 2). */
+  q_value?: number | null;
+  /** Mean and standard deviation of co-information over the independence surrogates. */
+  null_mean?: number | null;
+  null_sd?: number | null;
+  /** Observed co-information minus the surrogate mean. */
+  co_information_corrected?: number | null;
+  /** Surrogate evidence on O-information (orders ≥ 3; null below). */
+  o_information_p_value?: number | null;
+  o_information_q_value?: number | null;
+  o_information_null_mean?: number | null;
+  o_information_null_sd?: number | null;
+  /** Bootstrap percentile interval of co-information (level 1 − alpha). */
+  ci_low?: number | null;
+  ci_high?: number | null;
+  /** Share of bootstrap resamples whose co-information has the observed sign. */
+  same_sign?: number | null;
+  /** Bootstrap percentile intervals of the other measures. */
+  entropy_ci_low?: number | null;
+  entropy_ci_high?: number | null;
+  total_correlation_ci_low?: number | null;
+  total_correlation_ci_high?: number | null;
+  dual_total_correlation_ci_low?: number | null;
+  dual_total_correlation_ci_high?: number | null;
+  o_information_ci_low?: number | null;
+  o_information_ci_high?: number | null;
+  s_information_ci_low?: number | null;
+  s_information_ci_high?: number | null;
+  /** Connected information of order k: entropy of the fit to the (k−1)-marginals minus the data's (pairwise-preserving null). */
+  connected_information?: number | null;
+  /** Its parametric-bootstrap p-value. */
+  connected_p_value?: number | null;
 }
 
 /** Options of one analysis (`analyze`). Defaults as in DESIGN.md and issue texts. */
@@ -124,6 +162,8 @@ export interface IAnalyzeOptions {
   maxMultiplets?: number;
   /** Keep only the N lowest and N highest co-information multiplets of order ≥ 2. */
   top?: number;
+  /** Evidence against chance (surrogates, bootstrap, pairwise-preserving null); off by default. */
+  statistics?: IStatisticsOptions;
 }
 
 /** The result of one analysis; field names are the CLI's JSON fields. */
@@ -137,5 +177,31 @@ export interface IAnalysisResult {
   columns: IColumnBinning[];
   multiplets: IMultipletRow[];
   multiplet_count: number;
+  /** Multiplets of order ≥ 2 with adequacy below 1 (fewer rows than possible joint cells). */
+  inadequate_count?: number;
+  /** What the evidence was computed with and over; absent when no statistics were asked for. */
+  statistics?: IStatisticsReport;
   warnings: string[];
+}
+
+/** The statistics of a result: settings, tested families, null bands (in the result's units). */
+export interface IStatisticsReport {
+  surrogates: number;
+  seed: number;
+  tail: StatisticsTail;
+  bootstrap: number;
+  alpha: number;
+  /** Level of the bootstrap intervals, 1 − alpha. */
+  interval_level: number;
+  /** Families over which q-values control the false discovery rate. */
+  families: {
+    co_information: { orders: number[]; count: number } | null;
+    o_information: { orders: number[]; count: number } | null;
+  };
+  /** Per order: 2.5 % and 97.5 % quantiles and mean of the surrogate co-information. */
+  null_bands: { order: number; low: number; high: number; mean: number; values: number }[];
+  /** Multiplets that got bootstrap intervals. */
+  bootstrap_multiplets: number;
+  /** The pairwise-preserving null: how many multiplets per table, the draws, how many were fitted. */
+  beyond_pairs: { per_table: number; draws: number; fitted: number; refused: { columns: string[]; reason: string }[] } | null;
 }
