@@ -136,10 +136,10 @@ describe('polyadic analyze', () => {
       const folder = fixtureFolder({ 'm.csv': mixedCsv() });
       const result = parseResult(analyze(path.join(folder, 'm.csv')));
       expect(Object.keys(result).sort()).toEqual(
-        ['columns', 'engine', 'estimator', 'max_order', 'multiplet_count', 'multiplets', 'rows', 'rows_used', 'units', 'warnings'].sort()
+        ['columns', 'engine', 'estimator', 'inadequate_count', 'max_order', 'multiplet_count', 'multiplets', 'rows', 'rows_used', 'units', 'warnings'].sort()
       );
       expect(Object.keys(result.multiplets[0]).sort()).toEqual(
-        ['coinformation', 'columns', 'dual_total_correlation', 'entropy', 'o_information', 'order', 's_information', 'total_correlation'].sort()
+        ['adequacy', 'coinformation', 'columns', 'dual_total_correlation', 'entropy', 'o_information', 'order', 's_information', 'total_correlation'].sort()
       );
       // five columns and every order: 2^5 − 1 multiplets
       expect(result.multiplets).toHaveLength(31);
@@ -162,7 +162,8 @@ describe('polyadic analyze', () => {
         'total_correlation',
         'dual_total_correlation',
         'o_information',
-        's_information'
+        's_information',
+        'adequacy'
       ]);
       expect(parsed.data).toHaveLength(json.multiplets.length);
       parsed.data.forEach((row, i) => {
@@ -172,6 +173,7 @@ describe('polyadic analyze', () => {
         expect(Number(row.entropy)).toBe(expected.entropy);
         expect(Number(row.coinformation)).toBe(expected.coinformation);
         expect(Number(row.o_information)).toBe(expected.o_information);
+        expect(Number(row.adequacy)).toBe(expected.adequacy);
       });
     });
 

@@ -235,7 +235,7 @@ describe('MultipletTable', () => {
       const csv = table.csv();
       const cliHeader = formatCsv(result).split('\n')[0];
       expect(csv.split('\n')[0]).toBe(cliHeader);
-      expect(cliHeader).toBe(MULTIPLET_FIELDS.join(','));
+      expect(cliHeader).toBe([...MULTIPLET_FIELDS, 'adequacy'].join(','));
       const parsed = Papa.parse<string[]>(csv.trimEnd(), { header: false });
       const body = parsed.data.slice(1);
       expect(body.length).toBe(table.rowCount);
