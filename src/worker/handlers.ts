@@ -4,7 +4,21 @@
  * routes requests to them and keeps each run's codes between requests.
  */
 
-import { analyzeCodes, latticeInput, prepareColumns } from '../engine/analyze';
+import {
+  analyzeCodes,
+  concludeRun,
+  IEvidencePlan,
+  latticeInput,
+  planEvidence,
+  prepareColumns,
+  resolveOptions
+} from '../engine/analyze';
+import {
+  IReplicateTargets,
+  ReplicateAccumulator,
+  ReplicateBlockResult,
+  runReplicateBlock
+} from '../engine/statistics/replicates';
 import { binColumn } from '../engine/binning';
 import type { IPreparedCodes } from '../engine/binning';
 import { isPolyadicError, PolyadicError } from '../engine/errors';
@@ -49,6 +63,42 @@ export function prepareRun(columns: ColumnView[], options: IAnalyzeOptions = {})
     input.maxMultiplets ?? DEFAULT_MAX_MULTIPLETS
   );
   return { prepared, input, options, multiplets };
+}
+
+/** Whether a prepared run asks for statistics (then step 3 is {@link planRun}). */
+export function runHasStatistics(run: IPreparedRun): boolean {
+  return resolveOptions(run.options, run.input.codes.length).statistics !== null;
+}
+
+/** A run whose lattice is walked and whose replicates are to come. */
+export interface IPlannedRun {
+  run: IPreparedRun;
+  lattice: ILattice;
+  plan: IEvidencePlan;
+}
+
+/** Step 3 of an analysis with statistics: the lattice from its parts and what the replicates compare against. */
+export function planRun(run: IPreparedRun, parts: ISubtreeResult[]): IPlannedRun {
+  const lattice = assembleLattice(run.input, parts);
+  return { run, lattice, plan: planEvidence(run.prepared, run.options, lattice) };
+}
+
+/** Step 5: merge the replicate blocks (in block order) and compute the result with its evidence. */
+export function concludePlannedRun(
+  planned: IPlannedRun,
+  blocks: ReplicateBlockResult[]
+): { result: IAnalysisResult; lattice: ILattice } {
+  const { run, lattice, plan } = planned;
+  const statistics = resolveOptions(run.options, run.input.codes.length).statistics;
+  if (!statistics) {
+    throw new PolyadicError('internal', 'A run without statistics was sent its replicates.');
+  }
+  const accumulator = new ReplicateAccumulator(lattice.indexing.size, statistics, plan.targets.bootstrapped.length);
+  for (const block of blocks) {
+    accumulator.add(block);
+  }
+  const evidence = concludeRun(run.prepared, run.options, lattice, plan, accumulator);
+  return { result: analyzeCodes(run.prepared, run.options, lattice, evidence), lattice };
 }
 
 /** Step 3 of an analysis: the lattice from its parts, then the result as `analyze` gives it. */
@@ -203,22 +253,45 @@ export class WorkerHost {
         if (!prepared) {
           throw new PolyadicError('internal', `This worker did not prepare run ${request.run}.`);
         }
-        this._forget(request.run);
-        const { result, lattice } = finishRun(prepared, request.parts);
-        const transfer = new TransferList();
-        if (request.includeLattice) {
-          transfer.addLattice(lattice);
+        if (runHasStatistics(prepared)) {
+          const planned = planRun(prepared, request.parts);
+          this._planned.set(request.run, planned);
+          this._targets.set(request.run, planned.plan.targets);
+          // The targets are copied: this worker keeps its own for its replicate blocks.
+          const targets = Private.copyTargets(planned.plan.targets);
+          const transfer = new TransferList().add(targets.coinformation).add(targets.oInformation).add(targets.bootstrapped);
+          this._post(
+            { type: 'planned', id: request.id, run: request.run, targets, size: planned.lattice.indexing.size },
+            transfer.buffers
+          );
+          return;
         }
-        this._post(
-          {
-            type: 'result',
-            id: request.id,
-            run: request.run,
-            result,
-            lattice: request.includeLattice ? lattice : undefined
-          },
-          transfer.buffers
-        );
+        this._forget(request.run);
+        this._postResult(request.id, request.run, finishRun(prepared, request.parts), request.includeLattice);
+        return;
+      }
+      case 'replicates': {
+        if (request.targets) {
+          this._targets.set(request.run, request.targets);
+        }
+        const input = this._inputs.get(request.run);
+        const targets = this._targets.get(request.run);
+        if (!input || !targets) {
+          throw new PolyadicError('internal', `This worker holds no codes or targets for run ${request.run}.`);
+        }
+        const result = runReplicateBlock(input, targets, request.statistics, request.block);
+        const transfer = new TransferList();
+        Private.blockBuffers(result).forEach(array => transfer.add(array));
+        this._post({ type: 'replicated', id: request.id, run: request.run, result }, transfer.buffers);
+        return;
+      }
+      case 'conclude': {
+        const planned = this._planned.get(request.run);
+        if (!planned) {
+          throw new PolyadicError('internal', `This worker did not plan run ${request.run}.`);
+        }
+        this._forget(request.run);
+        this._postResult(request.id, request.run, concludePlannedRun(planned, request.blocks), request.includeLattice);
         return;
       }
       case 'release':
@@ -242,6 +315,22 @@ export class WorkerHost {
     }
   }
 
+  private _postResult(
+    id: number,
+    run: number,
+    done: { result: IAnalysisResult; lattice: ILattice },
+    includeLattice: boolean
+  ): void {
+    const transfer = new TransferList();
+    if (includeLattice) {
+      transfer.addLattice(done.lattice);
+    }
+    this._post(
+      { type: 'result', id, run, result: done.result, lattice: includeLattice ? done.lattice : undefined },
+      transfer.buffers
+    );
+  }
+
   private _walk(id: number, run: number, input: ILatticeInput, units: IWorkUnit[]): void {
     const indexing = createIndexing(input.codes.length, Math.min(input.maxOrder, input.codes.length));
     const parts: ISubtreeResult[] = [];
@@ -260,14 +349,44 @@ export class WorkerHost {
   private _forget(run: number): void {
     this._prepared.delete(run);
     this._inputs.delete(run);
+    this._planned.delete(run);
+    this._targets.delete(run);
   }
 
   private _post: PostResponse;
   private _prepared = new Map<number, IPreparedRun>();
   private _inputs = new Map<number, ILatticeInput>();
+  private _planned = new Map<number, IPlannedRun>();
+  private _targets = new Map<number, IReplicateTargets>();
 }
 
 namespace Private {
+  /** Copies of the targets' arrays, to hand over while keeping the originals. */
+  export function copyTargets(targets: IReplicateTargets): IReplicateTargets {
+    return {
+      coinformation: targets.coinformation.slice(),
+      oInformation: targets.oInformation.slice(),
+      bootstrapped: targets.bootstrapped.slice()
+    };
+  }
+
+  /** The typed arrays of a block's result (all transferable: the worker keeps none). */
+  export function blockBuffers(result: ReplicateBlockResult): (Int32Array | Float64Array)[] {
+    return result.kind === 'bootstrap'
+      ? [result.values]
+      : [
+          result.coLow,
+          result.coHigh,
+          result.coSum,
+          result.coSumSquares,
+          result.oLow,
+          result.oHigh,
+          result.oSum,
+          result.oSumSquares,
+          result.band
+        ];
+  }
+
   /**
    * Distribution of a numeric column's finite values over `resolution` equal bins, as
    * `numpy.histogram(x, bins=resolution)` gives it: the range is the values' minimum and maximum

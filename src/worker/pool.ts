@@ -16,6 +16,13 @@
 import { PolyadicError } from '../engine/errors';
 import type { ILattice, ILatticeInput, ISubtreeResult } from '../engine/lattice';
 import { createIndexing } from '../engine/multiplets';
+import { IResolvedStatistics, resolveStatistics } from '../engine/statistics/options';
+import {
+  IReplicateBlock,
+  IReplicateTargets,
+  planReplicateBlocks,
+  ReplicateBlockResult
+} from '../engine/statistics/replicates';
 import type { ColumnView, IAnalysisResult, IAnalyzeOptions } from '../engine/types';
 import { deserializeError } from './handlers';
 import {
@@ -56,8 +63,11 @@ export function isRunCancelled(value: unknown): value is RunCancelled {
   return value instanceof RunCancelled;
 }
 
-/** The phase a run is in: binning the columns, walking the lattice, computing the measures, done. */
-export type RunPhase = 'binning' | 'walking' | 'measuring' | 'done';
+/**
+ * The phase a run is in: binning the columns, walking the lattice, computing the replicates of
+ * the statistics (surrogates and resamples), computing the measures, done.
+ */
+export type RunPhase = 'binning' | 'walking' | 'testing' | 'measuring' | 'done';
 
 /** A progress report of a run. */
 export interface IRunProgress {
@@ -69,6 +79,9 @@ export interface IRunProgress {
   unitsTotal: number;
   multipletsDone: number;
   multipletsTotal: number;
+  /** Replicates (surrogates and bootstrap resamples) done and asked for; 0 of 0 without statistics. */
+  replicatesDone: number;
+  replicatesTotal: number;
   elapsedMs: number;
   /** Estimated time left; null until there is something to estimate from. */
   remainingMs: number | null;
@@ -137,6 +150,12 @@ export class EnginePool {
         new PolyadicError('usage', 'An analysis is already running; wait for it to finish or cancel it.')
       );
     }
+    let statistics: IResolvedStatistics | null;
+    try {
+      statistics = resolveStatistics(options.statistics);
+    } catch (error) {
+      return Promise.reject(error);
+    }
     const selected = options.columns?.length ?? columns.length;
     const slots = this._ensureSlots(Math.max(1, Math.min(this._size, selected)));
     const transfer = new TransferList();
@@ -170,7 +189,15 @@ export class EnginePool {
         parts: [],
         fraction: 0,
         timer: null,
-        walkers: 0
+        walkers: 0,
+        statistics,
+        targets: null,
+        blocks: statistics ? planReplicateBlocks(statistics) : [],
+        nextBlock: 0,
+        blocksInFlight: new Map(),
+        blockResults: [],
+        replicatesDone: 0,
+        withTargets: new Set()
       };
       this._run = run;
       if (runOptions.onProgress) {
@@ -341,6 +368,12 @@ export class EnginePool {
       case 'result':
         this._onResult(run, response.result, response.lattice);
         return;
+      case 'planned':
+        this._onPlanned(run, response.targets);
+        return;
+      case 'replicated':
+        this._onReplicated(run, slot, response.id, response.result);
+        return;
       case 'error':
         this._onRunError(run, response);
         return;
@@ -450,6 +483,108 @@ export class EnginePool {
     this._report(run);
   }
 
+  /** The observed measures are in: hand out the replicate blocks. */
+  private _onPlanned(run: Private.IRun, targets: IReplicateTargets): void {
+    run.targets = targets;
+    run.phase = 'testing';
+    this._report(run);
+    if (run.blocks.length === 0) {
+      this._conclude(run);
+      return;
+    }
+    this._dispatchBlocks(run);
+  }
+
+  /** Give each idle worker of the run its next replicate block; a worker's first block carries the targets. */
+  private _dispatchBlocks(run: Private.IRun): void {
+    const targets = run.targets;
+    const statistics = run.statistics;
+    if (!targets || !statistics) {
+      return;
+    }
+    for (const slot of run.slots) {
+      if (slot.busy || run.nextBlock >= run.blocks.length) {
+        continue;
+      }
+      const block = run.blocks[run.nextBlock++];
+      const id = this._nextId();
+      let withTargets: IReplicateTargets | undefined;
+      // The preparing worker kept its own targets; the others get copies.
+      if (slot !== run.slots[0] && !run.withTargets.has(slot)) {
+        withTargets = {
+          coinformation: targets.coinformation.slice(),
+          oInformation: targets.oInformation.slice(),
+          bootstrapped: targets.bootstrapped.slice()
+        };
+        run.withTargets.add(slot);
+      }
+      slot.busy = true;
+      run.blocksInFlight.set(id, { slot, block });
+      const transfer = new TransferList();
+      if (withTargets) {
+        transfer.add(withTargets.coinformation).add(withTargets.oInformation).add(withTargets.bootstrapped);
+      }
+      this._send(
+        slot,
+        { type: 'replicates', id, protocol: PROTOCOL_VERSION, run: run.id, block, statistics, targets: withTargets },
+        transfer.buffers
+      );
+    }
+  }
+
+  private _onReplicated(run: Private.IRun, slot: Private.ISlot, id: number, result: ReplicateBlockResult): void {
+    const request = run.blocksInFlight.get(id);
+    if (!request) {
+      return;
+    }
+    run.blocksInFlight.delete(id);
+    slot.busy = false;
+    run.blockResults.push(result);
+    run.replicatesDone += request.block.count;
+    if (run.nextBlock < run.blocks.length) {
+      this._dispatchBlocks(run);
+    } else if (run.blocksInFlight.size === 0) {
+      this._conclude(run);
+    }
+    this._report(run);
+  }
+
+  /** Every replicate is in: the preparing worker merges them and computes the result. */
+  private _conclude(run: Private.IRun): void {
+    run.phase = 'measuring';
+    const transfer = new TransferList();
+    for (const result of run.blockResults) {
+      if (result.kind === 'bootstrap') {
+        transfer.add(result.values);
+      } else {
+        transfer
+          .add(result.coLow)
+          .add(result.coHigh)
+          .add(result.coSum)
+          .add(result.coSumSquares)
+          .add(result.oLow)
+          .add(result.oHigh)
+          .add(result.oSum)
+          .add(result.oSumSquares)
+          .add(result.band);
+      }
+    }
+    const blocks = run.blockResults;
+    run.blockResults = [];
+    this._send(
+      run.slots[0],
+      {
+        type: 'conclude',
+        id: this._nextId(),
+        protocol: PROTOCOL_VERSION,
+        run: run.id,
+        blocks,
+        includeLattice: run.runOptions.includeLattice ?? false
+      },
+      transfer.buffers
+    );
+  }
+
   private _onResult(run: Private.IRun, result: IAnalysisResult, lattice: ILattice | undefined): void {
     const helpers = run.slots.slice(1).filter(slot => slot.holds === run.id);
     run.phase = 'done';
@@ -483,6 +618,9 @@ export class EnginePool {
     }
     run.input = null;
     run.parts = [];
+    run.targets = null;
+    run.blockResults = [];
+    run.blocksInFlight.clear();
     if (this._run === run) {
       this._run = null;
     }
@@ -498,12 +636,14 @@ export class EnginePool {
       walked += request.reported;
     }
     const walkedShare = run.multipletsTotal > 0 ? Math.min(1, walked / run.multipletsTotal) : 0;
+    // Each replicate re-walks the lattice: the walk is one share, each replicate another.
+    const replicatesTotal = Private.replicateCount(run.statistics);
+    const walkShare =
+      run.phase === 'testing' || run.phase === 'measuring' || run.phase === 'done' ? 1 : walkedShare;
+    const replicateShare = run.phase === 'measuring' || run.phase === 'done' ? replicatesTotal : run.replicatesDone;
+    const done = (walkShare + replicateShare) / (1 + replicatesTotal);
     const target =
-      run.phase === 'done'
-        ? 1
-        : run.phase === 'binning'
-          ? 0
-          : Private.BINNING_SHARE + Private.WALKING_SHARE * (run.phase === 'measuring' ? 1 : walkedShare);
+      run.phase === 'done' ? 1 : run.phase === 'binning' ? 0 : Private.BINNING_SHARE + Private.WALKING_SHARE * done;
     run.fraction = Math.max(run.fraction, target);
     const elapsedMs = this._now() - run.started;
     const progress: IRunProgress = {
@@ -514,6 +654,8 @@ export class EnginePool {
       unitsTotal: run.units.length,
       multipletsDone: Math.min(walked, run.multipletsTotal),
       multipletsTotal: run.multipletsTotal,
+      replicatesDone: run.replicatesDone,
+      replicatesTotal,
       elapsedMs,
       remainingMs:
         run.phase === 'done' ? 0 : run.fraction > 0 ? (elapsedMs * (1 - run.fraction)) / run.fraction : null
@@ -637,6 +779,23 @@ namespace Private {
     timer: ReturnType<typeof setInterval> | null;
     /** Workers that walked. */
     walkers: number;
+    /** The statistics asked for, or null. */
+    statistics: IResolvedStatistics | null;
+    /** What the replicates compare against, once the preparing worker has planned them. */
+    targets: IReplicateTargets | null;
+    /** Every replicate block, in plan order; the next to hand out. */
+    blocks: IReplicateBlock[];
+    nextBlock: number;
+    blocksInFlight: Map<number, { slot: ISlot; block: IReplicateBlock }>;
+    blockResults: ReplicateBlockResult[];
+    replicatesDone: number;
+    /** Workers other than the first that were sent the targets. */
+    withTargets: Set<ISlot>;
+  }
+
+  /** Surrogates plus bootstrap resamples of a run. */
+  export function replicateCount(statistics: IResolvedStatistics | null): number {
+    return statistics ? statistics.surrogates + statistics.bootstrap : 0;
   }
 
   /** A column with its name, kind and type but no rows. */

@@ -12,6 +12,13 @@
  * 3. `finish` (the preparing worker): put the parts together into the lattice and compute the
  *    measures and the multiplet rows.
  *
+ * With statistics, step 3 stops at the observed measures (`planned`), and two more follow:
+ *
+ * 4. `replicates` (every worker): compute one block of surrogates or bootstrap resamples
+ *    against the observed values; the answer is the block's tallies (`replicated`).
+ * 5. `conclude` (the preparing worker): merge the blocks in block order and compute the evidence
+ *    and the result.
+ *
  * `release` ends a run in a worker (its codes are dropped). Cancelling is not a message: a worker
  * reads its next message only after the current unit, so the pool terminates the workers.
  *
@@ -21,10 +28,12 @@
 
 import type { ISubtreeResult, ILattice, ILatticeInput } from '../engine/lattice';
 import type { IErrorDetail, PolyadicErrorKind } from '../engine/errors';
+import type { IResolvedStatistics } from '../engine/statistics/options';
+import type { IReplicateBlock, IReplicateTargets, ReplicateBlockResult } from '../engine/statistics/replicates';
 import type { ColumnView, IAnalysisResult, IAnalyzeOptions, IColumnBinning } from '../engine/types';
 
 /** Version of this protocol; a worker bundle answers requests of another version with an error. */
-export const PROTOCOL_VERSION = 1;
+export const PROTOCOL_VERSION = 2;
 
 /** Default number of fine bins of a preview's distribution. */
 export const DEFAULT_PREVIEW_RESOLUTION = 256;
@@ -78,6 +87,25 @@ export interface IFinishRequest extends IRequestBase {
   includeLattice: boolean;
 }
 
+/** Compute one block of replicates (step 4); the first block a worker gets carries the targets. */
+export interface IReplicatesRequest extends IRequestBase {
+  type: 'replicates';
+  run: number;
+  block: IReplicateBlock;
+  statistics: IResolvedStatistics;
+  /** What the replicates compare against; left out when this worker already holds it. */
+  targets?: IReplicateTargets;
+}
+
+/** Merge the replicate blocks and compute the evidence and the result (step 5). */
+export interface IConcludeRequest extends IRequestBase {
+  type: 'conclude';
+  run: number;
+  /** Every block once, any order. */
+  blocks: ReplicateBlockResult[];
+  includeLattice: boolean;
+}
+
 /** Drop the codes this worker keeps for a run. */
 export interface IReleaseRequest extends IRequestBase {
   type: 'release';
@@ -95,7 +123,14 @@ export interface IPreviewRequest extends IRequestBase {
 }
 
 /** Every request a worker understands. */
-export type EngineRequest = IPrepareRequest | IWalkRequest | IFinishRequest | IReleaseRequest | IPreviewRequest;
+export type EngineRequest =
+  | IPrepareRequest
+  | IWalkRequest
+  | IFinishRequest
+  | IReplicatesRequest
+  | IConcludeRequest
+  | IReleaseRequest
+  | IPreviewRequest;
 
 /** The answer to `prepare`. */
 export interface IPreparedResponse {
@@ -138,6 +173,24 @@ export interface IResultResponse {
   lattice?: ILattice;
 }
 
+/** The answer to `finish` when the run has statistics: what the replicates compare against. */
+export interface IPlannedResponse {
+  type: 'planned';
+  id: number;
+  run: number;
+  targets: IReplicateTargets;
+  /** Slots of the lattice (its index range). */
+  size: number;
+}
+
+/** The answer to `replicates`. */
+export interface IReplicatedResponse {
+  type: 'replicated';
+  id: number;
+  run: number;
+  result: ReplicateBlockResult;
+}
+
 /** The answer to `release`. */
 export interface IReleasedResponse {
   type: 'released';
@@ -173,6 +226,8 @@ export type EngineResponse =
   | IProgressResponse
   | IPartsResponse
   | IResultResponse
+  | IPlannedResponse
+  | IReplicatedResponse
   | IReleasedResponse
   | IPreviewResponse
   | IErrorResponse;
