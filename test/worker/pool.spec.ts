@@ -83,6 +83,34 @@ describe('EnginePool', () => {
       expect(used).toEqual([1, 2, 3]);
     });
 
+    it('should give the statistics analyze gives, bit for bit, with 1, 2 and 3 workers, and report the replicates', async () => {
+      const columns = makeColumns(600, 7);
+      const options: IAnalyzeOptions = {
+        ...OPTIONS,
+        maxOrder: 3,
+        statistics: { surrogates: 45, bootstrap: 12, seed: 5, beyondPairs: 2, fitDraws: 20 }
+      };
+      const direct = JSON.stringify(analyze(columns, options));
+      for (const workers of [1, 2, 3]) {
+        const reports: IRunProgress[] = [];
+        const run = await poolOf(workers).analyze(columns, options, { onProgress: p => reports.push(p) });
+        expect([workers, JSON.stringify(run.result) === direct]).toEqual([workers, true]);
+        expect(reports.some(report => report.phase === 'testing')).toBe(true);
+        const last = reports[reports.length - 1];
+        expect([last.replicatesDone, last.replicatesTotal, last.fraction]).toEqual([57, 57, 1]);
+      }
+      expect(JSON.parse(direct).multiplets[10].p_value).toEqual(expect.any(Number));
+    });
+
+    it('should reject bad statistics settings before any worker starts, naming the option', async () => {
+      const factory = new InProcessFactory();
+      const error = await rejection(
+        poolOf(2, factory).analyze(makeColumns(50, 3), { statistics: { surrogates: 2.5 } })
+      );
+      expect(isPolyadicError(error) && error.detail.option).toBe('surrogates');
+      expect(factory.made).toHaveLength(0);
+    });
+
     it('should start workers only when needed, no more than the selected columns, and reuse them', async () => {
       const factory = new InProcessFactory();
       const pool = poolOf(4, factory);
