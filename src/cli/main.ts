@@ -11,13 +11,16 @@ import * as path from 'path';
 import { parseArgs } from 'util';
 
 import { analyze } from '../engine/analyze';
+import { MAX_SEED, STATISTICS_TAILS, type IStatisticsOptions, type StatisticsTail } from '../engine/statistics/options';
+import { EnginePool } from '../worker/pool';
 import { BIN_SPEC_FORMS, parseBinSpec } from '../engine/binning';
 import { isPolyadicError, PolyadicError } from '../engine/errors';
 import { unknownColumn } from '../engine/table';
-import type { EstimatorName, IAnalyzeOptions, MissingPolicy, Units } from '../engine/types';
+import type { EstimatorName, IAnalysisResult, IAnalyzeOptions, MissingPolicy, Units } from '../engine/types';
 import { runFingerprint } from './fingerprint';
 import { formatResult, OUTPUT_FORMATS, OutputFormat } from './output';
 import { readDataFile, type IDataSource } from './readers';
+import { defaultThreads, serveIfWorkerThread, ThreadWorker } from './threads';
 import { runVerify } from './verify';
 
 /** The package version, replaced by the bundler; undefined when running from source. */
@@ -37,7 +40,8 @@ export const CHOICES = {
   missing: ['drop', 'category', 'error'] as readonly MissingPolicy[],
   estimator: ['plugin', 'miller-madow', 'chao-shen', 'shrinkage'] as readonly EstimatorName[],
   units: ['bits', 'nats'] as readonly Units[],
-  format: OUTPUT_FORMATS
+  format: OUTPUT_FORMATS,
+  tail: STATISTICS_TAILS as readonly StatisticsTail[]
 };
 
 /** The text of `polyadic --help`. */
@@ -65,6 +69,24 @@ Options:
                         columns, else 3)
   --top N               keep the N most negative and N most positive co-information
                         multiplets of order 2 and above
+  --threads N           worker threads (default: all cores); results are identical
+                        for any number
+
+Evidence against chance (all off by default; the same seed gives the same bits):
+  --surrogates N        independence surrogates: each column shuffled on its own, the
+                        lattice walked again; adds p_value, q_value (Benjamini-Hochberg
+                        over every multiplet of order >= 2), null_mean, null_sd,
+                        co_information_corrected and the same for O-information
+                        (orders >= 3); at most 100000
+  --tail TAIL           two | synergy | redundancy (default: two)
+  --bootstrap B         row resamples: percentile intervals of every measure
+                        (ci_low, ci_high, <measure>_ci_low/high) and same_sign
+  --alpha A             intervals cover 1 - A (default: 0.05)
+  --beyond-pairs N      for the N most negative and N most positive multiplets of
+                        order >= 3: the maximum-entropy fit to their (k-1)-column
+                        marginals, connected_information and connected_p_value
+  --fit-draws D         parametric-bootstrap draws per fit (default: 200)
+  --seed S              seed of every random draw, 0 to ${MAX_SEED} (default: 0)
   --format FORMAT       json | csv (default: json, or csv when --out ends in .csv)
   --out PATH            write the result to PATH instead of standard output
   -h, --help            show this help
@@ -80,6 +102,9 @@ Exit codes: 0 done, 2 bad input or usage, 1 internal error.
 
 /** Run the CLI on arguments (without `node` and the script); resolves to the exit code. */
 export async function main(argv: string[], streams: ICliStreams = process): Promise<number> {
+  if (serveIfWorkerThread()) {
+    return EXIT.done;
+  }
   // the other commands parse their own options
   if (argv[0] === 'verify') {
     return runVerify(argv.slice(1), streams);
@@ -100,7 +125,7 @@ export async function main(argv: string[], streams: ICliStreams = process): Prom
     }
     source = await readDataFile(command.data, { columns: command.columns });
     const options = Private.analyzeOptions(command, source);
-    const result = analyze(source.columns, options);
+    const result = await Private.run(source, options, command.threads);
     for (const warning of result.warnings) {
       streams.stderr.write(`polyadic: warning: ${Private.oneLine(warning)}\n`);
     }
@@ -159,9 +184,31 @@ namespace Private {
         units?: Units;
         maxOrder?: number;
         top?: number;
+        threads?: number;
+        statistics: IStatisticsOptions;
         format: OutputFormat;
         out?: string;
       };
+
+  /**
+   * Analyze in this thread (one thread, or a run too small to share) or in a pool of worker
+   * threads running this very bundle; the result is the same bit for bit.
+   */
+  export async function run(source: IDataSource, options: IAnalyzeOptions, threads: number | undefined): Promise<IAnalysisResult> {
+    const count = threads ?? defaultThreads();
+    const script = process.argv[1];
+    if (count <= 1 || !script || !script.endsWith('.cjs')) {
+      // From source (tests import main.ts) there is no bundle to start threads with.
+      return analyze(source.columns, options);
+    }
+    const pool = new EnginePool({ createWorker: () => new ThreadWorker(script), workers: count });
+    try {
+      const done = await pool.analyze(source.columns, options, { transferColumns: true });
+      return done.result;
+    } finally {
+      pool.dispose();
+    }
+  }
 
   /** Parse argv strictly; usage errors name the option or value at fault. */
   export function parseCommand(argv: string[]): Command {
@@ -180,6 +227,14 @@ namespace Private {
           units: { type: 'string' },
           'max-order': { type: 'string' },
           top: { type: 'string' },
+          threads: { type: 'string' },
+          surrogates: { type: 'string' },
+          bootstrap: { type: 'string' },
+          seed: { type: 'string' },
+          tail: { type: 'string' },
+          alpha: { type: 'string' },
+          'beyond-pairs': { type: 'string' },
+          'fit-draws': { type: 'string' },
           format: { type: 'string' },
           out: { type: 'string' },
           help: { type: 'boolean', short: 'h' },
@@ -231,6 +286,8 @@ namespace Private {
       units: values.units === undefined ? undefined : choice('--units', values.units, CHOICES.units),
       maxOrder: values['max-order'] === undefined ? undefined : positiveInteger('--max-order', values['max-order']),
       top: values.top === undefined ? undefined : positiveInteger('--top', values.top),
+      threads: values.threads === undefined ? undefined : positiveInteger('--threads', values.threads),
+      statistics: statisticsOptions(values),
       format,
       out
     };
@@ -264,6 +321,53 @@ namespace Private {
     if (command.units !== undefined) options.units = command.units;
     if (command.maxOrder !== undefined) options.maxOrder = command.maxOrder;
     if (command.top !== undefined) options.top = command.top;
+    if (Object.keys(command.statistics).length > 0) options.statistics = command.statistics;
+    return options;
+  }
+
+  /** The statistics flags, each checked as a whole number (or a choice); the engine checks the caps. */
+  function statisticsOptions(values: Record<string, string | boolean | string[] | undefined>): IStatisticsOptions {
+    const options: IStatisticsOptions = {};
+    const text = (name: string): string | undefined => {
+      const value = values[name];
+      return typeof value === 'string' ? value : undefined;
+    };
+    const whole = (name: string): number | undefined => {
+      const value = text(name);
+      if (value === undefined) {
+        return undefined;
+      }
+      if (!/^\d+$/.test(value) || !Number.isSafeInteger(Number(value))) {
+        throw new PolyadicError('usage', `--${name} must be a whole number ≥ 0; got '${value}'.`, {
+          option: `--${name}`,
+          value
+        });
+      }
+      return Number(value);
+    };
+    const surrogates = whole('surrogates');
+    const bootstrap = whole('bootstrap');
+    const seed = whole('seed');
+    const beyondPairs = whole('beyond-pairs');
+    const fitDraws = whole('fit-draws');
+    if (surrogates !== undefined) options.surrogates = surrogates;
+    if (bootstrap !== undefined) options.bootstrap = bootstrap;
+    if (seed !== undefined) options.seed = seed;
+    if (beyondPairs !== undefined) options.beyondPairs = beyondPairs;
+    if (fitDraws !== undefined) options.fitDraws = fitDraws;
+    const tail = text('tail');
+    if (tail !== undefined) options.tail = choice('--tail', tail, CHOICES.tail);
+    const alpha = text('alpha');
+    if (alpha !== undefined) {
+      const value = Number(alpha);
+      if (!/^(0?\.\d+|0|1)$/.test(alpha) || !(value > 0 && value < 1)) {
+        throw new PolyadicError('usage', `--alpha must be a number between 0 and 1, such as 0.05; got '${alpha}'.`, {
+          option: '--alpha',
+          value: alpha
+        });
+      }
+      options.alpha = value;
+    }
     return options;
   }
 
