@@ -39,11 +39,11 @@ import { PolyadicError } from './errors';
  * per draw: at the cap a fit that converges takes tens of milliseconds, so 1,000 draws take about
  * a minute per multiplet, and a fit that never reaches the tolerance (its maximum lies on the
  * boundary, where the fit approaches it slowly) runs all its cycles, about half a minute (figures
- * measured in Node while writing this module, not tests). Above it the
- * table is also mostly empty for any table a notebook holds (a million rows leave a 65,536-cell
- * table with about 15 rows a cell, fewer where the data concentrate), and the connected
- * information of a sparse table measures the sparsity more than the data. Coarser binning
- * (fewer codes per column) brings a multiplet under the cap.
+ * measured in Node while writing this module, not tests). Above it the table is also mostly
+ * empty for any table a notebook holds (a million rows leave a 65,536-cell table about 15 rows a
+ * cell, fewer where the data concentrate), and the connected information of a sparse table
+ * measures the sparsity more than the data. Coarser binning (fewer codes per column) brings a
+ * multiplet under the cap.
  */
 export const MAX_FIT_CELLS = 65536;
 
@@ -409,7 +409,8 @@ namespace Private {
 
   /**
    * D(data ‖ fit) = Σ p ln(p / q) over the occupied cells, p = n / N, in nats. One logarithm of
-   * the ratio per cell: near the fixed point the ratio is near 1, where ln loses nothing.
+   * the ratio per cell: near the fixed point the ratio is near 1, and a log of the ratio does not
+   * cancel the way ln p − ln q would.
    */
   export function divergence(counts: Float64Array, N: number, fitted: Float64Array): number {
     let sum = 0;
