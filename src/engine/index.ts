@@ -75,3 +75,16 @@ export {
   resolveOptions
 } from './analyze';
 export type { IResolvedOptions } from './analyze';
+export {
+  DEFAULT_FIT_MAX_ITERATIONS,
+  DEFAULT_FIT_TOLERANCE,
+  MAX_FIT_CELLS,
+  connectedInformation,
+  fitPairwisePreserving
+} from './maxent';
+export type {
+  IConnectedInformation,
+  IConnectedInformationOptions,
+  IMaxEntFit,
+  IMaxEntFitOptions
+} from './maxent';

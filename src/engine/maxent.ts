@@ -12,9 +12,13 @@
  *
  * Connected information of order k (Schneidman, Still, Berry & Bialek 2003, PRL 91:238701; Amari
  * 2001, IEEE Trans. Inf. Theory 47:1701) is H(fit) − H(data), plug-in entropies of the joint
- * table in nats: the part of the joint structure that no (k − 1)-order marginal explains. At
- * convergence it equals D(data ‖ fit) ≥ 0. Its p-value comes from a parametric bootstrap: tables
- * of N rows drawn from the fit, each fitted and measured the same way.
+ * table in nats: the part of the joint structure that no (k − 1)-order marginal explains. At the
+ * fit's fixed point it equals D(data ‖ fit), and that is how it is computed: the divergence is
+ * stationary at the fixed point (the fit minimises it over the log-linear family), so a fit
+ * stopped at a marginal misfit δ moves it by O(δ²), while the entropy difference moves by O(δ)
+ * (about 1e-12 nats at the default tolerance); and it is ≥ 0 by construction. Its p-value comes
+ * from a parametric bootstrap: tables of N rows drawn from the fit, each fitted and measured the
+ * same way.
  *
  * Every logarithm is detmath's `ln` and every random number comes from integers, so a browser and
  * Node give the same bits for the same seed.
@@ -32,12 +36,14 @@ import { PolyadicError } from './errors';
  *
  * Memory is not what limits it (a fit holds about three tables of doubles: 1.5 MiB at the cap);
  * time is. One cycle of the fit reads every cell about 3k times, and the bootstrap refits once
- * per draw: at the cap a fit takes tens of milliseconds, so 1,000 draws take on the order of a
- * minute per multiplet (bench figure from this module's development, not a test). Above it the
- * table is also mostly empty for any table a notebook holds (a million rows leave a 65,536-cell
- * table with about 15 rows a cell, fewer where the data concentrate), and the connected
- * information of a sparse table measures the sparsity more than the data. Coarser binning
- * (fewer codes per column) brings a multiplet under the cap.
+ * per draw: at the cap a fit that converges takes tens of milliseconds, so 1,000 draws take about
+ * a minute per multiplet, and a fit that never reaches the tolerance (its maximum lies on the
+ * boundary, where the fit approaches it slowly) runs all its cycles, about half a minute (figures
+ * measured in Node while writing this module, not tests). Above it the table is also mostly
+ * empty for any table a notebook holds (a million rows leave a 65,536-cell table about 15 rows a
+ * cell, fewer where the data concentrate), and the connected information of a sparse table
+ * measures the sparsity more than the data. Coarser binning (fewer codes per column) brings a
+ * multiplet under the cap.
  */
 export const MAX_FIT_CELLS = 65536;
 
@@ -89,7 +95,7 @@ export interface IConnectedInformationOptions extends IMaxEntFitOptions {
 
 /** Connected information of one multiplet, with its bootstrap p-value. */
 export interface IConnectedInformation {
-  /** H(fit) − H(data), in nats. */
+  /** Connected information H(fit) − H(data), computed as D(data ‖ fit), in nats. */
   value: number;
   /** Plug-in entropy of the fitted table, in nats. */
   fitEntropy: number;
@@ -121,11 +127,7 @@ export interface IConnectedInformation {
 
 /** The maximum-entropy fit to a multiplet's (k − 1)-order marginals, by iterative proportional fitting. */
 export function fitPairwisePreserving(codes: ArrayLike<number>[], options: IMaxEntFitOptions = {}): IMaxEntFit {
-  const names = Private.columnNames(codes.length, options.names);
-  const { tolerance, maxIterations } = Private.fitSettings(options);
-  const table = Private.tabulate(codes, names);
-  const fitter = new Private.Fitter(table.shape);
-  const outcome = fitter.fit(table.counts, table.rows, tolerance, maxIterations);
+  const { table, fitter, outcome } = Private.fitData(codes, options);
   const empirical = new Float64Array(table.counts.length);
   for (let cell = 0; cell < empirical.length; cell++) {
     empirical[cell] = table.counts[cell] / table.rows;
@@ -148,30 +150,13 @@ export function connectedInformation(
   codes: ArrayLike<number>[],
   options: IConnectedInformationOptions
 ): IConnectedInformation {
-  const names = Private.columnNames(codes.length, options.names);
-  const { tolerance, maxIterations } = Private.fitSettings(options);
-  const draws = options.draws ?? 0;
-  if (!(Number.isInteger(draws) && draws >= 0)) {
-    throw new PolyadicError(
-      'usage',
-      `The number of bootstrap draws must be a whole number ≥ 0, not ${String(draws)}.`,
-      { option: 'draws', value: String(draws) }
-    );
-  }
-  const seed = options.seed ?? 0;
-  if (!(Number.isInteger(seed) && seed >= 0 && seed <= 0xffffffff)) {
-    throw new PolyadicError('usage', `The seed must be a whole number from 0 to 4294967295, not ${String(seed)}.`, {
-      option: 'seed',
-      value: String(seed)
-    });
-  }
-  const table = Private.tabulate(codes, names);
+  const draws = Private.wholeNumber(options.draws ?? 0, 'draws', 'The number of bootstrap draws', 0);
+  const seed = Private.wholeNumber(options.seed ?? 0, 'seed', 'The seed', 0, 0xffffffff);
+  const { table, fitter, outcome, tolerance, maxIterations } = Private.fitData(codes, options);
   const N = table.rows;
-  const fitter = new Private.Fitter(table.shape);
-  const outcome = fitter.fit(table.counts, N, tolerance, maxIterations);
   const fitEntropy = Private.probabilityEntropy(fitter.fitted);
   const dataEntropy = Private.countEntropy(table.counts, N);
-  const value = fitEntropy - dataEntropy;
+  const value = Private.divergence(table.counts, N, fitter.fitted);
 
   const nullDraws = new Float64Array(draws);
   let drawsNotConverged = 0;
@@ -185,7 +170,7 @@ export function connectedInformation(
       if (!drawOutcome.converged) {
         drawsNotConverged++;
       }
-      nullDraws[b] = Private.probabilityEntropy(fitter.fitted) - Private.countEntropy(drawn, N);
+      nullDraws[b] = Private.divergence(drawn, N, fitter.fitted);
     }
   }
   const summary = Private.nullSummary(nullDraws, value);
@@ -205,12 +190,12 @@ export function connectedInformation(
 
 namespace Private {
   /**
-   * Draws within this many nats below the observed value count as ties, hence as extreme. A fit
-   * stopped at a marginal misfit δ leaves an error in H(fit) of order δ·Σ|ln q|, far above
-   * rounding; counting near-ties as extreme keeps the p-value conservative (common practice for
-   * statistics equal in theory but not in floating point).
+   * Draws within this many nats below the observed value count as ties, hence as extreme (common
+   * practice for statistics equal in theory but not in floating point; it keeps the p-value
+   * conservative). Two equal divergences differ in computation by rounding and by the fits'
+   * misfit to second order, both far below 1e-12 nats at the default tolerance.
    */
-  export const TIE_SLACK = 1e-10;
+  export const TIE_SLACK = 1e-12;
 
   /** The data of a multiplet as a joint table of counts over the used codes. */
   export interface ITable {
@@ -221,7 +206,7 @@ namespace Private {
   }
 
   /** Names for messages: the caller's, checked against the number of columns, or "column i". */
-  export function columnNames(k: number, names: string[] | undefined): string[] {
+  function columnNames(k: number, names: string[] | undefined): string[] {
     if (names === undefined) {
       return Array.from({ length: k }, (_, c) => `column ${c + 1}`);
     }
@@ -232,12 +217,28 @@ namespace Private {
   }
 
   /** The multiplet as a person reads it: {a, b, c}. */
-  export function multipletLabel(names: string[]): string {
+  function multipletLabel(names: string[]): string {
     return `{${names.join(', ')}}`;
   }
 
-  /** Tolerance and cycle cap, checked. */
-  export function fitSettings(options: IMaxEntFitOptions): { tolerance: number; maxIterations: number } {
+  /** A whole-number option in least … most, or a usage error naming it. */
+  export function wholeNumber(value: number, option: string, what: string, least: number, most = Infinity): number {
+    if (!(Number.isInteger(value) && value >= least && value <= most)) {
+      const range = most === Infinity ? `≥ ${least}` : `from ${least} to ${most}`;
+      throw new PolyadicError('usage', `${what} must be a whole number ${range}, not ${String(value)}.`, {
+        option,
+        value: String(value)
+      });
+    }
+    return value;
+  }
+
+  /** The data's table and its fit, after checking the fit's options and the columns. */
+  export function fitData(
+    codes: ArrayLike<number>[],
+    options: IMaxEntFitOptions
+  ): { table: ITable; fitter: Fitter; outcome: IFitOutcome; tolerance: number; maxIterations: number } {
+    const names = columnNames(codes.length, options.names);
     const tolerance = options.tolerance ?? DEFAULT_FIT_TOLERANCE;
     if (!(typeof tolerance === 'number' && tolerance >= 0 && tolerance < Infinity)) {
       throw new PolyadicError('usage', `The fit tolerance must be a number ≥ 0, not ${String(tolerance)}.`, {
@@ -245,28 +246,30 @@ namespace Private {
         value: String(tolerance)
       });
     }
-    const maxIterations = options.maxIterations ?? DEFAULT_FIT_MAX_ITERATIONS;
-    if (!(Number.isInteger(maxIterations) && maxIterations >= 1)) {
-      throw new PolyadicError(
-        'usage',
-        `The most cycles of the fit must be a whole number ≥ 1, not ${String(maxIterations)}.`,
-        { option: 'maxIterations', value: String(maxIterations) }
-      );
-    }
-    return { tolerance, maxIterations };
+    const maxIterations = wholeNumber(
+      options.maxIterations ?? DEFAULT_FIT_MAX_ITERATIONS,
+      'maxIterations',
+      'The most cycles of the fit',
+      1
+    );
+    const table = tabulate(codes, names);
+    const fitter = new Fitter(table.shape);
+    const outcome = fitter.fit(table.counts, table.rows, tolerance, maxIterations);
+    return { table, fitter, outcome, tolerance, maxIterations };
   }
 
   /**
    * Check the columns and count the rows of each joint cell. Each column's codes are renumbered
    * densely in code order (not order of appearance), so the table does not depend on row order.
    */
-  export function tabulate(codes: ArrayLike<number>[], names: string[]): ITable {
+  function tabulate(codes: ArrayLike<number>[], names: string[]): ITable {
     const k = codes.length;
     const label = multipletLabel(names);
     if (k < 3) {
       throw new PolyadicError(
         'usage',
-        `Connected information needs a multiplet of order 3 or more; ${label} has order ${k}. ` +
+        `The pairwise-preserving null and connected information need a multiplet of order 3 or more; ` +
+          `${label} has order ${k}. ` +
           (k === 2
             ? `At order 2 it is the mutual information of ${names[0]} and ${names[1]}: read that instead.`
             : 'Select at least three columns.'),
@@ -402,6 +405,23 @@ namespace Private {
       }
     }
     return ln(N) - sum / N;
+  }
+
+  /**
+   * D(data ‖ fit) = Σ p ln(p / q) over the occupied cells, p = n / N, in nats. One logarithm of
+   * the ratio per cell: near the fixed point the ratio is near 1, and a log of the ratio does not
+   * cancel the way ln p − ln q would.
+   */
+  export function divergence(counts: Float64Array, N: number, fitted: Float64Array): number {
+    let sum = 0;
+    for (let cell = 0; cell < counts.length; cell++) {
+      const n = counts[cell];
+      if (n > 0) {
+        // The fit is 0 only where a data marginal is 0, hence where n is 0 too.
+        sum += n * ln(n / (N * fitted[cell]));
+      }
+    }
+    return sum / N;
   }
 
   /** p-value, mean and standard deviation of the bootstrap statistics. */
