@@ -364,7 +364,8 @@ export function concludeRun(
       try {
         const fit = connectedInformation(
           ids.map(c => prepared.codes[c]),
-          { names, draws: statistics.fitDraws, seed: statistics.seed }
+          // Each multiplet draws from its own stream, a function of the seed and its index alone.
+          { names, draws: statistics.fitDraws, seed: (statistics.seed + Math.imul(index, 0x9e3779b1)) >>> 0 }
         );
         connected.set(index, { value: fit.value, pValue: fit.pValue });
       } catch (error) {

@@ -295,6 +295,71 @@ describe('polyadic analyze', () => {
     });
   });
 
+  describe('#statistics', () => {
+    /** A noisy XOR triplet and two noise columns, 0/1 values as text categories. */
+    function xorCsv(rows = 400): string {
+      let state = 17;
+      const bit = (): number => {
+        state = (state * 1103515245 + 12345) % 2147483648;
+        return state < 1073741824 ? 0 : 1;
+      };
+      const data: string[][] = [];
+      for (let i = 0; i < rows; i++) {
+        const a = bit();
+        const b = bit();
+        const flip = bit() & bit() & bit();
+        data.push([`a${a}`, `b${b}`, `c${a ^ b ^ flip}`, `n${bit()}`, `m${bit()}`]);
+      }
+      return csv(['a', 'b', 'c', 'n', 'm'], data);
+    }
+
+    it('should give byte-identical JSON with --threads 1, 2 and 3 on the same seed', () => {
+      const folder = fixtureFolder({ 'x.csv': xorCsv() });
+      const args = ['--surrogates', '60', '--bootstrap', '20', '--seed', '11', '--beyond-pairs', '2', '--fit-draws', '30'];
+      const outputs = ['1', '2', '3'].map(threads => analyze(path.join(folder, 'x.csv'), ...args, '--threads', threads));
+      outputs.forEach(run => expect(run.code).toBe(0));
+      expect(outputs[1].stdout).toBe(outputs[0].stdout);
+      expect(outputs[2].stdout).toBe(outputs[0].stdout);
+      const result = JSON.parse(outputs[0].stdout) as IAnalysisResult;
+      const triplet = multiplet(result, 'a', 'b', 'c');
+      expect(triplet.p_value).toBe(2 / 61);
+      expect(triplet.q_value).toEqual(expect.any(Number));
+      expect(triplet.connected_information).toBeGreaterThan(0.3);
+      expect(result.statistics!.families.co_information).toEqual({ orders: [2, 3, 4, 5], count: 26 });
+      // Another seed draws other surrogates.
+      const other = analyze(path.join(folder, 'x.csv'), '--surrogates', '60', '--seed', '12');
+      expect(JSON.parse(other.stdout).multiplets[7].null_mean).not.toBe(result.multiplets[7].null_mean);
+    });
+
+    it('should write the statistics columns in CSV, empty where not computed', () => {
+      const folder = fixtureFolder({ 'x.csv': xorCsv() });
+      const run = analyze(path.join(folder, 'x.csv'), '--surrogates', '20', '--format', 'csv', '--max-order', '3');
+      expect(run.code).toBe(0);
+      const parsed = Papa.parse<Record<string, string>>(run.stdout.trim(), { header: true });
+      expect(parsed.meta.fields).toEqual(expect.arrayContaining(['adequacy', 'p_value', 'q_value', 'null_mean', 'null_sd']));
+      expect(parsed.meta.fields).not.toContain('ci_low');
+      const single = parsed.data.find(row => row.order === '1')!;
+      expect(single.p_value).toBe('');
+      const pair = parsed.data.find(row => row.order === '2')!;
+      expect(Number(pair.p_value)).toBeGreaterThan(0);
+    });
+
+    it.each([
+      [['--surrogates', '1.5'], /--surrogates must be a whole number ≥ 0; got '1\.5'/],
+      [['--surrogates', '100001'], /surrogates is at most 100,000/],
+      [['--bootstrap', 'ten'], /--bootstrap must be a whole number/],
+      [['--surrogates', '5', '--seed=-3'], /--seed must be a whole number ≥ 0; got '-3'/],
+      [['--surrogates', '5', '--seed', '2.5'], /--seed must be a whole number ≥ 0; got '2\.5'/],
+      [['--surrogates', '5', '--seed', '4294967296'], /seed must be a whole number from 0 to 4,294,967,295/],
+      [['--surrogates', '5', '--tail', 'left'], /--tail must be one of two, synergy, redundancy; got 'left'/],
+      [['--surrogates', '5', '--alpha', '1.5'], /--alpha must be a number between 0 and 1/],
+      [['--threads', '0'], /--threads must be a whole number of at least 1/]
+    ])('should refuse %j with one line naming the flag', (args, message) => {
+      const folder = fixtureFolder({ 'x.csv': xorCsv(50) });
+      expect(expectOneLineFailure(analyze(path.join(folder, 'x.csv'), ...args))).toMatch(message);
+    });
+  });
+
   describe('#bad input', () => {
     it('should refuse an empty file', () => {
       const folder = fixtureFolder({ 'e.csv': '' });
