@@ -38,6 +38,7 @@ export const EVIDENCE_FIELDS: readonly Exclude<keyof IMultipletRow, CoreMultiple
   'adequacy',
   'p_value',
   'q_value',
+  'p_surrogates',
   'null_mean',
   'null_sd',
   'co_information_corrected',

@@ -78,6 +78,10 @@ Evidence against chance (all off by default; the same seed gives the same bits):
                         over every multiplet of order >= 2), null_mean, null_sd,
                         co_information_corrected and the same for O-information
                         (orders >= 3); at most 100000
+  --sharpen M           M fresh surrogates, on that multiplet alone, for each multiplet
+                        whose p-value sits at its floor 1/(N+1) (at most 64, the most
+                        extreme first): with many multiplets, N alone cannot bring any
+                        q below 0.05; p_surrogates says which count each p rests on
   --tail TAIL           two | synergy | redundancy (default: two)
   --bootstrap B         row resamples: percentile intervals of every measure
                         (ci_low, ci_high, <measure>_ci_low/high) and same_sign
@@ -235,6 +239,7 @@ namespace Private {
           alpha: { type: 'string' },
           'beyond-pairs': { type: 'string' },
           'fit-draws': { type: 'string' },
+          sharpen: { type: 'string' },
           format: { type: 'string' },
           out: { type: 'string' },
           help: { type: 'boolean', short: 'h' },
@@ -350,6 +355,8 @@ namespace Private {
     const seed = whole('seed');
     const beyondPairs = whole('beyond-pairs');
     const fitDraws = whole('fit-draws');
+    const sharpen = whole('sharpen');
+    if (sharpen !== undefined) options.sharpen = sharpen;
     if (surrogates !== undefined) options.surrogates = surrogates;
     if (bootstrap !== undefined) options.bootstrap = bootstrap;
     if (seed !== undefined) options.seed = seed;

@@ -14,6 +14,7 @@ import { coinformationAll, computeMeasures, IMeasureArrays, multipletMeasures } 
 import { checkMultipletCount, DEFAULT_MAX_MULTIPLETS, forEachMultiplet, membersOfIndex } from './multiplets';
 import { chooseBootstrapped, concludeStatistics, IStatisticsOutcome } from './statistics/conclude';
 import { IResolvedStatistics, resolveStatistics } from './statistics/options';
+import { ISharpened, sharpenMultiplet } from './statistics/sharpen';
 import {
   BOOTSTRAP_MEASURES,
   IReplicateTargets,
@@ -350,13 +351,25 @@ export function concludeRun(
   if (!statistics) {
     throw new PolyadicError('internal', 'Statistics concluded for an analysis that asked for none.');
   }
-  const outcome = concludeStatistics(lattice, plan.measures, accumulator, statistics, plan.targets.bootstrapped);
+  const members = new Int32Array(lattice.indexing.maxOrder);
+  const sharpen = (index: number): ISharpened => {
+    const order = membersOfIndex(lattice.indexing, index, members);
+    const ids = Array.from(members.subarray(0, order));
+    return sharpenMultiplet(
+      ids.map(c => prepared.codes[c]),
+      ids.map(c => prepared.bins[c]),
+      resolved.estimator,
+      statistics.sharpen,
+      // Its own stream per multiplet: a function of the seed and the multiplet alone.
+      ((statistics.seed ^ 0x5a5a5a5a) + Math.imul(index, 0x85ebca6b)) >>> 0
+    );
+  };
+  const outcome = concludeStatistics(lattice, plan.measures, accumulator, statistics, plan.targets.bootstrapped, sharpen);
   const connected = new Map<number, { value: number; pValue: number | null }>();
   const refused: { columns: string[]; reason: string }[] = [];
   const warnings: string[] = [];
   if (statistics.beyondPairs > 0) {
     const chosen = Private.extremeOfOrder(lattice, plan.measures.coinformation, statistics.beyondPairs, 3);
-    const members = new Int32Array(lattice.indexing.maxOrder);
     for (const index of chosen) {
       const order = membersOfIndex(lattice.indexing, index, members);
       const ids = Array.from(members.subarray(0, order));
@@ -463,6 +476,7 @@ namespace Private {
       row.q_value = orNull(e.qValue[index]);
       row.null_mean = inUnits(e.nullMean[index]);
       row.null_sd = inUnits(e.nullSd[index]);
+      row.p_surrogates = orNull(e.pSurrogates[index]);
       row.co_information_corrected = Number.isNaN(e.nullMean[index])
         ? null
         : inUnits(found.measures.coinformation[index] - e.nullMean[index]);
@@ -512,6 +526,8 @@ namespace Private {
         mean: fromNats(band.mean, units),
         values: band.values
       })),
+      sharpen: statistics.sharpen,
+      sharpened: found.outcome.sharpened,
       bootstrap_multiplets: found.outcome.evidence.bootstrapped.length,
       beyond_pairs:
         statistics.beyondPairs > 0

@@ -113,6 +113,8 @@ export interface IMultipletRow {
   p_value?: number | null;
   /** Benjamini–Hochberg q-value over the tested family (orders ≥ 2). */
   q_value?: number | null;
+  /** Surrogates behind p_value: N, or the fresh surrogates of a sharpened multiplet. */
+  p_surrogates?: number | null;
   /** Mean and standard deviation of co-information over the independence surrogates. */
   null_mean?: number | null;
   null_sd?: number | null;
@@ -200,6 +202,9 @@ export interface IStatisticsReport {
   };
   /** Per order: 2.5 % and 97.5 % quantiles and mean of the surrogate co-information. */
   null_bands: { order: number; low: number; high: number; mean: number; values: number }[];
+  /** Fresh surrogates per sharpened multiplet (0 = off), and how many multiplets were sharpened. */
+  sharpen: number;
+  sharpened: number;
   /** Multiplets that got bootstrap intervals. */
   bootstrap_multiplets: number;
   /** The pairwise-preserving null: how many multiplets per table, the draws, how many were fitted. */

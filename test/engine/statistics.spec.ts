@@ -65,7 +65,8 @@ describe('resolveStatistics', () => {
       tail: 'two',
       alpha: 0.05,
       beyondPairs: 0,
-      fitDraws: 200
+      fitDraws: 200,
+      sharpen: 0
     });
   });
 
@@ -88,6 +89,9 @@ describe('resolveStatistics', () => {
     ).toBe('tail');
     expect(expectPolyadic(() => resolveStatistics({ surrogates: 5, alpha: 1 }), 'usage', /alpha/).detail.option).toBe(
       'alpha'
+    );
+    expect(expectPolyadic(() => resolveStatistics({ sharpen: 100 }), 'usage', /ask for surrogates/).detail.option).toBe(
+      'sharpen'
     );
   });
 });
@@ -210,6 +214,33 @@ print(json.dumps([stats.kstest(s, 'uniform').pvalue for s in samples]))
     ) as number[];
     expect(tests[0]).toBeGreaterThan(0.01);
     expect(tests[1]).toBeGreaterThan(0.01);
+  });
+
+  it('should sharpen the p-values at their floor with fresh surrogates, so a strong synergy reaches q < 0.05', () => {
+    const columns = intColumns(table(2000, 9, 21, true));
+    const plain = analyze(columns, { ...CATEGORICAL, maxOrder: 3, statistics: { surrogates: 99, seed: 3, tail: 'synergy' } });
+    const tripletOf = (result: typeof plain) => result.multiplets.find(row => row.columns.join() === 'x0,x1,x2')!;
+    // 12 columns: 66 pairs + 220 triplets tested; with 99 surrogates no p goes below 1/100, so
+    // the strongest q is at least 286/100 divided by the number of multiplets at that floor.
+    expect(tripletOf(plain).p_value).toBe(1 / 100);
+    expect(tripletOf(plain).q_value).toBeGreaterThan(0.05);
+    const sharp = analyze(columns, {
+      ...CATEGORICAL,
+      maxOrder: 3,
+      statistics: { surrogates: 99, seed: 3, tail: 'synergy', sharpen: 9999 }
+    });
+    const triplet = tripletOf(sharp);
+    expect(triplet.p_value).toBe(1 / 10000);
+    expect(triplet.p_surrogates).toBe(9999);
+    expect(triplet.q_value).toBeLessThan(0.05);
+    expect(sharp.statistics!.sharpened).toBeGreaterThanOrEqual(1);
+    // Multiplets not at the floor keep their first-stage p-value.
+    const unsharpened = sharp.multiplets.filter(row => row.order >= 2 && row.p_surrogates === 99);
+    expect(unsharpened.length).toBeGreaterThan(250);
+    for (const row of unsharpened.slice(0, 20)) {
+      const before = plain.multiplets.find(other => other.columns.join() === row.columns.join())!;
+      expect(row.p_value).toBe(before.p_value);
+    }
   });
 
   it('should give bootstrap intervals around the estimate and the share of the same sign', () => {

@@ -18,6 +18,7 @@ import type { IMeasureArrays } from '../measures';
 import { forEachMultiplet, IMultipletIndexing, membersOfIndex } from '../multiplets';
 import { MAX_BOOTSTRAP_VALUES, type IResolvedStatistics, type StatisticsTail } from './options';
 import { bandReplicates, BOOTSTRAP_MEASURES, ReplicateAccumulator } from './replicates';
+import { atFloor, ISharpened, MAX_SHARPENED } from './sharpen';
 
 /** Evidence on every multiplet, by lattice index; NaN where a multiplet was not tested. */
 export interface IMultipletEvidence {
@@ -33,6 +34,8 @@ export interface IMultipletEvidence {
   oQValue: Float64Array;
   oNullMean: Float64Array;
   oNullSd: Float64Array;
+  /** Surrogates behind each p-value: N, or the fresh surrogates of a sharpened multiplet. */
+  pSurrogates: Float64Array;
   /** Lattice indices of the multiplets with bootstrap intervals, in the order of the arrays below. */
   bootstrapped: Int32Array;
   /**
@@ -65,6 +68,8 @@ export interface IStatisticsOutcome {
   evidence: IMultipletEvidence;
   bands: INullBand[];
   families: { co_information: ITestFamily | null; o_information: ITestFamily | null };
+  /** Multiplets whose p-values were sharpened. */
+  sharpened: number;
 }
 
 /**
@@ -143,7 +148,8 @@ export function concludeStatistics(
   observed: IMeasureArrays,
   accumulator: ReplicateAccumulator,
   statistics: IResolvedStatistics,
-  bootstrapped: Int32Array
+  bootstrapped: Int32Array,
+  sharpen?: (index: number) => ISharpened
 ): IStatisticsOutcome {
   if (!accumulator.complete) {
     throw new PolyadicError('internal', 'Statistics concluded before every replicate block was merged.');
@@ -160,6 +166,7 @@ export function concludeStatistics(
     oQValue: nan(),
     oNullMean: nan(),
     oNullSd: nan(),
+    pSurrogates: nan(),
     bootstrapped,
     intervals: new Float64Array(bootstrapped.length * BOOTSTRAP_MEASURES.length * 2).fill(NaN),
     sameSign: new Float64Array(bootstrapped.length).fill(NaN)
@@ -170,6 +177,7 @@ export function concludeStatistics(
   });
   let families: IStatisticsOutcome['families'] = { co_information: null, o_information: null };
   let bands: INullBand[] = [];
+  let sharpened = 0;
   const N = statistics.surrogates;
   if (N > 0) {
     const coTested: number[] = [];
@@ -185,6 +193,12 @@ export function concludeStatistics(
         evidence.oPValue[i] = surrogatePValue(accumulator.oLow[i], accumulator.oHigh[i], N, statistics.tail);
         Private.moments(accumulator.oSum[i], accumulator.oSumSquares[i], N, evidence.oNullMean, evidence.oNullSd, i);
       }
+      if (orders[i] >= 2) {
+        evidence.pSurrogates[i] = N;
+      }
+    }
+    if (statistics.sharpen > 0 && sharpen) {
+      sharpened = Private.sharpenFloor(accumulator, statistics, observed, evidence, orders, sharpen);
     }
     Private.adjust(coTested, evidence.pValue, evidence.qValue);
     Private.adjust(oTested, evidence.oPValue, evidence.oQValue);
@@ -197,7 +211,7 @@ export function concludeStatistics(
   if (statistics.bootstrap > 0) {
     Private.intervals(accumulator, statistics, bootstrapped, observed, evidence);
   }
-  return { evidence, bands, families };
+  return { evidence, bands, families, sharpened };
 }
 
 function orderOf(indexing: IMultipletIndexing, index: number): number {
@@ -205,6 +219,48 @@ function orderOf(indexing: IMultipletIndexing, index: number): number {
 }
 
 namespace Private {
+  /**
+   * Fresh surrogates for the multiplets at the p floor (co-information or O-information), the
+   * farthest from their null mean in null standard deviations first, at most MAX_SHARPENED.
+   */
+  export function sharpenFloor(
+    accumulator: ReplicateAccumulator,
+    statistics: IResolvedStatistics,
+    observed: IMeasureArrays,
+    evidence: IMultipletEvidence,
+    orders: Uint8Array,
+    sharpen: (index: number) => ISharpened
+  ): number {
+    const tail = statistics.tail;
+    const candidates: number[] = [];
+    for (let i = 1; i < orders.length; i++) {
+      if (orders[i] < 2) {
+        continue;
+      }
+      const coFloor = atFloor(accumulator.coLow[i], accumulator.coHigh[i], tail);
+      const oFloor = orders[i] >= 3 && atFloor(accumulator.oLow[i], accumulator.oHigh[i], tail);
+      if (coFloor || oFloor) {
+        candidates.push(i);
+      }
+    }
+    const distance = (i: number): number => {
+      const sd = evidence.nullSd[i];
+      const gap = Math.abs(observed.coinformation[i] - evidence.nullMean[i]);
+      return sd > 0 ? gap / sd : gap > 0 ? Infinity : 0;
+    };
+    candidates.sort((a, b) => distance(b) - distance(a) || a - b);
+    const chosen = candidates.slice(0, MAX_SHARPENED);
+    for (const i of chosen) {
+      const fresh = sharpen(i);
+      evidence.pValue[i] = surrogatePValue(fresh.coLow, fresh.coHigh, fresh.surrogates, tail);
+      if (orders[i] >= 3) {
+        evidence.oPValue[i] = surrogatePValue(fresh.oLow, fresh.oHigh, fresh.surrogates, tail);
+      }
+      evidence.pSurrogates[i] = fresh.surrogates;
+    }
+    return chosen.length;
+  }
+
   export function range(from: number, to: number): number[] {
     const out: number[] = [];
     for (let k = from; k <= to; k++) {

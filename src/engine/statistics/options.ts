@@ -60,7 +60,17 @@ export interface IStatisticsOptions {
   beyondPairs?: number;
   /** Parametric-bootstrap draws from each fit (default 200 when beyondPairs > 0). */
   fitDraws?: number;
+  /**
+   * Fresh surrogates for each multiplet whose p-value sits at its floor 1/(N + 1) (at most
+   * MAX_SHARPENED of ./sharpen.ts, 64, the most extreme first), computed on that multiplet
+   * alone; 0 = off. See ./sharpen.ts.
+   */
+  sharpen?: number;
 }
+
+/** Most fresh surrogates per sharpened multiplet. */
+export const MAX_SHARPEN = 1_000_000;
+
 
 /** Statistics settings after checking, every default filled in. */
 export interface IResolvedStatistics {
@@ -71,6 +81,7 @@ export interface IResolvedStatistics {
   alpha: number;
   beyondPairs: number;
   fitDraws: number;
+  sharpen: number;
 }
 
 /** Default draws of the pairwise-preserving null's parametric bootstrap. */
@@ -91,6 +102,14 @@ export function resolveStatistics(options: IStatisticsOptions | undefined): IRes
   const bootstrap = wholeNumber('bootstrap', options.bootstrap ?? 0, MAX_BOOTSTRAP, 'bootstrap resamples');
   const beyondPairs = wholeNumber('beyondPairs', options.beyondPairs ?? 0, MAX_BEYOND_PAIRS, 'multiplets per table');
   const fitDraws = wholeNumber('fitDraws', options.fitDraws ?? DEFAULT_FIT_DRAWS, MAX_FIT_DRAWS, 'draws');
+  const sharpen = wholeNumber('sharpen', options.sharpen ?? 0, MAX_SHARPEN, 'sharpening surrogates');
+  if (sharpen > 0 && surrogates === 0) {
+    throw new PolyadicError(
+      'usage',
+      'Sharpening refines surrogate p-values at their floor; ask for surrogates as well.',
+      { option: 'sharpen', value: String(sharpen) }
+    );
+  }
   const seed = options.seed ?? 0;
   if (!(typeof seed === 'number' && Number.isInteger(seed) && seed >= 0 && seed <= MAX_SEED)) {
     throw new PolyadicError(
@@ -117,7 +136,7 @@ export function resolveStatistics(options: IStatisticsOptions | undefined): IRes
   if (surrogates === 0 && bootstrap === 0 && beyondPairs === 0) {
     return null;
   }
-  return { surrogates, seed, bootstrap, tail, alpha, beyondPairs, fitDraws };
+  return { surrogates, seed, bootstrap, tail, alpha, beyondPairs, fitDraws, sharpen };
 }
 
 function wholeNumber(option: string, value: unknown, cap: number, what: string): number {
