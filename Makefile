@@ -199,6 +199,6 @@ check-package: $(VENV_PY)
 
 .PHONY: clean distclean
 clean:
-	rm -rf lib tsconfig.tsbuildinfo polyadic/labextension bin/polyadic.cjs "$(ARTIFACTS)" dist
+	rm -rf lib tsconfig.tsbuildinfo polyadic/labextension bin/polyadic.cjs bin/polyadic-worker.cjs "$(ARTIFACTS)" dist
 distclean: clean
 	rm -rf "$(VENV)" node_modules

@@ -1,6 +1,6 @@
 /**
  * Bundle the command line (src/cli/main.ts) into one CommonJS file for Node 18+, with a
- * shebang, executable. Usage: node scripts/build-cli.mjs [--outfile PATH] (default
+ * shebang, executable, and its worker-thread entry (src/cli/worker-thread.ts) beside it. Usage: node scripts/build-cli.mjs [--outfile PATH] (default
  * bin/polyadic.cjs; tests build into a temporary folder so parallel runs do not collide).
  */
 import { chmodSync, readFileSync } from 'node:fs';
@@ -32,3 +32,19 @@ await build({
 });
 chmodSync(outfile, 0o755);
 console.log(`built ${outfile}`);
+
+// The worker threads of `--threads N` run a bundle of their own beside it: the engine and the
+// worker host only, so a thread starts quickly.
+const workerfile = resolve(dirname(outfile), 'polyadic-worker.cjs');
+await build({
+  entryPoints: [`${root}/src/cli/worker-thread.ts`],
+  outfile: workerfile,
+  bundle: true,
+  platform: 'node',
+  format: 'cjs',
+  target: 'node18',
+  sourcemap: false,
+  legalComments: 'none',
+  logLevel: 'warning'
+});
+console.log(`built ${workerfile}`);

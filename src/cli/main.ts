@@ -6,7 +6,7 @@
  * a request to report it).
  */
 
-import { promises as fs, readFileSync } from 'fs';
+import { existsSync, promises as fs, readFileSync } from 'fs';
 import * as path from 'path';
 import { parseArgs } from 'util';
 
@@ -20,7 +20,7 @@ import type { EstimatorName, IAnalysisResult, IAnalyzeOptions, MissingPolicy, Un
 import { runFingerprint } from './fingerprint';
 import { formatResult, OUTPUT_FORMATS, OutputFormat } from './output';
 import { readDataFile, type IDataSource } from './readers';
-import { defaultThreads, serveIfWorkerThread, ThreadWorker } from './threads';
+import { defaultThreads, ThreadWorker } from './threads';
 import { runVerify } from './verify';
 
 /** The package version, replaced by the bundler; undefined when running from source. */
@@ -106,9 +106,6 @@ Exit codes: 0 done, 2 bad input or usage, 1 internal error.
 
 /** Run the CLI on arguments (without `node` and the script); resolves to the exit code. */
 export async function main(argv: string[], streams: ICliStreams = process): Promise<number> {
-  if (serveIfWorkerThread()) {
-    return EXIT.done;
-  }
   // the other commands parse their own options
   if (argv[0] === 'verify') {
     return runVerify(argv.slice(1), streams);
@@ -200,9 +197,10 @@ namespace Private {
    */
   export async function run(source: IDataSource, options: IAnalyzeOptions, threads: number | undefined): Promise<IAnalysisResult> {
     const count = threads ?? defaultThreads();
-    const script = process.argv[1];
-    if (count <= 1 || !script || !script.endsWith('.cjs')) {
-      // From source (tests import main.ts) there is no bundle to start threads with.
+    const bundle = process.argv[1];
+    const script = bundle ? path.join(path.dirname(bundle), 'polyadic-worker.cjs') : '';
+    if (count <= 1 || !bundle?.endsWith('.cjs') || !existsSync(script)) {
+      // From source (tests import main.ts) there is no worker bundle to start threads with.
       return analyze(source.columns, options);
     }
     const pool = new EnginePool({ createWorker: () => new ThreadWorker(script), workers: count });
