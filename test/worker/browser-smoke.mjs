@@ -12,20 +12,10 @@
  *
  * Usage: node test/worker/browser-smoke.mjs      (exit code 0 when every check holds)
  */
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { createServer } from 'node:http';
-import { createRequire } from 'node:module';
-import { tmpdir } from 'node:os';
-import { dirname, join, resolve } from 'node:path';
-import { fileURLToPath } from 'node:url';
-import { spawnSync } from 'node:child_process';
 import { isDeepStrictEqual } from 'node:util';
 
-import { build } from 'esbuild';
-import { chromium } from 'playwright-core';
+import { withEnginePage } from './browser-page.mjs';
 
-const root = resolve(dirname(fileURLToPath(import.meta.url)), '..', '..');
-const work = mkdtempSync(join(tmpdir(), 'polyadic-browser-'));
 const failures = [];
 const check = (ok, what) => {
   console.log(`${ok ? 'ok  ' : 'FAIL'} ${what}`);
@@ -38,22 +28,7 @@ const SMALL = { rows: 3000, columns: 10, options: { missing: 'category', estimat
 const LONG = { rows: 10000, columns: 16, options: { maxOrder: 16 } };
 
 try {
-  const built = spawnSync(process.execPath, [join(root, 'scripts', 'build-worker.mjs'), '--out-dir', work], {
-    encoding: 'utf8'
-  });
-  if (built.status !== 0) {
-    throw new Error(`scripts/build-worker.mjs failed: ${built.stderr}`);
-  }
-  // The page: the pool and the browser worker factory, with the generated module from `work`.
-  const generated = {
-    name: 'generated-bundle',
-    setup(b) {
-      b.onResolve({ filter: /\/bundle\.generated$/ }, () => ({ path: join(work, 'bundle.generated.js') }));
-    }
-  };
-  await build({
-    stdin: {
-      contents: `
+  const pageSource = `
         import { EnginePool } from './src/worker/pool';
         import { createEngineWorker } from './src/worker/browser';
         import { makeColumns } from './test/worker/data';
@@ -100,60 +75,15 @@ try {
           pool.dispose();
           return out;
         };
-      `,
-      resolveDir: root,
-      loader: 'ts'
-    },
-    bundle: true,
-    format: 'iife',
-    platform: 'browser',
-    target: 'es2022',
-    outfile: join(work, 'page.js'),
-    plugins: [generated],
-    logLevel: 'warning'
-  });
-  writeFileSync(join(work, 'index.html'), '<!doctype html><meta charset="utf-8"><script src="page.js"></script>');
+      `;
   // The reference in Node, from the same sources.
-  await build({
-    stdin: {
-      contents: `
+  const referenceSource = `
         export { analyze, latticeInput, prepareColumns } from './src/engine/analyze';
         export { computeLattice } from './src/engine/lattice';
         export { makeColumns } from './test/worker/data';
-      `,
-      resolveDir: root,
-      loader: 'ts'
-    },
-    bundle: true,
-    format: 'cjs',
-    platform: 'node',
-    outfile: join(work, 'reference.cjs'),
-    logLevel: 'warning'
-  });
-  const reference = createRequire(import.meta.url)(join(work, 'reference.cjs'));
+      `;
 
-  const server = createServer((request, response) => {
-    const file = request.url === '/page.js' ? 'page.js' : 'index.html';
-    response.writeHead(200, { 'content-type': file.endsWith('.js') ? 'text/javascript' : 'text/html' });
-    response.end(readFileSync(join(work, file)));
-  });
-  await new Promise(done => server.listen(0, '127.0.0.1', done));
-  const browser = await chromium.launch({
-    executablePath: '/usr/bin/chromium',
-    args: [
-      '--no-sandbox',
-      '--disable-gpu',
-      '--disable-background-networking',
-      '--disable-component-update',
-      '--disable-sync',
-      '--no-first-run'
-    ]
-  });
-  try {
-    const page = await browser.newPage();
-    const errors = [];
-    page.on('pageerror', error => errors.push(error.message));
-    await page.goto(`http://127.0.0.1:${server.address().port}/`);
+  await withEnginePage(pageSource, referenceSource, async (page, reference, errors) => {
     const out = await page.evaluate(([small, long]) => window.smoke(small, long), [SMALL, LONG]);
 
     check(out.samePage, 'lattice of the 2 workers equals computeLattice() on the page, bit for bit');
@@ -185,13 +115,8 @@ try {
     check(out.liveAfterCancel === 0, 'every worker terminated by cancel()');
     check(out.againEqual, 'a run after the cancel, on new workers, gives the same result');
     check(errors.length === 0, `no page error${errors.length ? `: ${errors.join('; ')}` : ''}`);
-  } finally {
-    await browser.close();
-    server.close();
-  }
+  });
 } catch (error) {
   check(false, `smoke check ran: ${error.stack ?? error}`);
-} finally {
-  rmSync(work, { recursive: true, force: true });
 }
 process.exit(failures.length ? 1 : 0);
