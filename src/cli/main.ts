@@ -130,6 +130,9 @@ export async function main(argv: string[], streams: ICliStreams = process): Prom
     for (const warning of result.warnings) {
       streams.stderr.write(`polyadic: warning: ${Private.oneLine(warning)}\n`);
     }
+    for (const note of Private.statisticsNotes(result)) {
+      streams.stderr.write(`polyadic: note: ${note}\n`);
+    }
     const text = formatResult(result, command.format);
     if (command.out) {
       await Private.writeOutput(command.out, text);
@@ -326,6 +329,23 @@ namespace Private {
     if (command.top !== undefined) options.top = command.top;
     if (Object.keys(command.statistics).length > 0) options.statistics = command.statistics;
     return options;
+  }
+
+  /** What the q-values of a result control, for the terminal (the JSON has it as `statistics.families`). */
+  export function statisticsNotes(result: IAnalysisResult): string[] {
+    const families = result.statistics?.families;
+    if (!families) {
+      return [];
+    }
+    const describe = (name: string, family: { orders: number[]; count: number } | null): string[] =>
+      family
+        ? [
+            `q-values of ${name}: Benjamini–Hochberg over ${family.count.toLocaleString('en-US')} multiplets of order ` +
+              `${family.orders.length > 1 ? `${family.orders[0]}–${family.orders[family.orders.length - 1]}` : family.orders[0]}; ` +
+              'they bound the expected share of false discoveries among those called significant, not the chance that any one is.'
+          ]
+        : [];
+    return [...describe('co-information', families.co_information), ...describe('O-information', families.o_information)];
   }
 
   /** The statistics flags, each checked as a whole number (or a choice); the engine checks the caps. */

@@ -365,9 +365,22 @@ export function concludeRun(
     );
   };
   const outcome = concludeStatistics(lattice, plan.measures, accumulator, statistics, plan.targets.bootstrapped, sharpen);
+  const warnings: string[] = [];
+  const family = outcome.families.co_information;
+  if (family && statistics.sharpen === 0) {
+    // The smallest p is 1/(N + 1) (twice that two-sided), so no q can be below floor · m.
+    const floor = (statistics.tail === 'two' ? 2 : 1) / (statistics.surrogates + 1);
+    if (floor * family.count > statistics.alpha) {
+      const needed = Math.ceil(((statistics.tail === 'two' ? 2 : 1) * family.count) / statistics.alpha);
+      warnings.push(
+        `With ${plural(statistics.surrogates, 'surrogate')} and ${plural(family.count, 'tested multiplet')}, no ` +
+          `q-value can fall below ${statistics.alpha}: the smallest p-value is ${floor.toPrecision(3)}. Sharpen the ` +
+          `p-values at their floor with at least ${needed.toLocaleString('en-US')} fresh surrogates, or use more surrogates.`
+      );
+    }
+  }
   const connected = new Map<number, { value: number; pValue: number | null }>();
   const refused: { columns: string[]; reason: string }[] = [];
-  const warnings: string[] = [];
   if (statistics.beyondPairs > 0) {
     const chosen = Private.extremeOfOrder(lattice, plan.measures.coinformation, statistics.beyondPairs, 3);
     for (const index of chosen) {
@@ -429,6 +442,11 @@ export function selectMultiplets(lattice: ILattice, coinformation: Float64Array,
     .slice(0, top)
     .filter(index => !taken.has(index));
   return [...lowest, ...highest];
+}
+
+/** A count with its noun, digits grouped: '1 surrogate', '1,000 surrogates'. */
+function plural(count: number, noun: string): string {
+  return `${count.toLocaleString('en-US')} ${noun}${count === 1 ? '' : 's'}`;
 }
 
 function checkMissing(policy: MissingPolicy | undefined): MissingPolicy {
