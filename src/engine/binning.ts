@@ -9,6 +9,11 @@
  * numpy's order of operations (see floatmath.ts). Two documented differences: a float32 column is
  * binned as float64 (numpy would compute its edges in float32), and 64-bit integers beyond ±2^53
  * are rounded to the nearest float64 first (with a warning).
+ *
+ * The default spec `auto` is our own rule, so that the default never hides structure: a numeric
+ * column with at most {@link AUTO_MAX_LEVELS} distinct values (0/1 flags, genotypes 0/1/2,
+ * Likert answers, one-hot codes, small counts) keeps each value as a category, any other is
+ * binned by `quantile:4`. An explicit spec that merges the values of such a column says so.
  */
 
 import { PolyadicError } from './errors';
@@ -22,6 +27,7 @@ import {
   quantileSorted
 } from './floatmath';
 import { optimalKMeans1D } from './kmeans1d';
+import { formatCount, plural } from './text';
 import type {
   BinMethod,
   ColumnView,
@@ -34,7 +40,7 @@ import type {
 
 /** Every valid form of a binning spec, as error messages list them. */
 export const BIN_SPEC_FORMS =
-  'width:K, quantile:K, fd, scott, sturges, rice, sqrt, doane, kmeans:K, ' +
+  'auto, width:K, quantile:K, fd, scott, sturges, rice, sqrt, doane, kmeans:K, ' +
   'edges:a,b,… (two or more strictly increasing numbers), categorical (K a whole number from 1 to ' +
   '1000000)';
 
@@ -43,6 +49,24 @@ export const MAX_BIN_COUNT = 1_000_000;
 
 /** Label of the code that `missing: 'category'` gives to missing values of a categorical column. */
 export const MISSING_CATEGORY = '(missing)';
+
+/**
+ * Most distinct values a numeric column may have for `auto` to keep each value as a category:
+ * 10 covers flags, genotypes, 5- to 10-point scales and small counts, while keeping a triplet of
+ * such columns at no more than 1,000 possible joint cells (our choice, no source).
+ */
+export const AUTO_MAX_LEVELS = 10;
+
+/** A spec whose method is settled (`auto` resolved). */
+interface IAppliedSpec extends IBinSpec {
+  method: BinMethod;
+}
+
+/** How `auto` bins a numeric column of more than {@link AUTO_MAX_LEVELS} distinct values. */
+const AUTO_NUMERIC: IAppliedSpec = { method: 'quantile', count: 4 };
+
+/** {@link AUTO_NUMERIC} as text: `quantile:4`. */
+export const AUTO_NUMERIC_SPEC = `${AUTO_NUMERIC.method}:${AUTO_NUMERIC.count}`;
 
 /** Parse a binning spec such as `quantile:4`, `fd` or `edges:0,1.5,3`. */
 export function parseBinSpec(text: string): IBinSpec {
@@ -59,6 +83,11 @@ export function parseBinSpec(text: string): IBinSpec {
     );
   };
   switch (head) {
+    case 'auto':
+      if (argument !== undefined) {
+        return fail('auto takes no argument');
+      }
+      return { method: 'auto' };
     case 'width':
     case 'quantile':
     case 'kmeans': {
@@ -130,12 +159,12 @@ export function formatBinSpec(spec: IBinSpec): string {
   }
 }
 
-/** The spec used when none is given: `categorical` for categorical and boolean columns, else `quantile:4`. */
+/** The spec used when none is given: `categorical` for categorical and boolean columns, else `auto`. */
 export function defaultBinSpec(column: ColumnView): IBinSpec {
   if (column.kind === 'categorical' || column.dtype === 'bool') {
     return { method: 'categorical' };
   }
-  return { method: 'quantile', count: 4 };
+  return { method: 'auto' };
 }
 
 /** One column after binning. */
@@ -181,9 +210,9 @@ export function binColumn(
   const maxBins = options.maxBins ?? MAX_BIN_COUNT;
   const result =
     column.kind === 'categorical'
-      ? Private.binCategorical(column, parsed, specText)
+      ? Private.binCategorical(column, parsed.method === 'auto' ? { method: 'categorical' } : parsed, specText)
       : Private.binNumeric(column, parsed, specText, maxBins);
-  Private.addOccupancyWarnings(column, parsed, result);
+  Private.addOccupancyWarnings(column, result);
   return result;
 }
 
@@ -467,7 +496,7 @@ namespace Private {
 
   export function binNumeric(
     column: INumericColumn,
-    spec: IBinSpec,
+    given: IBinSpec,
     specText: string,
     maxBins: number
   ): IBinnedColumn {
@@ -476,7 +505,16 @@ namespace Private {
     if (present.values.length === 0) {
       refuseAllMissing(column, rows);
     }
-    const result = emptyResult(column, rows, spec.method, specText, present.missingCount, present.firstMissingRow);
+    const levels = countLevels(present.values, AUTO_MAX_LEVELS);
+    const discrete = levels <= AUTO_MAX_LEVELS;
+    // The record keeps the spec as given (`auto`); messages name the method it chose too.
+    const recorded = specText;
+    if (given.method === 'auto') {
+      specText = `auto (${discrete ? 'categorical' : AUTO_NUMERIC_SPEC})`;
+    }
+    const spec: IAppliedSpec =
+      given.method !== 'auto' ? { ...given, method: given.method } : discrete ? { method: 'categorical' } : AUTO_NUMERIC;
+    const result = emptyResult(column, rows, spec.method, recorded, present.missingCount, present.firstMissingRow);
     if (present.rounded) {
       result.warnings.push(
         `Column '${column.name}' has integers beyond ±2^53; they were rounded to the nearest ` +
@@ -505,12 +543,13 @@ namespace Private {
       }
       case 'quantile':
         edges = quantileEdges(x, spec.count ?? 4);
-        // A constant column gets one warning, from addOccupancyWarnings, not a second about ties.
-        if (edges.length - 1 < (spec.count ?? 4) && edges[0] !== edges[edges.length - 1]) {
+        // A constant column gets one warning, from addOccupancyWarnings, not a second about ties;
+        // a column of few values gets the warning about merged values below instead.
+        if (edges.length - 1 < (spec.count ?? 4) && edges[0] !== edges[edges.length - 1] && !discrete) {
           result.warnings.push(
-            `Column '${column.name}': ${specText} gave ${edges.length - 1} bin` +
-              `${edges.length === 2 ? '' : 's'} instead of ${spec.count}, because tied values ` +
-              'made some quantiles coincide (duplicate edges dropped).'
+            `Column '${column.name}': ${specText} gave ${plural(edges.length - 1, 'bin')} instead of ` +
+              `${formatCount(spec.count ?? 4)}, because tied values made some quantiles coincide ` +
+              '(duplicate edges dropped).'
           );
         }
         assignByEdges(column, x, present.rows, edges, specText, result.codes);
@@ -538,7 +577,41 @@ namespace Private {
     result.bins = edges.length - 1;
     result.binning.bins = result.bins;
     result.binning.binning.edges = edges;
+    if (discrete) {
+      const occupied = occupiedCodes(result.codes, result.bins);
+      if (occupied < levels) {
+        result.warnings.push(
+          `Column '${column.name}' has only ${plural(levels, 'distinct value')}, and ${specText} merges ` +
+            `them into ${plural(occupied, 'bin')}, so differences between the merged values are lost; ` +
+            "'auto' or 'categorical' keeps each value as its own category."
+        );
+      }
+    }
     return result;
+  }
+
+  /** Distinct values among `values`, counted up to `limit + 1` (beyond it the exact count does not matter). */
+  export function countLevels(values: Float64Array, limit: number): number {
+    const seen = new Set<number>();
+    for (let i = 0; i < values.length && seen.size <= limit; i++) {
+      // a Set treats −0 and 0 as one value
+      seen.add(values[i]);
+    }
+    return seen.size;
+  }
+
+  /** Number of codes in 0 … bins − 1 that some row has. */
+  function occupiedCodes(codes: Int32Array, bins: number): number {
+    const seen = new Uint8Array(bins);
+    let occupied = 0;
+    for (let i = 0; i < codes.length; i++) {
+      const code = codes[i];
+      if (code >= 0 && !seen[code]) {
+        seen[code] = 1;
+        occupied++;
+      }
+    }
+    return occupied;
   }
 
   /** One code per distinct number, in increasing order; labels as JS prints the number. */
@@ -662,7 +735,7 @@ namespace Private {
     column: ColumnView,
     x: Float64Array,
     integer: boolean,
-    spec: IBinSpec,
+    spec: IAppliedSpec,
     specText: string,
     maxBins: number
   ): { edges: number[]; first: number; last: number } {
@@ -882,26 +955,18 @@ namespace Private {
   }
 
   /** Warn about a constant column and an identifier-like categorical column. */
-  export function addOccupancyWarnings(column: ColumnView, spec: IBinSpec, result: IBinnedColumn): void {
-    const seen = new Uint8Array(result.bins);
-    let occupied = 0;
-    const codes = result.codes;
-    for (let i = 0; i < codes.length; i++) {
-      const code = codes[i];
-      if (code >= 0 && !seen[code]) {
-        seen[code] = 1;
-        occupied++;
-      }
-    }
-    const present = codes.length - result.missingCount;
+  export function addOccupancyWarnings(column: ColumnView, result: IBinnedColumn): void {
+    const occupied = occupiedCodes(result.codes, result.bins);
+    const present = result.codes.length - result.missingCount;
+    const categorical = result.binning.binning.method === 'categorical';
     if (occupied === 1) {
       result.warnings.push(
-        `Column '${column.name}' takes a single value${spec.method === 'categorical' ? '' : ' after binning'}: ` +
+        `Column '${column.name}' takes a single value${categorical ? '' : ' after binning'}: ` +
           'its entropy is 0 and it adds nothing to any multiplet.'
       );
-    } else if (spec.method === 'categorical' && present >= 2 && occupied === present) {
+    } else if (categorical && present >= 2 && occupied === present) {
       result.warnings.push(
-        `Column '${column.name}' looks like an identifier: each of its ${present} values occurs ` +
+        `Column '${column.name}' looks like an identifier: each of its ${plural(present, 'value')} occurs ` +
           'once, so it determines every row and every multiplet containing it has the largest entropy.'
       );
     }
