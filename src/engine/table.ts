@@ -108,14 +108,28 @@ export function isMissingCell(text: string | null | undefined): boolean {
 }
 
 /**
+ * Parse one text cell as a boolean, as `pandas.read_csv` does by default: `True` or `False` in
+ * any case (`true`, `FALSE`, …), with no surrounding spaces. Returns `undefined` for anything else.
+ */
+export function parseBooleanCell(text: string): boolean | undefined {
+  return Private.BOOLEAN.test(text) ? text.toLowerCase() === 'true' : undefined;
+}
+
+/**
  * Build a column from the text cells of one CSV column. A column whose every non-missing cell
- * is a number ({@link parseNumberCell}) is numeric float64; any other is categorical with the
- * cells as written. Missing cells ({@link isMissingCell}) are marked missing in both.
+ * is a number ({@link parseNumberCell}) is numeric float64; one whose every non-missing cell is
+ * a boolean ({@link parseBooleanCell}: `pandas.DataFrame.to_csv` writes booleans as True/False)
+ * is a boolean column, as Arrow and Parquet booleans are; any other is categorical with the
+ * cells as written. Missing cells ({@link isMissingCell}) are marked missing in all three.
  */
 export function columnFromTextCells(
   name: string,
   cells: ArrayLike<string | null | undefined>
 ): ColumnView {
+  const boolean = Private.booleanFromTextCells(name, cells);
+  if (boolean !== null) {
+    return boolean;
+  }
   const n = cells.length;
   const values = new Float64Array(n);
   let missing: Uint8Array | null = null;
@@ -525,6 +539,36 @@ namespace Private {
 
   /** Infinity and not-a-number spellings (numpy's and pandas' text forms). */
   export const SPECIAL = /^([+-]?)(inf|infinity|nan)$/i;
+
+  /** pandas' default true and false values, any case (pandas.read_csv `true_values`). */
+  export const BOOLEAN = /^(true|false)$/i;
+
+  /** A boolean column when every non-missing cell is True/False (and one at least is), else null. */
+  export function booleanFromTextCells(name: string, cells: ArrayLike<string | null | undefined>): ICategoricalColumn | null {
+    const n = cells.length;
+    const codes = new Int32Array(n);
+    let missing: Uint8Array | null = null;
+    let present = 0;
+    for (let i = 0; i < n; i++) {
+      const cell = cells[i];
+      if (isMissingCell(cell)) {
+        missing ??= new Uint8Array(n);
+        missing[i] = 1;
+        codes[i] = -1;
+        continue;
+      }
+      const value = parseBooleanCell(cell as string);
+      if (value === undefined) {
+        return null;
+      }
+      codes[i] = value ? 1 : 0;
+      present++;
+    }
+    if (present === 0) {
+      return null;
+    }
+    return { kind: 'categorical', name, dtype: 'bool', codes, categories: [...BOOLEAN_CATEGORIES], missing };
+  }
 
   /**
    * One flag per row from the chunks' validity bitmaps (bit set = valid, starting at the

@@ -408,3 +408,57 @@ def test_record_of_a_kernel_frame_verifies_against_its_parquet_file(frame, files
     changed.to_parquet(changed_path, engine="pyarrow", index=False)
     run = node_run("verify", str(notebook), "--data", f"greenhouse={changed_path}", expect=1, raw=True)
     assert "DATA CHANGED" in run.stdout and "values differ in column 'humidity_b_pct'" in run.stdout
+
+
+def test_record_of_a_kernel_frame_verifies_against_to_csv_to_parquet_and_pyarrow_files(frame, node_run, tmp_path):
+    """Booleans survive every writer: pandas' to_csv writes them as True/False, and verify reads them back as booleans."""
+    from polyadic._arrow import frame_to_ipc_batches
+
+    flagged = frame.copy()
+    # a nullable boolean with gaps: to_csv writes an empty cell, Parquet and Arrow a null
+    ajar = pd.array(np.random.default_rng(8).integers(0, 2, len(flagged)).astype(bool), dtype="boolean")
+    ajar[[5, 77, 301]] = pd.NA
+    flagged["door_ajar"] = ajar
+    columns = ["valve_command", "flow_l_min", "leak_alarm", "fan_on", "door_ajar", "humidity_a_pct", "bed_zone"]
+    payload = frame_to_ipc_batches(flagged, columns)
+    stream = tmp_path / "fetch.arrows"
+    stream.write_bytes(b"".join(payload.iter_pieces()))
+    done = {
+        "type": "fetch_done",
+        "request_id": "r1",
+        "name": "greenhouse",
+        "rows": payload.rows,
+        "original_rows": payload.original_rows,
+        "sampled": payload.sampled,
+        "seed": payload.seed,
+        "columns": payload.columns,
+        "batch_count": payload.batch_count,
+        "bytes_total": payload.bytes_total,
+    }
+    done_path = tmp_path / "done.json"
+    done_path.write_text(json.dumps(done))
+    notebook = tmp_path / "greenhouse.ipynb"
+    node_run("record", str(stream), str(done_path), json.dumps({"maxOrder": 3, "missing": "category"}), str(notebook))
+
+    written = {
+        "to_csv": tmp_path / "greenhouse.csv",
+        "to_parquet": tmp_path / "greenhouse.parquet",
+        "pyarrow": tmp_path / "greenhouse.arrow",
+    }
+    flagged.to_csv(written["to_csv"], index=False)
+    flagged.to_parquet(written["to_parquet"], index=False)
+    feather.write_feather(pa.Table.from_pandas(flagged, preserve_index=False), written["pyarrow"], compression="uncompressed")
+    # the writers' own spelling of a boolean, which the CSV reader must take for one
+    first_row = written["to_csv"].read_text().splitlines()[1].split(",")
+    assert {first_row[list(flagged.columns).index(name)] for name in ("valve_command", "leak_alarm", "fan_on")} <= {"True", "False"}
+    for writer, path in written.items():
+        run = node_run("verify", str(notebook), "--data", f"greenhouse={path}", raw=True)
+        assert "1 of 1 analyses reproduce." in run.stdout, f"{writer}: {run.stdout}"
+
+    # and a changed flag is noticed in the CSV, naming the column
+    changed = flagged.copy()
+    changed.loc[12, "leak_alarm"] = not changed.loc[12, "leak_alarm"]
+    changed_path = tmp_path / "changed.csv"
+    changed.to_csv(changed_path, index=False)
+    run = node_run("verify", str(notebook), "--data", f"greenhouse={changed_path}", expect=1, raw=True)
+    assert "values differ in column 'leak_alarm'" in run.stdout
