@@ -4,7 +4,7 @@
  */
 import { adequacyOf, EstimatorModel, maxOrderByRule } from '../../src/panel/estimator/model';
 import { BinningModel } from '../../src/panel/binning/model';
-import { columnStats } from '../../src/panel/data/stats';
+import { columnStats, WARNING_BADGE, WARNING_TEXT } from '../../src/panel/data/stats';
 import type { ColumnView } from '../../src/engine/types';
 import { previewColumn } from '../../src/worker/handlers';
 import type { IColumnPreview } from '../../src/worker/protocol';
@@ -22,6 +22,19 @@ describe('columnStats', () => {
 
   it('should flag a constant column', () => {
     expect(columnStats(numeric('x', [5, 5, 5, 5])).warnings).toEqual(['constant']);
+    // one value among gaps is still constant
+    expect(columnStats(numeric('x', [5, Number.NaN, 5])).warnings).toEqual(['constant']);
+  });
+
+  it('should call a column with no value all missing, not constant, with a badge of its own', () => {
+    const empty = columnStats(numeric('x', [Number.NaN, Number.NaN, Number.NaN]));
+    expect(empty).toEqual({ rows: 3, missing: 3, distinct: 0, warnings: ['all-missing'] });
+    const masked: ColumnView = { kind: 'categorical', name: 's', dtype: 'string', codes: new Int32Array([-1, -1]), categories: [], missing: null };
+    expect(columnStats(masked).warnings).toEqual(['all-missing']);
+    const badges = Object.values(WARNING_BADGE);
+    expect(new Set(badges).size).toBe(badges.length);
+    expect(WARNING_BADGE['all-missing']).toBe('all missing');
+    expect(WARNING_TEXT['all-missing']).toMatch(/^all missing: /);
   });
 
   it('should flag whole numbers that are all distinct as identifier-like, but not floats', () => {

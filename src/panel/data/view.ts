@@ -6,7 +6,7 @@
 import { textElement } from '../dom';
 import { SectionView } from '../section';
 import { IColumnEntry, DataModel } from './model';
-import { WARNING_TEXT } from './stats';
+import { WARNING_BADGE, WARNING_TEXT } from './stats';
 
 /** Shows a {@link DataModel}. */
 export class DataView extends SectionView<DataModel> {
@@ -150,7 +150,8 @@ export class DataView extends SectionView<DataModel> {
     const name = textElement('td', 'pd-Data-name');
     name.append(textElement('span', 'pd-Data-columnName', column.name));
     for (const warning of column.stats?.warnings ?? []) {
-      const badge = textElement('span', 'pd-Badge pd-mod-warning', warning);
+      const badge = textElement('span', `pd-Badge pd-mod-warning pd-mod-${warning}`, WARNING_BADGE[warning]);
+      badge.dataset.warning = warning;
       badge.title = WARNING_TEXT[warning];
       name.append(' ', badge);
     }
