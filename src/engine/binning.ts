@@ -27,7 +27,7 @@ import {
   quantileSorted
 } from './floatmath';
 import { optimalKMeans1D } from './kmeans1d';
-import { formatCount, plural } from './text';
+import { formatCount, plural, wordFor } from './text';
 import type {
   BinMethod,
   ColumnView,
@@ -38,14 +38,13 @@ import type {
   MissingPolicy
 } from './types';
 
+/** Largest K accepted in a spec, and largest bin count a rule may produce. */
+export const MAX_BIN_COUNT = 1_000_000;
+
 /** Every valid form of a binning spec, as error messages list them. */
 export const BIN_SPEC_FORMS =
   'auto, width:K, quantile:K, fd, scott, sturges, rice, sqrt, doane, kmeans:K, ' +
-  'edges:a,b,… (two or more strictly increasing numbers), categorical (K a whole number from 1 to ' +
-  '1000000)';
-
-/** Largest K accepted in a spec, and largest bin count a rule may produce. */
-export const MAX_BIN_COUNT = 1_000_000;
+  `edges:a,b,… (two or more strictly increasing numbers), categorical (K a whole number from 1 to ${formatCount(MAX_BIN_COUNT)})`;
 
 /** Label of the code that `missing: 'category'` gives to missing values of a categorical column. */
 export const MISSING_CATEGORY = '(missing)';
@@ -99,7 +98,7 @@ export function parseBinSpec(text: string): IBinSpec {
       }
       const count = Number(argument);
       if (count < 1 || count > MAX_BIN_COUNT) {
-        return fail(`the bin count ${argument} is outside 1 … ${MAX_BIN_COUNT}`);
+        return fail(`the bin count ${argument} is outside 1 … ${formatCount(MAX_BIN_COUNT)}`);
       }
       return { method: head, count };
     }
@@ -245,7 +244,7 @@ export function applyMissingPolicy(columns: IBinnedColumn[], policy: MissingPoli
     if (column.codes.length !== rows) {
       throw new PolyadicError(
         'input',
-        `Column '${column.name}' has ${column.codes.length} rows but '${columns[0].name}' has ${rows}.`,
+        `Column '${column.name}' has ${plural(column.codes.length, 'row')} but '${columns[0].name}' has ${formatCount(rows)}.`,
         { column: column.name }
       );
     }
@@ -271,8 +270,8 @@ export function applyMissingPolicy(columns: IBinnedColumn[], policy: MissingPoli
       const total = columns.reduce((sum, column) => sum + column.missingCount, 0);
       throw new PolyadicError(
         'input',
-        `Column '${firstColumn}' has a missing value at row ${firstRow} (${total} missing value` +
-          `${total === 1 ? '' : 's'} in the selected columns), and the missing-value policy is ` +
+        `Column '${firstColumn}' has a missing value at row ${firstRow} (${plural(total, 'missing value')} ` +
+          'in the selected columns), and the missing-value policy is ' +
           "'error'. Use 'drop' to leave such rows out or 'category' to treat missing as a value.",
         { column: firstColumn, row: firstRow, option: 'missing' }
       );
@@ -319,7 +318,7 @@ export function applyMissingPolicy(columns: IBinnedColumn[], policy: MissingPoli
       if (rowsUsed === 0) {
         throw new PolyadicError(
           'input',
-          `Every one of the ${rows} rows has a missing value in at least one selected column ` +
+          `Every one of the ${formatCount(rows)} rows has a missing value in at least one selected column ` +
             `(${columns.filter(c => c.missingCount > 0).map(c => `'${c.name}'`).join(', ')}), so the ` +
             "missing-value policy 'drop' leaves no row. Select fewer columns or use 'category'.",
           { option: 'missing' }
@@ -339,8 +338,9 @@ export function applyMissingPolicy(columns: IBinnedColumn[], policy: MissingPoli
         return out;
       });
       warnings.push(
-        `${rows - rowsUsed} of ${rows} rows have a missing value in a selected column and were ` +
-          `left out (missing-value policy 'drop'); ${rowsUsed} rows remain.`
+        `${formatCount(rows - rowsUsed)} of ${plural(rows, 'row')} ${wordFor(rows - rowsUsed, 'has', 'have')} a ` +
+          `missing value in a selected column and ${wordFor(rows - rowsUsed, 'was', 'were')} left out ` +
+          `(missing-value policy 'drop'); ${plural(rowsUsed, 'row')} ${wordFor(rowsUsed, 'remains', 'remain')}.`
       );
       return { names, codes, bins, binnings, rows, rowsUsed, rowIndex, warnings };
     }
@@ -469,7 +469,7 @@ namespace Private {
       'input',
       rows === 0
         ? `Column '${column.name}' has no rows.`
-        : `Column '${column.name}' has no value: all ${rows} rows are missing. Leave it out of the selection.`,
+        : `Column '${column.name}' has no value: all ${plural(rows, 'row')} are missing. Leave it out of the selection.`,
       { column: column.name }
     );
   }
@@ -669,7 +669,7 @@ namespace Private {
         throw new PolyadicError(
           'input',
           `Column '${column.name}' row ${i} has category code ${code}, but the column has only ` +
-            `${categories.length} categories.`,
+            `${plural(categories.length, 'category', 'categories')}.`,
           { column: column.name, row: i, value: String(code) }
         );
       }
@@ -771,8 +771,8 @@ namespace Private {
       if (!(count <= maxBins)) {
         throw new PolyadicError(
           'limit',
-          `The rule ${specText} asks for ${count} bins on column '${column.name}', above the ` +
-            `limit of ${maxBins}; choose width:K or quantile:K for this column.`,
+          `The rule ${specText} asks for ${plural(count, 'bin')} on column '${column.name}', above the ` +
+            `limit of ${formatCount(maxBins)}; choose width:K or quantile:K for this column.`,
           { column: column.name, option: 'bins', value: specText }
         );
       }
@@ -782,7 +782,7 @@ namespace Private {
       if (!(edges[i] < edges[i + 1])) {
         throw new PolyadicError(
           'input',
-          `Column '${column.name}': ${specText} asks for ${count} bins, too many for the data ` +
+          `Column '${column.name}': ${specText} asks for ${plural(count, 'bin')}, too many for the data ` +
             `range ${first} … ${last} (neighbouring edges coincide); choose fewer bins.`,
           { column: column.name, option: 'bins', value: specText }
         );
@@ -929,8 +929,8 @@ namespace Private {
     if (distinct.length < k) {
       k = distinct.length;
       warnings.push(
-        `Column '${column.name}' has only ${distinct.length} distinct value` +
-          `${distinct.length === 1 ? '' : 's'}, so ${specText} made ${k} cluster${k === 1 ? '' : 's'}.`
+        `Column '${column.name}' has only ${plural(distinct.length, 'distinct value')}, so ${specText} ` +
+          `made ${plural(k, 'cluster')}.`
       );
     }
     const values = Float64Array.from(distinct);

@@ -4,7 +4,7 @@ export * from './types';
 export * from './errors';
 export * from './version';
 export * from './table';
-export { formatCount, nounFor, plural } from './text';
+export { formatCount, plural, wordFor } from './text';
 export {
   AUTO_MAX_LEVELS,
   AUTO_NUMERIC_SPEC,

@@ -20,10 +20,10 @@ export function formatCount(value: number | bigint): string {
  * `plural(4, 'bin')` → "4 bins", `plural(2, 'analysis', 'analyses')` → "2 analyses".
  */
 export function plural(count: number | bigint, singular: string, pluralForm = `${singular}s`): string {
-  return `${formatCount(count)} ${nounFor(count, singular, pluralForm)}`;
+  return `${formatCount(count)} ${wordFor(count, singular, pluralForm)}`;
 }
 
-/** The noun alone, made to agree with `count` ("multiplet has" / "multiplets have" style texts). */
-export function nounFor(count: number | bigint, singular: string, pluralForm = `${singular}s`): string {
+/** One word made to agree with `count`: `wordFor(n, 'has', 'have')`, `wordFor(n, 'multiplet')`. */
+export function wordFor(count: number | bigint, singular: string, pluralForm = `${singular}s`): string {
   return count === 1 || count === 1n ? singular : pluralForm;
 }

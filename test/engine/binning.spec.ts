@@ -48,7 +48,7 @@ describe('binning', () => {
     it('should refuse a bad spec, quoting it and listing every valid form', () => {
       const cases: [string, RegExp][] = [
         ['quantile', /needs a bin count/],
-        ['quantile:0', /outside 1 … 1000000/],
+        ['quantile:0', /outside 1 … 1,000,000/],
         ['width:2.5', /"2.5" is not a whole number/],
         ['width:-3', /not a whole number/],
         ['kmeans:1000001', /outside/],

@@ -8,6 +8,7 @@ import type { JSONObject } from '@lumino/coreutils';
 import { ISignal, Signal } from '@lumino/signaling';
 
 import type { IFetchedFrame } from '../../bridge/decode';
+import { formatCount, plural, wordFor } from '../../engine/text';
 import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
 import { newRecordId } from '../../record/ids';
 import type { IPolyadicSettings } from '../../tokens';
@@ -152,7 +153,10 @@ export class AnalysisModel implements IAnalysisState {
     }
     const cap = this._settings?.multipletCap;
     if (cap !== undefined && this.multipletCount > BigInt(cap)) {
-      return `${this.multipletCount} multiplets exceed the limit of ${cap} in the settings; lower the maximum order.`;
+      return (
+        `${plural(this.multipletCount, 'multiplet')} ${wordFor(this.multipletCount, 'exceeds', 'exceed')} the limit of ` +
+        `${formatCount(cap)} in the settings; lower the maximum order or select fewer columns.`
+      );
     }
     return null;
   }

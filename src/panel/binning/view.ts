@@ -234,9 +234,9 @@ namespace Private {
         const x = PAD + ((edge - low) / span) * (WIDTH - 2 * PAD);
         root.append(svg('line', { class: 'pd-Chart-edge', x1: x, x2: x, y1: PAD, y2: HEIGHT - PAD }));
       }
-      label = `Distribution of ${preview.name} from ${format(low)} to ${format(high)} with ${edges.length} bin edges drawn as lines`;
+      label = `Distribution of ${preview.name} from ${format(low)} to ${format(high)} with ${plural(edges.length, 'bin edge')} drawn as lines`;
     } else {
-      label = `Counts of the ${counts.length} categories of ${preview.name}`;
+      label = `Counts of the ${plural(counts.length, 'category', 'categories')} of ${preview.name}`;
     }
     root.setAttribute('aria-label', label);
     const title = svg('title', {});

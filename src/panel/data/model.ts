@@ -29,7 +29,10 @@ export interface IColumnEntry {
 /** Where loading the picked frame stands. */
 export interface ILoadState {
   state: 'idle' | 'loading' | 'loaded' | 'error';
-  /** Fraction of the fetch received, 0 … 1, while loading. */
+  /**
+   * How far loading has come, 0 … 1: the bytes received, then the columns read and counted
+   * (see {@link DataModel.FETCH_SHARE}); 1 only once the columns are ready.
+   */
   fraction: number;
   /** What went wrong, plain text. */
   message: string | null;
@@ -193,7 +196,7 @@ export class DataModel {
         rowCap: this._rowCap,
         onProgress: progress => {
           if (ticket === this._ticket) {
-            this._load = { ...this._load, fraction: Private.fraction(progress) };
+            this._load = { ...this._load, fraction: DataModel.FETCH_SHARE * Private.fraction(progress) };
             this._changed.emit();
           }
         }
@@ -203,10 +206,17 @@ export class DataModel {
       }
       this._fetched = fetched;
       const views = new Map(fetched.columns.map(view => [view.name, view]));
+      let done = 0;
       for (const column of this._columns) {
         column.view = views.get(column.name) ?? null;
         // One column at a time, yielding between them, so a wide frame keeps the page responsive.
         column.stats = column.view === null ? null : columnStats(column.view);
+        done++;
+        if (done < this._columns.length) {
+          const share = DataModel.FETCH_SHARE;
+          this._load = { ...this._load, fraction: share + ((1 - share) * done) / this._columns.length };
+          this._changed.emit();
+        }
         await Private.yieldToPage();
         if (ticket !== this._ticket) {
           return;
@@ -262,6 +272,12 @@ export class DataModel {
 
 /** The statics of {@link DataModel}. */
 export namespace DataModel {
+  /**
+   * Share of the load bar for the bytes of the fetch; the rest fills as the columns are decoded
+   * and counted, so the bar is full only when the columns are ready.
+   */
+  export const FETCH_SHARE = 0.9;
+
   /** Options of a {@link DataModel}. */
   export interface IOptions {
     /** Largest number of rows to fetch; default the kernel's. */

@@ -4,9 +4,11 @@
  */
 import { Widget } from '@lumino/widgets';
 
+import { plural } from '../../engine/text';
 import type { EstimatorName, Units } from '../../engine/types';
 import type { AnalysisModel } from '../analysis/model';
 import { textElement } from '../dom';
+import { formatAdequacy } from '../results/format';
 import { ADEQUACY_CAUTION, ESTIMATOR_CHOICES } from './model';
 
 /** Shows the estimator choices of an {@link AnalysisModel}. */
@@ -81,8 +83,7 @@ export class EstimatorView extends Widget {
     } else {
       const count = model.multipletCount;
       this._count.textContent =
-        `${count.toLocaleString('en-US')} multiplet${count === 1n ? '' : 's'} ` +
-        `of order 1 to ${order} among ${columns} column${columns === 1 ? '' : 's'}.`;
+        `${plural(count, 'multiplet')} of order 1 to ${order} among ${plural(columns, 'column')}.`;
     }
     const adequacy = model.adequacy;
     this._adequacy.classList.toggle('pd-mod-warning', adequacy !== null && adequacy.value < ADEQUACY_CAUTION);
@@ -90,13 +91,13 @@ export class EstimatorView extends Widget {
       this._adequacy.textContent = '';
     } else if (adequacy.value < ADEQUACY_CAUTION) {
       this._adequacy.textContent =
-        `Caution: adequacy ${Private.format(adequacy.value)} — ${adequacy.cells.toLocaleString('en-US')} possible joint cells ` +
+        `Caution: adequacy ${formatAdequacy(adequacy.value)} — ${plural(adequacy.cells, 'possible joint cell')} ` +
         `for the largest multiplets of order ${adequacy.order}, more than the rows. Entropies of these multiplets are ` +
         'biased low; use fewer bins, a lower order or a bias-corrected estimator.';
     } else {
       this._adequacy.textContent =
-        `Adequacy ${Private.format(adequacy.value)} rows per possible joint cell ` +
-        `(${adequacy.cells.toLocaleString('en-US')} cells at order ${adequacy.order}).`;
+        `Adequacy ${formatAdequacy(adequacy.value)} rows per possible joint cell ` +
+        `(${plural(adequacy.cells, 'cell')} at order ${adequacy.order}).`;
     }
     this._adequacy.hidden = adequacy === null;
   }
@@ -151,10 +152,5 @@ namespace Private {
     node.addEventListener('change', () => onChange(node.value));
     row.append(labelNode, node);
     return { row, select: node };
-  }
-
-  /** Adequacy to two significant digits. */
-  export function format(value: number): string {
-    return value >= 100 ? Math.round(value).toLocaleString('en-US') : Number(value.toPrecision(2)).toString();
   }
 }

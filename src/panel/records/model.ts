@@ -9,6 +9,7 @@
 import { ISignal, Signal } from '@lumino/signaling';
 
 import { isPolyadicError } from '../../engine/errors';
+import { formatCount, plural, wordFor } from '../../engine/text';
 import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
 import { fingerprintColumns } from '../../record/fingerprint';
 import { recordFromResult } from '../../record/recordFromResult';
@@ -345,10 +346,10 @@ namespace Private {
         comparison: null,
         message:
           recorded === undefined
-            ? `The panel read a sample of ${frame.rows} of ${frame.originalRows} rows of '${frame.name}', ` +
+            ? `The panel read a sample of ${formatCount(frame.rows)} of ${plural(frame.originalRows, 'row')} of '${frame.name}', ` +
               'but this analysis read every row; the data cannot be compared.'
-            : `This analysis read a sample of ${recorded.row_cap} rows (seed ${recorded.seed}); the panel read ` +
-              `${frame.rows} rows${frame.sampled ? ` (seed ${frame.seed})` : ''}, so the data cannot be compared.`
+            : `This analysis read a sample of ${plural(recorded.row_cap, 'row')} (seed ${recorded.seed}); the panel read ` +
+              `${plural(frame.rows, 'row')}${frame.sampled ? ` (seed ${frame.seed})` : ''}, so the data cannot be compared.`
       };
     }
     const byName = new Map(frame.columns.map(column => [column.name, column]));
@@ -358,7 +359,7 @@ namespace Private {
         id,
         status: 'not-comparable',
         comparison: null,
-        message: `The panel has not read column${missing.length === 1 ? '' : 's'} ${missing.map(n => `'${n}'`).join(', ')} of '${frame.name}'; the data cannot be compared.`
+        message: `The panel has not read ${wordFor(missing.length, 'column')} ${missing.map(n => `'${n}'`).join(', ')} of '${frame.name}'; the data cannot be compared.`
       };
     }
     const fingerprint = await fingerprintColumns(analysis.columns.map(name => byName.get(name)!));
@@ -368,7 +369,7 @@ namespace Private {
     }
     const where =
       comparison.changedColumns.length > 0
-        ? ` (column${comparison.changedColumns.length === 1 ? '' : 's'} ${comparison.changedColumns.map(n => `'${n}'`).join(', ')})`
+        ? ` (${wordFor(comparison.changedColumns.length, 'column')} ${comparison.changedColumns.map(n => `'${n}'`).join(', ')})`
         : '';
     return {
       id,

@@ -9,6 +9,7 @@ import { Panel, Widget } from '@lumino/widgets';
 import { ChartView } from '../charts/chart';
 import type { IChartColors, IFigure } from '../charts/chart';
 import { textElement } from '../dom';
+import { plural } from '../../engine/text';
 import { formatCount, formatValue } from './format';
 import type { IResultsHistogram } from './model';
 import { ResultsModel } from './model';
@@ -62,7 +63,7 @@ export class HistogramsView extends Panel {
     const order = histogram.order;
     const header = new Widget({ node: textElement('div', 'pd-Histogram-header') });
     header.node.append(
-      textElement('h4', 'pd-Histogram-title', `Order ${order}: ${formatCount(histogram.total)} multiplets`),
+      textElement('h4', 'pd-Histogram-title', `Order ${order}: ${plural(histogram.total, 'multiplet')}`),
       textElement(
         'p',
         'pd-Histogram-convention',
