@@ -16,7 +16,7 @@ import type { EnginePool, IRunProgress, IRunResult } from '../../worker/pool';
 import type { IColumnPreview } from '../../worker/protocol';
 import { BinningModel } from '../binning/model';
 import { DataModel } from '../data/model';
-import { adequacyOf, EstimatorModel, IAdequacy } from '../estimator/model';
+import { adequacyOf, EstimatorModel, IAdequacy, type IEstimatorChoices, type IOrderClamp } from '../estimator/model';
 import type { IAnalysisState, IRunCompleted, IRunStatus, RunState } from './types';
 
 /** What the model needs of the engine pool (an {@link EnginePool} in the panel). */
@@ -89,6 +89,45 @@ export class AnalysisModel implements IAnalysisState {
   /** Whether a run (fetch or engine) is in progress. */
   get isRunning(): boolean {
     return this._run.state === 'fetching' || this._run.state === 'running';
+  }
+
+  /**
+   * Follow another notebook (its panel's id; null without one). The estimator, units and
+   * highest order chosen are the choices of one notebook: those of the notebook left are kept
+   * for when it is followed again, and a notebook followed for the first time starts from the
+   * settings.
+   */
+  setNotebook(key: string | null): void {
+    if (key === this._notebook) {
+      return;
+    }
+    if (this._notebook !== null) {
+      this._choices.set(this._notebook, { ...this.estimator.choices, touched: this._estimatorTouched });
+    }
+    this._notebook = key;
+    // choices never touched are the settings', which may have changed since
+    const kept = key === null ? undefined : this._choices.get(key);
+    const settings = this._settings;
+    this._applyingSettings = true;
+    try {
+      if (kept?.touched) {
+        this.estimator.setChoices(kept);
+      } else {
+        this.estimator.setChoices({
+          estimator: settings?.estimator ?? this.estimator.estimator,
+          units: settings?.units ?? this.estimator.units,
+          maxOrder: null
+        });
+      }
+    } finally {
+      this._applyingSettings = false;
+    }
+    this._estimatorTouched = kept?.touched ?? false;
+  }
+
+  /** The highest order asked for when it is above the selected columns and lowered, else null. */
+  get orderClamp(): IOrderClamp | null {
+    return this.estimator.orderClamp(this.data.selected.length);
   }
 
   /** Take the user settings: row cap, estimator, units, order rule, limits, numeric binning. */
@@ -361,6 +400,8 @@ export class AnalysisModel implements IAnalysisState {
   private _settings: IPolyadicSettings | null = null;
   private _binned: IFetchedFrame | null = null;
   private _estimatorTouched = false;
+  private _notebook: string | null = null;
+  private _choices = new Map<string, IEstimatorChoices & { touched: boolean }>();
   private _applyingSettings = false;
   private _latest: IRunCompleted | null = null;
   private _run: IRunStatus = { state: 'idle', progress: null, message: null };

@@ -50,8 +50,11 @@ export class EstimatorView extends Widget {
     orderRow.append(orderLabel, this._order);
     this._count = textElement('p', 'pd-Estimator-count');
     this._count.setAttribute('aria-live', 'polite');
+    this._clamp = textElement('p', 'pd-Estimator-clamp pd-mod-warning');
+    this._clamp.setAttribute('role', 'status');
+    this._clamp.hidden = true;
     this._adequacy = textElement('p', 'pd-Estimator-adequacy');
-    this.node.append(this._estimator.row, this._units.row, orderRow, this._count, this._adequacy);
+    this.node.append(this._estimator.row, this._units.row, orderRow, this._clamp, this._count, this._adequacy);
     this._model.changed.connect(this._render, this);
     this._model.estimator.changed.connect(this._render, this);
     this._render();
@@ -85,6 +88,13 @@ export class EstimatorView extends Widget {
       this._count.textContent =
         `${plural(count, 'multiplet')} of order 1 to ${order} among ${plural(columns, 'column')}.`;
     }
+    const clamp = model.orderClamp;
+    this._clamp.hidden = clamp === null;
+    this._clamp.textContent =
+      clamp === null
+        ? ''
+        : `${clamp.source === 'choice' ? 'Maximum order' : 'The settings’ fixed highest order'} ${clamp.asked} is above the ` +
+          `${plural(clamp.used, 'selected column')}, so order ${clamp.used} is the highest computed.`;
     const adequacy = model.adequacy;
     this._adequacy.classList.toggle('pd-mod-warning', adequacy !== null && adequacy.value < ADEQUACY_CAUTION);
     if (adequacy === null) {
@@ -107,6 +117,7 @@ export class EstimatorView extends Widget {
   private _units: Private.ISelect;
   private _order: HTMLInputElement;
   private _count: HTMLElement;
+  private _clamp: HTMLElement;
   private _adequacy: HTMLElement;
 }
 
