@@ -276,6 +276,41 @@ export function columnsFromRecords(
   });
 }
 
+/**
+ * Whether two views hold the same data: name, kind, type and length, the same missing rows,
+ * and the same value in every other row (NaN equal to NaN; a categorical row by its category's
+ * text, so two dictionaries in another order compare equal).
+ */
+export function sameColumnData(a: ColumnView, b: ColumnView): boolean {
+  const n = columnLength(a);
+  if (a.name !== b.name || a.kind !== b.kind || a.dtype !== b.dtype || n !== columnLength(b)) {
+    return false;
+  }
+  const missingA = (i: number): boolean => (a.missing !== null && a.missing[i] === 1) || (a.kind === 'categorical' && a.codes[i] < 0);
+  const missingB = (i: number): boolean => (b.missing !== null && b.missing[i] === 1) || (b.kind === 'categorical' && b.codes[i] < 0);
+  for (let i = 0; i < n; i++) {
+    const gapA = missingA(i);
+    if (gapA !== missingB(i)) {
+      return false;
+    }
+    if (gapA) {
+      continue;
+    }
+    if (a.kind === 'numeric' && b.kind === 'numeric') {
+      const x = a.values[i];
+      const y = b.values[i];
+      if (x !== y && !(Number.isNaN(x) && Number.isNaN(y))) {
+        return false;
+      }
+    } else if (a.kind === 'categorical' && b.kind === 'categorical') {
+      if (a.categories[a.codes[i]] !== b.categories[b.codes[i]]) {
+        return false;
+      }
+    }
+  }
+  return true;
+}
+
 /** Refuse a list of column names with a duplicate, naming it and both positions (1-based). */
 export function checkUniqueNames(names: readonly string[]): void {
   const seen = new Map<string, number>();

@@ -12,7 +12,8 @@ import {
   columnFromValues,
   columnsFromArrow,
   columnsFromRecords,
-  parseNumberCell
+  parseNumberCell,
+  sameColumnData
 } from '../../src/engine/table';
 import type { ColumnView, ICategoricalColumn, INumericColumn } from '../../src/engine/types';
 
@@ -315,6 +316,20 @@ describe('columnFromTextCells', () => {
         expect(labels(forward)).toEqual(labels(backward).reverse());
       })
     );
+  });
+});
+
+describe('sameColumnData', () => {
+  it('should compare rows, gaps and category texts, not the encoding', () => {
+    const x = numeric(columnFromTextCells('x', ['1.5', '', 'nan', '2']));
+    expect(sameColumnData(x, numeric(columnFromTextCells('x', ['1.5', '', 'nan', '2'])))).toBe(true);
+    expect(sameColumnData(x, numeric(columnFromTextCells('x', ['1.5', '', 'nan', '2.5'])))).toBe(false);
+    expect(sameColumnData(x, numeric(columnFromTextCells('y', ['1.5', '', 'nan', '2'])))).toBe(false);
+    // the same rows in two dictionaries of another order
+    const a: ICategoricalColumn = { kind: 'categorical', name: 's', dtype: 'string', codes: Int32Array.of(0, 1, -1), categories: ['p', 'q'], missing: null };
+    const b: ICategoricalColumn = { ...a, codes: Int32Array.of(1, 0, -1), categories: ['q', 'p'] };
+    expect(sameColumnData(a, b)).toBe(true);
+    expect(sameColumnData(a, { ...b, codes: Int32Array.of(1, 0, 0) })).toBe(false);
   });
 });
 

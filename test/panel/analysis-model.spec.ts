@@ -5,10 +5,23 @@
 import * as fs from 'fs';
 import * as path from 'path';
 
-import type { IAnalyzeOptions } from '../../src/engine/types';
+import { Signal } from '@lumino/signaling';
+
+import type { KernelBridge } from '../../src/bridge/connector';
+import type { IFetchedFrame } from '../../src/bridge/decode';
+import type { IFrameInfo } from '../../src/bridge/protocol';
+import { readDataFile } from '../../src/cli/readers';
+import { analyze } from '../../src/engine/analyze';
+import type { ColumnView, IAnalyzeOptions } from '../../src/engine/types';
 import { AnalysisModel, type IEngineRunner } from '../../src/panel/analysis/model';
 import { EstimatorModel } from '../../src/panel/estimator/model';
+import { recordCompletedRuns } from '../../src/panel/records/connect';
+import { RecordsModel } from '../../src/panel/records/model';
+import { followRestores } from '../../src/panel/records/restore';
 import type { IPolyadicSettings } from '../../src/tokens';
+import type { IRunResult } from '../../src/worker/pool';
+import { previewColumn } from '../../src/worker/handlers';
+import { greenhouseTable, tempFolder, toCsv } from '../record/helpers';
 
 /** The settings as the Settings Editor gives them with nothing changed: the schema's defaults. */
 function defaultSettings(): IPolyadicSettings {
@@ -25,7 +38,136 @@ const idleEngine: IEngineRunner = {
   cancel: () => undefined
 };
 
+/** The greenhouse helper table as column views, with `change` applied to its cells first. */
+async function greenhouseColumns(change?: (rows: string[][]) => void): Promise<ColumnView[]> {
+  const table = greenhouseTable(300, 11);
+  change?.(table.rows);
+  const file = path.join(tempFolder(), 'greenhouse.csv');
+  fs.writeFileSync(file, toCsv(table));
+  return (await readDataFile(file)).columns;
+}
+
+/** A kernel holding one frame, `greenhouse`, whose data the test changes as a cell would. */
+class FakeKernel {
+  constructor(public columns: ColumnView[]) {}
+  readonly statusChanged = new Signal<this, unknown>(this);
+  readonly framesChanged = new Signal<this, unknown>(this);
+  readonly status = { state: 'ready', message: 'ready', commands: [] };
+  isDisposed = false;
+  sent: string[] = [];
+
+  get listing(): { frames: IFrameInfo[]; skipped: [] } {
+    const frame: IFrameInfo = {
+      name: 'greenhouse',
+      kind: 'pandas',
+      rows: 300,
+      memory_bytes: 1,
+      columns: this.columns.map(column => ({ name: column.name, dtype: column.dtype, kind: column.kind }))
+    };
+    return { frames: [frame], skipped: [] };
+  }
+
+  fetch(name: string, names: string[]): Promise<IFetchedFrame> {
+    const columns = names.map(wanted => this.columns.find(column => column.name === wanted)!);
+    return Promise.resolve({ name, columns, fields: [], rows: 300, originalRows: 300, sampled: false, seed: 0, bytes: 1 });
+  }
+
+  sendResults(id: string): Promise<unknown> {
+    this.sent.push(id);
+    return Promise.resolve({ rows: 0 });
+  }
+}
+
+/** The real engine in-process; `hold` keeps the next analysis waiting until released. */
+function engine(): IEngineRunner & { hold: boolean; release: () => void } {
+  let waiting: (() => void) | null = null;
+  const runner = {
+    hold: false,
+    release: () => waiting?.(),
+    analyze: (columns: ColumnView[], options: IAnalyzeOptions): Promise<IRunResult> => {
+      const result = { result: analyze(columns, options), workers: 1, elapsedMs: 1 };
+      if (!runner.hold) {
+        return Promise.resolve(result);
+      }
+      return new Promise<IRunResult>(resolve => (waiting = () => resolve(result)));
+    },
+    preview: (column: ColumnView, spec?: string) => Promise.resolve(previewColumn(column, spec)),
+    cancel: () => undefined
+  };
+  return runner;
+}
+
+async function settle(): Promise<void> {
+  for (let i = 0; i < 30; i++) {
+    await new Promise(resolve => setTimeout(resolve, 0));
+  }
+}
+
+/** An analysis model on a fake kernel, wired to a records model as the panel wires them. */
+async function panelOn(kernel: FakeKernel): Promise<{ analysis: AnalysisModel; records: RecordsModel; runner: ReturnType<typeof engine> }> {
+  const runner = engine();
+  const analysis = new AnalysisModel({ engine: runner, previewDebounceMs: 0 });
+  analysis.applySettings({ ...defaultSettings(), estimator: 'plugin' });
+  const records = new RecordsModel();
+  const metadata: Record<string, unknown> = {};
+  records.setNotebook({ path: 'a.ipynb', metadata: { get: key => metadata[key], set: (key, value) => (metadata[key] = value) } });
+  recordCompletedRuns(analysis, records);
+  followRestores(analysis, records);
+  analysis.data.bridge = kernel as unknown as KernelBridge;
+  await analysis.data.pick('greenhouse');
+  await settle();
+  return { analysis, records, runner };
+}
+
 describe('AnalysisModel', () => {
+  describe('#start', () => {
+    it('should raise the data-changed banner of the chosen record as soon as a run reads changed data', async () => {
+      const kernel = new FakeKernel(await greenhouseColumns());
+      const { analysis, records, runner } = await panelOn(kernel);
+      await analysis.start();
+      await settle();
+      const first = records.selected!;
+      expect(records.dataCheckOf(first.id)?.status).toBe('same');
+
+      // a cell changes one humidity in the kernel; the shape stays, so no listing says so
+      kernel.columns = await greenhouseColumns(rows => (rows[42][4] = '3.25'));
+      runner.hold = true;
+      const run = analysis.start();
+      await settle();
+      // the run has read the frame but the engine has not finished: the banner is up already
+      expect(analysis.runState).toBe('running');
+      expect(records.dataCheckOf(first.id)).toMatchObject({ status: 'changed', comparison: { changedColumns: ['humidity_b_pct'] } });
+      // and the loaded frame is the kernel's data now, for the checklist and the previews
+      const loaded = analysis.data.fetched!.columns.find(column => column.name === 'humidity_b_pct')!;
+      expect(loaded).toBe(kernel.columns.find(column => column.name === 'humidity_b_pct'));
+      runner.release();
+      await run;
+      await settle();
+      // the run on the changed data is recorded and chosen, with no banner of its own
+      const second = records.selected!;
+      expect(second.id).not.toBe(first.id);
+      expect(records.dataCheckOf(second.id)?.status ?? 'same').toBe('same');
+      expect(records.dataCheckOf(first.id)?.status).toBe('changed');
+      // the binning chosen for the frame survived the new data
+      expect(analysis.binning.specOf('humidity_b_pct')).toBe('auto');
+      analysis.dispose();
+    });
+
+    it('should keep the binning specs when the loaded frame takes a run’s newer columns', async () => {
+      const kernel = new FakeKernel(await greenhouseColumns());
+      const { analysis } = await panelOn(kernel);
+      analysis.binning.setSpec('air_temp_c', 'width:3');
+      kernel.columns = await greenhouseColumns(rows => (rows[7][5] = '40.00'));
+      await analysis.start();
+      await settle();
+      expect(analysis.data.fetched!.columns.find(column => column.name === 'air_temp_c')).toBe(
+        kernel.columns.find(column => column.name === 'air_temp_c')
+      );
+      expect(analysis.binning.specOf('air_temp_c')).toBe('width:3');
+      analysis.dispose();
+    });
+  });
+
   describe('#setNotebook', () => {
     it('should keep each notebook’s estimator, units and maximum order with that notebook', () => {
       const model = new AnalysisModel({ engine: idleEngine });

@@ -110,6 +110,28 @@ describe('DataModel', () => {
       expect(seen[seen.length - 1]).toEqual({ state: 'loaded', fraction: 1, message: null, counted: 3 });
     });
 
+    it('should read the picked frame again when the listing shows it with other rows, keeping the selection', async () => {
+      const bridge = new FakeBridge();
+      const model = new DataModel({ rowCap: 1000 });
+      model.bridge = bridge as unknown as KernelBridge;
+      const first = model.pick('beds');
+      bridge.pending.shift()!();
+      await first;
+      model.setSelected('soil_b', false);
+      const before = model.fetched;
+      // the same listing again changes nothing
+      bridge.framesChanged.emit(bridge.listing);
+      expect(bridge.pending).toHaveLength(0);
+      bridge.listing = { frames: [{ ...FRAME, rows: 5 }], skipped: [] };
+      bridge.framesChanged.emit(bridge.listing);
+      expect(model.load.state).toBe('loading');
+      bridge.pending.shift()!();
+      await settle();
+      expect(model.load.state).toBe('loaded');
+      expect(model.fetched).not.toBe(before);
+      expect(model.selected).toEqual(['soil_a']);
+    });
+
     it('should keep the person’s own selection when a loaded frame is picked again', async () => {
       const bridge = new FakeBridge();
       const model = new DataModel({ rowCap: 1000 });

@@ -249,6 +249,9 @@ export class AnalysisModel implements IAnalysisState {
       if (ticket !== this._ticket) {
         return;
       }
+      // the run read the frame as it is now: the loaded frame (and the "data changed" check on
+      // the chosen record) follows at once, before the engine has finished
+      this.data.adopt(fetched);
       this._setRun({ state: 'running', progress: null, message: null });
       const outcome = await this._engine.analyze(fetched.columns, options, {
         onProgress: progress => {
@@ -365,10 +368,16 @@ export class AnalysisModel implements IAnalysisState {
 
   private _onDataChanged(): void {
     const fetched = this.data.fetched;
-    if (fetched !== this._binned) {
+    const frame = this.data.frame;
+    // The same frame read again (changed in the kernel): the binning keeps its specs, also
+    // while the new rows are on their way.
+    const rereading = fetched === null && frame !== null && frame === this._binnedFrame && this.data.load.state === 'loading';
+    if (fetched !== this._binned && !rereading) {
       // The picked frame's rows arrived (or went): the binning section follows its columns.
+      const keepSpecs = fetched !== null && fetched.name === this._binnedFrame;
       this._binned = fetched;
-      this.binning.setColumns(fetched?.columns ?? []);
+      this._binnedFrame = fetched?.name ?? null;
+      this.binning.setColumns(fetched?.columns ?? [], { keepSpecs });
     }
     this.binning.requestBinCounts(this.data.selected);
     this._changed.emit();
@@ -399,6 +408,7 @@ export class AnalysisModel implements IAnalysisState {
   private _now: () => number;
   private _settings: IPolyadicSettings | null = null;
   private _binned: IFetchedFrame | null = null;
+  private _binnedFrame: string | null = null;
   private _estimatorTouched = false;
   private _notebook: string | null = null;
   private _choices = new Map<string, IEstimatorChoices & { touched: boolean }>();
