@@ -106,9 +106,10 @@ async function settle(): Promise<void> {
 /** An analysis model on a fake kernel, wired to a records model as the panel wires them. */
 async function panelOn(kernel: FakeKernel): Promise<{ analysis: AnalysisModel; records: RecordsModel; runner: ReturnType<typeof engine> }> {
   const runner = engine();
-  const analysis = new AnalysisModel({ engine: runner, previewDebounceMs: 0 });
-  analysis.applySettings({ ...defaultSettings(), estimator: 'plugin' });
   const records = new RecordsModel();
+  // as PanelModel wires them
+  const analysis = new AnalysisModel({ engine: runner, previewDebounceMs: 0, recordIdFor: run => records.rerunOf(run) });
+  analysis.applySettings({ ...defaultSettings(), estimator: 'plugin' });
   const metadata: Record<string, unknown> = {};
   records.setNotebook({ path: 'a.ipynb', metadata: { get: key => metadata[key], set: (key, value) => (metadata[key] = value) } });
   recordCompletedRuns(analysis, records);
@@ -150,6 +151,27 @@ describe('AnalysisModel', () => {
       expect(records.dataCheckOf(first.id)?.status).toBe('changed');
       // the binning chosen for the frame survived the new data
       expect(analysis.binning.specOf('humidity_b_pct')).toBe('auto');
+      analysis.dispose();
+    });
+
+    it('should give a re-run with the same settings on the same data the id of the analysis it repeats', async () => {
+      const kernel = new FakeKernel(await greenhouseColumns());
+      const { analysis, records } = await panelOn(kernel);
+      await analysis.start();
+      await settle();
+      analysis.binning.setSpec('air_temp_c', 'quantile:8');
+      await analysis.start();
+      await settle();
+      analysis.binning.setSpec('air_temp_c', 'auto');
+      await analysis.start();
+      await settle();
+      const analyses = records.state!.analyses;
+      // the third run repeats the first: one record for both, under one id in the kernel too
+      expect(analyses).toHaveLength(2);
+      expect(kernel.sent).toEqual([analyses[0].id, analyses[1].id, analyses[0].id]);
+      expect(analysis.latest!.analysisId).toBe(analyses[0].id);
+      expect(records.selectedId).toBe(analyses[0].id);
+      expect(analyses[0].label).not.toBe(analyses[1].label);
       analysis.dispose();
     });
 

@@ -32,6 +32,7 @@ export class AnalysisModel implements IAnalysisState {
   constructor(options: AnalysisModel.IOptions) {
     this._engine = options.engine;
     this._now = options.now ?? (() => globalThis.performance.now());
+    this._recordIdFor = options.recordIdFor ?? null;
     this.data = new DataModel({});
     this.binning = new BinningModel({
       preview: (column, spec) => this._engine.preview(column, spec),
@@ -282,6 +283,14 @@ export class AnalysisModel implements IAnalysisState {
         elapsedMs: this._now() - started,
         workers: outcome.workers
       };
+      // a re-run of a recorded analysis keeps that analysis' id, in the kernel and the exports too
+      const repeated = this._recordIdFor === null ? null : await this._recordIdFor(completed);
+      if (ticket !== this._ticket) {
+        return;
+      }
+      if (repeated !== null) {
+        completed.analysisId = repeated;
+      }
       this._latest = completed;
       this._setRun({ state: 'done', progress: null, message: null });
       this._resultChanged.emit(completed);
@@ -406,6 +415,7 @@ export class AnalysisModel implements IAnalysisState {
 
   private _engine: IEngineRunner;
   private _now: () => number;
+  private _recordIdFor: ((run: IRunCompleted) => Promise<string | null>) | null;
   private _settings: IPolyadicSettings | null = null;
   private _binned: IFetchedFrame | null = null;
   private _binnedFrame: string | null = null;
@@ -435,6 +445,11 @@ export namespace AnalysisModel {
     previewDebounceMs?: number;
     /** Clock in ms; tests inject one. */
     now?: () => number;
+    /**
+     * The id of the recorded analysis a completed run repeats (same settings, same data), or
+     * null; the run then takes that id instead of a new one.
+     */
+    recordIdFor?: (run: IRunCompleted) => Promise<string | null>;
   }
 }
 
