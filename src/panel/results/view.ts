@@ -24,8 +24,9 @@ export class ResultsView extends Panel {
     this._histograms = new HistogramsView({ model: this._model });
     this._filters = new Widget({ node: this._buildFilters() });
     const select = (index: number): void => this._model.selectMultiplet(index);
-    this._synergy = new MultipletTableView({ model: this._model.synergy, onSelect: select });
-    this._redundancy = new MultipletTableView({ model: this._model.redundancy, onSelect: select });
+    const source = () => this._model.exportSource;
+    this._synergy = new MultipletTableView({ model: this._model.synergy, onSelect: select, source });
+    this._redundancy = new MultipletTableView({ model: this._model.redundancy, onSelect: select, source });
     this._chain = new ChainView({ model: this._model });
     for (const widget of [this._summary, this._histograms, this._filters, this._synergy, this._redundancy, this._chain]) {
       this.addWidget(widget);
