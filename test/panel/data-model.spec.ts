@@ -61,15 +61,21 @@ async function settle(): Promise<void> {
   }
 }
 
+/** A model whose frame `beds` has been picked and loaded. */
+async function loadedModel(): Promise<{ bridge: FakeBridge; model: DataModel }> {
+  const bridge = new FakeBridge();
+  const model = new DataModel({ rowCap: 1000 });
+  model.bridge = bridge as unknown as KernelBridge;
+  const done = model.pick('beds');
+  bridge.pending.shift()!();
+  await done;
+  return { bridge, model };
+}
+
 describe('DataModel', () => {
   describe('#pick', () => {
     it('should select the columns without warnings when a frame is picked', async () => {
-      const bridge = new FakeBridge();
-      const model = new DataModel({ rowCap: 1000 });
-      model.bridge = bridge as unknown as KernelBridge;
-      const done = model.pick('beds');
-      bridge.pending.shift()!();
-      await done;
+      const { model } = await loadedModel();
       await settle();
       expect(model.selected).toEqual(['soil_a', 'soil_b']);
     });
@@ -111,12 +117,7 @@ describe('DataModel', () => {
     });
 
     it('should read the picked frame again when the listing shows it with other rows, keeping the selection', async () => {
-      const bridge = new FakeBridge();
-      const model = new DataModel({ rowCap: 1000 });
-      model.bridge = bridge as unknown as KernelBridge;
-      const first = model.pick('beds');
-      bridge.pending.shift()!();
-      await first;
+      const { bridge, model } = await loadedModel();
       model.setSelected('soil_b', false);
       const before = model.fetched;
       // the same listing again changes nothing
@@ -133,12 +134,7 @@ describe('DataModel', () => {
     });
 
     it('should keep the person’s own selection when a loaded frame is picked again', async () => {
-      const bridge = new FakeBridge();
-      const model = new DataModel({ rowCap: 1000 });
-      model.bridge = bridge as unknown as KernelBridge;
-      const first = model.pick('beds');
-      bridge.pending.shift()!();
-      await first;
+      const { bridge, model } = await loadedModel();
       await settle();
       model.setSelected('soil_a', false);
       const again = model.pick('beds');

@@ -9,7 +9,7 @@
 import { expect, type Locator, type Page, test } from '@playwright/test';
 import path from 'node:path';
 
-import { execute, openLab, openNotebookAndPanel, polyadicPanel } from './helpers';
+import { execute, openLab, openNotebookAndPanel, polyadicPanel, runNotebookCells } from './helpers';
 import { ARTIFACTS } from './paths';
 
 test.describe.configure({ mode: 'serial' });
@@ -53,24 +53,11 @@ function binningRow(column: string): Locator {
   return polyadicPanel(page).locator('.pd-Binning-row', { has: page.getByLabel(`Binning of column ${column}`, { exact: true }) });
 }
 
-/** Open a notebook, wait for its kernel, and run its cells. */
-async function openAndRun(notebook: string): Promise<void> {
-  await execute(page, 'docmanager:open', { path: notebook });
-  await expect(page.locator('.lm-DockPanel-tabBar .lm-mod-current')).toContainText(notebook);
-  await expect(polyadicPanel(page).getByText('No dataframe in this notebook’s kernel yet', { exact: false })).toBeVisible({
-    timeout: 90_000
-  });
-  await execute(page, 'notebook:run-all-cells');
-}
-
 test.beforeAll(async ({ browser }) => {
   page = await browser.newPage();
   await openLab(page, 'defects');
   await openNotebookAndPanel(page, 'defects.ipynb');
-  await expect(polyadicPanel(page).getByText('No dataframe in this notebook’s kernel yet', { exact: false })).toBeVisible({
-    timeout: 90_000
-  });
-  await execute(page, 'notebook:run-all-cells');
+  await runNotebookCells(page);
   await expect(polyadicPanel(page).getByRole('combobox', { name: 'Dataframe', exact: true })).toBeVisible({ timeout: 60_000 });
 });
 
@@ -163,7 +150,9 @@ test('should keep the highest order with its notebook and say when an order is l
   await order.fill('18');
   await expect(panel.getByText('of order 1 to 18 among 40 columns.', { exact: false })).toBeVisible();
 
-  await openAndRun('defects-other.ipynb');
+  await execute(page, 'docmanager:open', { path: 'defects-other.ipynb' });
+  await expect(page.locator('.lm-DockPanel-tabBar .lm-mod-current')).toContainText('defects-other.ipynb');
+  await runNotebookCells(page);
   // the lone frame is picked by itself; the order is this notebook's own, from the settings
   await expect(panel.getByRole('checkbox', { name: 'Use column sensor_00', exact: true })).toBeVisible({ timeout: 60_000 });
   await expect(panel.getByText('696 multiplets of order 1 to 3 among 16 columns.')).toBeVisible();
