@@ -44,7 +44,7 @@ export interface IPolyadicSettings {
   units: Units;
   /** Missing-value policy across the selected columns. */
   missing: MissingPolicy;
-  /** Binning spec for numeric columns, e.g. `quantile:4`. */
+  /** Binning spec for numeric columns, e.g. `auto` or `quantile:4`. */
   numericBinning: string;
   /** How the highest order is chosen. */
   maxOrderRule: MaxOrderRule;

@@ -10,6 +10,7 @@ import * as arrow from 'apache-arrow';
 
 import { isPolyadicError } from '../engine/errors';
 import { columnsFromArrow } from '../engine/table';
+import { formatCount, plural } from '../engine/text';
 import type { ColumnView, ICategoricalColumn } from '../engine/types';
 import { BridgeError } from './errors';
 import type { ColumnKind, IFetchChunk, IFetchDone, TimeUnit } from './protocol';
@@ -124,7 +125,7 @@ export function fetchedFrame(table: arrow.Table, done: IFetchDone, bytes?: numbe
   if (table.numRows !== rows) {
     throw new BridgeError(
       'protocol',
-      `The kernel announced ${rows} rows of '${frame}' but sent ${table.numRows}; fetch again.`,
+      `The kernel announced ${plural(rows, 'row')} of '${frame}' but sent ${formatCount(table.numRows)}; fetch again.`,
       { frame }
     );
   }

@@ -26,8 +26,10 @@ export interface IInsertCellArgs {
 }
 
 /**
- * Insert a code cell showing analysis `id` below the active cell of `panel`, and select it.
- * Throws a PolyadicError for anything but a valid record id: no metadata text reaches code.
+ * Insert a code cell showing analysis `id` below the active cell of `panel`, select it and give
+ * the notebook the keyboard in command mode, so Shift+Enter runs the new cell next (wherever the
+ * command came from: the toolbar, the palette or the panel). Throws a PolyadicError for anything
+ * but a valid record id: no metadata text reaches code.
  */
 export function insertAnalysisCell(panel: NotebookPanel, id: string): void {
   const source = showCellSource(id);
@@ -41,6 +43,8 @@ export function insertAnalysisCell(panel: NotebookPanel, id: string): void {
     NotebookActions.changeCellType(notebook, 'code');
   }
   notebook.activeCell?.model.sharedModel.setSource(source);
+  notebook.mode = 'command';
+  notebook.activate();
 }
 
 /** What {@link setupAnalysisCells} needs. */
@@ -89,7 +93,9 @@ export function setupAnalysisCells(options: IAnalysisCellsOptions): IDisposable 
       };
     };
     panel.content.rendermime.addFactory(createAnalysisRendererFactory(resolve));
-    const button = new CommandToolbarButton({ commands, id: INSERT_ANALYSIS_CELL, label: 'Polyadic cell' });
+    // As JupyterLab's own notebook toolbar buttons: a click does not take the focus from the
+    // notebook, so the keys that follow (Shift+Enter) go to the notebook, not to the button.
+    const button = new CommandToolbarButton({ commands, id: INSERT_ANALYSIS_CELL, label: 'Polyadic cell', noFocusOnClick: true });
     // the spacer comes from the toolbar settings and may not be there yet
     if (!panel.toolbar.insertBefore('spacer', TOOLBAR_ITEM, button)) {
       panel.toolbar.addItem(TOOLBAR_ITEM, button);

@@ -10,6 +10,7 @@ import type { IRenderMime } from '@jupyterlab/rendermime-interfaces';
 import type { ISignal } from '@lumino/signaling';
 import { Widget } from '@lumino/widgets';
 
+import { formatCount, plural } from '../engine/text';
 import { formatValue } from '../record/markdown';
 import type { IMetadataAccess } from '../record/store';
 import { ANALYSIS_MIME_TYPE, type IAnalysisRecord, type IMultipletSummary, type IOrderHistogram } from '../record/types';
@@ -97,8 +98,8 @@ namespace Private {
       textElement(
         'p',
         'pd-AnalysisCell-meta',
-        `${record.source.frame} · ${record.summary.rows_used} of ${record.source.rows} rows · ` +
-          `${record.columns.length} columns · ${record.summary.multiplet_count} multiplets up to order ` +
+        `${record.source.frame} · ${formatCount(record.summary.rows_used)} of ${plural(record.source.rows, 'row')} · ` +
+          `${plural(record.columns.length, 'column')} · ${plural(record.summary.multiplet_count, 'multiplet')} up to order ` +
           `${record.max_order} · ${record.estimator} · ${record.units} · ${record.id}`
       ),
       textElement(
@@ -145,7 +146,7 @@ namespace Private {
     svg.setAttribute('class', 'pd-AnalysisCell-plot');
     svg.setAttribute('role', 'img');
     const total = counts.reduce((sum, count) => sum + count, 0);
-    svg.setAttribute('aria-label', `Order ${histogram.order}: ${total} multiplets, co-information from ${formatValue(low)} to ${formatValue(high)} ${units}`);
+    svg.setAttribute('aria-label', `Order ${histogram.order}: ${plural(total, 'multiplet')}, co-information from ${formatValue(low)} to ${formatValue(high)} ${units}`);
     counts.forEach((count, i) => {
       if (count === 0) {
         return;
@@ -159,7 +160,7 @@ namespace Private {
       bar.setAttribute('height', String(barHeight));
       bar.setAttribute('class', edges[i + 1] <= 0 ? 'pd-AnalysisCell-bar jp-mod-synergy' : 'pd-AnalysisCell-bar');
       const tip = document.createElementNS(SVG, 'title');
-      tip.textContent = `${count} multiplet${count === 1 ? '' : 's'} in [${formatValue(edges[i])}, ${formatValue(edges[i + 1])}]`;
+      tip.textContent = `${plural(count, 'multiplet')} in [${formatValue(edges[i])}, ${formatValue(edges[i + 1])}]`;
       bar.append(tip);
       svg.append(bar);
     });
@@ -177,7 +178,7 @@ namespace Private {
     figure.append(
       svg,
       axis,
-      textElement('figcaption', 'pd-AnalysisCell-caption', `Order ${histogram.order} · ${total} multiplets`)
+      textElement('figcaption', 'pd-AnalysisCell-caption', `Order ${histogram.order} · ${plural(total, 'multiplet')}`)
     );
     return figure;
   }

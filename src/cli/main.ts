@@ -59,8 +59,10 @@ DATA is a .csv or .tsv file with a header row, an Arrow IPC file or stream (.arr
 
 Options:
   --columns a,b,c       columns to analyse (default: all)
-  --bins SPEC           binning of every numeric column (default: quantile:4);
-                        text and boolean columns stay categorical
+  --bins SPEC           binning of every numeric column (default: auto, which keeps
+                        each value of a column with at most 10 distinct values as
+                        a category and bins any other by quantile:4); text and
+                        boolean columns stay categorical
   --bin COLUMN=SPEC     binning of one column; repeat for several
   --missing POLICY      drop | category | error (default: drop)
   --estimator NAME      plugin | miller-madow | chao-shen | shrinkage (default: plugin)

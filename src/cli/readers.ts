@@ -21,6 +21,7 @@ import {
   columnsFromArrow,
   unknownColumn
 } from '../engine/table';
+import { plural } from '../engine/text';
 import type { ColumnView } from '../engine/types';
 
 /** File formats the CLI reads. */
@@ -232,7 +233,7 @@ export async function readParquetBytes(
     if (columnLength(column) !== rows) {
       throw new PolyadicError(
         'input',
-        `${label}: column '${name}' has ${columnLength(column)} values where the file has ${rows} rows.`,
+        `${label}: column '${name}' has ${plural(columnLength(column), 'value')} where the file has ${plural(rows, 'row')}.`,
         { column: name }
       );
     }

@@ -25,6 +25,7 @@ import { computeLattice, type ILattice } from '../engine/lattice';
 import { coinformationAll, multipletMeasures } from '../engine/measures';
 import { checkMultipletCount, forEachMultiplet } from '../engine/multiplets';
 import type { ColumnView, IColumnBinning, Units } from '../engine/types';
+import { formatCount, plural, wordFor } from '../engine/text';
 import { ENGINE_NAME, ENGINE_VERSION } from '../engine/version';
 import { fingerprintColumns } from '../record/fingerprint';
 import { compareFingerprint, optionsFromRecord } from '../record/settings';
@@ -80,7 +81,7 @@ export async function runVerify(args: string[], io: IVerifyStreams): Promise<num
     return Private.reportFailure(error, io);
   }
   io.stdout.write(
-    `polyadic verify: ${Private.oneLine(parsed.notebook)}: ${analyses.length} analys${analyses.length === 1 ? 'is' : 'es'}\n`
+    `polyadic verify: ${Private.oneLine(parsed.notebook)}: ${plural(analyses.length, 'analysis', 'analyses')}\n`
   );
   const sources = new Map<string, Promise<IDataSource>>();
   let reproduced = 0;
@@ -103,7 +104,8 @@ export async function runVerify(args: string[], io: IVerifyStreams): Promise<num
     }
     io.stdout.write(head + Private.oneLine(outcome.text) + '\n');
   }
-  io.stdout.write(`${reproduced} of ${analyses.length} analyses reproduce.\n`);
+  // "1 of 1 analyses reproduce": the summary line keeps one wording for scripts that read it
+  io.stdout.write(`${formatCount(reproduced)} of ${formatCount(analyses.length)} analyses reproduce.\n`);
   if (badInput) {
     return VERIFY_EXIT.badInput;
   }
@@ -234,7 +236,7 @@ namespace Private {
     if (missing.length > 0) {
       throw new PolyadicError(
         'usage',
-        `No data file for frame${missing.length === 1 ? '' : 's'} ${missing.map(f => `'${f}'`).join(', ')}; ` +
+        `No data file for ${wordFor(missing.length, 'frame')} ${missing.map(f => `'${f}'`).join(', ')}; ` +
           `give ${missing.map(f => `--data ${f}=PATH`).join(' ')}.`,
         { option: '--data', value: missing[0] }
       );
@@ -268,8 +270,8 @@ namespace Private {
       return {
         ok: false,
         text:
-          `NOT CHECKED: the analysis read a seeded sample of ${sample.row_cap} of ${sample.original_rows} rows ` +
-          `(seed ${sample.seed}); ${file} has ${source.rows} rows. Give a file holding the sampled rows.`
+          `NOT CHECKED: the analysis read a seeded sample of ${formatCount(sample.row_cap)} of ${plural(sample.original_rows, 'row')} ` +
+          `(seed ${sample.seed}); ${file} has ${plural(source.rows, 'row')}. Give a file holding the sampled rows.`
       };
     }
     const changed = await dataChange(analysis, source.columns);
@@ -290,7 +292,7 @@ namespace Private {
       return { ok: false, text: `DIFFERS: ${differences.slice(0, 3).join('; ')}${more}` };
     }
     const exact = sameEngine(analysis) ? 'identical' : `within ${CROSS_VERSION_TOLERANCE} (recorded with ${analysis.engine.name} ${analysis.engine.version})`;
-    return { ok: true, text: `reproduced (${countValues(analysis)} values ${exact})` };
+    return { ok: true, text: `reproduced (${plural(countValues(analysis), 'value')} ${exact})` };
   }
 
   /** Why the data differs from the recorded fingerprint, or null when it matches. */
@@ -303,7 +305,7 @@ namespace Private {
     const reasons: string[] = [];
     const rows = columns.length ? lengthOf(columns[0]) : 0;
     if (rows !== analysis.source.rows) {
-      reasons.push(`${analysis.source.rows} rows recorded, ${rows} now`);
+      reasons.push(`${plural(analysis.source.rows, 'row')} recorded, ${formatCount(rows)} now`);
     }
     const kinds = new Map(columns.map(column => [column.name, column.kind]));
     const changed: string[] = [];
@@ -316,7 +318,7 @@ namespace Private {
       }
     }
     if (changed.length > 0) {
-      reasons.push(`values differ in column${changed.length === 1 ? '' : 's'} ${changed.join(', ')}`);
+      reasons.push(`values differ in ${wordFor(changed.length, 'column')} ${changed.join(', ')}`);
     }
     return `fingerprint ${recorded.slice(0, 12)}… recorded, ${now.sha256.slice(0, 12)}… now` + (reasons.length ? ` (${reasons.join('; ')})` : '');
   }
@@ -444,7 +446,7 @@ namespace Private {
       const now = orderHistogram(recorded.order, byOrder[recorded.order] ?? []);
       const where = `order histogram ${recorded.order}`;
       if (now.edges.length !== recorded.edges.length) {
-        out.push(`${where} has ${recorded.counts.length} bins recorded, ${now.counts.length} now`);
+        out.push(`${where} has ${plural(recorded.counts.length, 'bin')} recorded, ${formatCount(now.counts.length)} now`);
         continue;
       }
       const j = recorded.edges.findIndex((edge, k) => !equal(edge, now.edges[k]));

@@ -22,6 +22,7 @@ import {
   runAllReplicates
 } from './statistics/replicates';
 import { columnLength, unknownColumn } from './table';
+import { formatCount, plural } from './text';
 import type {
   ColumnView,
   EstimatorName,
@@ -114,7 +115,7 @@ export function prepareColumns(columns: ColumnView[], options: IAnalyzeOptions =
     if (columnLength(column) !== rows) {
       throw new PolyadicError(
         'input',
-        `Column '${column.name}' has ${columnLength(column)} rows but '${selected[0].name}' has ${rows}.`,
+        `Column '${column.name}' has ${plural(columnLength(column), 'row')} but '${selected[0].name}' has ${formatCount(rows)}.`,
         { column: column.name }
       );
     }
@@ -166,8 +167,8 @@ export function resolveOptions(options: IAnalyzeOptions, columnCount: number): I
   if (maxOrder > columnCount) {
     if (options.maxOrder !== undefined) {
       warnings.push(
-        `The maximum order ${maxOrder} is above the ${columnCount} selected column` +
-          `${columnCount === 1 ? '' : 's'}; order ${columnCount} is the largest computed.`
+        `The maximum order ${maxOrder} is above the ${plural(columnCount, 'selected column')}; ` +
+          `order ${columnCount} is the largest computed.`
       );
     }
     maxOrder = columnCount;

@@ -9,6 +9,11 @@
  * numpy's order of operations (see floatmath.ts). Two documented differences: a float32 column is
  * binned as float64 (numpy would compute its edges in float32), and 64-bit integers beyond ±2^53
  * are rounded to the nearest float64 first (with a warning).
+ *
+ * The default spec `auto` is our own rule, so that the default never hides structure: a numeric
+ * column with at most {@link AUTO_MAX_LEVELS} distinct values (0/1 flags, genotypes 0/1/2,
+ * Likert answers, one-hot codes, small counts) keeps each value as a category, any other is
+ * binned by `quantile:4`. An explicit spec that merges the values of such a column says so.
  */
 
 import { PolyadicError } from './errors';
@@ -22,6 +27,7 @@ import {
   quantileSorted
 } from './floatmath';
 import { optimalKMeans1D } from './kmeans1d';
+import { formatCount, plural, wordFor } from './text';
 import type {
   BinMethod,
   ColumnView,
@@ -32,17 +38,34 @@ import type {
   MissingPolicy
 } from './types';
 
-/** Every valid form of a binning spec, as error messages list them. */
-export const BIN_SPEC_FORMS =
-  'width:K, quantile:K, fd, scott, sturges, rice, sqrt, doane, kmeans:K, ' +
-  'edges:a,b,… (two or more strictly increasing numbers), categorical (K a whole number from 1 to ' +
-  '1000000)';
-
 /** Largest K accepted in a spec, and largest bin count a rule may produce. */
 export const MAX_BIN_COUNT = 1_000_000;
 
+/** Every valid form of a binning spec, as error messages list them. */
+export const BIN_SPEC_FORMS =
+  'auto, width:K, quantile:K, fd, scott, sturges, rice, sqrt, doane, kmeans:K, ' +
+  `edges:a,b,… (two or more strictly increasing numbers), categorical (K a whole number from 1 to ${formatCount(MAX_BIN_COUNT)})`;
+
 /** Label of the code that `missing: 'category'` gives to missing values of a categorical column. */
 export const MISSING_CATEGORY = '(missing)';
+
+/**
+ * Most distinct values a numeric column may have for `auto` to keep each value as a category:
+ * 10 covers flags, genotypes, 5- to 10-point scales and small counts, while keeping a triplet of
+ * such columns at no more than 1,000 possible joint cells (our choice, no source).
+ */
+export const AUTO_MAX_LEVELS = 10;
+
+/** A spec whose method is settled (`auto` resolved). */
+interface IAppliedSpec extends IBinSpec {
+  method: BinMethod;
+}
+
+/** How `auto` bins a numeric column of more than {@link AUTO_MAX_LEVELS} distinct values. */
+const AUTO_NUMERIC: IAppliedSpec = { method: 'quantile', count: 4 };
+
+/** {@link AUTO_NUMERIC} as text: `quantile:4`. */
+export const AUTO_NUMERIC_SPEC = `${AUTO_NUMERIC.method}:${AUTO_NUMERIC.count}`;
 
 /** Parse a binning spec such as `quantile:4`, `fd` or `edges:0,1.5,3`. */
 export function parseBinSpec(text: string): IBinSpec {
@@ -59,6 +82,11 @@ export function parseBinSpec(text: string): IBinSpec {
     );
   };
   switch (head) {
+    case 'auto':
+      if (argument !== undefined) {
+        return fail('auto takes no argument');
+      }
+      return { method: 'auto' };
     case 'width':
     case 'quantile':
     case 'kmeans': {
@@ -70,7 +98,7 @@ export function parseBinSpec(text: string): IBinSpec {
       }
       const count = Number(argument);
       if (count < 1 || count > MAX_BIN_COUNT) {
-        return fail(`the bin count ${argument} is outside 1 … ${MAX_BIN_COUNT}`);
+        return fail(`the bin count ${argument} is outside 1 … ${formatCount(MAX_BIN_COUNT)}`);
       }
       return { method: head, count };
     }
@@ -130,12 +158,12 @@ export function formatBinSpec(spec: IBinSpec): string {
   }
 }
 
-/** The spec used when none is given: `categorical` for categorical and boolean columns, else `quantile:4`. */
+/** The spec used when none is given: `categorical` for categorical and boolean columns, else `auto`. */
 export function defaultBinSpec(column: ColumnView): IBinSpec {
   if (column.kind === 'categorical' || column.dtype === 'bool') {
     return { method: 'categorical' };
   }
-  return { method: 'quantile', count: 4 };
+  return { method: 'auto' };
 }
 
 /** One column after binning. */
@@ -181,9 +209,9 @@ export function binColumn(
   const maxBins = options.maxBins ?? MAX_BIN_COUNT;
   const result =
     column.kind === 'categorical'
-      ? Private.binCategorical(column, parsed, specText)
+      ? Private.binCategorical(column, parsed.method === 'auto' ? { method: 'categorical' } : parsed, specText)
       : Private.binNumeric(column, parsed, specText, maxBins);
-  Private.addOccupancyWarnings(column, parsed, result);
+  Private.addOccupancyWarnings(column, result);
   return result;
 }
 
@@ -216,7 +244,7 @@ export function applyMissingPolicy(columns: IBinnedColumn[], policy: MissingPoli
     if (column.codes.length !== rows) {
       throw new PolyadicError(
         'input',
-        `Column '${column.name}' has ${column.codes.length} rows but '${columns[0].name}' has ${rows}.`,
+        `Column '${column.name}' has ${plural(column.codes.length, 'row')} but '${columns[0].name}' has ${formatCount(rows)}.`,
         { column: column.name }
       );
     }
@@ -242,8 +270,8 @@ export function applyMissingPolicy(columns: IBinnedColumn[], policy: MissingPoli
       const total = columns.reduce((sum, column) => sum + column.missingCount, 0);
       throw new PolyadicError(
         'input',
-        `Column '${firstColumn}' has a missing value at row ${firstRow} (${total} missing value` +
-          `${total === 1 ? '' : 's'} in the selected columns), and the missing-value policy is ` +
+        `Column '${firstColumn}' has a missing value at row ${firstRow} (${plural(total, 'missing value')} ` +
+          'in the selected columns), and the missing-value policy is ' +
           "'error'. Use 'drop' to leave such rows out or 'category' to treat missing as a value.",
         { column: firstColumn, row: firstRow, option: 'missing' }
       );
@@ -290,7 +318,7 @@ export function applyMissingPolicy(columns: IBinnedColumn[], policy: MissingPoli
       if (rowsUsed === 0) {
         throw new PolyadicError(
           'input',
-          `Every one of the ${rows} rows has a missing value in at least one selected column ` +
+          `Every one of the ${formatCount(rows)} rows has a missing value in at least one selected column ` +
             `(${columns.filter(c => c.missingCount > 0).map(c => `'${c.name}'`).join(', ')}), so the ` +
             "missing-value policy 'drop' leaves no row. Select fewer columns or use 'category'.",
           { option: 'missing' }
@@ -310,8 +338,9 @@ export function applyMissingPolicy(columns: IBinnedColumn[], policy: MissingPoli
         return out;
       });
       warnings.push(
-        `${rows - rowsUsed} of ${rows} rows have a missing value in a selected column and were ` +
-          `left out (missing-value policy 'drop'); ${rowsUsed} rows remain.`
+        `${formatCount(rows - rowsUsed)} of ${plural(rows, 'row')} ${wordFor(rows - rowsUsed, 'has', 'have')} a ` +
+          `missing value in a selected column and ${wordFor(rows - rowsUsed, 'was', 'were')} left out ` +
+          `(missing-value policy 'drop'); ${plural(rowsUsed, 'row')} ${wordFor(rowsUsed, 'remains', 'remain')}.`
       );
       return { names, codes, bins, binnings, rows, rowsUsed, rowIndex, warnings };
     }
@@ -440,7 +469,7 @@ namespace Private {
       'input',
       rows === 0
         ? `Column '${column.name}' has no rows.`
-        : `Column '${column.name}' has no value: all ${rows} rows are missing. Leave it out of the selection.`,
+        : `Column '${column.name}' has no value: all ${plural(rows, 'row')} are missing. Leave it out of the selection.`,
       { column: column.name }
     );
   }
@@ -467,7 +496,7 @@ namespace Private {
 
   export function binNumeric(
     column: INumericColumn,
-    spec: IBinSpec,
+    given: IBinSpec,
     specText: string,
     maxBins: number
   ): IBinnedColumn {
@@ -476,7 +505,16 @@ namespace Private {
     if (present.values.length === 0) {
       refuseAllMissing(column, rows);
     }
-    const result = emptyResult(column, rows, spec.method, specText, present.missingCount, present.firstMissingRow);
+    const levels = countLevels(present.values, AUTO_MAX_LEVELS);
+    const discrete = levels <= AUTO_MAX_LEVELS;
+    // The record keeps the spec as given (`auto`); messages name the method it chose too.
+    const recorded = specText;
+    if (given.method === 'auto') {
+      specText = `auto (${discrete ? 'categorical' : AUTO_NUMERIC_SPEC})`;
+    }
+    const spec: IAppliedSpec =
+      given.method !== 'auto' ? { ...given, method: given.method } : discrete ? { method: 'categorical' } : AUTO_NUMERIC;
+    const result = emptyResult(column, rows, spec.method, recorded, present.missingCount, present.firstMissingRow);
     if (present.rounded) {
       result.warnings.push(
         `Column '${column.name}' has integers beyond ±2^53; they were rounded to the nearest ` +
@@ -505,12 +543,13 @@ namespace Private {
       }
       case 'quantile':
         edges = quantileEdges(x, spec.count ?? 4);
-        // A constant column gets one warning, from addOccupancyWarnings, not a second about ties.
-        if (edges.length - 1 < (spec.count ?? 4) && edges[0] !== edges[edges.length - 1]) {
+        // A constant column gets one warning, from addOccupancyWarnings, not a second about ties;
+        // a column of few values gets the warning about merged values below instead.
+        if (edges.length - 1 < (spec.count ?? 4) && edges[0] !== edges[edges.length - 1] && !discrete) {
           result.warnings.push(
-            `Column '${column.name}': ${specText} gave ${edges.length - 1} bin` +
-              `${edges.length === 2 ? '' : 's'} instead of ${spec.count}, because tied values ` +
-              'made some quantiles coincide (duplicate edges dropped).'
+            `Column '${column.name}': ${specText} gave ${plural(edges.length - 1, 'bin')} instead of ` +
+              `${formatCount(spec.count ?? 4)}, because tied values made some quantiles coincide ` +
+              '(duplicate edges dropped).'
           );
         }
         assignByEdges(column, x, present.rows, edges, specText, result.codes);
@@ -538,7 +577,41 @@ namespace Private {
     result.bins = edges.length - 1;
     result.binning.bins = result.bins;
     result.binning.binning.edges = edges;
+    if (discrete) {
+      const occupied = occupiedCodes(result.codes, result.bins);
+      if (occupied < levels) {
+        result.warnings.push(
+          `Column '${column.name}' has only ${plural(levels, 'distinct value')}, and ${specText} merges ` +
+            `them into ${plural(occupied, 'bin')}, so differences between the merged values are lost; ` +
+            "'auto' or 'categorical' keeps each value as its own category."
+        );
+      }
+    }
     return result;
+  }
+
+  /** Distinct values among `values`, counted up to `limit + 1` (beyond it the exact count does not matter). */
+  export function countLevels(values: Float64Array, limit: number): number {
+    const seen = new Set<number>();
+    for (let i = 0; i < values.length && seen.size <= limit; i++) {
+      // a Set treats −0 and 0 as one value
+      seen.add(values[i]);
+    }
+    return seen.size;
+  }
+
+  /** Number of codes in 0 … bins − 1 that some row has. */
+  function occupiedCodes(codes: Int32Array, bins: number): number {
+    const seen = new Uint8Array(bins);
+    let occupied = 0;
+    for (let i = 0; i < codes.length; i++) {
+      const code = codes[i];
+      if (code >= 0 && !seen[code]) {
+        seen[code] = 1;
+        occupied++;
+      }
+    }
+    return occupied;
   }
 
   /** One code per distinct number, in increasing order; labels as JS prints the number. */
@@ -596,7 +669,7 @@ namespace Private {
         throw new PolyadicError(
           'input',
           `Column '${column.name}' row ${i} has category code ${code}, but the column has only ` +
-            `${categories.length} categories.`,
+            `${plural(categories.length, 'category', 'categories')}.`,
           { column: column.name, row: i, value: String(code) }
         );
       }
@@ -662,7 +735,7 @@ namespace Private {
     column: ColumnView,
     x: Float64Array,
     integer: boolean,
-    spec: IBinSpec,
+    spec: IAppliedSpec,
     specText: string,
     maxBins: number
   ): { edges: number[]; first: number; last: number } {
@@ -698,8 +771,8 @@ namespace Private {
       if (!(count <= maxBins)) {
         throw new PolyadicError(
           'limit',
-          `The rule ${specText} asks for ${count} bins on column '${column.name}', above the ` +
-            `limit of ${maxBins}; choose width:K or quantile:K for this column.`,
+          `The rule ${specText} asks for ${plural(count, 'bin')} on column '${column.name}', above the ` +
+            `limit of ${formatCount(maxBins)}; choose width:K or quantile:K for this column.`,
           { column: column.name, option: 'bins', value: specText }
         );
       }
@@ -709,7 +782,7 @@ namespace Private {
       if (!(edges[i] < edges[i + 1])) {
         throw new PolyadicError(
           'input',
-          `Column '${column.name}': ${specText} asks for ${count} bins, too many for the data ` +
+          `Column '${column.name}': ${specText} asks for ${plural(count, 'bin')}, too many for the data ` +
             `range ${first} … ${last} (neighbouring edges coincide); choose fewer bins.`,
           { column: column.name, option: 'bins', value: specText }
         );
@@ -856,8 +929,8 @@ namespace Private {
     if (distinct.length < k) {
       k = distinct.length;
       warnings.push(
-        `Column '${column.name}' has only ${distinct.length} distinct value` +
-          `${distinct.length === 1 ? '' : 's'}, so ${specText} made ${k} cluster${k === 1 ? '' : 's'}.`
+        `Column '${column.name}' has only ${plural(distinct.length, 'distinct value')}, so ${specText} ` +
+          `made ${plural(k, 'cluster')}.`
       );
     }
     const values = Float64Array.from(distinct);
@@ -882,26 +955,18 @@ namespace Private {
   }
 
   /** Warn about a constant column and an identifier-like categorical column. */
-  export function addOccupancyWarnings(column: ColumnView, spec: IBinSpec, result: IBinnedColumn): void {
-    const seen = new Uint8Array(result.bins);
-    let occupied = 0;
-    const codes = result.codes;
-    for (let i = 0; i < codes.length; i++) {
-      const code = codes[i];
-      if (code >= 0 && !seen[code]) {
-        seen[code] = 1;
-        occupied++;
-      }
-    }
-    const present = codes.length - result.missingCount;
+  export function addOccupancyWarnings(column: ColumnView, result: IBinnedColumn): void {
+    const occupied = occupiedCodes(result.codes, result.bins);
+    const present = result.codes.length - result.missingCount;
+    const categorical = result.binning.binning.method === 'categorical';
     if (occupied === 1) {
       result.warnings.push(
-        `Column '${column.name}' takes a single value${spec.method === 'categorical' ? '' : ' after binning'}: ` +
+        `Column '${column.name}' takes a single value${categorical ? '' : ' after binning'}: ` +
           'its entropy is 0 and it adds nothing to any multiplet.'
       );
-    } else if (spec.method === 'categorical' && present >= 2 && occupied === present) {
+    } else if (categorical && present >= 2 && occupied === present) {
       result.warnings.push(
-        `Column '${column.name}' looks like an identifier: each of its ${present} values occurs ` +
+        `Column '${column.name}' looks like an identifier: each of its ${plural(present, 'value')} occurs ` +
           'once, so it determines every row and every multiplet containing it has the largest entropy.'
       );
     }

@@ -4,7 +4,10 @@ export * from './types';
 export * from './errors';
 export * from './version';
 export * from './table';
+export { formatCount, plural, wordFor } from './text';
 export {
+  AUTO_MAX_LEVELS,
+  AUTO_NUMERIC_SPEC,
   BIN_SPEC_FORMS,
   MAX_BIN_COUNT,
   MISSING_CATEGORY,

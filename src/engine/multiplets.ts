@@ -11,6 +11,7 @@
  */
 
 import { PolyadicError } from './errors';
+import { formatCount, plural } from './text';
 
 /** Default cap on the number of multiplets of one analysis. */
 export const DEFAULT_MAX_MULTIPLETS = 2 ** 24;
@@ -68,11 +69,11 @@ export function checkMultipletCount(n: number, m: number, cap: number = DEFAULT_
     const advice =
       fits >= 1
         ? `the largest maximum order that fits is ${fits}`
-        : `not even single columns fit; select at most ${Math.floor(cap)} columns`;
+        : `not even single columns fit; select at most ${plural(Math.floor(cap), 'column')}`;
     throw new PolyadicError(
       'limit',
-      `${n} columns up to order ${m} make ${count.toString()} multiplets, above the limit of ` +
-        `${Math.floor(cap)}; ${advice}. Lower the maximum order, select fewer columns or raise the limit.`,
+      `${plural(n, 'column')} up to order ${m} make ${plural(count, 'multiplet')}, above the limit of ` +
+        `${formatCount(Math.floor(cap))}; ${advice}. Lower the maximum order, select fewer columns or raise the limit.`,
       { option: 'maxOrder', value: String(m), multiplets: count.toString(), largestOrder: fits }
     );
   }

@@ -108,14 +108,28 @@ export function isMissingCell(text: string | null | undefined): boolean {
 }
 
 /**
+ * Parse one text cell as a boolean, as `pandas.read_csv` does by default: `True` or `False` in
+ * any case (`true`, `FALSE`, …), with no surrounding spaces. Returns `undefined` for anything else.
+ */
+export function parseBooleanCell(text: string): boolean | undefined {
+  return Private.BOOLEAN.test(text) ? text.toLowerCase() === 'true' : undefined;
+}
+
+/**
  * Build a column from the text cells of one CSV column. A column whose every non-missing cell
- * is a number ({@link parseNumberCell}) is numeric float64; any other is categorical with the
- * cells as written. Missing cells ({@link isMissingCell}) are marked missing in both.
+ * is a number ({@link parseNumberCell}) is numeric float64; one whose every non-missing cell is
+ * a boolean ({@link parseBooleanCell}: `pandas.DataFrame.to_csv` writes booleans as True/False)
+ * is a boolean column, as Arrow and Parquet booleans are; any other is categorical with the
+ * cells as written. Missing cells ({@link isMissingCell}) are marked missing in all three.
  */
 export function columnFromTextCells(
   name: string,
   cells: ArrayLike<string | null | undefined>
 ): ColumnView {
+  const boolean = Private.booleanFromTextCells(name, cells);
+  if (boolean !== null) {
+    return boolean;
+  }
   const n = cells.length;
   const values = new Float64Array(n);
   let missing: Uint8Array | null = null;
@@ -260,6 +274,41 @@ export function columnsFromRecords(
     const values = records.map(record => record[name]);
     return columnFromValues(name, values);
   });
+}
+
+/**
+ * Whether two views hold the same data: name, kind, type and length, the same missing rows,
+ * and the same value in every other row (NaN equal to NaN; a categorical row by its category's
+ * text, so two dictionaries in another order compare equal).
+ */
+export function sameColumnData(a: ColumnView, b: ColumnView): boolean {
+  const n = columnLength(a);
+  if (a.name !== b.name || a.kind !== b.kind || a.dtype !== b.dtype || n !== columnLength(b)) {
+    return false;
+  }
+  const missingA = (i: number): boolean => (a.missing !== null && a.missing[i] === 1) || (a.kind === 'categorical' && a.codes[i] < 0);
+  const missingB = (i: number): boolean => (b.missing !== null && b.missing[i] === 1) || (b.kind === 'categorical' && b.codes[i] < 0);
+  for (let i = 0; i < n; i++) {
+    const gapA = missingA(i);
+    if (gapA !== missingB(i)) {
+      return false;
+    }
+    if (gapA) {
+      continue;
+    }
+    if (a.kind === 'numeric' && b.kind === 'numeric') {
+      const x = a.values[i];
+      const y = b.values[i];
+      if (x !== y && !(Number.isNaN(x) && Number.isNaN(y))) {
+        return false;
+      }
+    } else if (a.kind === 'categorical' && b.kind === 'categorical') {
+      if (a.categories[a.codes[i]] !== b.categories[b.codes[i]]) {
+        return false;
+      }
+    }
+  }
+  return true;
 }
 
 /** Refuse a list of column names with a duplicate, naming it and both positions (1-based). */
@@ -525,6 +574,36 @@ namespace Private {
 
   /** Infinity and not-a-number spellings (numpy's and pandas' text forms). */
   export const SPECIAL = /^([+-]?)(inf|infinity|nan)$/i;
+
+  /** pandas' default true and false values, any case (pandas.read_csv `true_values`). */
+  export const BOOLEAN = /^(true|false)$/i;
+
+  /** A boolean column when every non-missing cell is True/False (and one at least is), else null. */
+  export function booleanFromTextCells(name: string, cells: ArrayLike<string | null | undefined>): ICategoricalColumn | null {
+    const n = cells.length;
+    const codes = new Int32Array(n);
+    let missing: Uint8Array | null = null;
+    let present = 0;
+    for (let i = 0; i < n; i++) {
+      const cell = cells[i];
+      if (isMissingCell(cell)) {
+        missing ??= new Uint8Array(n);
+        missing[i] = 1;
+        codes[i] = -1;
+        continue;
+      }
+      const value = parseBooleanCell(cell as string);
+      if (value === undefined) {
+        return null;
+      }
+      codes[i] = value ? 1 : 0;
+      present++;
+    }
+    if (present === 0) {
+      return null;
+    }
+    return { kind: 'categorical', name, dtype: 'bool', codes, categories: [...BOOLEAN_CATEGORIES], missing };
+  }
 
   /**
    * One flag per row from the chunks' validity bitmaps (bit set = valid, starting at the

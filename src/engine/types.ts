@@ -63,9 +63,15 @@ export type BinMethod =
   | 'edges'
   | 'categorical';
 
-/** A parsed binning spec: `width:K`, `quantile:K`, `kmeans:K`, `edges:a,b,…`, a rule, or `categorical`. */
+/**
+ * What a spec may name: a binning method, or `auto`, the default rule that picks one per column
+ * (`categorical` for a column of few distinct values, else `quantile:4`; see binning.ts).
+ */
+export type BinSpecMethod = BinMethod | 'auto';
+
+/** A parsed binning spec: `auto`, `width:K`, `quantile:K`, `kmeans:K`, `edges:a,b,…`, a rule, or `categorical`. */
 export interface IBinSpec {
-  method: BinMethod;
+  method: BinSpecMethod;
   /** K for width, quantile and kmeans. */
   count?: number;
   /** The user's edges for `edges:`. */
@@ -87,8 +93,9 @@ export interface IColumnBinning {
   /** Number of codes (bins or categories, plus one for missing under `category`). */
   bins: number;
   binning: {
+    /** The method applied (under the spec `auto`, the one it chose). */
     method: BinMethod;
-    /** The spec as text, e.g. 'quantile:4'. */
+    /** The spec as text, e.g. 'quantile:4' or 'auto'. */
     spec: string;
     edges?: number[];
     categories?: string[];
@@ -151,7 +158,7 @@ export interface IMultipletRow {
 export interface IAnalyzeOptions {
   /** Column names to use; default all. */
   columns?: string[];
-  /** Spec for every numeric column (text and boolean columns stay `categorical`); default `quantile:4`. */
+  /** Spec for every numeric column (text and boolean columns stay `categorical`); default `auto`. */
   bins?: string;
   /** Per-column specs, overriding `bins`. */
   binsByColumn?: Record<string, string>;

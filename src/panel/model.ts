@@ -11,7 +11,7 @@ import { SourceModel } from './source/model';
 export class PanelModel {
   /** Create the model; `options.engine` runs the analyses and previews. */
   constructor(options: PanelModel.IOptions) {
-    this.analysis = new AnalysisModel({ engine: options.engine });
+    this.analysis = new AnalysisModel({ engine: options.engine, recordIdFor: run => this.records.rerunOf(run) });
     this._stopResults = this.results.follow(this.analysis);
   }
 

@@ -4,6 +4,7 @@
  * come from untrusted data, so every one is escaped (see {@link escapeMarkdown}).
  */
 
+import { formatCount, plural } from '../engine/text';
 import type { IAnalysisRecord, IMultipletSummary } from './types';
 
 /** Decimals of the values in the tables. */
@@ -36,8 +37,8 @@ export function markdownSummary(analysis: IAnalysisRecord): string {
   const lines = [
     `**Polyadic analysis ${escapeMarkdown(analysis.id)}: ${escapeMarkdown(analysis.label)}**`,
     '',
-    `Frame ${escapeMarkdown(analysis.source.frame)}, ${summary.rows_used} of ${analysis.source.rows} rows used, ` +
-      `${analysis.columns.length} columns, ${summary.multiplet_count} multiplets up to order ${analysis.max_order}, ` +
+    `Frame ${escapeMarkdown(analysis.source.frame)}, ${formatCount(summary.rows_used)} of ${plural(analysis.source.rows, 'row')} used, ` +
+      `${plural(analysis.columns.length, 'column')}, ${plural(summary.multiplet_count, 'multiplet')} up to order ${analysis.max_order}, ` +
       `${escapeMarkdown(analysis.estimator)} estimator, values in ${analysis.units}. ` +
       'Co-information sign (Bell 2003): negative means synergy dominates, positive redundancy.',
     ''

@@ -5,7 +5,8 @@
 
 import { resolveOptions } from '../engine/analyze';
 import { PolyadicError } from '../engine/errors';
-import type { ColumnView, IAnalysisResult, IAnalyzeOptions } from '../engine/types';
+import { plural } from '../engine/text';
+import type { ColumnView, IAnalysisResult, IAnalyzeOptions, MissingPolicy } from '../engine/types';
 import type { IFingerprint } from './fingerprint';
 import { newRecordId } from './ids';
 import { DEFAULT_SUMMARY_SIZE, histogramsOfRows, topMultiplets } from './summary';
@@ -31,7 +32,7 @@ export interface IRecordInput {
   source: IRecordSource;
   /** Statistics settings as chosen; what is left out takes the schema's defaults. */
   statistics?: Partial<IStatisticsSettings>;
-  /** Label; default names the frame and the selection. */
+  /** Label; default names the frame, the columns, the binning, the estimator, the units and the order. */
   label?: string;
   /** Id; default a new random one. */
   id?: string;
@@ -62,7 +63,7 @@ export function recordFromResult(input: IRecordInput): IAnalysisRecord {
   const histograms = histogramsOfRows(result.multiplets, result.multiplet_count, result.max_order);
   const analysis: Record<string, unknown> = {
     id: input.id ?? newRecordId(),
-    label: Private.cleanLabel(input.label ?? Private.defaultLabel(source.frame, selected.length, result.max_order)),
+    label: Private.cleanLabel(input.label ?? defaultLabel(source.frame, result, missing)),
     created: (input.created ?? new Date()).toISOString(),
     engine: { name: result.engine.name, version: result.engine.version },
     source: {
@@ -107,14 +108,29 @@ export function recordFromResult(input: IRecordInput): IAnalysisRecord {
   return checked.value;
 }
 
+/** Longest list of column names a default label spells out; a longer selection is counted. */
+export const LABEL_COLUMN_NAMES = 48;
+
+/**
+ * The label of an analysis nobody named: what sets it apart from the other analyses of the
+ * frame, i.e. the columns (by name when short, else counted), the binning specs, the estimator,
+ * the units, the highest order, and the missing-value policy when it is not the default `drop`:
+ * "hostile: a, b, c, d; binning auto; miller-madow, bits; orders up to 4".
+ */
+export function defaultLabel(frame: string, result: IAnalysisResult, missing: MissingPolicy = 'drop'): string {
+  const names = result.columns.map(column => column.name);
+  const listed = names.join(', ');
+  const columns = Array.from(listed).length <= LABEL_COLUMN_NAMES ? listed : plural(names.length, 'column');
+  const specs = [...new Set(result.columns.map(column => column.binning.spec))];
+  const binning = specs.length <= 2 ? `binning ${specs.join(' + ')}` : `${specs.length} binnings`;
+  const policy = missing === 'drop' ? '' : `; missing as ${missing === 'category' ? 'a category' : 'an error'}`;
+  return `${frame}: ${columns}; ${binning}; ${result.estimator}, ${result.units}; orders up to ${result.max_order}${policy}`;
+}
+
 /** Module-private helpers. */
 namespace Private {
   export function sameList(a: readonly string[], b: readonly string[]): boolean {
     return a.length === b.length && a.every((name, i) => name === b[i]);
-  }
-
-  export function defaultLabel(frame: string, columns: number, maxOrder: number): string {
-    return `${frame}: ${columns} column${columns === 1 ? '' : 's'}, orders up to ${maxOrder}`;
   }
 
   /** One line, trimmed, within the length limit (the schema refuses anything else). */

@@ -99,6 +99,47 @@ export function addAnalysis(metadata: IMetadataAccess, analysis: IAnalysisRecord
   return Private.write(metadata, [...current.analyses, JSON.parse(JSON.stringify(analysis)) as IAnalysisRecord]);
 }
 
+/**
+ * Put `analysis` in the place of the recorded analysis with the same id (a re-run with the same
+ * settings on the same data) and write the record. Returns the new state.
+ */
+export function replaceAnalysis(metadata: IMetadataAccess, analysis: IAnalysisRecord): IRecordState {
+  const current = Private.writable(metadata);
+  const index = Private.indexOf(current, analysis.id);
+  const checked = validateAnalysis(analysis, `/analyses/${index}`);
+  if (!checked.ok) {
+    throw problemsError('The new analysis does not fit the record layout', checked.problems);
+  }
+  const analyses = current.analyses.slice();
+  analyses[index] = JSON.parse(JSON.stringify(analysis)) as IAnalysisRecord;
+  return Private.write(metadata, analyses);
+}
+
+/**
+ * Whether two analyses are the same run: the same engine on the same data (frame, rows, sample
+ * and fingerprint) with the same settings (columns in order, each column's binning spec, the
+ * missing-value policy, the estimator, the units, the highest order and the statistics
+ * settings). Ids, labels, times and results are not compared: a re-run gives the same results.
+ */
+export function sameRun(a: IAnalysisRecord, b: IAnalysisRecord): boolean {
+  const settings = (analysis: IAnalysisRecord): string =>
+    JSON.stringify([
+      [analysis.engine.name, analysis.engine.version],
+      analysis.source.frame,
+      analysis.source.rows,
+      analysis.source.sample ? [analysis.source.sample.seed, analysis.source.sample.row_cap, analysis.source.sample.original_rows] : null,
+      [analysis.source.fingerprint.encoding, analysis.source.fingerprint.sha256],
+      analysis.columns,
+      analysis.binning.map(binning => [binning.name, binning.spec]),
+      analysis.missing,
+      analysis.estimator,
+      analysis.units,
+      analysis.max_order,
+      Object.entries(analysis.statistics).sort(([x], [y]) => (x < y ? -1 : x > y ? 1 : 0))
+    ]);
+  return settings(a) === settings(b);
+}
+
 /** Rename an analysis and write the record. The label is trimmed; it must be one line of 1–200 characters. */
 export function renameAnalysis(metadata: IMetadataAccess, id: string, label: string): IRecordState {
   const current = Private.writable(metadata);

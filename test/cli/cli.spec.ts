@@ -131,6 +131,36 @@ describe('polyadic analyze', () => {
     });
   });
 
+  describe('#default binning', () => {
+    it('should keep 0/1 columns as categories without --bins and find an unbalanced XOR', () => {
+      // A = 1 in a quarter of the rows, B a fair bit independent of A, C = A xor B. quantile:4
+      // would give A one bin (its quartiles are 0, 0, 0, 1, 1). Worked by hand: A, B and C are
+      // pairwise independent, and given C, A determines B, so I(A;B;C) = I(A;B) − I(A;B|C) =
+      // 0 − H(A) = −h(1/4) = −(1/4·log2 4 + 3/4·log2 4/3) bits (h the binary entropy).
+      const rows: number[][] = [];
+      for (const [a, b, repeat] of [
+        [0, 0, 30],
+        [0, 1, 30],
+        [1, 0, 10],
+        [1, 1, 10]
+      ]) {
+        for (let i = 0; i < repeat; i++) {
+          rows.push([a, b, a ^ b]);
+        }
+      }
+      const folder = fixtureFolder({ 'bits.csv': csv(['A', 'B', 'C'], rows) });
+      const run = analyze(path.join(folder, 'bits.csv'));
+      expect(run.stderr).toBe('');
+      const result = parseResult(run);
+      expect(result.columns.map(column => [column.binning.spec, column.binning.method, column.bins])).toEqual([
+        ['auto', 'categorical', 2],
+        ['auto', 'categorical', 2],
+        ['auto', 'categorical', 2]
+      ]);
+      expect(multiplet(result, 'A', 'B', 'C').coinformation).toBeCloseTo(-(0.25 * 2 + 0.75 * Math.log2(4 / 3)), 12);
+    });
+  });
+
   describe('#output', () => {
     it('should write JSON with the fields of the analysis result', () => {
       const folder = fixtureFolder({ 'm.csv': mixedCsv() });

@@ -12,7 +12,8 @@ import {
   columnFromValues,
   columnsFromArrow,
   columnsFromRecords,
-  parseNumberCell
+  parseNumberCell,
+  sameColumnData
 } from '../../src/engine/table';
 import type { ColumnView, ICategoricalColumn, INumericColumn } from '../../src/engine/types';
 
@@ -288,6 +289,24 @@ describe('columnFromTextCells', () => {
     expect(labels(view)).toEqual(['1', '2', 'two', null, '1']);
   });
 
+  it('should read True/False in any case as booleans, as pandas.read_csv does, with empty cells missing', () => {
+    // pandas.DataFrame.to_csv writes a bool column as True/False; pandas.read_csv reads True,
+    // TRUE, true (any case) back as booleans, but not ' True' with a space, nor T or yes.
+    const view = categorical(columnFromTextCells('valve', ['True', 'False', '', 'true', 'FALSE', 'TrUe']));
+    expect(view.dtype).toBe('bool');
+    expect(view.categories).toEqual(['false', 'true']);
+    expect(Array.from(view.codes)).toEqual([1, 0, -1, 1, 0, 1]);
+    expect(Array.from(view.missing!)).toEqual([0, 0, 1, 0, 0, 0]);
+    // the same column as Arrow's bool reads it
+    const arrowView = columnsFromArrow(arrow.tableFromArrays({ valve: [true, false] }))[0];
+    expect(columnFromTextCells('valve', ['True', 'False'])).toEqual(arrowView);
+    for (const cells of [[' True', 'False'], ['True', 'T'], ['yes', 'no'], ['True', '1']]) {
+      expect(categorical(columnFromTextCells('x', cells)).dtype).toBe('string');
+    }
+    // a column with no value at all stays float64 of NaN, as before
+    expect(numeric(columnFromTextCells('x', ['', ''])).dtype).toBe('float64');
+  });
+
   it('should give the same codes whatever the row order', () => {
     fc.assert(
       fc.property(fc.array(fc.constantFrom('a', 'b', 'c', 'x y', ''), { minLength: 1 }), cells => {
@@ -297,6 +316,20 @@ describe('columnFromTextCells', () => {
         expect(labels(forward)).toEqual(labels(backward).reverse());
       })
     );
+  });
+});
+
+describe('sameColumnData', () => {
+  it('should compare rows, gaps and category texts, not the encoding', () => {
+    const x = numeric(columnFromTextCells('x', ['1.5', '', 'nan', '2']));
+    expect(sameColumnData(x, numeric(columnFromTextCells('x', ['1.5', '', 'nan', '2'])))).toBe(true);
+    expect(sameColumnData(x, numeric(columnFromTextCells('x', ['1.5', '', 'nan', '2.5'])))).toBe(false);
+    expect(sameColumnData(x, numeric(columnFromTextCells('y', ['1.5', '', 'nan', '2'])))).toBe(false);
+    // the same rows in two dictionaries of another order
+    const a: ICategoricalColumn = { kind: 'categorical', name: 's', dtype: 'string', codes: Int32Array.of(0, 1, -1), categories: ['p', 'q'], missing: null };
+    const b: ICategoricalColumn = { ...a, codes: Int32Array.of(1, 0, -1), categories: ['q', 'p'] };
+    expect(sameColumnData(a, b)).toBe(true);
+    expect(sameColumnData(a, { ...b, codes: Int32Array.of(1, 0, 0) })).toBe(false);
   });
 });
 

@@ -112,7 +112,7 @@ describe('analyze', () => {
       expectPolyadic(
         () => analyze(columns, { bins: 'categorical', maxOrder: 40 }),
         'limit',
-        /1099511627775 multiplets/,
+        /1,099,511,627,775 multiplets/,
         /largest maximum order that fits is 6/
       );
     });
@@ -141,9 +141,25 @@ describe('analyze', () => {
       expect(own.columns[1].binning.spec).toBe('categorical');
     });
 
-    it('should use quantile:4 for numbers and categorical for categories by default', () => {
+    it('should use auto for numbers and categorical for categories by default', () => {
       const result = analyze([numericColumn('n', [1, 2, 3, 4, 5]), categoricalColumn('s', ['a', 'b', 'a', 'b', 'a'])]);
-      expect(result.columns.map(c => c.binning.spec)).toEqual(['quantile:4', 'categorical']);
+      expect(result.columns.map(c => c.binning.spec)).toEqual(['auto', 'categorical']);
+    });
+
+    it('should find a planted XOR among 0/1 integer columns with the default binning', () => {
+      // x, y, z = x xor y over the 4 combinations of x, y, 4 times each: I(x;y;z) = I(x;y) −
+      // I(x;y|z) = 0 − 1 = −1 bit (Bell 2003's parity example), and each column has 1 bit.
+      const int = (column: ColumnView): ColumnView =>
+        column.kind === 'numeric' ? { ...column, dtype: 'int64', values: BigInt64Array.from(Array.from(column.values as Float64Array, BigInt)) } : column;
+      const result = analyze(plantedColumns().slice(0, 3).map(int));
+      expect(result.columns.map(c => [c.binning.method, c.bins])).toEqual([
+        ['categorical', 2],
+        ['categorical', 2],
+        ['categorical', 2]
+      ]);
+      expect(row(result, 'x')!.entropy).toBeCloseTo(1, 12);
+      expect(row(result, 'x', 'y', 'z')!.coinformation).toBeCloseTo(-1, 12);
+      expect(result.warnings).toEqual([]);
     });
 
     it('should apply the missing-value policy across the selected columns', () => {
@@ -206,7 +222,7 @@ describe('analyze', () => {
     });
 
     it('should refuse columns of different lengths and an empty table', () => {
-      expectPolyadic(() => analyze([numericColumn('a', [1, 2]), numericColumn('b', [1])]), 'input', /'b' has 1 rows/);
+      expectPolyadic(() => analyze([numericColumn('a', [1, 2]), numericColumn('b', [1])]), 'input', /'b' has 1 row but/);
       expectPolyadic(() => analyze([numericColumn('a', [])]), 'input', /no rows/);
     });
   });

@@ -7,6 +7,7 @@ import fc from 'fast-check';
 
 import {
   applyMissingPolicy,
+  AUTO_MAX_LEVELS,
   BIN_SPEC_FORMS,
   binColumn,
   binIndexByEdges,
@@ -47,7 +48,7 @@ describe('binning', () => {
     it('should refuse a bad spec, quoting it and listing every valid form', () => {
       const cases: [string, RegExp][] = [
         ['quantile', /needs a bin count/],
-        ['quantile:0', /outside 1 … 1000000/],
+        ['quantile:0', /outside 1 … 1,000,000/],
         ['width:2.5', /"2.5" is not a whole number/],
         ['width:-3', /not a whole number/],
         ['kmeans:1000001', /outside/],
@@ -150,13 +151,29 @@ describe('binning', () => {
     });
 
     it('should drop duplicate edges and say how many bins remain', () => {
+      // x = ten 0s then 1 … 11 (n = 21, 12 distinct values), quantile:4: indices 20·q = 0, 5,
+      // 10, 15, 20 → 0, 0, 1, 6, 11 → distinct edges 0, 1, 6, 11: three bins.
+      const values = [...new Array<number>(10).fill(0), ...Array.from({ length: 11 }, (_, i) => i + 1)];
+      const binned = binColumn(numericColumn('wet', values), 'quantile:4');
+      expect(binned.binning.binning.edges).toEqual([0, 1, 6, 11]);
+      expect(binned.bins).toBe(3);
+      expect(Array.from(binned.codes)).toEqual([...new Array<number>(10).fill(0), 1, 1, 1, 1, 1, 2, 2, 2, 2, 2, 2]);
+      expect(binned.warnings.join(' ')).toMatch(/'wet': quantile:4 gave 3 bins instead of 4/);
+    });
+
+    it('should say so when it merges the values of a column of few values', () => {
       // x = 0 0 0 0 0 0 1 2 (n = 8), quantile:4: indices 7·q = 0, 1.75, 3.5, 5.25, 7 →
-      // 0, 0, 0, 0 + 0.25·(1 − 0) = 0.25, 2 → distinct edges 0, 0.25, 2: two bins.
+      // 0, 0, 0, 0 + 0.25·(1 − 0) = 0.25, 2 → distinct edges 0, 0.25, 2: the values 1 and 2
+      // share the last bin.
       const binned = binColumn(numericColumn('wet', [0, 0, 0, 0, 0, 0, 1, 2]), 'quantile:4');
       expect(binned.binning.binning.edges).toEqual([0, 0.25, 2]);
-      expect(binned.bins).toBe(2);
       expect(Array.from(binned.codes)).toEqual([0, 0, 0, 0, 0, 0, 1, 1]);
-      expect(binned.warnings.join(' ')).toMatch(/'wet': quantile:4 gave 2 bins instead of 4/);
+      expect(binned.warnings).toEqual([
+        "Column 'wet' has only 3 distinct values, and quantile:4 merges them into 2 bins, so differences " +
+          "between the merged values are lost; 'auto' or 'categorical' keeps each value as its own category."
+      ]);
+      // a rule that keeps every value apart says nothing: width:3 puts 0, 1, 2 in three bins
+      expect(binColumn(numericColumn('wet', [0, 0, 0, 0, 0, 0, 1, 2]), 'width:3').warnings).toEqual([]);
     });
   });
 
@@ -282,11 +299,64 @@ describe('binning', () => {
       expectPolyadic(() => binColumn(categoricalColumn('s', ['a', 'b']), 'quantile:4'), 'usage', /'s' is categorical/);
     });
 
-    it('should bin categorical and boolean columns categorically, numbers by quantile:4, by default', () => {
+    it('should bin categorical and boolean columns categorically, numbers by auto, by default', () => {
       expect(binColumn(categoricalColumn('s', ['a', 'b'])).binning.binning.spec).toBe('categorical');
       const flag: INumericColumn = { ...numericColumn('f', [0, 1, 1]), dtype: 'bool' };
       expect(binColumn(flag).binning.binning.categories).toEqual(['false', 'true']);
-      expect(binColumn(numericColumn('n', [1, 2, 3, 4, 5])).binning.binning.spec).toBe('quantile:4');
+      expect(binColumn(numericColumn('n', [1, 2, 3, 4, 5])).binning.binning.spec).toBe('auto');
+    });
+  });
+
+  describe('#binColumn auto', () => {
+    it('should keep every value of a column of 0/1 integers, where quantile:4 leaves one bin', () => {
+      // five 0s and three 1s: numpy.quantile's quartiles at indices 7·q = 0, 1.75, 3.5, 5.25, 7
+      // are 0, 0, 0, 1, 1, so quantile:4 puts both values in its one closed bin [0, 1].
+      const bits = numericColumn('spike', [0, 1, 1, 0, 1, 0, 0, 0], 'int64');
+      const binned = binColumn(bits);
+      expect(binned.binning).toEqual({
+        name: 'spike',
+        bins: 2,
+        binning: { method: 'categorical', spec: 'auto', categories: ['0', '1'] }
+      });
+      expect(Array.from(binned.codes)).toEqual([0, 1, 1, 0, 1, 0, 0, 0]);
+      expect(binned.warnings).toEqual([]);
+      const quartiles = binColumn(bits, 'quantile:4');
+      expect(quartiles.binning.binning.edges).toEqual([0, 1]);
+      expect(quartiles.warnings.join(' ')).toMatch(/'spike' has only 2 distinct values, and quantile:4 merges them into 1 bin,/);
+    });
+
+    it('should keep the levels of 3- and 4-level integers (genotypes, answers)', () => {
+      const genotype = binColumn(numericColumn('g', [0, 1, 2, 1, 1, 0, 2, 1]));
+      expect(genotype.bins).toBe(3);
+      expect(genotype.binning.binning.categories).toEqual(['0', '1', '2']);
+      const answers = binColumn(numericColumn('a', [1, 2, 2, 3, 3, 3, 4, 4, 4, 4]));
+      expect(answers.binning.binning.categories).toEqual(['1', '2', '3', '4']);
+    });
+
+    it('should keep up to 10 distinct values and bin 11 or more by quantile:4', () => {
+      expect(AUTO_MAX_LEVELS).toBe(10);
+      const ten = binColumn(numericColumn('x', Array.from({ length: 40 }, (_, i) => i % 10)));
+      expect([ten.binning.binning.method, ten.bins]).toEqual(['categorical', 10]);
+      // 0 … 10, n = 11: quartiles at indices 10·q = 0, 2.5, 5, 7.5, 10 → 0, 2.5, 5, 7.5, 10.
+      const eleven = binColumn(numericColumn('x', Array.from({ length: 11 }, (_, i) => i)));
+      expect(eleven.binning).toEqual({
+        name: 'x',
+        bins: 4,
+        binning: { method: 'quantile', spec: 'auto', edges: [0, 2.5, 5, 7.5, 10] }
+      });
+      // and the same codes as quantile:4 itself
+      expect(Array.from(eleven.codes)).toEqual(codesOf(Array.from({ length: 11 }, (_, i) => i), 'quantile:4'));
+    });
+
+    it('should count distinct values without the missing ones and keep categorical columns categorical', () => {
+      const gappy = binColumn(numericColumn('x', [0, NaN, 1, NaN, 1]), 'auto');
+      expect(gappy.binning.binning.categories).toEqual(['0', '1']);
+      expect(gappy.missingCount).toBe(2);
+      expect(binColumn(categoricalColumn('s', ['a', 'b']), 'auto').binning.binning).toEqual({
+        method: 'categorical',
+        spec: 'auto',
+        categories: ['a', 'b']
+      });
     });
   });
 

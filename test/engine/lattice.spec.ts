@@ -53,8 +53,8 @@ describe('multiplets', () => {
       expectPolyadic(
         () => checkMultipletCount(40, 40),
         'limit',
-        /1099511627775 multiplets/,
-        /16777216/,
+        /1,099,511,627,775 multiplets/,
+        /16,777,216/,
         /largest maximum order that fits is 6/
       );
       expect(largestOrderWithin(40, 2 ** 24)).toBe(6);
@@ -179,7 +179,7 @@ describe('lattice', () => {
       expectPolyadic(
         () => computeLattice({ codes, bins: codes.map(() => 1), maxOrder: 40, estimator: 'plugin' }),
         'limit',
-        /1099511627775/
+        /1,099,511,627,775/
       );
     });
   });

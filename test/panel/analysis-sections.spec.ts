@@ -4,8 +4,9 @@
  */
 import { adequacyOf, EstimatorModel, maxOrderByRule } from '../../src/panel/estimator/model';
 import { BinningModel } from '../../src/panel/binning/model';
-import { columnStats } from '../../src/panel/data/stats';
+import { columnStats, WARNING_BADGE, WARNING_TEXT } from '../../src/panel/data/stats';
 import type { ColumnView } from '../../src/engine/types';
+import { previewColumn } from '../../src/worker/handlers';
 import type { IColumnPreview } from '../../src/worker/protocol';
 
 function numeric(name: string, values: number[], dtype = 'float64'): ColumnView {
@@ -21,6 +22,19 @@ describe('columnStats', () => {
 
   it('should flag a constant column', () => {
     expect(columnStats(numeric('x', [5, 5, 5, 5])).warnings).toEqual(['constant']);
+    // one value among gaps is still constant
+    expect(columnStats(numeric('x', [5, Number.NaN, 5])).warnings).toEqual(['constant']);
+  });
+
+  it('should call a column with no value all missing, not constant, with a badge of its own', () => {
+    const empty = columnStats(numeric('x', [Number.NaN, Number.NaN, Number.NaN]));
+    expect(empty).toEqual({ rows: 3, missing: 3, distinct: 0, warnings: ['all-missing'] });
+    const masked: ColumnView = { kind: 'categorical', name: 's', dtype: 'string', codes: new Int32Array([-1, -1]), categories: [], missing: null };
+    expect(columnStats(masked).warnings).toEqual(['all-missing']);
+    const badges = Object.values(WARNING_BADGE);
+    expect(new Set(badges).size).toBe(badges.length);
+    expect(WARNING_BADGE['all-missing']).toBe('all missing');
+    expect(WARNING_TEXT['all-missing']).toMatch(/^all missing: /);
   });
 
   it('should flag whole numbers that are all distinct as identifier-like, but not floats', () => {
@@ -139,6 +153,45 @@ describe('BinningModel', () => {
     model.setSpec('a', 'width:7');
     model.applyToAllNumeric('a');
     expect(model.specsFor(['a', 'b', 'f'])).toEqual({ a: 'width:7', b: 'width:7', f: 'categorical' });
+    model.dispose();
+  });
+
+  it('should start numeric columns at the engine default auto when the settings give none', () => {
+    const model = new BinningModel({ preview: fakePreview([]), debounceMs: 10 });
+    model.setColumns([numeric('a', [0, 1, 1, 0], 'int64')]);
+    expect(model.specOf('a')).toBe('auto');
+    model.numericDefault = 'width:3';
+    model.setColumns([numeric('a', [0, 1, 1, 0], 'int64')]);
+    expect(model.specOf('a')).toBe('width:3');
+    model.dispose();
+  });
+
+  it('should keep what each selected column’s spec gave, with the engine’s warnings, for its row', async () => {
+    const model = new BinningModel({
+      debounceMs: 10,
+      // the real engine, as the preview worker runs it
+      preview: (column, spec) => Promise.resolve(previewColumn(column, spec))
+    });
+    model.setColumns([numeric('flag', [0, 1, 1, 0, 1, 0, 0, 0]), numeric('level', [0, 1, 2, 1, 1, 0, 2, 1])]);
+    model.requestBinCounts(['flag', 'level']);
+    await jest.advanceTimersByTimeAsync(50);
+    expect(model.outcomeOf('flag')).toEqual({ spec: 'auto', bins: 2, method: 'categorical', warnings: [] });
+    model.setSpec('flag', 'quantile:4');
+    await jest.advanceTimersByTimeAsync(50);
+    const merged = model.outcomeOf('flag')!;
+    expect([merged.bins, merged.method]).toEqual([1, 'quantile']);
+    expect(merged.warnings.join(' ')).toMatch(/'flag' has only 2 distinct values, and quantile:4 merges them into 1 bin/);
+    model.dispose();
+  });
+
+  it('should keep the specs of a frame read again, and start a new frame from the defaults', () => {
+    const model = new BinningModel({ preview: fakePreview([]), debounceMs: 10 });
+    model.setColumns([numeric('a', [1, 2]), numeric('b', [2, 1])]);
+    model.setSpec('a', 'width:7');
+    model.setColumns([numeric('a', [1, 3]), numeric('b', [2, 1])], { keepSpecs: true });
+    expect(model.specOf('a')).toBe('width:7');
+    model.setColumns([numeric('a', [1, 3])]);
+    expect(model.specOf('a')).toBe('auto');
     model.dispose();
   });
 });

@@ -47,12 +47,12 @@ function frameOf(columns: ColumnView[], rows = 300): IRunFrame {
   return { name: 'greenhouse', columns, rows, originalRows: rows, sampled: false, seed: 0 };
 }
 
-function runOf(columns: ColumnView[], analysisId = newRecordId()): IRunCompleted {
-  const result = analyze(columns, OPTIONS);
+function runOf(columns: ColumnView[], analysisId = newRecordId(), options: IAnalyzeOptions = OPTIONS): IRunCompleted {
+  const result = analyze(columns, options);
   return {
     analysisId,
     result,
-    options: OPTIONS,
+    options,
     frame: { ...frameOf(columns), listed: null, fields: [], bytes: 0 },
     finished: '2031-03-02T08:00:00.000Z',
     elapsedMs: 1,
@@ -90,8 +90,35 @@ describe('RecordsModel', () => {
       const model = new RecordsModel();
       model.setNotebook({ path: 'a.ipynb', metadata });
       await model.recordRun(runOf(columns, 'pd-run00000001'));
-      await model.recordRun(runOf(columns, 'pd-run00000002'));
+      await model.recordRun(runOf(columns, 'pd-run00000002', { ...OPTIONS, bins: 'quantile:4' }));
       expect(model.state?.analyses.map(a => a.id)).toEqual(['pd-run00000001', 'pd-run00000002']);
+      // and tells them apart by their labels
+      const [first, second] = model.state!.analyses.map(a => a.label);
+      expect(first).not.toBe(second);
+      expect(second).toContain('quantile:4');
+    });
+
+    it('should replace the analysis that a re-run with the same settings on the same data repeats', async () => {
+      const metadata = metadataOf();
+      const model = new RecordsModel();
+      model.setNotebook({ path: 'a.ipynb', metadata });
+      const first = await model.recordRun(runOf(columns, 'pd-run00000001'));
+      model.rename(first!.id, 'Drip line, first look');
+      await model.recordRun(runOf(columns, 'pd-run00000002', { ...OPTIONS, maxOrder: 2 }));
+      expect(await model.rerunOf(runOf(columns, 'pd-run00000003'))).toBe('pd-run00000001');
+      const again = runOf(columns, 'pd-run00000004');
+      again.finished = '2031-03-03T09:00:00.000Z';
+      const replaced = await model.recordRun(again);
+      // the same place, id and name; the new time
+      expect(model.state?.analyses.map(a => a.id)).toEqual(['pd-run00000001', 'pd-run00000002']);
+      expect(replaced).toMatchObject({ id: 'pd-run00000001', label: 'Drip line, first look', created: '2031-03-03T09:00:00.000Z' });
+      expect(model.selectedId).toBe('pd-run00000001');
+      // other data is another analysis
+      const changed = await columnsOf(300, 11, cells => (cells[3][5] = '99.00'));
+      expect(await model.rerunOf(runOf(changed))).toBeNull();
+      await model.recordRun(runOf(changed, 'pd-run00000005'));
+      expect(model.state?.analyses).toHaveLength(3);
+      expect(validateRecord(metadata.data.polyadic).ok).toBe(true);
     });
 
     it('should refuse without a notebook and without fetched columns', async () => {

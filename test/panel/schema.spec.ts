@@ -132,10 +132,10 @@ describe('schema/settings/plugin.json', () => {
   });
 
   it('should accept binning specs of the glossary and refuse malformed ones', () => {
-    for (const spec of ['quantile:4', 'width:10', 'kmeans:3', 'fd', 'doane', 'sqrt']) {
+    for (const spec of ['auto', 'quantile:4', 'width:10', 'kmeans:3', 'fd', 'doane', 'sqrt']) {
       expect([spec, validate({ numericBinning: spec }).errors]).toEqual([spec, null]);
     }
-    for (const spec of ['quantile:0', 'quantile:', 'width:x', 'categorical', 'fd ', 'edges:1,2']) {
+    for (const spec of ['quantile:0', 'quantile:', 'width:x', 'categorical', 'fd ', 'edges:1,2', 'auto:3']) {
       expect([spec, validate({ numericBinning: spec }).errors === null]).toEqual([spec, false]);
     }
   });

@@ -2,9 +2,10 @@
 
 The information measures here are computed independently of the Polyadic engine: plug-in
 entropies (Cover & Thomas 2006, eq. 2.1) of np.unique counts over binned codes, with the
-engine's default binning reproduced by numpy — quantile:4 for numeric columns (edges from
-numpy.quantile's default linear interpolation, bins assigned as numpy.histogram assigns them)
-and categorical codes for booleans and strings.
+engine's default binning (`auto`) reproduced by numpy — quantile:4 for the numeric columns, all
+of which have more than 10 distinct values (edges from numpy.quantile's default linear
+interpolation, bins assigned as numpy.histogram assigns them) and categorical codes for booleans
+and strings.
 """
 
 from __future__ import annotations

@@ -370,11 +370,13 @@ def test_order_histogram_matches_numpy(values, node_run):
 # --- the panel's path, end to end -----------------------------------------------------------
 
 
-def test_record_of_a_kernel_frame_verifies_against_its_parquet_file(frame, files, node_run, tmp_path):
-    """Bridge → front-end decoding → analyze → record → `polyadic verify` on the saved Parquet."""
+def record_kernel_frame(frame, columns, options, node_run, tmp_path) -> tuple[Path, dict]:
+    """What the panel does with a kernel frame: fetch it over the bridge, decode, analyse, record.
+
+    Returns the notebook holding the record, and the recorded analysis.
+    """
     from polyadic._arrow import frame_to_ipc_batches
 
-    columns = ["valve_command", "flow_l_min", "leak_alarm", "humidity_a_pct", "humidity_b_pct", "bed_zone", "door_openings"]
     payload = frame_to_ipc_batches(frame, columns)
     stream = tmp_path / "fetch.arrows"
     stream.write_bytes(b"".join(payload.iter_pieces()))
@@ -393,8 +395,15 @@ def test_record_of_a_kernel_frame_verifies_against_its_parquet_file(frame, files
     done_path = tmp_path / "done.json"
     done_path.write_text(json.dumps(done))
     notebook = tmp_path / "greenhouse.ipynb"
-    options = {"maxOrder": 3, "estimator": "miller-madow", "missing": "category"}
     analysis = node_run("record", str(stream), str(done_path), json.dumps(options), str(notebook))
+    return notebook, analysis
+
+
+def test_record_of_a_kernel_frame_verifies_against_its_parquet_file(frame, files, node_run, tmp_path):
+    """Bridge → front-end decoding → analyze → record → `polyadic verify` on the saved Parquet."""
+    columns = ["valve_command", "flow_l_min", "leak_alarm", "humidity_a_pct", "humidity_b_pct", "bed_zone", "door_openings"]
+    options = {"maxOrder": 3, "estimator": "miller-madow", "missing": "category"}
+    notebook, analysis = record_kernel_frame(frame, columns, options, node_run, tmp_path)
     # the kernel's own fingerprint of the frame is the one the front end recorded
     assert analysis["source"]["fingerprint"]["sha256"] == polyadic.fingerprint(frame, columns)["sha256"]
     assert sorted(analysis["summary"]["synergy"][0]["columns"]) == ["flow_l_min", "leak_alarm", "valve_command"]
@@ -408,3 +417,37 @@ def test_record_of_a_kernel_frame_verifies_against_its_parquet_file(frame, files
     changed.to_parquet(changed_path, engine="pyarrow", index=False)
     run = node_run("verify", str(notebook), "--data", f"greenhouse={changed_path}", expect=1, raw=True)
     assert "DATA CHANGED" in run.stdout and "values differ in column 'humidity_b_pct'" in run.stdout
+
+
+def test_record_of_a_kernel_frame_verifies_against_to_csv_to_parquet_and_pyarrow_files(frame, node_run, tmp_path):
+    """Booleans survive every writer: pandas' to_csv writes them as True/False, and verify reads them back as booleans."""
+    flagged = frame.copy()
+    # a nullable boolean with gaps: to_csv writes an empty cell, Parquet and Arrow a null
+    ajar = pd.array(np.random.default_rng(8).integers(0, 2, len(flagged)).astype(bool), dtype="boolean")
+    ajar[[5, 77, 301]] = pd.NA
+    flagged["door_ajar"] = ajar
+    columns = ["valve_command", "flow_l_min", "leak_alarm", "fan_on", "door_ajar", "humidity_a_pct", "bed_zone"]
+    notebook, _ = record_kernel_frame(flagged, columns, {"maxOrder": 3, "missing": "category"}, node_run, tmp_path)
+
+    written = {
+        "to_csv": tmp_path / "greenhouse.csv",
+        "to_parquet": tmp_path / "greenhouse.parquet",
+        "pyarrow": tmp_path / "greenhouse.arrow",
+    }
+    flagged.to_csv(written["to_csv"], index=False)
+    flagged.to_parquet(written["to_parquet"], index=False)
+    feather.write_feather(pa.Table.from_pandas(flagged, preserve_index=False), written["pyarrow"], compression="uncompressed")
+    # the writers' own spelling of a boolean, which the CSV reader must take for one
+    first_row = written["to_csv"].read_text().splitlines()[1].split(",")
+    assert {first_row[list(flagged.columns).index(name)] for name in ("valve_command", "leak_alarm", "fan_on")} <= {"True", "False"}
+    for writer, path in written.items():
+        run = node_run("verify", str(notebook), "--data", f"greenhouse={path}", raw=True)
+        assert "1 of 1 analyses reproduce." in run.stdout, f"{writer}: {run.stdout}"
+
+    # and a changed flag is noticed in the CSV, naming the column
+    changed = flagged.copy()
+    changed.loc[12, "leak_alarm"] = not changed.loc[12, "leak_alarm"]
+    changed_path = tmp_path / "changed.csv"
+    changed.to_csv(changed_path, index=False)
+    run = node_run("verify", str(notebook), "--data", f"greenhouse={changed_path}", expect=1, raw=True)
+    assert "values differ in column 'leak_alarm'" in run.stdout

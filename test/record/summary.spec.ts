@@ -8,7 +8,7 @@ import { analyze } from '../../src/engine/analyze';
 import type { IAnalyzeOptions, IMultipletRow } from '../../src/engine/types';
 import { fingerprintColumns } from '../../src/record/fingerprint';
 import { isRecordId } from '../../src/record/ids';
-import { recordFromResult } from '../../src/record/recordFromResult';
+import { defaultLabel, recordFromResult } from '../../src/record/recordFromResult';
 import { histogramsOfRows, orderHistogram, topMultiplets } from '../../src/record/summary';
 import { validateAnalysis } from '../../src/record/validate';
 import { greenhouseTable, toCsv } from './helpers';
@@ -93,6 +93,24 @@ describe('recordFromResult', () => {
   const source = readDelimitedText(toCsv(table), 'csv', 'greenhouse.csv');
   const options: IAnalyzeOptions = { maxOrder: 3, estimator: 'shrinkage', units: 'nats' };
 
+  it('should label two runs that differ only in binning, estimator or order differently', () => {
+    const picked = source.columns.filter(column => ['flow_l_min', 'leak_alarm', 'air_temp_c'].includes(column.name));
+    const labelOf = (run: IAnalyzeOptions): string => defaultLabel('hostile', analyze(picked, run), run.missing);
+    const base = labelOf({ maxOrder: 3 });
+    // short selections are named, so two selections of the same size differ too
+    expect(base).toBe('hostile: flow_l_min, leak_alarm, air_temp_c; binning auto + categorical; plugin, bits; orders up to 3');
+    const others = [
+      labelOf({ maxOrder: 3, bins: 'quantile:4' }),
+      labelOf({ maxOrder: 3, estimator: 'miller-madow' }),
+      labelOf({ maxOrder: 2 }),
+      labelOf({ maxOrder: 3, units: 'nats' }),
+      labelOf({ maxOrder: 3, missing: 'category' })
+    ];
+    expect(new Set([base, ...others]).size).toBe(6);
+    expect(others[0]).toContain('binning quantile:4 + categorical');
+    expect(others[4]).toMatch(/; missing as a category$/);
+  });
+
   it('should record the settings, the source and the summary of a run', async () => {
     const result = analyze(source.columns, options);
     const fingerprint = await fingerprintColumns(source.columns);
@@ -104,7 +122,7 @@ describe('recordFromResult', () => {
     });
     expect(validateAnalysis(record).ok).toBe(true);
     expect(isRecordId(record.id)).toBe(true);
-    expect(record.label).toBe('greenhouse: 6 columns, orders up to 3');
+    expect(record.label).toBe('greenhouse: 6 columns; binning categorical + auto; shrinkage, nats; orders up to 3');
     expect(Date.now() - Date.parse(record.created)).toBeLessThan(60000);
     expect(record.engine).toEqual(result.engine);
     expect(record.source).toEqual({

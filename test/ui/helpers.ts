@@ -75,3 +75,14 @@ export async function focusResults(page: Page): Promise<void> {
     }
   }
 }
+
+/**
+ * Wait until the current notebook's kernel is up (the panel says it holds no dataframe yet),
+ * then run all its cells.
+ */
+export async function runNotebookCells(page: Page): Promise<void> {
+  await expect(polyadicPanel(page).getByText('No dataframe in this notebook’s kernel yet', { exact: false })).toBeVisible({
+    timeout: 90_000
+  });
+  await execute(page, 'notebook:run-all-cells');
+}

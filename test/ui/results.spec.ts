@@ -105,13 +105,19 @@ test('should filter both tables by a column name', async () => {
   expect(await firstRowNames('redundancy')).toEqual(PAIR);
 });
 
-test('should export the filtered table as CSV with the CLI header', async () => {
+test('should export the filtered table as CSV with the CLI header, an adequacy column and its provenance', async () => {
   const downloadEvent = page.waitForEvent('download');
   await results().getByRole('button', { name: 'Export the redundancy table as CSV' }).click();
   const download = await downloadEvent;
-  expect(download.suggestedFilename()).toBe('polyadic-redundancy.csv');
+  expect(download.suggestedFilename()).toMatch(/^polyadic-[A-Za-z0-9_]+-pd-[0-9a-z]{8,32}-redundancy\.csv$/);
   const file = await download.path();
-  const lines = readFileSync(file, 'utf8').split('\n');
+  const all = readFileSync(file, 'utf8').split('\n');
+  const comments = all.filter(line => line.startsWith('# '));
+  for (const key of ['frame', 'record', 'estimator', 'units', 'binning', 'filter']) {
+    expect(comments.some(line => line.startsWith(`# ${key}: `))).toBe(true);
+  }
+  expect(comments.find(line => line.startsWith('# filter: '))).toContain('"humidity_b"');
+  const lines = all.slice(comments.length);
   // The CLI's own header, from the built CLI on a two-column file.
   const dir = mkdtempSync(path.join(os.tmpdir(), 'pd-results-'));
   const input = path.join(dir, 'tiny.csv');
@@ -119,7 +125,7 @@ test('should export the filtered table as CSV with the CLI header', async () => 
   const cli = execFileSync(process.execPath, [path.join(REPO, 'bin', 'polyadic.cjs'), 'analyze', input, '--format', 'csv', '--bins', 'categorical'], {
     encoding: 'utf8'
   });
-  expect(lines[0]).toBe(cli.split('\n')[0]);
+  expect(lines[0]).toBe(`${cli.split('\n')[0]},adequacy`);
   const status = await results().locator('.pd-ResultsTable-redundancy .pd-ResultsTable-status').textContent();
   const total = Number(/of ([\d,]+)/.exec(status ?? '')![1].replace(/,/g, ''));
   expect(lines.filter(line => line !== '').length - 1).toBe(total);
@@ -134,7 +140,8 @@ test('should filter the tables to a histogram bar when the bar is clicked', asyn
   const order3 = results().locator('.pd-Histogram').nth(1);
   // The leftmost bar of order 3 holds the most negative triplet, the planted one.
   await order3.locator('.bars .point path').first().click({ force: true });
-  await expect(results().locator('.pd-Results-bar')).toContainText('order-3 multiplets of one histogram bar');
+  // one multiplet or more, the noun agreeing with the count
+  await expect(results().locator('.pd-Results-bar')).toHaveText(/^Tables show the (1 order-3 multiplet|(?!1 )[\d,]+ order-3 multiplets) of one histogram bar\.$/);
   expect(await firstRowNames('synergy')).toEqual(TRIPLET);
   const synergyRows = results().locator('.pd-ResultsTable-synergy tbody tr.pd-ResultsTable-row');
   for (let i = 0; i < (await synergyRows.count()); i++) {
@@ -152,7 +159,7 @@ test('should chart the conditioning chain of a selected multiplet and export cha
   const downloadEvent = page.waitForEvent('download');
   await chain.getByRole('button', { name: 'Save Conditioning chain as SVG' }).click();
   const download = await downloadEvent;
-  expect(download.suggestedFilename()).toBe('polyadic-conditioning-chain.svg');
+  expect(download.suggestedFilename()).toMatch(/^polyadic-.+-pd-[0-9a-z]{8,32}-conditioning-chain\.svg$/);
   expect(readFileSync(await download.path(), 'utf8')).toMatch(/^<svg/);
   const png = page.waitForEvent('download');
   await results()
@@ -160,9 +167,14 @@ test('should chart the conditioning chain of a selected multiplet and export cha
     .first()
     .getByRole('button', { name: 'Save Order 2 histogram of co-information as PNG' })
     .click();
-  const pngFile = readFileSync(await (await png).path());
+  const pngDownload = await png;
+  expect(pngDownload.suggestedFilename()).toMatch(/^polyadic-.+-pd-[0-9a-z]{8,32}-order-2-histogram\.png$/);
+  await pngDownload.saveAs(path.join(ARTIFACTS, 'histogram-export.png'));
+  const pngFile = readFileSync(await pngDownload.path());
   // PNG signature (PNG specification, section 5.2).
   expect(pngFile.subarray(0, 8).toString('hex')).toBe('89504e470d0a1a0a');
+  // IHDR width and height, big-endian at bytes 16–23 (section 11.2.2): print size, not the panel's
+  expect([pngFile.readUInt32BE(16), pngFile.readUInt32BE(20)]).toEqual([2400, 1440]);
 });
 
 test('should keep a dark-theme screenshot of the results', async () => {

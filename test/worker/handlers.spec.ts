@@ -78,7 +78,7 @@ describe('handlers', () => {
       expect(prepareRun(columns, {}).multiplets).toBe(1023);
       const caught = thrown(() => prepareRun(columns, { maxOrder: 10, maxMultiplets: 500 }));
       expect(caught.kind).toBe('limit');
-      expect(caught.message).toContain('1023 multiplets');
+      expect(caught.message).toContain('1,023 multiplets');
     });
   });
 
@@ -280,7 +280,7 @@ print(json.dumps(out))
         ['error', 3, 3, 'internal'],
         ['error', 4, 3, 'internal']
       ]);
-      expect(errors[0].error.message).toContain('the bin count 0 is outside 1 … 1000000');
+      expect(errors[0].error.message).toContain('the bin count 0 is outside 1 … 1,000,000');
       expect(errors[0].error.detail).toEqual({ option: 'bins', value: 'width:0' });
       expect(errors[1].error.detail).toEqual({ column: 'nope', available: ['c00', 'c01', 'c02'] });
       expect(errors[2].error.message).toBe('This worker holds no codes for run 3.');

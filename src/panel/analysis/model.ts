@@ -8,6 +8,7 @@ import type { JSONObject } from '@lumino/coreutils';
 import { ISignal, Signal } from '@lumino/signaling';
 
 import type { IFetchedFrame } from '../../bridge/decode';
+import { formatCount, plural, wordFor } from '../../engine/text';
 import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
 import { newRecordId } from '../../record/ids';
 import type { IPolyadicSettings } from '../../tokens';
@@ -15,7 +16,7 @@ import type { EnginePool, IRunProgress, IRunResult } from '../../worker/pool';
 import type { IColumnPreview } from '../../worker/protocol';
 import { BinningModel } from '../binning/model';
 import { DataModel } from '../data/model';
-import { adequacyOf, EstimatorModel, IAdequacy } from '../estimator/model';
+import { adequacyOf, EstimatorModel, IAdequacy, type IEstimatorChoices, type IOrderClamp } from '../estimator/model';
 import type { IAnalysisState, IRunCompleted, IRunStatus, RunState } from './types';
 
 /** What the model needs of the engine pool (an {@link EnginePool} in the panel). */
@@ -31,6 +32,7 @@ export class AnalysisModel implements IAnalysisState {
   constructor(options: AnalysisModel.IOptions) {
     this._engine = options.engine;
     this._now = options.now ?? (() => globalThis.performance.now());
+    this._recordIdFor = options.recordIdFor ?? null;
     this.data = new DataModel({});
     this.binning = new BinningModel({
       preview: (column, spec) => this._engine.preview(column, spec),
@@ -88,6 +90,45 @@ export class AnalysisModel implements IAnalysisState {
   /** Whether a run (fetch or engine) is in progress. */
   get isRunning(): boolean {
     return this._run.state === 'fetching' || this._run.state === 'running';
+  }
+
+  /**
+   * Follow another notebook (its panel's id; null without one). The estimator, units and
+   * highest order chosen are the choices of one notebook: those of the notebook left are kept
+   * for when it is followed again, and a notebook followed for the first time starts from the
+   * settings.
+   */
+  setNotebook(key: string | null): void {
+    if (key === this._notebook) {
+      return;
+    }
+    if (this._notebook !== null) {
+      this._choices.set(this._notebook, { ...this.estimator.choices, touched: this._estimatorTouched });
+    }
+    this._notebook = key;
+    // choices never touched are the settings', which may have changed since
+    const kept = key === null ? undefined : this._choices.get(key);
+    const settings = this._settings;
+    this._applyingSettings = true;
+    try {
+      if (kept?.touched) {
+        this.estimator.setChoices(kept);
+      } else {
+        this.estimator.setChoices({
+          estimator: settings?.estimator ?? this.estimator.estimator,
+          units: settings?.units ?? this.estimator.units,
+          maxOrder: null
+        });
+      }
+    } finally {
+      this._applyingSettings = false;
+    }
+    this._estimatorTouched = kept?.touched ?? false;
+  }
+
+  /** The highest order asked for when it is above the selected columns and lowered, else null. */
+  get orderClamp(): IOrderClamp | null {
+    return this.estimator.orderClamp(this.data.selected.length);
   }
 
   /** Take the user settings: row cap, estimator, units, order rule, limits, numeric binning. */
@@ -152,7 +193,10 @@ export class AnalysisModel implements IAnalysisState {
     }
     const cap = this._settings?.multipletCap;
     if (cap !== undefined && this.multipletCount > BigInt(cap)) {
-      return `${this.multipletCount} multiplets exceed the limit of ${cap} in the settings; lower the maximum order.`;
+      return (
+        `${plural(this.multipletCount, 'multiplet')} ${wordFor(this.multipletCount, 'exceeds', 'exceed')} the limit of ` +
+        `${formatCount(cap)} in the settings; lower the maximum order or select fewer columns.`
+      );
     }
     return null;
   }
@@ -206,6 +250,9 @@ export class AnalysisModel implements IAnalysisState {
       if (ticket !== this._ticket) {
         return;
       }
+      // the run read the frame as it is now: the loaded frame (and the "data changed" check on
+      // the chosen record) follows at once, before the engine has finished
+      this.data.adopt(fetched);
       this._setRun({ state: 'running', progress: null, message: null });
       const outcome = await this._engine.analyze(fetched.columns, options, {
         onProgress: progress => {
@@ -236,6 +283,14 @@ export class AnalysisModel implements IAnalysisState {
         elapsedMs: this._now() - started,
         workers: outcome.workers
       };
+      // a re-run of a recorded analysis keeps that analysis' id, in the kernel and the exports too
+      const repeated = this._recordIdFor === null ? null : await this._recordIdFor(completed);
+      if (ticket !== this._ticket) {
+        return;
+      }
+      if (repeated !== null) {
+        completed.analysisId = repeated;
+      }
       this._latest = completed;
       this._setRun({ state: 'done', progress: null, message: null });
       this._resultChanged.emit(completed);
@@ -322,10 +377,16 @@ export class AnalysisModel implements IAnalysisState {
 
   private _onDataChanged(): void {
     const fetched = this.data.fetched;
-    if (fetched !== this._binned) {
+    const frame = this.data.frame;
+    // The same frame read again (changed in the kernel): the binning keeps its specs, also
+    // while the new rows are on their way.
+    const rereading = fetched === null && frame !== null && frame === this._binnedFrame && this.data.load.state === 'loading';
+    if (fetched !== this._binned && !rereading) {
       // The picked frame's rows arrived (or went): the binning section follows its columns.
+      const keepSpecs = fetched !== null && fetched.name === this._binnedFrame;
       this._binned = fetched;
-      this.binning.setColumns(fetched?.columns ?? []);
+      this._binnedFrame = fetched?.name ?? null;
+      this.binning.setColumns(fetched?.columns ?? [], { keepSpecs });
     }
     this.binning.requestBinCounts(this.data.selected);
     this._changed.emit();
@@ -354,9 +415,13 @@ export class AnalysisModel implements IAnalysisState {
 
   private _engine: IEngineRunner;
   private _now: () => number;
+  private _recordIdFor: ((run: IRunCompleted) => Promise<string | null>) | null;
   private _settings: IPolyadicSettings | null = null;
   private _binned: IFetchedFrame | null = null;
+  private _binnedFrame: string | null = null;
   private _estimatorTouched = false;
+  private _notebook: string | null = null;
+  private _choices = new Map<string, IEstimatorChoices & { touched: boolean }>();
   private _applyingSettings = false;
   private _latest: IRunCompleted | null = null;
   private _run: IRunStatus = { state: 'idle', progress: null, message: null };
@@ -380,6 +445,11 @@ export namespace AnalysisModel {
     previewDebounceMs?: number;
     /** Clock in ms; tests inject one. */
     now?: () => number;
+    /**
+     * The id of the recorded analysis a completed run repeats (same settings, same data), or
+     * null; the run then takes that id instead of a new one.
+     */
+    recordIdFor?: (run: IRunCompleted) => Promise<string | null>;
   }
 }
 

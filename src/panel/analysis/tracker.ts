@@ -76,6 +76,8 @@ namespace Private {
 
     private _follow(): void {
       const current = this._notebooks?.currentWidget ?? null;
+      // the choices of the notebook left stay with it; the next one gets its own
+      this._analysis.setNotebook(current?.id ?? null);
       this._analysis.data.bridge = current === null ? null : this._bridges.bridgeFor(current.sessionContext);
     }
 

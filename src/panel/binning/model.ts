@@ -7,8 +7,20 @@
 import { ISignal, Signal } from '@lumino/signaling';
 
 import { defaultBinSpec, formatBinSpec, parseBinSpec } from '../../engine/binning';
-import type { ColumnView } from '../../engine/types';
+import type { BinMethod, ColumnView } from '../../engine/types';
 import type { IColumnPreview } from '../../worker/protocol';
+
+/** What a column's current spec gave, as its row in the Binning section says. */
+export interface IBinOutcome {
+  /** The spec binned by (trimmed). */
+  spec: string;
+  /** Number of bins or categories; NaN when the engine refused the spec. */
+  bins: number;
+  /** The method applied (under `auto`, the one it chose); null when refused. */
+  method: BinMethod | null;
+  /** The engine's warnings about this column under the spec (merged values, a single value, …). */
+  warnings: string[];
+}
 
 /** What the preview area shows. */
 export interface IPreviewState {
@@ -33,7 +45,7 @@ export class BinningModel {
   constructor(options: BinningModel.IOptions) {
     this._preview = options.preview;
     this._debounceMs = options.debounceMs ?? BinningModel.DEBOUNCE_MS;
-    this._numericDefault = options.numericDefault ?? 'quantile:4';
+    this._numericDefault = options.numericDefault ?? null;
   }
 
   /** Fires when a spec, the previewed column or a preview changes. */
@@ -41,18 +53,22 @@ export class BinningModel {
     return this._changed;
   }
 
-  /** The spec new numeric columns get (the settings' numeric binning). */
-  get numericDefault(): string {
+  /** The spec new numeric columns get (the settings' numeric binning); null: the engine's default. */
+  get numericDefault(): string | null {
     return this._numericDefault;
   }
-  set numericDefault(spec: string) {
+  set numericDefault(spec: string | null) {
     this._numericDefault = spec;
   }
 
-  /** The columns whose specs are kept (the picked frame's fetched columns). */
-  setColumns(columns: readonly ColumnView[]): void {
+  /**
+   * The columns whose specs are kept (the picked frame's fetched columns). With `keepSpecs`
+   * (the same frame read again), a column that was there before keeps the spec it had.
+   */
+  setColumns(columns: readonly ColumnView[], options: { keepSpecs?: boolean } = {}): void {
+    const previous = options.keepSpecs ? this._specs : new Map<string, string>();
     this._columns = new Map(columns.map(column => [column.name, column]));
-    this._specs = new Map(columns.map(column => [column.name, this.defaultSpec(column)]));
+    this._specs = new Map(columns.map(column => [column.name, previous.get(column.name) ?? this.defaultSpec(column)]));
     this._bins.clear();
     this._state = { column: null, spec: null, preview: null, error: null, pending: false };
     this._changed.emit();
@@ -65,7 +81,7 @@ export class BinningModel {
   /** The spec a column starts with: categories for text and booleans, else the numeric default. */
   defaultSpec(column: ColumnView): string {
     const spec = defaultBinSpec(column);
-    return spec.method === 'categorical' ? formatBinSpec(spec) : this._numericDefault;
+    return spec.method === 'categorical' || this._numericDefault === null ? formatBinSpec(spec) : this._numericDefault;
   }
 
   /** Column names with specs, in frame order. */
@@ -159,9 +175,14 @@ export class BinningModel {
    * counted); the adequacy check uses them.
    */
   binCount(name: string): number | null {
+    return this.outcomeOf(name)?.bins ?? null;
+  }
+
+  /** What the column's current spec gave once it has been binned in the background, else null. */
+  outcomeOf(name: string): IBinOutcome | null {
     const spec = this._specs.get(name);
     const known = this._bins.get(name);
-    return known !== undefined && spec !== undefined && known.spec === spec.trim() ? known.bins : null;
+    return known !== undefined && spec !== undefined && known.spec === spec.trim() ? known : null;
   }
 
   /** Compute the bin counts of these columns in the background (for adequacy). */
@@ -215,7 +236,7 @@ export class BinningModel {
     this._changed.emit();
     try {
       const preview = await this._preview(column, spec);
-      this._bins.set(name, { spec, bins: preview.binCounts.length });
+      this._bins.set(name, Private.outcome(spec, preview));
       if (ticket !== this._ticket || this._isDisposed) {
         return;
       }
@@ -243,10 +264,10 @@ export class BinningModel {
         const spec = this._specs.get(name)!.trim();
         try {
           const preview = await this._preview(column, spec);
-          this._bins.set(name, { spec, bins: preview.binCounts.length });
+          this._bins.set(name, Private.outcome(spec, preview));
         } catch {
           // An engine error for this spec shows when the column is previewed or run; skip it here.
-          this._bins.set(name, { spec, bins: Number.NaN });
+          this._bins.set(name, { spec, bins: Number.NaN, method: null, warnings: [] });
         }
         this._changed.emit();
       }
@@ -257,10 +278,10 @@ export class BinningModel {
 
   private _preview: PreviewFunction;
   private _debounceMs: number;
-  private _numericDefault: string;
+  private _numericDefault: string | null;
   private _columns = new Map<string, ColumnView>();
   private _specs = new Map<string, string>();
-  private _bins = new Map<string, { spec: string; bins: number }>();
+  private _bins = new Map<string, IBinOutcome>();
   private _wanted: string[] = [];
   private _filling = false;
   private _focus: string | null = null;
@@ -285,7 +306,14 @@ export namespace BinningModel {
     preview: PreviewFunction;
     /** Debounce of previews in ms; default {@link DEBOUNCE_MS}. */
     debounceMs?: number;
-    /** Spec for numeric columns; default `quantile:4`. */
+    /** Spec for numeric columns; default the engine's (`auto`). */
     numericDefault?: string;
+  }
+}
+
+namespace Private {
+  /** The outcome of a spec from its preview. */
+  export function outcome(spec: string, preview: IColumnPreview): IBinOutcome {
+    return { spec, bins: preview.binCounts.length, method: preview.binning.binning.method, warnings: [...preview.warnings] };
   }
 }

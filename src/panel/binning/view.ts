@@ -4,13 +4,16 @@
  * per bin. The chart is plain SVG whose colours are CSS classes over --jp-* variables, so a
  * theme change recolours it without a redraw. Column names and category labels are text.
  */
+import { AUTO_NUMERIC_SPEC } from '../../engine/binning';
+import { formatCount, plural } from '../../engine/text';
 import { textElement } from '../dom';
 import { SectionView } from '../section';
 import type { IColumnPreview } from '../../worker/protocol';
-import { BinningModel } from './model';
+import { BinningModel, IBinOutcome } from './model';
 
 /** The forms a spec may take, offered as suggestions (DESIGN.md glossary). */
 const SPEC_SUGGESTIONS = [
+  'auto',
   'quantile:4',
   'width:5',
   'fd',
@@ -61,7 +64,7 @@ export class BinningView extends SectionView<BinningModel> {
       this._fields.clear();
       this._rows.replaceChildren(...names.map(name => this._row(name)));
     }
-    for (const [name, { input, problem, row }] of this._fields) {
+    for (const [name, { input, problem, outcome, row }] of this._fields) {
       const spec = this.model.specOf(name) ?? '';
       if (input.value !== spec && document.activeElement !== input) {
         input.value = spec;
@@ -71,6 +74,7 @@ export class BinningView extends SectionView<BinningModel> {
       problem.hidden = text === null;
       input.setAttribute('aria-invalid', text === null ? 'false' : 'true');
       row.classList.toggle('jp-mod-active', this.model.focused === name);
+      Private.showOutcome(outcome, text === null ? this.model.outcomeOf(name) : null);
     }
     const focused = this.model.focused;
     this._apply.disabled = focused === null || !this.model.isNumeric(focused);
@@ -95,8 +99,11 @@ export class BinningView extends SectionView<BinningModel> {
     const problem = textElement('p', 'pd-Binning-problem');
     problem.setAttribute('role', 'alert');
     problem.hidden = true;
-    row.append(label, input, problem);
-    this._fields.set(name, { input, problem, row });
+    const outcome = textElement('div', 'pd-Binning-outcome');
+    outcome.setAttribute('aria-live', 'polite');
+    outcome.hidden = true;
+    row.append(label, input, problem, outcome);
+    this._fields.set(name, { input, problem, outcome, row });
     return row;
   }
 
@@ -124,7 +131,7 @@ export class BinningView extends SectionView<BinningModel> {
     }
     this._drawn = preview;
     figure.replaceChildren(
-      textElement('figcaption', 'pd-Binning-caption', `Preview of ${preview.name}: ${state.spec} → ${preview.binCounts.length} bins`),
+      textElement('figcaption', 'pd-Binning-caption', `Preview of ${preview.name}: ${state.spec} → ${Private.binsText(preview.binCounts.length, preview.binning.binning.method)}`),
       Private.chart(preview),
       Private.binTable(preview),
       ...preview.warnings.map(warning => textElement('p', 'pd-Binning-warning', warning))
@@ -137,7 +144,7 @@ export class BinningView extends SectionView<BinningModel> {
   private _rows: HTMLElement;
   private _apply: HTMLButtonElement;
   private _preview: HTMLElement;
-  private _fields = new Map<string, { input: HTMLInputElement; problem: HTMLElement; row: HTMLElement }>();
+  private _fields = new Map<string, { input: HTMLInputElement; problem: HTMLElement; outcome: HTMLElement; row: HTMLElement }>();
   private _key = '';
   private _drawn: IColumnPreview | null = null;
 }
@@ -162,6 +169,32 @@ namespace Private {
   /** A fresh number for element ids. */
   export function nextId(): number {
     return ++counter;
+  }
+
+  /** "4 bins", or "2 categories" for a categorical binning. */
+  export function binsText(bins: number, method: string | null): string {
+    return method === 'categorical' ? plural(bins, 'category', 'categories') : plural(bins, 'bin');
+  }
+
+  /**
+   * A column's row under its spec field: what the spec gave (under `auto`, which method it
+   * chose) and the engine's warnings about the column, such as values merged into one bin.
+   */
+  export function showOutcome(node: HTMLElement, outcome: IBinOutcome | null): void {
+    const key = outcome === null ? '' : JSON.stringify(outcome);
+    if (node.dataset.key === key) {
+      return;
+    }
+    node.dataset.key = key;
+    node.hidden = outcome === null || Number.isNaN(outcome.bins);
+    if (outcome === null || Number.isNaN(outcome.bins)) {
+      node.replaceChildren();
+      return;
+    }
+    const chose = outcome.spec === 'auto' ? ` (${outcome.method === 'categorical' ? 'each value kept' : AUTO_NUMERIC_SPEC})` : '';
+    const summary = textElement('p', 'pd-Binning-result', `→ ${binsText(outcome.bins, outcome.method)}${chose}`);
+    node.classList.toggle('pd-mod-warning', outcome.warnings.length > 0);
+    node.replaceChildren(summary, ...outcome.warnings.map(warning => textElement('p', 'pd-Binning-rowWarning', warning)));
   }
 
   function svg<K extends keyof SVGElementTagNameMap>(tag: K, attributes: Record<string, string | number>): SVGElementTagNameMap[K] {
@@ -201,9 +234,9 @@ namespace Private {
         const x = PAD + ((edge - low) / span) * (WIDTH - 2 * PAD);
         root.append(svg('line', { class: 'pd-Chart-edge', x1: x, x2: x, y1: PAD, y2: HEIGHT - PAD }));
       }
-      label = `Distribution of ${preview.name} from ${format(low)} to ${format(high)} with ${edges.length} bin edges drawn as lines`;
+      label = `Distribution of ${preview.name} from ${format(low)} to ${format(high)} with ${plural(edges.length, 'bin edge')} drawn as lines`;
     } else {
-      label = `Counts of the ${counts.length} categories of ${preview.name}`;
+      label = `Counts of the ${plural(counts.length, 'category', 'categories')} of ${preview.name}`;
     }
     root.setAttribute('aria-label', label);
     const title = svg('title', {});
@@ -235,14 +268,14 @@ namespace Private {
         name = `bin ${i + 1}`;
       }
       const row = textElement('tr', '');
-      row.append(textElement('td', 'pd-Binning-bin', name), textElement('td', 'pd-Number', preview.binCounts[i].toLocaleString('en-US')));
+      row.append(textElement('td', 'pd-Binning-bin', name), textElement('td', 'pd-Number', formatCount(preview.binCounts[i])));
       body.append(row);
     }
     table.append(textElement('thead', ''), body);
     table.tHead!.append(head);
     if (preview.missing > 0) {
       const row = textElement('tr', '');
-      row.append(textElement('td', 'pd-Binning-bin', 'missing'), textElement('td', 'pd-Number', preview.missing.toLocaleString('en-US')));
+      row.append(textElement('td', 'pd-Binning-bin', 'missing'), textElement('td', 'pd-Number', formatCount(preview.missing)));
       body.append(row);
     }
     return table;

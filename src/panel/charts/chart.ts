@@ -1,13 +1,15 @@
 /**
  * A small chart widget over plotly.js: colours come from the JupyterLab theme's CSS variables
  * (read from the widget's own node, so `--pd-*` tokens of the section apply), the chart is
- * redrawn when the theme changes, and PNG and SVG export buttons sit under every chart.
+ * redrawn when the theme changes, and PNG and SVG export buttons sit under every chart; an
+ * export is the figure redrawn for print (./print.ts): titled, axes named, print-sized.
  * plotly.js is loaded on first draw, so the panel does not pay for it until there is a result.
  */
 import { Widget } from '@lumino/widgets';
 import type * as PlotlyModule from 'plotly.js-dist-min';
 
 import { textElement } from '../dom';
+import { type IChartExport, plotlyText, PRINT_SIZE, printColors, printFigure } from './print';
 
 /** Theme colours a figure is built with (CSS colour strings). */
 export interface IChartColors {
@@ -70,16 +72,38 @@ export class ChartView extends Widget {
     this._draw();
   }
 
-  /** Download the chart as an image named after the chart. */
+  /**
+   * Download the chart as an image for print: the figure redrawn at {@link PRINT_SIZE} with dark
+   * ink on white, its title, a line naming the frame and record, and both axis titles.
+   */
   async exportImage(format: 'png' | 'svg'): Promise<void> {
+    const build = this._build;
+    if (build === null) {
+      return;
+    }
     const Plotly = await Private.plotly();
-    const width = Math.max(480, this._plot.clientWidth);
-    await Plotly.downloadImage(this._plot, {
-      format,
-      width,
-      height: this._options.height,
+    const about: IChartExport = this._options.exportAs?.() ?? {
+      title: this._options.label,
+      subtitle: '',
+      xTitle: '',
+      yTitle: '',
       filename: this._options.filename
+    };
+    const colors = printColors(Private.colors(this.node));
+    const figure = printFigure(build(colors), about, colors);
+    const url = await Plotly.toImage(figure, {
+      format,
+      width: PRINT_SIZE.width,
+      height: PRINT_SIZE.height,
+      scale: format === 'png' ? PRINT_SIZE.scale : 1
     });
+    const link = document.createElement('a');
+    link.href = url;
+    link.download = `${about.filename}.${format}`;
+    link.style.display = 'none';
+    document.body.append(link);
+    link.click();
+    link.remove();
   }
 
   /** Stop following the theme and release plotly's resources. */
@@ -161,8 +185,10 @@ export namespace ChartView {
   export interface IOptions {
     /** Accessible name of the chart, also used by the export buttons. */
     label: string;
-    /** File name (without extension) of exported images. */
+    /** File name (without extension) of exported images, when `exportAs` gives none. */
     filename: string;
+    /** Title, provenance line, axis titles and file name of an exported image. */
+    exportAs?: () => IChartExport;
     /** Height in CSS pixels. */
     height: number;
     /** Called with the trace and point index when a point or bar is clicked. */
@@ -170,14 +196,7 @@ export namespace ChartView {
   }
 }
 
-/**
- * Text for plotly labels: plotly reads a small HTML-like markup in labels (links, bold,
- * line breaks), so untrusted text has its markup characters written as entities, which plotly
- * shows as the characters themselves.
- */
-export function plotlyText(text: string): string {
-  return text.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;');
-}
+export { plotlyText };
 
 namespace Private {
   /** The loaded plotly module, once loaded. */

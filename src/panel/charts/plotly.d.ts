@@ -35,15 +35,23 @@ declare module 'plotly.js-dist-min' {
     format: 'png' | 'svg' | 'jpeg' | 'webp';
     width: number;
     height: number;
+    /** Pixel ratio of a raster image (2 doubles the pixels of `width` × `height`). */
+    scale?: number;
     filename?: string;
+  }
+
+  /** A figure to draw off screen: what `react` takes, as one object. */
+  export interface Figure {
+    data: Data[];
+    layout: Layout;
   }
 
   /** Draw or redraw a chart in `root`. */
   export function react(root: HTMLElement, data: Data[], layout?: Layout, config?: Config): Promise<PlotlyHTMLElement>;
   /** Remove the chart and its listeners from `root`. */
   export function purge(root: HTMLElement): void;
-  /** Render a chart to an image data URL. */
-  export function toImage(root: HTMLElement, options: ImageOptions): Promise<string>;
+  /** Render a chart (drawn in a div, or a figure drawn off screen) to an image data URL. */
+  export function toImage(root: HTMLElement | Figure, options: ImageOptions): Promise<string>;
   /** Render a chart to an image and download it. */
   export function downloadImage(root: HTMLElement, options: ImageOptions): Promise<string>;
   /** Plot helpers. */

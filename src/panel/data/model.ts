@@ -3,7 +3,9 @@
  * the picked frame, its columns with their checklist facts, and which columns are selected.
  * Picking a frame fetches its columns once (capped at the settings' row cap) for the facts
  * and the binning previews; a run fetches the selected columns again, so it reads the frame
- * as it is when Run is pressed.
+ * as it is when Run is pressed, and hands them back ({@link DataModel.adopt}): the loaded frame
+ * is always the newest the panel has read. A listing that shows the picked frame with other
+ * rows or columns reads it again.
  */
 import { ISignal, Signal } from '@lumino/signaling';
 
@@ -11,6 +13,7 @@ import type { IBridgeStatus, IListing, KernelBridge } from '../../bridge/connect
 import type { IFetchedFrame, IFetchProgress } from '../../bridge/decode';
 import { isBridgeError } from '../../bridge/errors';
 import type { ColumnKind, IFrameInfo } from '../../bridge/protocol';
+import { sameColumnData } from '../../engine/table';
 import type { ColumnView } from '../../engine/types';
 import { columnStats, IColumnStats } from './stats';
 
@@ -29,7 +32,10 @@ export interface IColumnEntry {
 /** Where loading the picked frame stands. */
 export interface ILoadState {
   state: 'idle' | 'loading' | 'loaded' | 'error';
-  /** Fraction of the fetch received, 0 … 1, while loading. */
+  /**
+   * How far loading has come, 0 … 1: the bytes received, then the columns read and counted
+   * (see {@link DataModel.FETCH_SHARE}); 1 only once the columns are ready.
+   */
   fraction: number;
   /** What went wrong, plain text. */
   message: string | null;
@@ -145,6 +151,48 @@ export class DataModel {
     return this._pick(name);
   }
 
+  /**
+   * Take the columns a run has just fetched of the picked frame, when they are newer than the
+   * loaded ones: columns whose data changed in the kernel replace theirs (with new facts), so the
+   * loaded frame, and every check against it, follows the kernel. When the rows themselves
+   * changed (another count, another sample), the whole frame is read again. The selection and
+   * the other columns stay as they are.
+   */
+  adopt(fresh: IFetchedFrame): void {
+    const loaded = this._fetched;
+    if (loaded === null || fresh.name !== this._frame || this._load.state !== 'loaded') {
+      return;
+    }
+    if (
+      fresh.rows !== loaded.rows ||
+      fresh.originalRows !== loaded.originalRows ||
+      fresh.sampled !== loaded.sampled ||
+      (fresh.sampled && fresh.seed !== loaded.seed)
+    ) {
+      void this._pick(this._frame);
+      return;
+    }
+    const newer = new Map<string, ColumnView>();
+    for (const column of fresh.columns) {
+      const old = loaded.columns.find(view => view.name === column.name);
+      if (old !== undefined && !sameColumnData(old, column)) {
+        newer.set(column.name, column);
+      }
+    }
+    if (newer.size === 0) {
+      return;
+    }
+    this._fetched = { ...loaded, columns: loaded.columns.map(view => newer.get(view.name) ?? view) };
+    for (const entry of this._columns) {
+      const view = newer.get(entry.name);
+      if (view !== undefined) {
+        entry.view = view;
+        entry.stats = columnStats(view);
+      }
+    }
+    this._changed.emit();
+  }
+
   /** Ask the bridge to connect again (the "Try again" button). */
   reconnect(): void {
     void this._bridge?.reconnect();
@@ -175,6 +223,7 @@ export class DataModel {
     this._frame = name;
     this._fetched = null;
     const info = this.frameInfo;
+    this._loadedShape = Private.shapeOf(info);
     const previous = new Set(this._selected);
     this._selected.clear();
     this._columns = (info?.columns ?? []).map(column => ({ ...column, stats: null, view: null }));
@@ -193,7 +242,7 @@ export class DataModel {
         rowCap: this._rowCap,
         onProgress: progress => {
           if (ticket === this._ticket) {
-            this._load = { ...this._load, fraction: Private.fraction(progress) };
+            this._load = { ...this._load, fraction: DataModel.FETCH_SHARE * Private.fraction(progress) };
             this._changed.emit();
           }
         }
@@ -203,10 +252,17 @@ export class DataModel {
       }
       this._fetched = fetched;
       const views = new Map(fetched.columns.map(view => [view.name, view]));
+      let done = 0;
       for (const column of this._columns) {
         column.view = views.get(column.name) ?? null;
         // One column at a time, yielding between them, so a wide frame keeps the page responsive.
         column.stats = column.view === null ? null : columnStats(column.view);
+        done++;
+        if (done < this._columns.length) {
+          const share = DataModel.FETCH_SHARE;
+          this._load = { ...this._load, fraction: share + ((1 - share) * done) / this._columns.length };
+          this._changed.emit();
+        }
         await Private.yieldToPage();
         if (ticket !== this._ticket) {
           return;
@@ -237,8 +293,13 @@ export class DataModel {
 
   private _onFrames(_: unknown, listing: IListing | null): void {
     const frames = listing?.frames ?? [];
-    if (this._frame !== null && !frames.some(frame => frame.name === this._frame)) {
+    const picked = frames.find(frame => frame.name === this._frame);
+    if (this._frame !== null && picked === undefined) {
       void this._pick(null);
+    } else if (picked !== undefined && this._load.state === 'loaded' && Private.shapeOf(picked) !== this._loadedShape) {
+      // the kernel's frame has other rows or columns now: what the panel loaded is out of date
+      void this._pick(this._frame);
+      return;
     } else if (this._frame === null && frames.length === 1) {
       // One frame only: there is nothing to choose, so take it.
       void this._pick(frames[0].name);
@@ -254,6 +315,7 @@ export class DataModel {
   private _fetched: IFetchedFrame | null = null;
   private _load: ILoadState = { state: 'idle', fraction: 0, message: null };
   private _rowCap: number | undefined;
+  private _loadedShape = '';
   private _ticket = 0;
   private _isDisposed = false;
   private _changed = new Signal<this, void>(this);
@@ -262,6 +324,12 @@ export class DataModel {
 
 /** The statics of {@link DataModel}. */
 export namespace DataModel {
+  /**
+   * Share of the load bar for the bytes of the fetch; the rest fills as the columns are decoded
+   * and counted, so the bar is full only when the columns are ready.
+   */
+  export const FETCH_SHARE = 0.9;
+
   /** Options of a {@link DataModel}. */
   export interface IOptions {
     /** Largest number of rows to fetch; default the kernel's. */
@@ -270,6 +338,11 @@ export namespace DataModel {
 }
 
 namespace Private {
+  /** The rows and columns of a listed frame, as one comparable text. */
+  export function shapeOf(info: IFrameInfo | null | undefined): string {
+    return info ? JSON.stringify([info.rows, info.columns.map(column => [column.name, column.dtype, column.kind])]) : '';
+  }
+
   /** Fraction of a fetch received. */
   export function fraction(progress: IFetchProgress): number {
     return progress.bytesTotal > 0 ? Math.min(1, progress.bytesReceived / progress.bytesTotal) : 0;

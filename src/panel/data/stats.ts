@@ -5,8 +5,8 @@
  */
 import type { ColumnView, NumericArray } from '../../engine/types';
 
-/** Why a column may not belong in an analysis. */
-export type ColumnWarning = 'constant' | 'identifier-like' | 'high-cardinality';
+/** Why a column may not belong in an analysis; a column gets at most one of the first two. */
+export type ColumnWarning = 'all-missing' | 'constant' | 'identifier-like' | 'high-cardinality';
 
 /** The checklist's facts about one column. */
 export interface IColumnStats {
@@ -29,8 +29,17 @@ export const HIGH_CARDINALITY = 50;
 /** Fewest rows for which "every value distinct" reads as an identifier (common practice). */
 export const IDENTIFIER_MIN_ROWS = 20;
 
+/** The badge of each warning in the checklist: its own words, so no two warnings read alike. */
+export const WARNING_BADGE: Record<ColumnWarning, string> = {
+  'all-missing': 'all missing',
+  constant: 'constant',
+  'identifier-like': 'identifier-like',
+  'high-cardinality': 'high cardinality'
+};
+
 /** The text of each warning, for the checklist and its tooltips. */
 export const WARNING_TEXT: Record<ColumnWarning, string> = {
+  'all-missing': 'all missing: no row has a value, so it cannot be analysed',
   constant: 'constant: one value only, so it carries no information',
   'identifier-like': 'identifier-like: every row has its own value',
   'high-cardinality': `high cardinality: more than ${HIGH_CARDINALITY} categories`
@@ -42,7 +51,10 @@ export function columnStats(column: ColumnView): IColumnStats {
   const rows = column.kind === 'categorical' ? column.codes.length : column.values.length;
   const present = rows - counted.missing;
   const warnings: ColumnWarning[] = [];
-  if (counted.distinct <= 1) {
+  if (present === 0) {
+    // no value at all is not "one value": an empty column is not constant
+    warnings.push('all-missing');
+  } else if (counted.distinct === 1) {
     warnings.push('constant');
   }
   // Continuous measurements are all distinct as a rule; only whole numbers and text look like ids.

@@ -3,10 +3,11 @@
  * checklist (type, distinct and missing counts, warnings). Column names, types and messages
  * are untrusted text and only ever reach the DOM through `textContent`.
  */
+import { formatCount, plural } from '../../engine/text';
 import { textElement } from '../dom';
 import { SectionView } from '../section';
 import { IColumnEntry, DataModel } from './model';
-import { WARNING_TEXT } from './stats';
+import { WARNING_BADGE, WARNING_TEXT } from './stats';
 
 /** Shows a {@link DataModel}. */
 export class DataView extends SectionView<DataModel> {
@@ -101,7 +102,7 @@ export class DataView extends SectionView<DataModel> {
           const option = textElement(
             'option',
             '',
-            `${frame.name} (${frame.rows.toLocaleString('en-US')} rows × ${frame.columns.length} columns, ${frame.kind})`
+            `${frame.name} (${plural(frame.rows, 'row')} × ${plural(frame.columns.length, 'column')}, ${frame.kind})`
           );
           option.value = frame.name;
           return option;
@@ -150,7 +151,8 @@ export class DataView extends SectionView<DataModel> {
     const name = textElement('td', 'pd-Data-name');
     name.append(textElement('span', 'pd-Data-columnName', column.name));
     for (const warning of column.stats?.warnings ?? []) {
-      const badge = textElement('span', 'pd-Badge pd-mod-warning', warning);
+      const badge = textElement('span', `pd-Badge pd-mod-warning pd-mod-${warning}`, WARNING_BADGE[warning]);
+      badge.dataset.warning = warning;
       badge.title = WARNING_TEXT[warning];
       name.append(' ', badge);
     }
@@ -162,8 +164,8 @@ export class DataView extends SectionView<DataModel> {
       use,
       name,
       textElement('td', 'pd-Data-type', `${column.dtype} (${column.kind})`),
-      textElement('td', 'pd-Number', column.stats === null ? '–' : column.stats.distinct.toLocaleString('en-US')),
-      textElement('td', 'pd-Number', column.stats === null ? '–' : column.stats.missing.toLocaleString('en-US'))
+      textElement('td', 'pd-Number', column.stats === null ? '–' : formatCount(column.stats.distinct)),
+      textElement('td', 'pd-Number', column.stats === null ? '–' : formatCount(column.stats.missing))
     );
     return row;
   }

@@ -4,6 +4,7 @@
  */
 import { ISignal, Signal } from '@lumino/signaling';
 
+import { formatCount } from '../../engine/text';
 import type { IPolyadicSettings } from '../../tokens';
 
 /** One setting as the defaults section lists it. */
@@ -96,9 +97,6 @@ export class DefaultsModel {
 }
 
 namespace Private {
-  /** Fixed locale, so "2,000,000" reads the same in every browser and in tests. */
-  const integerFormat = new Intl.NumberFormat('en-US', { maximumFractionDigits: 0 });
-
   /** `value` if it is a plain object, else an empty one. */
   export function asRecord(value: unknown): { readonly [key: string]: unknown } {
     return typeof value === 'object' && value !== null && !Array.isArray(value)
@@ -120,7 +118,7 @@ namespace Private {
       }
     }
     if (typeof value === 'number') {
-      return Number.isInteger(value) ? integerFormat.format(value) : String(value);
+      return Number.isInteger(value) ? formatCount(value) : String(value);
     }
     if (typeof value === 'string') {
       return value;

@@ -59,6 +59,24 @@ export function maxOrderByRule(rule: MaxOrderRule, fixed: number, columns: numbe
   return columns <= ALL_ORDERS_UP_TO ? columns : Math.min(DEFAULT_MAX_ORDER, columns);
 }
 
+/** The choices of the Estimator and order section, as kept for one notebook. */
+export interface IEstimatorChoices {
+  estimator: EstimatorName;
+  units: Units;
+  /** The highest order chosen by the person, or null to follow the settings' rule. */
+  maxOrder: number | null;
+}
+
+/** A highest order asked for (by the person or the settings' fixed order) above the columns selected. */
+export interface IOrderClamp {
+  /** The order asked for. */
+  asked: number;
+  /** The order used: the number of selected columns. */
+  used: number;
+  /** Who asked: the person in this section, or the settings' fixed highest order. */
+  source: 'choice' | 'settings';
+}
+
 /** State of the Estimator and order section. */
 export class EstimatorModel {
   /** Fires when a choice changes. */
@@ -102,6 +120,31 @@ export class EstimatorModel {
     this._estimator = estimator;
     this._units = units;
     this._changed.emit();
+  }
+
+  /** The current choices (to keep them with a notebook). */
+  get choices(): IEstimatorChoices {
+    return { estimator: this._estimator, units: this._units, maxOrder: this._maxOrder };
+  }
+
+  /** Put choices back at once (another notebook followed), with one `changed`. */
+  setChoices(choices: IEstimatorChoices): void {
+    this._estimator = choices.estimator;
+    this._units = choices.units;
+    this._maxOrder = choices.maxOrder;
+    this._changed.emit();
+  }
+
+  /**
+   * When the order asked for is above the `columns` selected columns and so is lowered to
+   * `columns`, what was asked and used; null when nothing is lowered.
+   */
+  orderClamp(columns: number): IOrderClamp | null {
+    const asked = this._maxOrder ?? (this._rule === 'fixed' ? this._fixed : null);
+    if (asked === null || columns < 1 || asked <= columns) {
+      return null;
+    }
+    return { asked, used: columns, source: this._maxOrder === null ? 'settings' : 'choice' };
   }
 
   /** The highest order a run on `columns` selected columns uses. */

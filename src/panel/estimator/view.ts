@@ -4,9 +4,11 @@
  */
 import { Widget } from '@lumino/widgets';
 
+import { plural } from '../../engine/text';
 import type { EstimatorName, Units } from '../../engine/types';
 import type { AnalysisModel } from '../analysis/model';
 import { textElement } from '../dom';
+import { formatAdequacy } from '../results/format';
 import { ADEQUACY_CAUTION, ESTIMATOR_CHOICES } from './model';
 
 /** Shows the estimator choices of an {@link AnalysisModel}. */
@@ -48,8 +50,11 @@ export class EstimatorView extends Widget {
     orderRow.append(orderLabel, this._order);
     this._count = textElement('p', 'pd-Estimator-count');
     this._count.setAttribute('aria-live', 'polite');
+    this._clamp = textElement('p', 'pd-Estimator-clamp pd-mod-warning');
+    this._clamp.setAttribute('role', 'status');
+    this._clamp.hidden = true;
     this._adequacy = textElement('p', 'pd-Estimator-adequacy');
-    this.node.append(this._estimator.row, this._units.row, orderRow, this._count, this._adequacy);
+    this.node.append(this._estimator.row, this._units.row, orderRow, this._clamp, this._count, this._adequacy);
     this._model.changed.connect(this._render, this);
     this._model.estimator.changed.connect(this._render, this);
     this._render();
@@ -81,22 +86,28 @@ export class EstimatorView extends Widget {
     } else {
       const count = model.multipletCount;
       this._count.textContent =
-        `${count.toLocaleString('en-US')} multiplet${count === 1n ? '' : 's'} ` +
-        `of order 1 to ${order} among ${columns} column${columns === 1 ? '' : 's'}.`;
+        `${plural(count, 'multiplet')} of order 1 to ${order} among ${plural(columns, 'column')}.`;
     }
+    const clamp = model.orderClamp;
+    this._clamp.hidden = clamp === null;
+    this._clamp.textContent =
+      clamp === null
+        ? ''
+        : `${clamp.source === 'choice' ? 'Maximum order' : 'The settings’ fixed highest order'} ${clamp.asked} is above the ` +
+          `${plural(clamp.used, 'selected column')}, so order ${clamp.used} is the highest computed.`;
     const adequacy = model.adequacy;
     this._adequacy.classList.toggle('pd-mod-warning', adequacy !== null && adequacy.value < ADEQUACY_CAUTION);
     if (adequacy === null) {
       this._adequacy.textContent = '';
     } else if (adequacy.value < ADEQUACY_CAUTION) {
       this._adequacy.textContent =
-        `Caution: adequacy ${Private.format(adequacy.value)} — ${adequacy.cells.toLocaleString('en-US')} possible joint cells ` +
+        `Caution: adequacy ${formatAdequacy(adequacy.value)} — ${plural(adequacy.cells, 'possible joint cell')} ` +
         `for the largest multiplets of order ${adequacy.order}, more than the rows. Entropies of these multiplets are ` +
         'biased low; use fewer bins, a lower order or a bias-corrected estimator.';
     } else {
       this._adequacy.textContent =
-        `Adequacy ${Private.format(adequacy.value)} rows per possible joint cell ` +
-        `(${adequacy.cells.toLocaleString('en-US')} cells at order ${adequacy.order}).`;
+        `Adequacy ${formatAdequacy(adequacy.value)} rows per possible joint cell ` +
+        `(${plural(adequacy.cells, 'cell')} at order ${adequacy.order}).`;
     }
     this._adequacy.hidden = adequacy === null;
   }
@@ -106,6 +117,7 @@ export class EstimatorView extends Widget {
   private _units: Private.ISelect;
   private _order: HTMLInputElement;
   private _count: HTMLElement;
+  private _clamp: HTMLElement;
   private _adequacy: HTMLElement;
 }
 
@@ -151,10 +163,5 @@ namespace Private {
     node.addEventListener('change', () => onChange(node.value));
     row.append(labelNode, node);
     return { row, select: node };
-  }
-
-  /** Adequacy to two significant digits. */
-  export function format(value: number): string {
-    return value >= 100 ? Math.round(value).toLocaleString('en-US') : Number(value.toPrecision(2)).toString();
   }
 }

@@ -9,8 +9,9 @@
 import { ISignal, Signal } from '@lumino/signaling';
 
 import { isPolyadicError } from '../../engine/errors';
+import { formatCount, plural, wordFor } from '../../engine/text';
 import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
-import { fingerprintColumns } from '../../record/fingerprint';
+import { fingerprintColumns, type IFingerprint } from '../../record/fingerprint';
 import { recordFromResult } from '../../record/recordFromResult';
 import { compareFingerprint, optionsFromRecord, type IDataComparison } from '../../record/settings';
 import {
@@ -19,6 +20,8 @@ import {
   findAnalysis,
   readRecords,
   renameAnalysis,
+  replaceAnalysis,
+  sameRun,
   type IMetadataAccess,
   type IRecordState
 } from '../../record/store';
@@ -163,39 +166,42 @@ export class RecordsModel {
   }
 
   /**
+   * The id of the recorded analysis that `run` repeats (the same settings on the same data), or
+   * null when it repeats none. The analysis section asks before it announces a run, so the
+   * kernel's results, the exports and the record all carry the one id.
+   */
+  async rerunOf(run: IRunCompleted): Promise<string | null> {
+    const state = this._state;
+    if (state === null || state.readOnly || run.frame.columns === undefined) {
+      return null;
+    }
+    try {
+      const candidate = await this._analysisOf(run);
+      return state.analyses.find(existing => sameRun(existing, candidate))?.id ?? null;
+    } catch {
+      // recordRun says why the run cannot be recorded
+      return null;
+    }
+  }
+
+  /**
    * Record a completed run in the followed notebook (the metadata change marks it dirty) and
-   * choose it. Resolves to the new analysis, or `null` when it could not be recorded (the
-   * reason is in {@link error}).
+   * choose it. A re-run with the same settings on the same data replaces the analysis it
+   * repeats, which keeps its id (so its analysis cells still find it) and its label (which the
+   * person may have given it), instead of adding a second one. Resolves to the analysis
+   * recorded, or `null` when it could not be recorded (the reason is in {@link error}).
    */
   async recordRun(run: IRunCompleted): Promise<IAnalysisRecord | null> {
     const notebook = this._notebook;
     if (notebook === null) {
       return this._fail('No notebook is open, so the run was not recorded.');
     }
-    const fetched = run.frame.columns;
-    if (fetched === undefined) {
+    if (run.frame.columns === undefined) {
       return this._fail('The run was not recorded: the analysis section did not pass on the columns it read.');
     }
     let analysis: IAnalysisRecord;
     try {
-      const selected = run.result.columns.map(column => column.name);
-      const byName = new Map(fetched.map(column => [column.name, column]));
-      const columns = selected.map(name => {
-        const column = byName.get(name);
-        if (column === undefined) {
-          throw new Error(`The run used column '${name}', which the fetched frame '${run.frame.name}' does not hold.`);
-        }
-        return column;
-      });
-      const fingerprint = await fingerprintColumns(columns);
-      analysis = recordFromResult({
-        options: run.options,
-        result: run.result,
-        source: { frame: run.frame.name, columns, fingerprint, sample: Private.sampleOf(run.frame) },
-        // the kernel keeps the results under the same id, so polyadic.show finds them
-        id: run.analysisId,
-        created: Private.dateOf(run.finished)
-      });
+      analysis = await this._analysisOf(run);
     } catch (error) {
       return this._fail(`The run was not recorded: ${Private.messageOf(error)}`);
     }
@@ -203,11 +209,21 @@ export class RecordsModel {
     if (this._notebook !== notebook) {
       return this._fail('The notebook changed while the run was being recorded, so it was not recorded.');
     }
+    const repeated =
+      this._state?.analyses.find(existing => existing.id === analysis.id) ??
+      this._state?.analyses.find(existing => sameRun(existing, analysis));
     try {
-      this._state = addAnalysis(notebook.metadata, analysis);
+      if (repeated !== undefined) {
+        analysis = { ...analysis, id: repeated.id, label: repeated.label };
+        this._state = replaceAnalysis(notebook.metadata, analysis);
+      } else {
+        this._state = addAnalysis(notebook.metadata, analysis);
+      }
     } catch (error) {
       return this._fail(`The run was not recorded: ${Private.messageOf(error)}`);
     }
+    // a re-run on the same data answers the data check of the analysis it replaces
+    this._checks.delete(analysis.id);
     this._selectedId = analysis.id;
     this._error = null;
     this._changed.emit();
@@ -294,6 +310,32 @@ export class RecordsModel {
     return true;
   }
 
+  /** The record of a run (not yet written), its fingerprint computed once per run. */
+  private async _analysisOf(run: IRunCompleted): Promise<IAnalysisRecord> {
+    const fetched = run.frame.columns ?? [];
+    const selected = run.result.columns.map(column => column.name);
+    const byName = new Map(fetched.map(column => [column.name, column]));
+    const columns = selected.map(name => {
+      const column = byName.get(name);
+      if (column === undefined) {
+        throw new Error(`The run used column '${name}', which the fetched frame '${run.frame.name}' does not hold.`);
+      }
+      return column;
+    });
+    if (this._fingerprinted?.run !== run) {
+      this._fingerprinted = { run, fingerprint: fingerprintColumns(columns) };
+    }
+    const fingerprint = await this._fingerprinted.fingerprint;
+    return recordFromResult({
+      options: run.options,
+      result: run.result,
+      source: { frame: run.frame.name, columns, fingerprint, sample: Private.sampleOf(run.frame) },
+      // the kernel keeps the results under the same id, so polyadic.show finds them
+      id: run.analysisId,
+      created: Private.dateOf(run.finished)
+    });
+  }
+
   private _fail(message: string): null {
     this._error = message;
     this._changed.emit();
@@ -304,6 +346,7 @@ export class RecordsModel {
   private _state: IRecordState | null = null;
   private _selectedId: string | null = null;
   private _checks = new Map<string, IDataCheck>();
+  private _fingerprinted: { run: IRunCompleted; fingerprint: Promise<IFingerprint> } | null = null;
   private _error: string | null = null;
   private _isDisposed = false;
   private _changed = new Signal<this, void>(this);
@@ -345,10 +388,10 @@ namespace Private {
         comparison: null,
         message:
           recorded === undefined
-            ? `The panel read a sample of ${frame.rows} of ${frame.originalRows} rows of '${frame.name}', ` +
+            ? `The panel read a sample of ${formatCount(frame.rows)} of ${plural(frame.originalRows, 'row')} of '${frame.name}', ` +
               'but this analysis read every row; the data cannot be compared.'
-            : `This analysis read a sample of ${recorded.row_cap} rows (seed ${recorded.seed}); the panel read ` +
-              `${frame.rows} rows${frame.sampled ? ` (seed ${frame.seed})` : ''}, so the data cannot be compared.`
+            : `This analysis read a sample of ${plural(recorded.row_cap, 'row')} (seed ${recorded.seed}); the panel read ` +
+              `${plural(frame.rows, 'row')}${frame.sampled ? ` (seed ${frame.seed})` : ''}, so the data cannot be compared.`
       };
     }
     const byName = new Map(frame.columns.map(column => [column.name, column]));
@@ -358,7 +401,7 @@ namespace Private {
         id,
         status: 'not-comparable',
         comparison: null,
-        message: `The panel has not read column${missing.length === 1 ? '' : 's'} ${missing.map(n => `'${n}'`).join(', ')} of '${frame.name}'; the data cannot be compared.`
+        message: `The panel has not read ${wordFor(missing.length, 'column')} ${missing.map(n => `'${n}'`).join(', ')} of '${frame.name}'; the data cannot be compared.`
       };
     }
     const fingerprint = await fingerprintColumns(analysis.columns.map(name => byName.get(name)!));
@@ -368,7 +411,7 @@ namespace Private {
     }
     const where =
       comparison.changedColumns.length > 0
-        ? ` (column${comparison.changedColumns.length === 1 ? '' : 's'} ${comparison.changedColumns.map(n => `'${n}'`).join(', ')})`
+        ? ` (${wordFor(comparison.changedColumns.length, 'column')} ${comparison.changedColumns.map(n => `'${n}'`).join(', ')})`
         : '';
     return {
       id,

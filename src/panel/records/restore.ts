@@ -6,6 +6,7 @@
 import type { IDisposable } from '@lumino/disposable';
 import type { ISignal } from '@lumino/signaling';
 
+import { wordFor } from '../../engine/text';
 import type { EstimatorName, Units } from '../../engine/types';
 import type { IRestoreRequest, IRunFrame, RecordsModel } from './model';
 
@@ -69,7 +70,7 @@ export async function restoreSettings(target: IRestoreTarget, request: IRestoreR
   const missing = [...absent, ...notSelectable];
   return missing.length === 0
     ? null
-    : `Column${missing.length === 1 ? '' : 's'} ${missing.map(name => `'${name}'`).join(', ')} of the record ` +
+    : `${wordFor(missing.length, 'Column')} ${missing.map(name => `'${name}'`).join(', ')} of the record ` +
         `could not be selected in '${request.frame}' (gone, renamed or not readable); the other settings were restored.`;
 }
 

@@ -3,6 +3,7 @@
  * rename, delete and "insert analysis cell" per analysis, the banner of a record that is
  * invalid, newer or migrated, and the "data changed" banner of the chosen analysis.
  */
+import { plural } from '../../engine/text';
 import type { IAnalysisRecord, IRecordProblem } from '../../record/types';
 import { textElement } from '../dom';
 import { SectionView } from '../section';
@@ -74,7 +75,7 @@ export class RecordsView extends SectionView<RecordsModel> {
       textElement(
         'p',
         'pd-Records-meta',
-        `${analysis.source.frame} · ${analysis.columns.length} columns · orders ≤ ${analysis.max_order} · ` +
+        `${analysis.source.frame} · ${plural(analysis.columns.length, 'column')} · orders ≤ ${analysis.max_order} · ` +
           `${analysis.estimator} · ${Private.when(analysis.created)}`
       )
     );

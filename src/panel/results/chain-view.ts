@@ -7,6 +7,7 @@ import { Panel, Widget } from '@lumino/widgets';
 import { ChartView, plotlyText } from '../charts/chart';
 import type { IChartColors, IFigure } from '../charts/chart';
 import { textElement } from '../dom';
+import { exportFileName, provenanceLine } from './export';
 import { formatValue } from './format';
 import type { IChainView } from './model';
 import { ResultsModel } from './model';
@@ -46,7 +47,18 @@ export class ChainView extends Panel {
     this._chart = new ChartView({
       label: 'Conditioning chain',
       filename: 'polyadic-conditioning-chain',
-      height: 180
+      height: 180,
+      exportAs: () => {
+        const source = this._model.exportSource;
+        const chain = this._model.chain;
+        return {
+          title: chain === null ? 'Conditioning chain' : `Conditioning chain of ${chain.columns.join(', ')}`,
+          subtitle: source === null ? '' : provenanceLine(source),
+          xTitle: 'columns, in the order they join the chain',
+          yTitle: `co-information (${source?.result.units ?? ''})`,
+          filename: exportFileName(source ?? {}, 'conditioning-chain')
+        };
+      }
     });
     this._list = new Widget({ node: textElement('ol', 'pd-Chain-list') });
     this.addWidget(top);

@@ -1,6 +1,10 @@
 /**
  * Number formatting of the Results views (display only; the values come from the model).
+ * Counts use the one count formatter of src/engine/text.ts, re-exported here.
  */
+import { formatCount } from '../../engine/text';
+
+export { formatCount };
 
 /** An information value with 4 significant digits, a true minus sign, and − 0 shown as 0. */
 export function formatValue(value: number): string {
@@ -13,11 +17,6 @@ export function formatValue(value: number): string {
   const abs = Math.abs(value);
   const text = abs >= 1e4 || abs < 1e-3 ? abs.toExponential(3) : abs.toPrecision(4);
   return (value < 0 ? '\u2212' : '') + text;
-}
-
-/** A count with thousands separators. */
-export function formatCount(value: number): string {
-  return value.toLocaleString('en-US');
 }
 
 /** Adequacy: two significant digits below 10, whole numbers above. */

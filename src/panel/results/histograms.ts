@@ -9,6 +9,8 @@ import { Panel, Widget } from '@lumino/widgets';
 import { ChartView } from '../charts/chart';
 import type { IChartColors, IFigure } from '../charts/chart';
 import { textElement } from '../dom';
+import { plural } from '../../engine/text';
+import { exportFileName, provenanceLine } from './export';
 import { formatCount, formatValue } from './format';
 import type { IResultsHistogram } from './model';
 import { ResultsModel } from './model';
@@ -62,7 +64,7 @@ export class HistogramsView extends Panel {
     const order = histogram.order;
     const header = new Widget({ node: textElement('div', 'pd-Histogram-header') });
     header.node.append(
-      textElement('h4', 'pd-Histogram-title', `Order ${order}: ${formatCount(histogram.total)} multiplets`),
+      textElement('h4', 'pd-Histogram-title', `Order ${order}: ${plural(histogram.total, 'multiplet')}`),
       textElement(
         'p',
         'pd-Histogram-convention',
@@ -74,6 +76,16 @@ export class HistogramsView extends Panel {
       label: `Order ${order} histogram of co-information`,
       filename: `polyadic-order-${order}-histogram`,
       height: 150,
+      exportAs: () => {
+        const source = this._model.exportSource;
+        return {
+          title: `Order ${order} histogram of co-information (${plural(histogram.total, 'multiplet')})`,
+          subtitle: source === null ? '' : provenanceLine(source),
+          xTitle: `co-information (${units}): < 0 synergy-dominated, > 0 redundancy-dominated`,
+          yTitle: 'multiplets',
+          filename: exportFileName(source ?? {}, `order-${order}-histogram`)
+        };
+      },
       onClick: (_trace, point) => this._toggle(order, point)
     });
     const pickerRow = new Widget({ node: textElement('div', 'pd-Histogram-picker') });

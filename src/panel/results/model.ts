@@ -12,9 +12,10 @@ import type { ILattice } from '../../engine/lattice';
 import { chainAlong, extremalChains } from '../../engine/measures';
 import type { IEntropySource } from '../../engine/measures';
 import { createIndexing, indexOfColumns } from '../../engine/multiplets';
-import type { IAnalysisResult } from '../../engine/types';
+import type { IAnalysisResult, MissingPolicy } from '../../engine/types';
 import type { IAnalysisState, IRunCompleted } from '../analysis/types';
 import { orderHistogram } from '../../record/summary';
+import type { IExportSource } from './export';
 import { MultipletStore } from './store';
 import { MultipletTable } from './table';
 
@@ -22,6 +23,12 @@ import { MultipletTable } from './table';
 export interface IResultsContext {
   /** Name of the data frame analysed. */
   frame?: string;
+  /** Id of the run's record (`pd-…`), named by every export. */
+  recordId?: string;
+  /** Missing-value policy of the run. */
+  missing?: MissingPolicy;
+  /** The row-cap sample the run read, when it read one. */
+  sample?: { rows: number; originalRows: number; seed: number };
   /**
    * Entropies from the binned codes, when the caller still has them; without it, chains are
    * computed from the result's own joint entropies, which needs the full result (no top-N cut).
@@ -89,6 +96,16 @@ export class ResultsModel {
   /** The context the result came with. */
   get context(): IResultsContext {
     return this._context;
+  }
+
+  /** What exports of the result name and carry (frame, record, settings), or null without a result. */
+  get exportSource(): IExportSource | null {
+    const result = this._result;
+    if (result === null) {
+      return null;
+    }
+    const { frame, recordId, missing, sample } = this._context;
+    return { result, frame, recordId, missing, sample };
   }
 
   /** The multiplet store, or null. */
@@ -285,7 +302,8 @@ export class ResultsModel {
   follow(state: IAnalysisState): () => void {
     const show = (_sender: IAnalysisState, run: IRunCompleted | null): void => {
       if (run) {
-        this.setResult(run.result, { frame: run.frame.name });
+        const sample = run.frame.sampled ? { rows: run.frame.rows, originalRows: run.frame.originalRows, seed: run.frame.seed } : undefined;
+        this.setResult(run.result, { frame: run.frame.name, recordId: run.analysisId, missing: run.options.missing, sample });
       } else {
         this.clear();
       }

@@ -5,6 +5,7 @@
 import { Widget } from '@lumino/widgets';
 
 import { textElement } from '../dom';
+import { exportFileName, provenanceCsv, provenanceEntries, tableEntries, type IExportSource } from './export';
 import { formatAdequacy, formatCount, formatValue } from './format';
 import { RESULTS_COLUMNS } from './store';
 import { MultipletTable } from './table';
@@ -16,6 +17,7 @@ export class MultipletTableView extends Widget {
     super();
     this._model = options.model;
     this._onSelect = options.onSelect;
+    this._source = options.source ?? (() => null);
     const side = this._model.side;
     this.addClass('pd-ResultsTable');
     this.addClass(`pd-ResultsTable-${side}`);
@@ -176,11 +178,23 @@ export class MultipletTableView extends Widget {
   }
 
   private _export(): void {
-    const blob = new Blob([this._model.csv()], { type: 'text/csv;charset=utf-8' });
+    const table = this._model;
+    const store = table.store;
+    const source = this._source();
+    if (store === null || source === null) {
+      return;
+    }
+    const visible = table.visible;
+    const text = provenanceCsv(
+      Array.from(visible, index => store.rows[index]),
+      Float64Array.from(visible, index => store.adequacy[index]),
+      [...provenanceEntries(source), ...tableEntries(table.side, table.filter, table.rowCount, table.totalCount)]
+    );
+    const blob = new Blob([text], { type: 'text/csv;charset=utf-8' });
     const url = URL.createObjectURL(blob);
     const link = document.createElement('a');
     link.href = url;
-    link.download = `polyadic-${this._model.side}.csv`;
+    link.download = `${exportFileName(source, table.side)}.csv`;
     link.style.display = 'none';
     document.body.append(link);
     link.click();
@@ -191,6 +205,7 @@ export class MultipletTableView extends Widget {
 
   private readonly _model: MultipletTable;
   private readonly _onSelect: (index: number) => void;
+  private readonly _source: () => IExportSource | null;
   private readonly _table: HTMLTableElement;
   private readonly _body: HTMLTableSectionElement;
   private readonly _headers: HTMLTableCellElement[] = [];
@@ -207,6 +222,8 @@ export namespace MultipletTableView {
     model: MultipletTable;
     /** Called with a row's store index when it is clicked or entered. */
     onSelect: (index: number) => void;
+    /** What an export names and carries (the frame, the record, the settings). */
+    source?: () => IExportSource | null;
   }
 }
 

@@ -7,7 +7,7 @@ import { Panel, Widget } from '@lumino/widgets';
 
 import { textElement } from '../dom';
 import { ChainView } from './chain-view';
-import { formatCount } from './format';
+import { formatCount, plural, wordFor } from '../../engine/text';
 import { HistogramsView } from './histograms';
 import { ResultsModel } from './model';
 import { MultipletTableView } from './table-view';
@@ -24,8 +24,9 @@ export class ResultsView extends Panel {
     this._histograms = new HistogramsView({ model: this._model });
     this._filters = new Widget({ node: this._buildFilters() });
     const select = (index: number): void => this._model.selectMultiplet(index);
-    this._synergy = new MultipletTableView({ model: this._model.synergy, onSelect: select });
-    this._redundancy = new MultipletTableView({ model: this._model.redundancy, onSelect: select });
+    const source = () => this._model.exportSource;
+    this._synergy = new MultipletTableView({ model: this._model.synergy, onSelect: select, source });
+    this._redundancy = new MultipletTableView({ model: this._model.redundancy, onSelect: select, source });
     this._chain = new ChainView({ model: this._model });
     for (const widget of [this._summary, this._histograms, this._filters, this._synergy, this._redundancy, this._chain]) {
       this.addWidget(widget);
@@ -133,7 +134,7 @@ export class ResultsView extends Panel {
     }
     const bar = model.bar;
     this._barNote.textContent = bar
-      ? `Tables show the ${formatCount(bar.count)} order-${bar.order} multiplets of one histogram bar.`
+      ? `Tables show the ${plural(bar.count, `order-${bar.order} multiplet`)} of one histogram bar.`
       : '';
     this._clearBar.hidden = bar === null;
     this._synergy.setSelected(model.selected);
@@ -149,19 +150,19 @@ export class ResultsView extends Panel {
       textElement(
         'p',
         'pd-Results-facts',
-        `${frame ? `${frame}: ` : ''}${formatCount(result.rows_used)} rows used of ${formatCount(result.rows)}, ` +
-          `${formatCount(result.columns.length)} columns, ${formatCount(model.multipletCount)} multiplets of ` +
+        `${frame ? `${frame}: ` : ''}${plural(result.rows_used, 'row')} used of ${formatCount(result.rows)}, ` +
+          `${plural(result.columns.length, 'column')}, ${plural(model.multipletCount, 'multiplet')} of ` +
           `order 2 to ${result.max_order}, ${result.estimator} estimator, ${result.units}.`
       )
     );
     const cautions: string[] = [
-      `These values are estimates from a sample. With ${formatCount(model.multipletCount)} multiplets, ` +
+      `These values are estimates from a sample. With ${plural(model.multipletCount, 'multiplet')}, ` +
         'some will look extreme by chance alone; significance tests (surrogate data, q-values) come ' +
         'in a later version.'
     ];
     if (model.inadequateCount > 0) {
       cautions.push(
-        `${formatCount(model.inadequateCount)} ${model.inadequateCount === 1 ? 'multiplet has' : 'multiplets have'} ` +
+        `${plural(model.inadequateCount, 'multiplet')} ${wordFor(model.inadequateCount, 'has', 'have')} ` +
           'adequacy below 1: fewer rows than possible ' +
           'joint cells of their columns, so their entropies are biased and their values less ' +
           'reliable (marked \u26a0 in the tables).'

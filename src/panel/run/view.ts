@@ -4,6 +4,7 @@
  */
 import { Widget } from '@lumino/widgets';
 
+import { plural } from '../../engine/text';
 import type { AnalysisModel } from '../analysis/model';
 import { textElement } from '../dom';
 
@@ -72,9 +73,9 @@ export class RunView extends Widget {
     if (run.state === 'done' && latest !== null) {
       const count = latest.result.multiplet_count;
       this._line.textContent =
-        `${count.toLocaleString('en-US')} multiplets computed from ${latest.frame.rows.toLocaleString('en-US')} rows of ` +
+        `${plural(count, 'multiplet')} computed from ${plural(latest.frame.rows, 'row')} of ` +
         `${latest.frame.name} in ${Private.duration(latest.elapsedMs)}` +
-        (latest.frame.sampled ? ` (a seeded sample of ${latest.frame.originalRows.toLocaleString('en-US')} rows, seed ${latest.frame.seed}).` : '.');
+        (latest.frame.sampled ? ` (a seeded sample of ${plural(latest.frame.originalRows, 'row')}, seed ${latest.frame.seed}).` : '.');
     } else if (run.state === 'cancelled') {
       this._line.textContent = 'Cancelled. Nothing was computed; press Run to start again.';
     } else if (run.state === 'error') {

@@ -1,0 +1,246 @@
+/**
+ * The analysis model that ties the sections together: choices that belong to one notebook,
+ * the highest order lowered to the selected columns (and said so).
+ */
+import * as fs from 'fs';
+import * as path from 'path';
+
+import { Signal } from '@lumino/signaling';
+
+import type { KernelBridge } from '../../src/bridge/connector';
+import type { IFetchedFrame } from '../../src/bridge/decode';
+import type { IFrameInfo } from '../../src/bridge/protocol';
+import { readDataFile } from '../../src/cli/readers';
+import { analyze } from '../../src/engine/analyze';
+import type { ColumnView, IAnalyzeOptions } from '../../src/engine/types';
+import { AnalysisModel, type IEngineRunner } from '../../src/panel/analysis/model';
+import { EstimatorModel } from '../../src/panel/estimator/model';
+import { recordCompletedRuns } from '../../src/panel/records/connect';
+import { RecordsModel } from '../../src/panel/records/model';
+import { followRestores } from '../../src/panel/records/restore';
+import type { IPolyadicSettings } from '../../src/tokens';
+import type { IRunResult } from '../../src/worker/pool';
+import { previewColumn } from '../../src/worker/handlers';
+import { greenhouseTable, tempFolder, toCsv } from '../record/helpers';
+
+/** The settings as the Settings Editor gives them with nothing changed: the schema's defaults. */
+function defaultSettings(): IPolyadicSettings {
+  const schema = JSON.parse(fs.readFileSync(path.join(__dirname, '..', '..', 'schema', 'settings', 'plugin.json'), 'utf8')) as {
+    properties: Record<string, { default: unknown }>;
+  };
+  return Object.fromEntries(Object.entries(schema.properties).map(([key, property]) => [key, property.default])) as unknown as IPolyadicSettings;
+}
+
+/** An engine that is never asked to run here. */
+const idleEngine: IEngineRunner = {
+  analyze: (_columns, _options: IAnalyzeOptions) => Promise.reject(new Error('not in this test')),
+  preview: () => Promise.reject(new Error('not in this test')),
+  cancel: () => undefined
+};
+
+/** The greenhouse helper table as column views, with `change` applied to its cells first. */
+async function greenhouseColumns(change?: (rows: string[][]) => void): Promise<ColumnView[]> {
+  const table = greenhouseTable(300, 11);
+  change?.(table.rows);
+  const file = path.join(tempFolder(), 'greenhouse.csv');
+  fs.writeFileSync(file, toCsv(table));
+  return (await readDataFile(file)).columns;
+}
+
+/** A kernel holding one frame, `greenhouse`, whose data the test changes as a cell would. */
+class FakeKernel {
+  constructor(public columns: ColumnView[]) {}
+  readonly statusChanged = new Signal<this, unknown>(this);
+  readonly framesChanged = new Signal<this, unknown>(this);
+  readonly status = { state: 'ready', message: 'ready', commands: [] };
+  isDisposed = false;
+  sent: string[] = [];
+
+  get listing(): { frames: IFrameInfo[]; skipped: [] } {
+    const frame: IFrameInfo = {
+      name: 'greenhouse',
+      kind: 'pandas',
+      rows: 300,
+      memory_bytes: 1,
+      columns: this.columns.map(column => ({ name: column.name, dtype: column.dtype, kind: column.kind }))
+    };
+    return { frames: [frame], skipped: [] };
+  }
+
+  fetch(name: string, names: string[]): Promise<IFetchedFrame> {
+    const columns = names.map(wanted => this.columns.find(column => column.name === wanted)!);
+    return Promise.resolve({ name, columns, fields: [], rows: 300, originalRows: 300, sampled: false, seed: 0, bytes: 1 });
+  }
+
+  sendResults(id: string): Promise<unknown> {
+    this.sent.push(id);
+    return Promise.resolve({ rows: 0 });
+  }
+}
+
+/** The real engine in-process; `hold` keeps the next analysis waiting until released. */
+function engine(): IEngineRunner & { hold: boolean; release: () => void } {
+  let waiting: (() => void) | null = null;
+  const runner = {
+    hold: false,
+    release: () => waiting?.(),
+    analyze: (columns: ColumnView[], options: IAnalyzeOptions): Promise<IRunResult> => {
+      const result = { result: analyze(columns, options), workers: 1, elapsedMs: 1 };
+      if (!runner.hold) {
+        return Promise.resolve(result);
+      }
+      return new Promise<IRunResult>(resolve => (waiting = () => resolve(result)));
+    },
+    preview: (column: ColumnView, spec?: string) => Promise.resolve(previewColumn(column, spec)),
+    cancel: () => undefined
+  };
+  return runner;
+}
+
+async function settle(): Promise<void> {
+  for (let i = 0; i < 30; i++) {
+    await new Promise(resolve => setTimeout(resolve, 0));
+  }
+}
+
+/** An analysis model on a fake kernel, wired to a records model as the panel wires them. */
+async function panelOn(kernel: FakeKernel): Promise<{ analysis: AnalysisModel; records: RecordsModel; runner: ReturnType<typeof engine> }> {
+  const runner = engine();
+  const records = new RecordsModel();
+  // as PanelModel wires them
+  const analysis = new AnalysisModel({ engine: runner, previewDebounceMs: 0, recordIdFor: run => records.rerunOf(run) });
+  analysis.applySettings({ ...defaultSettings(), estimator: 'plugin' });
+  const metadata: Record<string, unknown> = {};
+  records.setNotebook({ path: 'a.ipynb', metadata: { get: key => metadata[key], set: (key, value) => (metadata[key] = value) } });
+  recordCompletedRuns(analysis, records);
+  followRestores(analysis, records);
+  analysis.data.bridge = kernel as unknown as KernelBridge;
+  await analysis.data.pick('greenhouse');
+  await settle();
+  return { analysis, records, runner };
+}
+
+describe('AnalysisModel', () => {
+  describe('#start', () => {
+    it('should raise the data-changed banner of the chosen record as soon as a run reads changed data', async () => {
+      const kernel = new FakeKernel(await greenhouseColumns());
+      const { analysis, records, runner } = await panelOn(kernel);
+      await analysis.start();
+      await settle();
+      const first = records.selected!;
+      expect(records.dataCheckOf(first.id)?.status).toBe('same');
+
+      // a cell changes one humidity in the kernel; the shape stays, so no listing says so
+      kernel.columns = await greenhouseColumns(rows => (rows[42][4] = '3.25'));
+      runner.hold = true;
+      const run = analysis.start();
+      await settle();
+      // the run has read the frame but the engine has not finished: the banner is up already
+      expect(analysis.runState).toBe('running');
+      expect(records.dataCheckOf(first.id)).toMatchObject({ status: 'changed', comparison: { changedColumns: ['humidity_b_pct'] } });
+      // and the loaded frame is the kernel's data now, for the checklist and the previews
+      const loaded = analysis.data.fetched!.columns.find(column => column.name === 'humidity_b_pct')!;
+      expect(loaded).toBe(kernel.columns.find(column => column.name === 'humidity_b_pct'));
+      runner.release();
+      await run;
+      await settle();
+      // the run on the changed data is recorded and chosen, with no banner of its own
+      const second = records.selected!;
+      expect(second.id).not.toBe(first.id);
+      expect(records.dataCheckOf(second.id)?.status ?? 'same').toBe('same');
+      expect(records.dataCheckOf(first.id)?.status).toBe('changed');
+      // the binning chosen for the frame survived the new data
+      expect(analysis.binning.specOf('humidity_b_pct')).toBe('auto');
+      analysis.dispose();
+    });
+
+    it('should give a re-run with the same settings on the same data the id of the analysis it repeats', async () => {
+      const kernel = new FakeKernel(await greenhouseColumns());
+      const { analysis, records } = await panelOn(kernel);
+      await analysis.start();
+      await settle();
+      analysis.binning.setSpec('air_temp_c', 'quantile:8');
+      await analysis.start();
+      await settle();
+      analysis.binning.setSpec('air_temp_c', 'auto');
+      await analysis.start();
+      await settle();
+      const analyses = records.state!.analyses;
+      // the third run repeats the first: one record for both, under one id in the kernel too
+      expect(analyses).toHaveLength(2);
+      expect(kernel.sent).toEqual([analyses[0].id, analyses[1].id, analyses[0].id]);
+      expect(analysis.latest!.analysisId).toBe(analyses[0].id);
+      expect(records.selectedId).toBe(analyses[0].id);
+      expect(analyses[0].label).not.toBe(analyses[1].label);
+      analysis.dispose();
+    });
+
+    it('should keep the binning specs when the loaded frame takes a run’s newer columns', async () => {
+      const kernel = new FakeKernel(await greenhouseColumns());
+      const { analysis } = await panelOn(kernel);
+      analysis.binning.setSpec('air_temp_c', 'width:3');
+      kernel.columns = await greenhouseColumns(rows => (rows[7][5] = '40.00'));
+      await analysis.start();
+      await settle();
+      expect(analysis.data.fetched!.columns.find(column => column.name === 'air_temp_c')).toBe(
+        kernel.columns.find(column => column.name === 'air_temp_c')
+      );
+      expect(analysis.binning.specOf('air_temp_c')).toBe('width:3');
+      analysis.dispose();
+    });
+  });
+
+  describe('#setNotebook', () => {
+    it('should keep each notebook’s estimator, units and maximum order with that notebook', () => {
+      const model = new AnalysisModel({ engine: idleEngine });
+      const settings = defaultSettings();
+      model.applySettings(settings);
+      model.setNotebook('notebook-a');
+      model.estimator.maxOrder = 18;
+      model.estimator.estimator = 'plugin';
+      model.estimator.units = 'nats';
+
+      // another notebook starts from the settings, not from the first notebook's choices
+      model.setNotebook('notebook-b');
+      expect(model.estimator.choices).toEqual({ estimator: settings.estimator, units: settings.units, maxOrder: null });
+      model.estimator.maxOrder = 4;
+
+      model.setNotebook('notebook-a');
+      expect(model.estimator.choices).toEqual({ estimator: 'plugin', units: 'nats', maxOrder: 18 });
+      model.setNotebook('notebook-b');
+      expect(model.estimator.maxOrder).toBe(4);
+      model.dispose();
+    });
+
+    it('should let a notebook whose choices were never touched follow new settings', () => {
+      const model = new AnalysisModel({ engine: idleEngine });
+      model.applySettings(defaultSettings());
+      model.setNotebook('notebook-a');
+      model.setNotebook('notebook-b');
+      model.applySettings({ ...defaultSettings(), estimator: 'shrinkage' });
+      expect(model.estimator.estimator).toBe('shrinkage');
+      model.setNotebook('notebook-a');
+      expect(model.estimator.estimator).toBe('shrinkage');
+      model.dispose();
+    });
+  });
+});
+
+describe('EstimatorModel', () => {
+  describe('#orderClamp', () => {
+    it('should say when the order asked for is above the selected columns', () => {
+      const model = new EstimatorModel();
+      expect(model.orderClamp(16)).toBeNull();
+      model.maxOrder = 17;
+      expect(model.effectiveMaxOrder(16)).toBe(16);
+      expect(model.orderClamp(16)).toEqual({ asked: 17, used: 16, source: 'choice' });
+      expect(model.orderClamp(17)).toBeNull();
+      model.maxOrder = null;
+      model.setRule('fixed', 5);
+      expect(model.orderClamp(3)).toEqual({ asked: 5, used: 3, source: 'settings' });
+      // the automatic rule never asks for more than there is
+      model.setRule('auto', 3);
+      expect(model.orderClamp(2)).toBeNull();
+    });
+  });
+});
