@@ -376,7 +376,7 @@ export function concludeRun(
       warnings.push(
         `With ${plural(statistics.surrogates, 'surrogate')} and ${plural(family.count, 'tested multiplet')}, no ` +
           `q-value can fall below ${statistics.alpha}: the smallest p-value is ${floor.toPrecision(3)}. Sharpen the ` +
-          `p-values at their floor with at least ${needed.toLocaleString('en-US')} fresh surrogates, or use more surrogates.`
+          `p-values at their floor with at least ${formatCount(needed)} fresh surrogates, or use more surrogates.`
       );
     }
   }
@@ -443,11 +443,6 @@ export function selectMultiplets(lattice: ILattice, coinformation: Float64Array,
     .slice(0, top)
     .filter(index => !taken.has(index));
   return [...lowest, ...highest];
-}
-
-/** A count with its noun, digits grouped: '1 surrogate', '1,000 surrogates'. */
-function plural(count: number, noun: string): string {
-  return `${count.toLocaleString('en-US')} ${noun}${count === 1 ? '' : 's'}`;
 }
 
 function checkMissing(policy: MissingPolicy | undefined): MissingPolicy {

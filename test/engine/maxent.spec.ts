@@ -8,13 +8,17 @@
  * virtual environment first on PATH); without statsmodels that test fails, saying so.
  */
 import { spawnSync } from 'child_process';
+import { existsSync } from 'fs';
+import * as path from 'path';
 import fc from 'fast-check';
 import { unsafeUniformIntDistribution, xoroshiro128plus } from 'pure-rand';
 
 import { connectedInformation, fitPairwisePreserving, MAX_FIT_CELLS } from '../../src/engine/maxent';
 import { codedTable, expectPolyadic, naiveEntropy } from './helpers';
 
-const PYTHON = process.env.POLYADIC_PYTHON ?? 'python3';
+// The project's environment (the test extras hold statsmodels) unless POLYADIC_PYTHON says otherwise.
+const VENV_PYTHON = path.join(__dirname, '..', '..', '.venv', 'bin', 'python');
+const PYTHON = process.env.POLYADIC_PYTHON ?? (existsSync(VENV_PYTHON) ? VENV_PYTHON : 'python3');
 
 const STATSMODELS_SCRIPT = `
 import itertools, json, sys

@@ -98,17 +98,14 @@ export function provenanceCsv(
   adequacy: ArrayLike<number>,
   entries: readonly ProvenanceEntry[]
 ): string {
-  const body = multipletsCsv(rows);
-  const records = Private.splitRecords(body);
-  if (records.length - 1 !== adequacy.length) {
-    throw new Error(`The export has ${records.length - 1} rows but ${adequacy.length} adequacy values.`);
+  const list = Array.from(rows);
+  if (list.length !== adequacy.length) {
+    throw new Error(`The export has ${list.length} rows but ${adequacy.length} adequacy values.`);
   }
+  // The adequacy goes where the CLI's CSV puts it (right after the measures, before any statistics).
+  const body = multipletsCsv(list.map((row, i) => ({ ...row, [ADEQUACY_COLUMN]: adequacy[i] })));
   const lines = entries.map(([key, value]) => `# ${key}: ${Private.oneLine(value)}`);
-  lines.push(`${records[0]},${ADEQUACY_COLUMN}`);
-  for (let i = 1; i < records.length; i++) {
-    lines.push(`${records[i]},${adequacy[i - 1]}`);
-  }
-  return lines.join('\n') + '\n';
+  return lines.join('\n') + (lines.length ? '\n' : '') + body;
 }
 
 /** One line of text that names an export's frame and record, for a chart's subtitle. */
@@ -132,29 +129,5 @@ namespace Private {
   export function oneLine(text: string): string {
     // eslint-disable-next-line no-control-regex
     return text.replace(/[\u0000-\u001f\u007f-\u009f\u2028\u2029]/g, c => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
-  }
-
-  /**
-   * The records of CSV text that ends with a line break, each without it: a line break inside a
-   * quoted field (a column name holding one) does not end a record (RFC 4180 §2.6).
-   */
-  export function splitRecords(text: string): string[] {
-    const records: string[] = [];
-    let start = 0;
-    let quoted = false;
-    for (let i = 0; i < text.length; i++) {
-      const c = text.charCodeAt(i);
-      if (c === 34) {
-        // a doubled quote inside a quoted field toggles twice: no net change
-        quoted = !quoted;
-      } else if (c === 10 && !quoted) {
-        records.push(text.slice(start, text[i - 1] === '\r' ? i - 1 : i));
-        start = i + 1;
-      }
-    }
-    if (start < text.length) {
-      records.push(text.slice(start));
-    }
-    return records;
   }
 }
