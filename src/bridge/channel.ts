@@ -81,7 +81,8 @@ export class RequestChannel {
       const read = (data: JSONObject, buffers: readonly unknown[]): boolean => {
         const replyType: unknown = data.type;
         if (isKeyOf(expected.progress, replyType)) {
-          options.progress?.(readKernelMessage(replyType, data), buffers);
+          const progress = readKernelMessage(replyType, data);
+          options.progress?.(progress, buffers);
           return false;
         }
         if (isKeyOf(expected.final, replyType)) {

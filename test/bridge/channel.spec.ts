@@ -9,22 +9,9 @@ import { RequestChannel } from '../../src/bridge/channel';
 import { KernelBridge } from '../../src/bridge/connector';
 import { BridgeError } from '../../src/bridge/errors';
 import type { IListingMessage } from '../../src/bridge/protocol';
-import { FakeComm, FakeKernel, FakeSession, flush, ISent } from './fakes';
+import { failure, FakeComm, FakeKernel, FakeSession, flush, ISent } from './fakes';
 
 const LABEL = { what: 'the test request', again: 'try it again' };
-
-/** The rejection of a promise, which must be a BridgeError. */
-async function failure(promise: Promise<unknown>): Promise<BridgeError> {
-  let caught: unknown = undefined;
-  await promise.then(
-    () => undefined,
-    error => {
-      caught = error;
-    }
-  );
-  expect(caught).toBeInstanceOf(BridgeError);
-  return caught as BridgeError;
-}
 
 /** A channel on a fresh fake comm, with what it was pushed. */
 function channelOn(kernel = new FakeKernel('k1')) {
