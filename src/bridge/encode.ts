@@ -37,8 +37,9 @@ export function encodeMultiplets(rows: readonly IMultipletRow[]): Uint8Array {
   for (const name of extras) {
     columns[name] = arrow.vectorFromArray(
       rows.map(row => {
-        const value = (row as unknown as Record<string, unknown>)[name];
-        return value === undefined ? null : (value as number | null);
+        // `name` is a field checkRows found on some row and checked to be a number or null.
+        const value: unknown = Reflect.get(row, name);
+        return typeof value === 'number' ? value : null;
       }),
       new arrow.Float64()
     );

@@ -11,7 +11,12 @@
  * in the user's namespace (src/bridge/connector.ts), then opens the comm.
  * On open the kernel pushes a {@link IListingMessage}; it pushes another after every executed
  * cell whose listing differs from the last one sent.
+ *
+ * The front end sends these types as they are and reads every kernel message through the
+ * checks of src/bridge/guards.ts, which are typed by these interfaces: changing a message here
+ * fails to compile until its check follows.
  */
+import type { JSONObject } from '@lumino/coreutils';
 
 /** Name of the comm target (DESIGN.md glossary). */
 export const COMM_TARGET = 'polyadic';
@@ -116,7 +121,7 @@ export interface IResultsChunk {
   chunk_index: number;
   chunk_count: number;
   /** Plain JSON kept with the table (pandas `attrs['polyadic']`), e.g. label, units, frame. */
-  meta?: Record<string, unknown>;
+  meta?: JSONObject;
 }
 
 /** Any message the front end sends. */
@@ -246,3 +251,16 @@ export type KernelMessage =
   | IResultsAck
   | IResultsStored
   | IErrorMessage;
+
+/** The kernel message of one type. */
+export type KernelMessageOf<T extends KernelMessage['type']> = Extract<KernelMessage, { type: T }>;
+
+/**
+ * The message types that answer each request: any number of `progress` replies, then one
+ * `final` reply; an {@link IErrorMessage} may end any request instead.
+ */
+export interface IRequestReplies {
+  list: { progress: never; final: 'listing' };
+  fetch: { progress: 'fetch_chunk'; final: 'fetch_done' };
+  results_chunk: { progress: never; final: 'results_ack' | 'results_stored' };
+}

@@ -10,13 +10,8 @@ import { parseArgs } from 'util';
 
 import { isPolyadicError, PolyadicError } from '../engine/errors';
 import { fingerprintColumns } from '../record/fingerprint';
+import { EXIT, ICliStreams } from './core';
 import { readDataFile } from './readers';
-
-/** Where the command writes. */
-export interface IFingerprintStreams {
-  stdout: { write(text: string): unknown };
-  stderr: { write(text: string): unknown };
-}
 
 /** The text of `polyadic fingerprint --help`. */
 export const FINGERPRINT_HELP = `Usage: polyadic fingerprint DATA [--columns a,b,c]
@@ -31,7 +26,7 @@ Options:
 `;
 
 /** Run `polyadic fingerprint` on its arguments (after the word `fingerprint`). */
-export async function runFingerprint(args: string[], io: IFingerprintStreams): Promise<number> {
+export async function runFingerprint(args: string[], io: ICliStreams): Promise<number> {
   try {
     let parsed;
     try {
@@ -47,7 +42,7 @@ export async function runFingerprint(args: string[], io: IFingerprintStreams): P
     }
     if (parsed.values.help) {
       io.stdout.write(FINGERPRINT_HELP);
-      return 0;
+      return EXIT.done;
     }
     const [data, ...extra] = parsed.positionals;
     if (data === undefined || extra.length > 0) {
@@ -60,15 +55,15 @@ export async function runFingerprint(args: string[], io: IFingerprintStreams): P
     const source = await readDataFile(data, { columns });
     const fingerprint = await fingerprintColumns(source.columns);
     io.stdout.write(JSON.stringify({ ...fingerprint, rows: source.rows }, null, 2) + '\n');
-    return 0;
+    return EXIT.done;
   } catch (error) {
     if (isPolyadicError(error) && error.kind !== 'internal') {
       // messages quote column names from an untrusted file: no control character reaches the terminal
       // eslint-disable-next-line no-control-regex
       io.stderr.write(`polyadic: ${error.message.replace(/[\u0000-\u001f\u007f-\u009f]/g, ' ')}\n`);
-      return 2;
+      return EXIT.usage;
     }
     io.stderr.write(`polyadic: internal error: ${error instanceof Error ? error.message : String(error)}\n`);
-    return 1;
+    return EXIT.internal;
   }
 }

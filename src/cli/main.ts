@@ -17,6 +17,7 @@ import { BIN_SPEC_FORMS, parseBinSpec } from '../engine/binning';
 import { isPolyadicError, PolyadicError } from '../engine/errors';
 import { unknownColumn } from '../engine/table';
 import type { EstimatorName, IAnalysisResult, IAnalyzeOptions, MissingPolicy, Units } from '../engine/types';
+import { EXIT, ICliStreams, oneLine } from './core';
 import { runFingerprint } from './fingerprint';
 import { formatResult, OUTPUT_FORMATS, OutputFormat } from './output';
 import { readDataFile, type IDataSource } from './readers';
@@ -26,14 +27,8 @@ import { runVerify } from './verify';
 /** The package version, replaced by the bundler; undefined when running from source. */
 declare const POLYADIC_VERSION: string | undefined;
 
-/** Where the CLI writes: process.stdout/stderr, or a capture in tests. */
-export interface ICliStreams {
-  stdout: { write(text: string): unknown };
-  stderr: { write(text: string): unknown };
-}
-
-/** Exit codes of the CLI. */
-export const EXIT = { done: 0, internal: 1, usage: 2 } as const;
+/** Re-exported for the CLI's callers; the streams and exit codes of every command live in core.ts. */
+export { EXIT, type ICliStreams } from './core';
 
 /** Values each enumerated option accepts. */
 export const CHOICES = {
@@ -130,7 +125,7 @@ export async function main(argv: string[], streams: ICliStreams = process): Prom
     const options = Private.analyzeOptions(command, source);
     const result = await Private.run(source, options, command.threads);
     for (const warning of result.warnings) {
-      streams.stderr.write(`polyadic: warning: ${Private.oneLine(warning)}\n`);
+      streams.stderr.write(`polyadic: warning: ${oneLine(warning)}\n`);
     }
     for (const note of Private.statisticsNotes(result)) {
       streams.stderr.write(`polyadic: note: ${note}\n`);
@@ -158,12 +153,12 @@ export function reportError(error: unknown, streams: ICliStreams, source?: IData
     if (source?.lineOfRow && typeof row === 'number' && error.detail.line === undefined && !/\bline \d/.test(message)) {
       message = `${message.replace(/\.$/, '')} (line ${source.lineOfRow(row)} of the file).`;
     }
-    streams.stderr.write(`polyadic: ${Private.oneLine(message)}\n`);
+    streams.stderr.write(`polyadic: ${oneLine(message)}\n`);
     return EXIT.usage;
   }
   const message = error instanceof Error ? error.message : String(error);
   streams.stderr.write(
-    `polyadic: internal error: ${Private.oneLine(message)}\n` +
+    `polyadic: internal error: ${oneLine(message)}\n` +
       'polyadic: this is a bug in Polyadic; please report it with the command you ran, ' +
       'the output of `polyadic --version` and, if you can, the data file.\n'
   );
@@ -483,15 +478,6 @@ namespace Private {
         value: out
       });
     }
-  }
-
-  /**
-   * A message on one line with control characters shown as escapes: messages quote column
-   * names and cells from untrusted files, which must not move the cursor or recolour a terminal.
-   */
-  export function oneLine(message: string): string {
-    // eslint-disable-next-line no-control-regex
-    return message.replace(/[\u0000-\u001f\u007f-\u009f]/g, c => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
   }
 
   /**

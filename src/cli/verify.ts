@@ -32,16 +32,11 @@ import { compareFingerprint, optionsFromRecord } from '../record/settings';
 import { readRecords } from '../record/store';
 import { orderHistogram } from '../record/summary';
 import type { IAnalysisRecord, IMultipletSummary } from '../record/types';
+import { EXIT, ICliStreams, oneLine } from './core';
 import { readDataFile, type IDataSource } from './readers';
 
-/** Where verify writes: process.stdout/stderr, or a capture in tests. */
-export interface IVerifyStreams {
-  stdout: { write(text: string): unknown };
-  stderr: { write(text: string): unknown };
-}
-
-/** Exit codes of verify. */
-export const VERIFY_EXIT = { reproduced: 0, differs: 1, badInput: 2 } as const;
+/** The exit codes of verify (core.ts's, under verify's names). */
+export const VERIFY_EXIT = { reproduced: EXIT.done, differs: EXIT.differs, badInput: EXIT.usage } as const;
 
 /** Largest difference allowed across engine versions (absolute up to 1, relative above). */
 export const CROSS_VERSION_TOLERANCE = 1e-9;
@@ -65,7 +60,7 @@ Exit codes: 0 all analyses reproduce, 1 at least one does not, 2 bad input.
 `;
 
 /** Run `polyadic verify` on its arguments (after the word `verify`); resolves to the exit code. */
-export async function runVerify(args: string[], io: IVerifyStreams): Promise<number> {
+export async function runVerify(args: string[], io: ICliStreams): Promise<number> {
   let parsed: Private.ICommand;
   let analyses: IAnalysisRecord[];
   try {
@@ -81,13 +76,14 @@ export async function runVerify(args: string[], io: IVerifyStreams): Promise<num
     return Private.reportFailure(error, io);
   }
   io.stdout.write(
-    `polyadic verify: ${Private.oneLine(parsed.notebook)}: ${plural(analyses.length, 'analysis', 'analyses')}\n`
+    `polyadic verify: ${oneLine(parsed.notebook)}: ${plural(analyses.length, 'analysis', 'analyses')}
+`
   );
   const sources = new Map<string, Promise<IDataSource>>();
   let reproduced = 0;
   let badInput = false;
   for (const analysis of analyses) {
-    const head = `${analysis.id}  ${Private.oneLine(analysis.label)}  `;
+    const head = `${analysis.id}  ${oneLine(analysis.label)}  `;
     let outcome: Private.IOutcome;
     try {
       outcome = await Private.verifyAnalysis(analysis, parsed.data.get(analysis.source.frame) as string, sources);
@@ -102,7 +98,7 @@ export async function runVerify(args: string[], io: IVerifyStreams): Promise<num
     if (outcome.ok) {
       reproduced++;
     }
-    io.stdout.write(head + Private.oneLine(outcome.text) + '\n');
+    io.stdout.write(head + oneLine(outcome.text) + '\n');
   }
   // "1 of 1 analyses reproduce": the summary line keeps one wording for scripts that read it
   io.stdout.write(`${formatCount(reproduced)} of ${formatCount(analyses.length)} analyses reproduce.\n`);
@@ -479,7 +475,7 @@ namespace Private {
   }
 
   /** Print a failure before any analysis ran: usage and input problems are 2, bugs 1. */
-  export function reportFailure(error: unknown, io: IVerifyStreams): number {
+  export function reportFailure(error: unknown, io: ICliStreams): number {
     if (isPolyadicError(error) && error.kind !== 'internal') {
       io.stderr.write(`polyadic: ${oneLine(error.message)}\n`);
       return VERIFY_EXIT.badInput;
@@ -488,15 +484,6 @@ namespace Private {
       `polyadic: internal error: ${oneLine(error instanceof Error ? error.message : String(error))}\n` +
         'polyadic: this is a bug in Polyadic; please report it with the command you ran.\n'
     );
-    return VERIFY_EXIT.differs;
-  }
-
-  /**
-   * A message on one line with control characters shown as escapes: labels and column names
-   * come from an untrusted notebook and must not move the cursor or recolour a terminal.
-   */
-  export function oneLine(message: string): string {
-    // eslint-disable-next-line no-control-regex
-    return message.replace(/[\u0000-\u001f\u007f-\u009f]/g, c => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
+    return EXIT.internal;
   }
 }

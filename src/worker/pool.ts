@@ -24,7 +24,7 @@ import {
   ReplicateBlockResult
 } from '../engine/statistics/replicates';
 import type { ColumnView, IAnalysisResult, IAnalyzeOptions } from '../engine/types';
-import { deserializeError } from './handlers';
+import { deserializeError } from './errors';
 import {
   EngineRequest,
   EngineResponse,

@@ -9,6 +9,7 @@ import type { Kernel, KernelMessage } from '@jupyterlab/services';
 import { JSONObject, JSONValue, PromiseDelegate } from '@lumino/coreutils';
 import { Signal } from '@lumino/signaling';
 
+import { BridgeError } from '../../src/bridge/errors';
 import type { IBridgeComm, IBridgeKernel, IBridgeSession, MessageBuffers } from '../../src/bridge/kernel';
 import type { IFetchDone, IFrameInfo } from '../../src/bridge/protocol';
 
@@ -17,6 +18,19 @@ export async function flush(rounds = 5): Promise<void> {
   for (let i = 0; i < rounds; i++) {
     await new Promise(resolve => setImmediate(resolve));
   }
+}
+
+/** The rejection of a promise, which must be a BridgeError. */
+export async function failure(promise: Promise<unknown>): Promise<BridgeError> {
+  let caught: unknown = undefined;
+  await promise.then(
+    () => undefined,
+    error => {
+      caught = error;
+    }
+  );
+  expect(caught).toBeInstanceOf(BridgeError);
+  return caught as BridgeError;
 }
 
 /** A request's future: `finish` is the kernel's idle status, `cancel` a restart. */

@@ -2,14 +2,8 @@ import { analyze } from '../../src/engine/analyze';
 import { binColumn } from '../../src/engine/binning';
 import { isPolyadicError, PolyadicError } from '../../src/engine/errors';
 import type { ColumnView, IAnalyzeOptions, INumericColumn } from '../../src/engine/types';
-import {
-  deserializeError,
-  finishRun,
-  prepareRun,
-  previewColumn,
-  serializeError,
-  WorkerHost
-} from '../../src/worker/handlers';
+import { deserializeError, serializeError } from '../../src/worker/errors';
+import { finishRun, prepareRun, previewColumn, WorkerHost } from '../../src/worker/handlers';
 import {
   EngineRequest,
   EngineResponse,

@@ -1,0 +1,203 @@
+/**
+ * Checks of the messages the kernel sends (src/bridge/protocol.ts): one type guard per message
+ * type, so the bridge narrows a reply instead of casting it, and a reply of the wrong shape is
+ * refused with the field at fault named.
+ *
+ * The guards are built from field checks typed by the protocol's own interfaces: a shape lists
+ * one check per field, and checks are invariant in their type. A message that gains, loses or
+ * retypes a field, a column kind added to `ColumnKind`, or a message type added to
+ * `KernelMessage` fails to compile here until its check follows.
+ */
+import type { JSONObject } from '@lumino/coreutils';
+
+import { BridgeError } from './errors';
+import {
+  ColumnKind,
+  FrameKind,
+  IBridgeErrorDetail,
+  IErrorMessage,
+  IFetchChunk,
+  IFetchDone,
+  IFetchedColumn,
+  IFrameInfo,
+  IListedColumn,
+  IListingMessage,
+  IResultsAck,
+  IResultsStored,
+  ISkippedFrame,
+  KernelMessage,
+  KernelMessageOf,
+  PROTOCOL_VERSION,
+  TimeUnit
+} from './protocol';
+import {
+  arrayOf,
+  ICheck,
+  isBoolean,
+  isCount,
+  isKeyOf,
+  isString,
+  Known,
+  literal,
+  oneOf,
+  optional,
+  orNull,
+  shape,
+  withIndex
+} from './check';
+import { malformedMessage, protocolMismatch } from './texts';
+
+/** A listed column: name, the library's dtype and its kind. */
+export const isListedColumn: ICheck<IListedColumn> = shape<IListedColumn>({
+  name: isString,
+  dtype: isString,
+  kind: oneOf<ColumnKind>({
+    numeric: true,
+    categorical: true,
+    string: true,
+    bool: true,
+    datetime: true,
+    timedelta: true,
+    other: true
+  })
+});
+
+/** A frame of a listing. */
+export const isFrameInfo: ICheck<IFrameInfo> = shape<IFrameInfo>({
+  name: isString,
+  kind: oneOf<FrameKind>({ pandas: true, polars: true, arrow: true }),
+  rows: isCount,
+  columns: arrayOf(isListedColumn),
+  memory_bytes: isCount
+});
+
+/** A frame the listing could not describe. */
+export const isSkippedFrame: ICheck<ISkippedFrame> = shape<ISkippedFrame>({
+  name: isString,
+  reason: isString
+});
+
+/** A `listing` message (reply or push). */
+export const isListingMessage: ICheck<IListingMessage> = shape<IListingMessage>({
+  type: literal('listing'),
+  request_id: orNull(isString),
+  protocol: isCount,
+  version: isString,
+  frames: arrayOf(isFrameInfo),
+  skipped: arrayOf(isSkippedFrame)
+});
+
+/** A `fetch_chunk` message (its bytes travel in the buffers, which the assembler checks). */
+export const isFetchChunk: ICheck<IFetchChunk> = shape<IFetchChunk>({
+  type: literal('fetch_chunk'),
+  request_id: isString,
+  name: isString,
+  batch_index: isCount,
+  batch_count: isCount,
+  bytes_sent: isCount,
+  bytes_total: isCount
+});
+
+/** How a fetched column was encoded, in a `fetch_done` message. */
+export const isFetchedColumn: ICheck<IFetchedColumn> = shape<IFetchedColumn>({
+  name: isString,
+  dtype: isString,
+  kind: oneOf<IFetchedColumn['kind']>({
+    numeric: true,
+    categorical: true,
+    string: true,
+    bool: true,
+    datetime: true,
+    timedelta: true
+  }),
+  arrow_type: isString,
+  null_count: isCount,
+  unit: optional(oneOf<TimeUnit>({ day: true, s: true, ms: true, us: true, ns: true })),
+  timezone: optional(isString)
+});
+
+/** A `fetch_done` message. */
+export const isFetchDone: ICheck<IFetchDone> = shape<IFetchDone>({
+  type: literal('fetch_done'),
+  request_id: isString,
+  name: isString,
+  rows: isCount,
+  original_rows: isCount,
+  sampled: isBoolean,
+  seed: isCount,
+  columns: arrayOf(isFetchedColumn),
+  batch_count: isCount,
+  bytes_total: isCount
+});
+
+/** A `results_ack` message. */
+export const isResultsAck: ICheck<IResultsAck> = shape<IResultsAck>({
+  type: literal('results_ack'),
+  request_id: isString,
+  analysis_id: isString,
+  chunks_received: isCount,
+  chunk_count: isCount
+});
+
+/** A `results_stored` message. */
+export const isResultsStored: ICheck<IResultsStored> = shape<IResultsStored>({
+  type: literal('results_stored'),
+  request_id: isString,
+  analysis_id: isString,
+  rows: isCount
+});
+
+/** Where an error lies: a JSON object whose known fields have their declared types (others are free). */
+export const isErrorDetail: ICheck<IBridgeErrorDetail> = withIndex<IBridgeErrorDetail>(
+  shape<Known<IBridgeErrorDetail>>({
+    frame: optional(isString),
+    column: optional(isString),
+    option: optional(isString),
+    dtype: optional(isString),
+    types: optional(arrayOf(isString)),
+    fields: optional(arrayOf(isString)),
+    field: optional(isString),
+    traceback: optional(isString)
+  })
+);
+
+/** An `error` message. */
+export const isErrorMessage: ICheck<IErrorMessage> = shape<IErrorMessage>({
+  type: literal('error'),
+  request_id: orNull(isString),
+  message: isString,
+  detail: isErrorDetail
+});
+
+/** The check of every message type the kernel sends. */
+export const KERNEL_MESSAGE_CHECKS: { readonly [T in KernelMessage['type']]: ICheck<KernelMessageOf<T>> } = {
+  listing: isListingMessage,
+  fetch_chunk: isFetchChunk,
+  fetch_done: isFetchDone,
+  results_ack: isResultsAck,
+  results_stored: isResultsStored,
+  error: isErrorMessage
+};
+
+/** Whether a value names a message type the kernel sends. */
+export function isKernelMessageType(value: unknown): value is KernelMessage['type'] {
+  return isKeyOf(KERNEL_MESSAGE_CHECKS, value);
+}
+
+/**
+ * A kernel message of a known type, checked. A listing of another protocol version is refused
+ * for its version before its shape is looked at (the shape may have changed with it); any
+ * other field that is not as protocol.ts says is refused by name. Both are 'protocol' errors.
+ */
+export function readKernelMessage<T extends KernelMessage['type']>(type: T, data: JSONObject): KernelMessageOf<T> {
+  if (type === 'listing' && data.protocol !== PROTOCOL_VERSION) {
+    throw new BridgeError('protocol', protocolMismatch(data.protocol, PROTOCOL_VERSION));
+  }
+  const check: ICheck<KernelMessageOf<T>> = KERNEL_MESSAGE_CHECKS[type];
+  if (check(data)) {
+    return data;
+  }
+  const field = check.problem(data) ?? '';
+  throw new BridgeError('protocol', malformedMessage(type, field), { field });
+}
+

@@ -1,0 +1,310 @@
+/**
+ * The type guards of the kernel's messages: they accept every message the kernel's own bridge
+ * (polyadic/bridge.py, driven at test time with a recording comm) writes, and refuse a message
+ * of the wrong shape by naming the field at fault, never by casting it.
+ */
+import * as fs from 'fs';
+import * as path from 'path';
+
+import { arrayOf, ICheck, isCount, isString, literal, oneOf, optional, orNull, shape } from '../../src/bridge/check';
+import { encodeMultiplets } from '../../src/bridge/encode';
+import { BridgeError } from '../../src/bridge/errors';
+import {
+  isErrorMessage,
+  isFetchChunk,
+  isFetchDone,
+  isKernelMessageType,
+  isListingMessage,
+  isResultsAck,
+  isResultsStored,
+  KERNEL_MESSAGE_CHECKS,
+  readKernelMessage
+} from '../../src/bridge/guards';
+import type { IFetchChunk, IFrameInfo, KernelMessage } from '../../src/bridge/protocol';
+import type { IMultipletRow } from '../../src/engine/types';
+import { runPython, tempFolder } from './helpers';
+
+/**
+ * The kernel side answering one request of each kind through a recording comm: the messages
+ * as it sends them, JSON-encoded as the comm would (buffers left out).
+ */
+const KERNEL_MESSAGES = `
+import json, sys
+import numpy as np, pandas as pd
+from polyadic.bridge import KernelBridge
+from polyadic._results import ResultStore
+
+class Comm:
+    comm_id = "c1"
+    def __init__(self):
+        self.sent = []
+    def send(self, data=None, buffers=None):
+        self.sent.append(json.loads(json.dumps(data)))
+    def on_msg(self, callback):
+        pass
+    def on_close(self, callback):
+        pass
+
+frames = {
+    "greenhouse": pd.DataFrame({
+        "temperature": np.linspace(14.0, 31.0, 50),
+        "valve": pd.Categorical(["open", "shut"] * 25),
+        "sensor": ["a", "b"] * 25,
+        "leak": [True, False] * 25,
+        "logged": pd.date_range("2024-05-01", periods=50, freq="10min", tz="Europe/Berlin"),
+        "elapsed": pd.to_timedelta(np.arange(50), unit="s"),
+    }),
+}
+bridge = KernelBridge(lambda: frames, store=ResultStore())
+comm = Comm()
+bridge.open_comm(comm)
+bridge.handle_message(comm, {"content": {"data": {"type": "list", "request_id": "r1"}}})
+bridge.handle_message(comm, {"content": {"data": {"type": "fetch", "request_id": "r2", "name": "greenhouse"}}})
+bridge.handle_message(comm, {"content": {"data": {"type": "fetch", "request_id": "r3", "name": "gone"}}})
+chunks = [open(name, "rb").read() for name in sys.argv[1:]]
+for index, chunk in enumerate(chunks):
+    bridge.handle_message(comm, {
+        "content": {"data": {"type": "results_chunk", "request_id": f"r{4 + index}", "analysis_id": "a1",
+                             "chunk_index": index, "chunk_count": len(chunks), "meta": {"units": "bits"}}},
+        "buffers": [chunk],
+    })
+print(json.dumps(comm.sent))
+`;
+
+const ROWS: IMultipletRow[] = [
+  {
+    columns: ['valve', 'leak'],
+    order: 2,
+    entropy: 1.5,
+    coinformation: -0.25,
+    total_correlation: 0.5,
+    dual_total_correlation: 0.5,
+    o_information: 0,
+    s_information: 1
+  }
+];
+
+let sent: KernelMessage[];
+
+beforeAll(() => {
+  const bytes = encodeMultiplets(ROWS);
+  const half = Math.ceil(bytes.byteLength / 2);
+  const folder = tempFolder('guards');
+  const files = [bytes.subarray(0, half), bytes.subarray(half)].map((part, index) => {
+    const file = path.join(folder, `chunk-${index}.bin`);
+    fs.writeFileSync(file, part);
+    return file;
+  });
+  sent = JSON.parse(runPython(KERNEL_MESSAGES, files));
+});
+
+/** The first message the kernel sent of a type. */
+function sentOf<T extends KernelMessage['type']>(type: T): Record<string, unknown> {
+  const message = sent.find(item => item.type === type);
+  if (message === undefined) {
+    throw new Error(`the kernel sent no '${type}' message`);
+  }
+  return JSON.parse(JSON.stringify(message));
+}
+
+/** The rejection of reading a message, which must be a BridgeError. */
+function refusal(type: KernelMessage['type'], data: Record<string, unknown>): BridgeError {
+  let caught: unknown;
+  try {
+    readKernelMessage(type, JSON.parse(JSON.stringify(data)));
+  } catch (error) {
+    caught = error;
+  }
+  expect(caught).toBeInstanceOf(BridgeError);
+  return caught as BridgeError;
+}
+
+describe('KERNEL_MESSAGE_CHECKS', () => {
+  it("should accept every message the kernel's bridge sends, of every type", () => {
+    const types = new Set(sent.map(message => message.type));
+    // Each type the protocol knows appears in the recording: the guards are checked on all of them.
+    expect([...types].sort()).toEqual(Object.keys(KERNEL_MESSAGE_CHECKS).sort());
+    for (const message of sent) {
+      const problem = KERNEL_MESSAGE_CHECKS[message.type].problem(message);
+      expect({ type: message.type, problem }).toEqual({ type: message.type, problem: null });
+    }
+  });
+
+  it('should accept the optional time unit and zone of a fetched datetime column', () => {
+    const done = sentOf('fetch_done');
+    expect(isFetchDone(done)).toBe(true);
+    const columns = (done as { columns: Record<string, unknown>[] }).columns;
+    // The unit is the frame's own resolution (pandas' default differs between versions).
+    expect(columns.find(column => column.name === 'logged')).toMatchObject({
+      kind: 'datetime',
+      unit: expect.stringMatching(/^(s|ms|us|ns)$/),
+      timezone: 'Europe/Berlin'
+    });
+    expect(columns.find(column => column.name === 'elapsed')).toMatchObject({ kind: 'timedelta', unit: expect.any(String) });
+    expect(columns.find(column => column.name === 'temperature')).not.toHaveProperty('unit');
+  });
+});
+
+describe('isKernelMessageType', () => {
+  it('should know the message types of the protocol and nothing else', () => {
+    expect(['listing', 'fetch_chunk', 'fetch_done', 'results_ack', 'results_stored', 'error'].every(isKernelMessageType)).toBe(
+      true
+    );
+    expect(isKernelMessageType('fetch')).toBe(false);
+    expect(isKernelMessageType('toString')).toBe(false);
+    expect(isKernelMessageType(undefined)).toBe(false);
+  });
+});
+
+describe('isListingMessage', () => {
+  it.each([
+    ['frames', (m: Record<string, any>) => delete m.frames],
+    ['frames[0].rows', (m: Record<string, any>) => (m.frames[0].rows = '50')],
+    ['frames[0].rows', (m: Record<string, any>) => (m.frames[0].rows = -1)],
+    ['frames[0].kind', (m: Record<string, any>) => (m.frames[0].kind = 'spark')],
+    ['frames[0].columns[1].kind', (m: Record<string, any>) => (m.frames[0].columns[1].kind = 'complex')],
+    ['frames[0].memory_bytes', (m: Record<string, any>) => delete m.frames[0].memory_bytes],
+    ['skipped', (m: Record<string, any>) => (m.skipped = null)],
+    ['version', (m: Record<string, any>) => (m.version = 1)],
+    ['request_id', (m: Record<string, any>) => (m.request_id = 7)]
+  ])('should refuse a listing with a bad %s', (field, spoil) => {
+    const listing = sentOf('listing');
+    spoil(listing);
+    expect(isListingMessage(listing)).toBe(false);
+    expect(isListingMessage.problem(listing)).toBe(field);
+  });
+
+  it('should accept a push (request_id null) and a reply (a string id)', () => {
+    expect(isListingMessage({ ...sentOf('listing'), request_id: null })).toBe(true);
+    expect(isListingMessage({ ...sentOf('listing'), request_id: 'r1' })).toBe(true);
+  });
+});
+
+describe('isFetchChunk', () => {
+  it.each([
+    ['batch_index', { batch_index: 1.5 }],
+    ['bytes_sent', { bytes_sent: '12' }],
+    ['name', { name: null }],
+    ['type', { type: 'fetch_done' }]
+  ])('should refuse a piece with a bad %s', (field, change) => {
+    const chunk = { ...sentOf('fetch_chunk'), ...change };
+    expect(isFetchChunk(chunk)).toBe(false);
+    expect(isFetchChunk.problem(chunk)).toBe(field);
+  });
+});
+
+describe('isFetchDone', () => {
+  it.each([
+    ['sampled', (m: Record<string, any>) => (m.sampled = 'no')],
+    ['columns', (m: Record<string, any>) => (m.columns = {})],
+    ['columns[0].null_count', (m: Record<string, any>) => delete m.columns[0].null_count],
+    ['columns[0].kind', (m: Record<string, any>) => (m.columns[0].kind = 'other')],
+    ['columns[4].unit', (m: Record<string, any>) => (m.columns[4].unit = 'fortnight')],
+    ['columns[4].timezone', (m: Record<string, any>) => (m.columns[4].timezone = 1)],
+    ['original_rows', (m: Record<string, any>) => (m.original_rows = 2 ** 53)]
+  ])('should refuse a fetch_done with a bad %s', (field, spoil) => {
+    const done = sentOf('fetch_done');
+    spoil(done);
+    expect(isFetchDone.problem(done)).toBe(field);
+  });
+});
+
+describe('isResultsAck', () => {
+  it('should refuse an ack without its counts', () => {
+    const ack = sentOf('results_ack');
+    delete ack.chunks_received;
+    expect(isResultsAck.problem(ack)).toBe('chunks_received');
+  });
+});
+
+describe('isResultsStored', () => {
+  it('should refuse a stored reply whose rows are not a count', () => {
+    expect(isResultsStored.problem({ ...sentOf('results_stored'), rows: '1' })).toBe('rows');
+    expect(isResultsStored({ ...sentOf('results_stored'), rows: 1 })).toBe(true);
+  });
+});
+
+describe('isErrorMessage', () => {
+  it('should keep fields of the detail it does not know, and check those it does', () => {
+    const error = sentOf('error');
+    expect(isErrorMessage({ ...error, detail: { frame: 'gone', hint: { any: ['json'] } } })).toBe(true);
+    expect(isErrorMessage.problem({ ...error, detail: { types: ['float', 3] } })).toBe('detail.types[1]');
+    expect(isErrorMessage.problem({ ...error, detail: [] })).toBe('detail');
+    expect(isErrorMessage.problem({ ...error, message: undefined })).toBe('message');
+  });
+});
+
+describe('readKernelMessage', () => {
+  it('should return the message it checked', () => {
+    const chunk = sentOf('fetch_chunk');
+    const read: IFetchChunk = readKernelMessage('fetch_chunk', JSON.parse(JSON.stringify(chunk)));
+    expect(read).toEqual(chunk);
+  });
+
+  it('should refuse a message of the wrong shape with a protocol error naming the field', () => {
+    const done = sentOf('fetch_done');
+    done.rows = '50';
+    const error = refusal('fetch_done', done);
+    expect(error.reason).toBe('protocol');
+    expect(error.detail).toEqual({ field: 'rows' });
+    expect(error.message).toBe(
+      "The kernel's 'fetch_done' message has no valid 'rows'; check that the polyadic package in the kernel " +
+        'matches this extension.'
+    );
+  });
+
+  it('should say a message is not an object when it is not one', () => {
+    expect(refusal('results_ack', { type: 'results_ack', request_id: 'r', analysis_id: 'a', chunks_received: 1 }).detail).toEqual({
+      field: 'chunk_count'
+    });
+    const frames: unknown = [];
+    const error = refusal('listing', { ...sentOf('listing'), frames: [frames, 'x'] });
+    expect(error.detail.field).toBe('frames[0]');
+  });
+
+  it("should refuse a listing of another protocol version for its version, whatever its shape", () => {
+    const error = refusal('listing', { type: 'listing', request_id: null, protocol: 2 });
+    expect(error.reason).toBe('protocol');
+    expect(error.message).toMatch(/speaks bridge protocol 2 and this extension speaks 1: install/);
+  });
+});
+
+describe('check', () => {
+  interface IReading {
+    sensor: string;
+    values: number[];
+    unit?: 'C' | 'F';
+    note: string | null;
+  }
+  const isReading = shape<IReading>({
+    sensor: isString,
+    values: arrayOf(isCount),
+    unit: optional(oneOf<'C' | 'F'>({ C: true, F: true })),
+    note: orNull(isString)
+  });
+
+  it('should name the path of the first field at fault', () => {
+    expect(isReading.problem({ sensor: 'air', values: [1, 2], note: null })).toBeNull();
+    expect(isReading.problem({ sensor: 'air', values: [1, 'x'], note: null })).toBe('values[1]');
+    expect(isReading.problem({ sensor: 'air', values: [], unit: 'K', note: null })).toBe('unit');
+    expect(isReading.problem({ sensor: 'air', values: [] })).toBe('note');
+    expect(isReading.problem('air')).toBe('');
+    expect(arrayOf(isReading).problem([{ sensor: 'air', values: [], note: 'ok' }, { values: [] }])).toBe('[1].sensor');
+  });
+
+  it('should not compile a shape whose checks do not follow the type', () => {
+    const fields = { sensor: isString, values: arrayOf(isCount), unit: optional(oneOf<'C' | 'F'>({ C: true, F: true })) };
+    // Each line fails to compile if its check were accepted: ts-jest type-checks this file.
+    // @ts-expect-error a field is missing
+    shape<IReading>(fields);
+    // @ts-expect-error a check of string does not pass for a field that may be null
+    shape<IReading>({ ...fields, note: isString });
+    // @ts-expect-error a field the type does not declare
+    shape<IReading>({ ...fields, note: orNull(isString), extra: isString });
+    // @ts-expect-error a union member left out of oneOf
+    oneOf<'C' | 'F'>({ C: true });
+    // @ts-expect-error a check of another literal
+    const wrongType: ICheck<IFrameInfo['kind']> = literal('spark');
+    expect(wrongType).toBeDefined();
+  });
+});
