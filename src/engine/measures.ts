@@ -184,7 +184,8 @@ function coinformationBySubsets(lattice: ILattice, members: ArrayLike<number>, o
   return sum;
 }
 
-function popcount(v: number): number {
+/** Number of set bits of a 32-bit mask (the order of a multiplet in the bitmask layout). */
+export function popcount(v: number): number {
   let k = 0;
   while (v) {
     v &= v - 1;

@@ -16,6 +16,7 @@
 import { unsafeUniformIntDistribution, xoroshiro128plus } from 'pure-rand';
 
 import { countLogCountTable, entropyNats, ICountSummary, needsCounts } from '../estimators';
+import { popcount } from '../measures';
 import type { EstimatorName } from '../types';
 import { tieTolerance } from './replicates';
 import type { StatisticsTail } from './options';
@@ -202,14 +203,5 @@ namespace Private {
     private _entropy: Float64Array;
     private _counts: Int32Array;
     private _touched: Int32Array;
-  }
-
-  function popcount(v: number): number {
-    let k = 0;
-    while (v) {
-      v &= v - 1;
-      k++;
-    }
-    return k;
   }
 }
