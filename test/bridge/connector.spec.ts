@@ -10,11 +10,10 @@ import * as arrow from 'apache-arrow';
 import { IBridgeStatus, IListing, KernelBridge } from '../../src/bridge/connector';
 import type { IFetchProgress } from '../../src/bridge/decode';
 import { encodeMultiplets } from '../../src/bridge/encode';
-import { BridgeError } from '../../src/bridge/errors';
 import type { IBridgeKernel, IBridgeSession } from '../../src/bridge/kernel';
 import { BridgeRegistry } from '../../src/bridge/registry';
 import type { IMultipletRow } from '../../src/engine/types';
-import { FakeKernel, FakeSession, flush, IFakeFrame } from './fakes';
+import { failure, FakeKernel, FakeSession, flush, IFakeFrame } from './fakes';
 import { fixturePieces, IFixtures, writeFixtures } from './helpers';
 
 // JupyterLab's own types must fit the bridge's narrow ones: if they stop fitting, this file
@@ -59,19 +58,6 @@ async function connected(kernel: FakeKernel | null = pythonKernel()) {
   bridge.statusChanged.connect((_, status) => states.push(status));
   await flush();
   return { session, bridge, states };
-}
-
-/** The rejection of a promise, which must be a BridgeError. */
-async function failure(promise: Promise<unknown>): Promise<BridgeError> {
-  let caught: unknown = undefined;
-  await promise.then(
-    () => undefined,
-    error => {
-      caught = error;
-    }
-  );
-  expect(caught).toBeInstanceOf(BridgeError);
-  return caught as BridgeError;
 }
 
 describe('KernelBridge', () => {

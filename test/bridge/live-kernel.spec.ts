@@ -14,7 +14,7 @@ import { Kernel, KernelManager, KernelMessage, ServerConnection } from '@jupyter
 import { Signal } from '@lumino/signaling';
 
 import { IBridgeStatus, KernelBridge } from '../../src/bridge/connector';
-import { BridgeError } from '../../src/bridge/errors';
+import { failure } from './fakes';
 import type { IBridgeSession } from '../../src/bridge/kernel';
 import type { IMultipletRow } from '../../src/engine/types';
 import { manifestValues, python, ROOT, tempFolder } from './helpers';
@@ -90,19 +90,6 @@ async function cell(code: string): Promise<{ count: number; stdout: string }> {
 /** Print a Python expression as JSON in the kernel and parse it. */
 async function evaluate<T>(expression: string): Promise<T> {
   return JSON.parse((await cell(`print(json.dumps(${expression}))`)).stdout) as T;
-}
-
-/** The rejection of a promise, which must be a BridgeError. */
-async function failure(promise: Promise<unknown>): Promise<BridgeError> {
-  let caught: unknown = undefined;
-  await promise.then(
-    () => undefined,
-    error => {
-      caught = error;
-    }
-  );
-  expect(caught).toBeInstanceOf(BridgeError);
-  return caught as BridgeError;
 }
 
 /** The greenhouse frame (DESIGN.md §6), seeded, with one column of each kind the bridge sends. */
