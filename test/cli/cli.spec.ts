@@ -383,7 +383,11 @@ describe('polyadic analyze', () => {
       [['--surrogates', '5', '--seed', '4294967296'], /seed must be a whole number from 0 to 4,294,967,295/],
       [['--surrogates', '5', '--tail', 'left'], /--tail must be one of two, synergy, redundancy; got 'left'/],
       [['--surrogates', '5', '--alpha', '1.5'], /--alpha must be a number between 0 and 1/],
-      [['--threads', '0'], /--threads must be a whole number of at least 1/]
+      [['--threads', '0'], /--threads must be a whole number of at least 1/],
+      [['--surrogates', '5', '--sharpen', '1.5'], /--sharpen must be a whole number ≥ 0; got '1\.5'/],
+      [['--sharpen', '100'], /Sharpening refines surrogate p-values at their floor; ask for surrogates as well/],
+      [['--surrogates', '5', '--beyond-pairs', 'x'], /--beyond-pairs must be a whole number/],
+      [['--surrogates', '5', '--fit-draws', '-1'], /--fit-draws/]
     ])('should refuse %j with one line naming the flag', (args, message) => {
       const folder = fixtureFolder({ 'x.csv': xorCsv(50) });
       expect(expectOneLineFailure(analyze(path.join(folder, 'x.csv'), ...args))).toMatch(message);
