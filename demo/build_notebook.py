@@ -85,7 +85,7 @@ try:
 except polyadic.ResultsNotFound as reason:
     print(reason)
 else:
-    display(multiplets.sort_values("coinformation").head(10))
+    display(multiplets.sort_values("co_information").head(10))
 """
 
 

@@ -30,7 +30,7 @@ MULTIPLET_FIELDS = (
     "columns",
     "order",
     "entropy",
-    "coinformation",
+    "co_information",
     "total_correlation",
     "dual_total_correlation",
     "o_information",

@@ -42,7 +42,7 @@ STORE = ResultStore()
 def results(analysis_id: str | None = None) -> Any:
     """The multiplet table of the latest analysis (or of ``analysis_id``) as a pandas DataFrame.
 
-    Columns are the CLI's JSON multiplet fields (columns, order, entropy, coinformation,
+    Columns are the CLI's JSON multiplet fields (columns, order, entropy, co_information,
     total_correlation, dual_total_correlation, o_information, s_information) plus any statistics
     the analysis computed. ``columns`` holds a tuple of column names per multiplet.
     Raises ResultsNotFound, listing the known ids, when there is nothing to return.

@@ -1,4 +1,4 @@
-"""``polyadic.show(record_id)``: the output of a decomposition cell.
+"""``polyadic.show(record_id)``: the output of a analysis cell.
 
 The Polyadic panel inserts a code cell ``polyadic.show("pd-…")`` for an analysis of the
 notebook's record. The kernel does not see the notebook's metadata, so the output only names
@@ -18,7 +18,7 @@ import math
 import re
 from typing import Any, Mapping, Sequence
 
-#: MIME type of a decomposition cell's output.
+#: MIME type of a analysis cell's output.
 MIME_TYPE = "application/vnd.polyadic.analysis+json"
 #: The record id pattern (schema/record.schema.json, ``$defs/recordId``).
 RECORD_ID_PATTERN = r"^pd-[0-9a-z]{8,32}$"
@@ -30,7 +30,7 @@ DECIMALS = 4
 _RECORD_ID = re.compile(r"pd-[0-9a-z]{8,32}")
 _CONTROL = re.compile("[\x00-\x1f\x7f-\x9f\u2028\u2029]")
 _PUNCTUATION = re.compile(r"([!-/:-@\[-`{-~])")
-_MEASURES = ("coinformation", "o_information", "total_correlation", "dual_total_correlation")
+_MEASURES = ("co_information", "o_information", "total_correlation", "dual_total_correlation")
 
 
 def check_record_id(record_id: Any) -> str:
@@ -100,9 +100,9 @@ def _check_summary(summary: Any) -> dict[str, list[Mapping[str, Any]]]:
 def _summary_from_results(table: Any, size: int) -> dict[str, list[Mapping[str, Any]]]:
     """The most synergistic and most redundant multiplets of a results DataFrame."""
     higher = table[table["order"] >= 2]
-    finite = higher[[math.isfinite(float(v)) for v in higher["coinformation"]]]
-    synergy = finite[finite["coinformation"] < 0].sort_values("coinformation", kind="stable").head(size)
-    redundancy = finite[finite["coinformation"] > 0].sort_values("coinformation", ascending=False, kind="stable").head(size)
+    finite = higher[[math.isfinite(float(v)) for v in higher["co_information"]]]
+    synergy = finite[finite["co_information"] < 0].sort_values("co_information", kind="stable").head(size)
+    redundancy = finite[finite["co_information"] > 0].sort_values("co_information", ascending=False, kind="stable").head(size)
     return {
         "synergy": synergy.to_dict("records"),
         "redundancy": redundancy.to_dict("records"),
@@ -110,7 +110,7 @@ def _summary_from_results(table: Any, size: int) -> dict[str, list[Mapping[str, 
 
 
 def markdown_fallback(record_id: str, summary: Mapping[str, Any] | None = None) -> str:
-    """The text/markdown part of a decomposition cell's output."""
+    """The text/markdown part of a analysis cell's output."""
     record_id = check_record_id(record_id)
     head = f"**Polyadic analysis {escape_markdown(record_id)}**"
     if summary is None:

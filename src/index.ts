@@ -88,7 +88,7 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
   }
 };
 
-/** The notebook's record in the panel's records section, and decomposition cells. */
+/** The notebook's record in the panel's records section, and analysis cells. */
 const recordsPlugin: JupyterFrontEndPlugin<void> = {
   id: `${EXTENSION_ID}:records`,
   description: 'Records of analyses in notebook metadata, and cells that show a recorded analysis.',

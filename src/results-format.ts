@@ -12,7 +12,7 @@ export type CoreMultipletField =
   | 'columns'
   | 'order'
   | 'entropy'
-  | 'coinformation'
+  | 'co_information'
   | 'total_correlation'
   | 'dual_total_correlation'
   | 'o_information'
@@ -23,7 +23,7 @@ export const MULTIPLET_FIELDS: readonly CoreMultipletField[] = [
   'columns',
   'order',
   'entropy',
-  'coinformation',
+  'co_information',
   'total_correlation',
   'dual_total_correlation',
   'o_information',

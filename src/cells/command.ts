@@ -1,5 +1,5 @@
 /**
- * Decomposition cells in notebooks: the command that inserts `polyadic.show("<record id>")`
+ * Analysis cells in notebooks: the command that inserts `polyadic.show("<record id>")`
  * below the active cell (palette and notebook toolbar), and the per-notebook renderer of its
  * output. The renderer is added to each notebook's own rendermime registry, bound to that
  * notebook's metadata, so an output always reads the record of the notebook it is in.
@@ -57,7 +57,7 @@ export interface IAnalysisCellsOptions {
 
 /**
  * Register the insert command, put its button in every notebook toolbar and give every
- * notebook the renderer of decomposition cell outputs. Returns a handle that undoes it.
+ * notebook the renderer of analysis cell outputs. Returns a handle that undoes it.
  */
 export function setupAnalysisCells(options: IAnalysisCellsOptions): IDisposable {
   const { commands, notebooks, chosenId } = options;

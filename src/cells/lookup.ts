@@ -1,5 +1,5 @@
 /**
- * What a decomposition cell's output shows: its MIME payload names a record id, which is
+ * What a analysis cell's output shows: its MIME payload names a record id, which is
  * looked up in the notebook's record. Pure (no DOM), so every case is checked in unit tests.
  */
 import { isRecordId } from '../record/ids';

@@ -1,5 +1,5 @@
 /**
- * The renderer of a decomposition cell's output (`application/vnd.polyadic.analysis+json`):
+ * The renderer of a analysis cell's output (`application/vnd.polyadic.analysis+json`):
  * the recorded analysis' order histograms of co-information and its synergy and redundancy
  * tables, drawn from the notebook's record. The kernel only names the record id (it does not
  * see the metadata), so the renderer is given the notebook's metadata by the plugin that
@@ -17,7 +17,7 @@ import { ANALYSIS_MIME_TYPE, type IAnalysisRecord, type IMultipletSummary, type 
 import { textElement } from '../panel/dom';
 import { lookupAnalysisCell } from './lookup';
 
-/** Multiplets per table in a decomposition cell. */
+/** Multiplets per table in a analysis cell. */
 export const CELL_TABLE_SIZE = 10;
 
 /** The notebook a renderer reads records from. */
@@ -28,7 +28,7 @@ export interface IRecordNotebook {
   metadataChanged: ISignal<unknown, unknown>;
 }
 
-/** Draws one decomposition cell output. */
+/** Draws one analysis cell output. */
 export class AnalysisCellRenderer extends Widget implements IRenderMime.IRenderer {
   /** Create a renderer reading records from the notebook `resolve()` returns. */
   constructor(resolve: () => IRecordNotebook | null) {
@@ -204,7 +204,7 @@ namespace Private {
       line.append(
         textElement('td', 'pd-AnalysisCell-names', row.columns.join(' · ')),
         textElement('td', 'pd-AnalysisCell-number', String(row.order)),
-        textElement('td', 'pd-AnalysisCell-number', formatValue(row.coinformation)),
+        textElement('td', 'pd-AnalysisCell-number', formatValue(row.co_information)),
         textElement('td', 'pd-AnalysisCell-number', formatValue(row.o_information)),
         textElement('td', 'pd-AnalysisCell-number', formatValue(row.total_correlation)),
         textElement('td', 'pd-AnalysisCell-number', formatValue(row.dual_total_correlation))

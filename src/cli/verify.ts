@@ -410,13 +410,13 @@ namespace Private {
     const measures = multipletMeasures(lattice, members, members.length, coinformation);
     const now: Record<string, number> = {
       entropy: fromNats(measures.entropy, units),
-      coinformation: fromNats(measures.coinformation, units),
+      co_information: fromNats(measures.coinformation, units),
       total_correlation: fromNats(measures.totalCorrelation, units),
       dual_total_correlation: fromNats(measures.dualTotalCorrelation, units),
       o_information: fromNats(measures.oInformation, units)
     };
     const out: string[] = [];
-    for (const field of ['coinformation', 'o_information', 'total_correlation', 'dual_total_correlation', 'entropy'] as const) {
+    for (const field of ['co_information', 'o_information', 'total_correlation', 'dual_total_correlation', 'entropy'] as const) {
       if (!equal(recorded[field], now[field])) {
         out.push(`${label} ${field} ${recorded[field]} vs ${now[field]}`);
       }

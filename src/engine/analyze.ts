@@ -255,7 +255,7 @@ export function analyzeCodes(
       columns: Array.from(members.subarray(0, order), c => prepared.names[c]),
       order,
       entropy: fromNats(measures.entropy, units),
-      coinformation: fromNats(measures.coinformation, units),
+      co_information: fromNats(measures.coinformation, units),
       total_correlation: fromNats(measures.totalCorrelation, units),
       dual_total_correlation: fromNats(measures.dualTotalCorrelation, units),
       o_information: fromNats(measures.oInformation, units),

@@ -109,7 +109,7 @@ export interface IMultipletRow {
   columns: string[];
   order: number;
   entropy: number;
-  coinformation: number;
+  co_information: number;
   total_correlation: number;
   dual_total_correlation: number;
   o_information: number;

@@ -89,7 +89,7 @@ export namespace PolyadicPanel {
     onNewNotebook?: () => void;
     /** Opens the Settings Editor on Polyadic's settings. */
     onOpenSettings?: () => void;
-    /** Inserts a decomposition cell for a recorded analysis (records section). */
+    /** Inserts a analysis cell for a recorded analysis (records section). */
     onInsertAnalysisCell?: (id: string) => void;
   }
 }

@@ -38,7 +38,7 @@ export function newRecordId(): string {
 }
 
 /**
- * The source of a decomposition cell showing a record: `import polyadic` and
+ * The source of a analysis cell showing a record: `import polyadic` and
  * `polyadic.show("<id>")`. Refuses anything but a valid id, so no metadata text reaches code.
  */
 export function showCellSource(id: string): string {

@@ -1,5 +1,5 @@
 /**
- * The text/markdown fallback of a decomposition cell: the record's top multiplets as tables,
+ * The text/markdown fallback of a analysis cell: the record's top multiplets as tables,
  * for renderers without Polyadic (GitHub, nbviewer, a plain Jupyter). Column names and labels
  * come from untrusted data, so every one is escaped (see {@link escapeMarkdown}).
  */
@@ -61,7 +61,7 @@ export function multipletTable(title: string, rows: readonly IMultipletSummary[]
   for (const row of rows) {
     const names = row.columns.map(escapeMarkdown).join(' · ');
     out.push(
-      `| ${names} | ${row.order} | ${formatValue(row.coinformation)} | ${formatValue(row.o_information)} | ` +
+      `| ${names} | ${row.order} | ${formatValue(row.co_information)} | ${formatValue(row.o_information)} | ` +
         `${formatValue(row.total_correlation)} | ${formatValue(row.dual_total_correlation)} |`
     );
   }

@@ -11,9 +11,17 @@
  * statistics settings absent (only an optional `surrogates`), and camel-case measure names.
  * No released Polyadic wrote it; it is kept so the migration path is exercised by a real
  * step before the first layout change after 1.
+ *
+ * Version 1 → 2: the co-information field of a summary multiplet is `co_information` (was
+ * `coinformation`), as in the CLI's JSON and `polyadic.results()`; multiplets may carry their
+ * evidence (p, q, null, intervals, connected information, adequacy); `statistics` holds the
+ * settings the engine ran with and is absent when no evidence was computed. Version 1's
+ * `statistics` was never the engine's: the panel wrote the schema's defaults (200 surrogates)
+ * although no surrogate ran, so the step drops it rather than carry a claim nothing backs.
  */
 
-import { compileValidator, fillSchemaDefaults, type ValidationResult } from './validate';
+import V1_LAYOUT from './layouts/record-v1.schema.json';
+import { compileValidator, type ValidationResult } from './validate';
 import { RECORD_ID_PATTERN } from './schema';
 import { FINGERPRINT_ENCODING, RECORD_VERSION, type IRecordProblem } from './types';
 
@@ -205,10 +213,8 @@ export const MIGRATE_V0_TO_V1: IMigration = {
       version: 1,
       analyses: old.runs.map(run => {
         const at = run.engine.indexOf('@');
-        const statistics: Record<string, unknown> = {};
-        if (run.surrogates !== undefined) {
-          statistics.surrogates = run.surrogates;
-        }
+        // version 0 had no statistics settings beyond `surrogates`: version 1's schema defaults fill them
+        const statistics = { ...Private.V1_STATISTICS_DEFAULTS, ...(run.surrogates !== undefined ? { surrogates: run.surrogates } : {}) };
         const analysis: Record<string, unknown> = {
           id: run.id,
           label: run.name,
@@ -234,16 +240,42 @@ export const MIGRATE_V0_TO_V1: IMigration = {
             rows_used: run.top.rowsUsed
           }
         };
-        // version 0 had no statistics settings beyond `surrogates`: the schema's defaults fill them
-        fillSchemaDefaults(analysis);
         return analysis;
       })
     };
   }
 };
 
+/** The layout of version 1 (frozen: src/record/layouts/record-v1.schema.json). */
+export const RECORD_SCHEMA_V1: object = V1_LAYOUT;
+
+/** Version 1 → 2 (see the file comment for what changed). */
+export const MIGRATE_V1_TO_V2: IMigration = {
+  from: 1,
+  to: 2,
+  validate: compileValidator(RECORD_SCHEMA_V1),
+  migrate(document: unknown): unknown {
+    const old = document as { analyses: Record<string, unknown>[] };
+    return {
+      version: 2,
+      analyses: old.analyses.map(analysis => {
+        const { statistics: _placeholder, summary, ...rest } = analysis as { statistics: unknown; summary: Private.ISummaryV1 };
+        void _placeholder;
+        return {
+          ...rest,
+          summary: {
+            ...summary,
+            synergy: summary.synergy.map(Private.multipletV2),
+            redundancy: summary.redundancy.map(Private.multipletV2)
+          }
+        };
+      })
+    };
+  }
+};
+
 /** Every migration step, oldest first. */
-export const MIGRATIONS: readonly IMigration[] = [MIGRATE_V0_TO_V1];
+export const MIGRATIONS: readonly IMigration[] = [MIGRATE_V0_TO_V1, MIGRATE_V1_TO_V2];
 
 /** Module-private helpers. */
 namespace Private {
@@ -281,6 +313,21 @@ namespace Private {
   export interface IRecordV0 {
     version: 0;
     runs: IRunV0[];
+  }
+
+  /** The defaults version 1's schema declared for its statistics settings. */
+  export const V1_STATISTICS_DEFAULTS = { surrogates: 200, seed: 1, bootstrap: 0, alpha: 0.05 };
+
+  /** A version-1 summary: multiplets with `coinformation`. */
+  export interface ISummaryV1 {
+    synergy: Record<string, unknown>[];
+    redundancy: Record<string, unknown>[];
+    [key: string]: unknown;
+  }
+
+  /** A version-1 summary multiplet with the version-2 field names (key order kept). */
+  export function multipletV2(old: Record<string, unknown>): Record<string, unknown> {
+    return Object.fromEntries(Object.entries(old).map(([key, value]) => [key === 'coinformation' ? 'co_information' : key, value]));
   }
 
   /** A version-0 multiplet with the version-1 field names. */

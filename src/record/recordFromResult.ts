@@ -9,8 +9,8 @@ import { plural } from '../engine/text';
 import type { ColumnView, IAnalysisResult, IAnalyzeOptions, MissingPolicy } from '../engine/types';
 import type { IFingerprint } from './fingerprint';
 import { newRecordId } from './ids';
-import { DEFAULT_SUMMARY_SIZE, histogramsOfRows, topMultiplets } from './summary';
-import { MAX_LABEL_LENGTH, type IAnalysisRecord, type ISampleInfo, type IStatisticsSettings } from './types';
+import { DEFAULT_SUMMARY_SIZE, evidenceSummaryOf, histogramsOfRows, statisticsSettingsOf, topMultiplets } from './summary';
+import { MAX_LABEL_LENGTH, type IAnalysisRecord, type ISampleInfo } from './types';
 import { completeAnalysis, problemsError } from './validate';
 
 /** Where the analysed data came from. */
@@ -30,8 +30,6 @@ export interface IRecordInput {
   options: IAnalyzeOptions;
   result: IAnalysisResult;
   source: IRecordSource;
-  /** Statistics settings as chosen; what is left out takes the schema's defaults. */
-  statistics?: Partial<IStatisticsSettings>;
   /** Label; default names the frame, the columns, the binning, the estimator, the units and the order. */
   label?: string;
   /** Id; default a new random one. */
@@ -92,13 +90,16 @@ export function recordFromResult(input: IRecordInput): IAnalysisRecord {
     estimator: result.estimator,
     units: result.units,
     max_order: result.max_order,
-    statistics: { ...(input.statistics ?? {}) },
+    // the settings the engine ran with, not those asked for: a record never claims evidence it lacks
+    ...(result.statistics ? { statistics: statisticsSettingsOf(result.statistics) } : {}),
     summary: {
       synergy: summary.synergy,
       redundancy: summary.redundancy,
       multiplet_count: result.multiplet_count,
       rows_used: result.rows_used,
-      ...(histograms ? { histograms } : {})
+      ...(histograms ? { histograms } : {}),
+      ...(result.inadequate_count !== undefined ? { inadequate_count: result.inadequate_count } : {}),
+      ...(result.statistics ? { evidence: evidenceSummaryOf(result.statistics) } : {})
     }
   };
   const checked = completeAnalysis(analysis);

@@ -5,13 +5,13 @@
  * module because the front end and the CLI bundle it, and TypeScript's `rootDir` is `src/`.
  */
 
-/** The `$id` of the record schema, version 1. */
-export const RECORD_SCHEMA_ID = 'urn:jupyterlab-polyadic:record:1';
+/** The `$id` of the record schema, version 2. */
+export const RECORD_SCHEMA_ID = 'urn:jupyterlab-polyadic:record:2';
 
 /** Pattern of a record id: `pd-` and 8 to 32 lower-case letters or digits. */
 export const RECORD_ID_PATTERN = '^pd-[0-9a-z]{8,32}$';
 
-/** The record schema, version 1. */
+/** The record schema, version 2 (src/record/layouts/ keeps the older layouts for migration). */
 export const RECORD_SCHEMA = {
   $schema: 'https://json-schema.org/draft/2020-12/schema',
   $id: RECORD_SCHEMA_ID,
@@ -24,8 +24,8 @@ export const RECORD_SCHEMA = {
   required: ['version', 'analyses'],
   properties: {
     version: {
-      description: 'Layout version of the record. Version 1 is described here.',
-      const: 1
+      description: 'Layout version of the record. Version 2 is described here.',
+      const: 2
     },
     analyses: {
       description: 'The analyses of the notebook, oldest first; ids are unique.',
@@ -68,7 +68,6 @@ export const RECORD_SCHEMA = {
         'estimator',
         'units',
         'max_order',
-        'statistics',
         'summary'
       ],
       properties: {
@@ -129,7 +128,10 @@ export const RECORD_SCHEMA = {
           type: 'integer',
           minimum: 1
         },
-        statistics: { $ref: '#/$defs/statistics', description: 'Significance-testing settings.' },
+        statistics: {
+          $ref: '#/$defs/statistics',
+          description: 'The settings of the evidence against chance; absent when none was computed.'
+        },
         summary: { $ref: '#/$defs/summary', description: 'The results, in brief.' }
       }
     },
@@ -245,40 +247,152 @@ export const RECORD_SCHEMA = {
       }
     },
     statistics: {
-      description: 'Settings of the significance tests and confidence intervals.',
+      description:
+        'The evidence against chance computed with the analysis: independence surrogates, ' +
+        'bootstrap resamples, the pairwise-preserving null and the level.',
       type: 'object',
       additionalProperties: false,
-      required: ['surrogates', 'seed', 'bootstrap', 'alpha'],
+      required: ['surrogates', 'seed', 'bootstrap', 'tail', 'alpha', 'beyond_pairs', 'fit_draws', 'sharpen'],
       properties: {
         surrogates: {
-          description: 'Surrogate datasets per significance test, each column shuffled independently; 0 means no test.',
+          description: 'Independence surrogates (each column shuffled on its own, the lattice walked again); 0 means none.',
           type: 'integer',
           minimum: 0,
-          maximum: 100000,
-          default: 200
+          maximum: 100000
         },
         seed: {
-          description: 'Seed of the surrogate shuffles and bootstrap resamples.',
+          description: 'Seed of every random draw (surrogates, resamples, draws from the fits).',
           type: 'integer',
           minimum: 0,
-          maximum: 4294967295,
-          default: 1
+          maximum: 4294967295
         },
         bootstrap: {
-          description: 'Bootstrap resamples of the rows for confidence intervals; 0 means none.',
+          description: 'Bootstrap resamples of the rows for percentile intervals; 0 means none.',
           type: 'integer',
           minimum: 0,
-          maximum: 100000,
-          default: 0
+          maximum: 100000
+        },
+        tail: {
+          description: 'Tail of the surrogate p-values: two-sided, or only the synergy (negative) or redundancy (positive) side.',
+          enum: ['two', 'synergy', 'redundancy']
         },
         alpha: {
-          description: 'Benjamini–Hochberg false discovery rate.',
+          description: 'Level: false discovery rate of the "q below alpha" filters; intervals cover 1 − alpha.',
           type: 'number',
           exclusiveMinimum: 0,
-          maximum: 1,
-          default: 0.05
+          exclusiveMaximum: 1
+        },
+        beyond_pairs: {
+          description: 'Multiplets of order 3 and above per table that got the pairwise-preserving null; 0 means none.',
+          type: 'integer',
+          minimum: 0,
+          maximum: 1000
+        },
+        fit_draws: {
+          description: 'Parametric-bootstrap draws from each maximum-entropy fit.',
+          type: 'integer',
+          minimum: 0,
+          maximum: 100000
+        },
+        sharpen: {
+          description: 'Fresh surrogates for each multiplet whose p-value sat at its floor 1/(N + 1); 0 means none.',
+          type: 'integer',
+          minimum: 0,
+          maximum: 1000000
         }
       }
+    },
+    evidence: {
+      description: 'What the evidence of an analysis was computed over: the tested families, the null bands, the counts.',
+      type: 'object',
+      additionalProperties: false,
+      required: ['families', 'null_bands', 'interval_level', 'sharpened', 'bootstrap_multiplets'],
+      properties: {
+        families: {
+          description: 'The families over which q-values control the false discovery rate (null when not tested).',
+          type: 'object',
+          additionalProperties: false,
+          required: ['co_information', 'o_information'],
+          properties: {
+            co_information: { $ref: '#/$defs/family', description: 'Co-information tests (orders 2 and above).' },
+            o_information: { $ref: '#/$defs/family', description: 'O-information tests (orders 3 and above).' }
+          }
+        },
+        null_bands: {
+          description: 'Per order, the 2.5 % and 97.5 % quantiles and the mean of the surrogate co-information.',
+          type: 'array',
+          maxItems: 1000,
+          items: { $ref: '#/$defs/nullBand' }
+        },
+        interval_level: {
+          description: 'Level of the bootstrap intervals, 1 − alpha.',
+          type: 'number',
+          minimum: 0,
+          maximum: 1
+        },
+        sharpened: {
+          description: 'Multiplets whose p-value was refined with fresh surrogates.',
+          type: 'integer',
+          minimum: 0
+        },
+        bootstrap_multiplets: {
+          description: 'Multiplets that got bootstrap intervals.',
+          type: 'integer',
+          minimum: 0
+        },
+        fitted: {
+          description: 'Multiplets fitted for the pairwise-preserving null (present when it was asked for).',
+          type: 'integer',
+          minimum: 0
+        },
+        refused: {
+          description: 'Multiplets the pairwise-preserving null refused, and why (e.g. a joint table too large).',
+          type: 'array',
+          maxItems: 2000,
+          items: { $ref: '#/$defs/refusal' }
+        }
+      }
+    },
+    nullBand: {
+      description: 'The null band of one order.',
+      type: 'object',
+      additionalProperties: false,
+      required: ['order', 'low', 'high', 'mean', 'values'],
+      properties: {
+        order: { description: 'Multiplet order.', type: 'integer', minimum: 2 },
+        low: { description: '2.5 % quantile of the surrogate co-information.', type: 'number' },
+        high: { description: '97.5 % quantile of the surrogate co-information.', type: 'number' },
+        mean: { description: 'Mean surrogate co-information.', type: 'number' },
+        values: { description: 'Surrogate values behind the band.', type: 'integer', minimum: 0 }
+      }
+    },
+    refusal: {
+      description: 'A multiplet the pairwise-preserving null refused.',
+      type: 'object',
+      additionalProperties: false,
+      required: ['columns', 'reason'],
+      properties: {
+        columns: { description: 'Its columns.', type: 'array', items: { $ref: '#/$defs/columnName' } },
+        reason: { description: 'Why it was refused.', type: 'string', maxLength: 2000 }
+      }
+    },
+    family: {
+      description: 'A family of tests (the orders tested and how many multiplets), or null when none was tested.',
+      type: ['object', 'null'],
+      additionalProperties: false,
+      required: ['orders', 'count'],
+      properties: {
+        orders: {
+          description: 'Orders in the family.',
+          type: 'array',
+          items: { type: 'integer', minimum: 2 }
+        },
+        count: { description: 'Multiplets tested.', type: 'integer', minimum: 0 }
+      }
+    },
+    evidenceValue: {
+      description: 'A value of the evidence, or null where it was not computed for this multiplet.',
+      type: ['number', 'null']
     },
     multiplet: {
       description: 'One multiplet and its measures, in the units of the analysis.',
@@ -288,7 +402,7 @@ export const RECORD_SCHEMA = {
         'columns',
         'order',
         'entropy',
-        'coinformation',
+        'co_information',
         'total_correlation',
         'dual_total_correlation',
         'o_information'
@@ -303,13 +417,39 @@ export const RECORD_SCHEMA = {
         },
         order: { description: 'Number of columns.', type: 'integer', minimum: 1 },
         entropy: { description: 'Joint entropy.', type: 'number' },
-        coinformation: {
+        co_information: {
           description: 'Co-information (Bell 2003 sign: negative means synergy dominates).',
           type: 'number'
         },
         total_correlation: { description: 'Total correlation (Watanabe 1960).', type: 'number' },
         dual_total_correlation: { description: 'Dual total correlation (Han 1978).', type: 'number' },
-        o_information: { description: 'O-information (Rosas et al. 2019).', type: 'number' }
+        o_information: { description: 'O-information (Rosas et al. 2019).', type: 'number' },
+        adequacy: { $ref: '#/$defs/evidenceValue', description: 'Rows per possible joint cell; below 1 the sample cannot fill the joint table.' },
+        p_value: { $ref: '#/$defs/evidenceValue', description: 'Surrogate p-value of co-information.' },
+        q_value: { $ref: '#/$defs/evidenceValue', description: 'Benjamini–Hochberg q-value of co-information over its family.' },
+        p_surrogates: { $ref: '#/$defs/evidenceValue', description: 'Surrogates behind p_value (more when sharpened).' },
+        null_mean: { $ref: '#/$defs/evidenceValue', description: 'Mean surrogate co-information.' },
+        null_sd: { $ref: '#/$defs/evidenceValue', description: 'Standard deviation of the surrogate co-information.' },
+        co_information_corrected: { $ref: '#/$defs/evidenceValue', description: 'Co-information minus the surrogate mean.' },
+        o_information_p_value: { $ref: '#/$defs/evidenceValue', description: 'Surrogate p-value of O-information.' },
+        o_information_q_value: { $ref: '#/$defs/evidenceValue', description: 'Benjamini–Hochberg q-value of O-information over its family.' },
+        o_information_null_mean: { $ref: '#/$defs/evidenceValue', description: 'Mean surrogate O-information.' },
+        o_information_null_sd: { $ref: '#/$defs/evidenceValue', description: 'Standard deviation of the surrogate O-information.' },
+        ci_low: { $ref: '#/$defs/evidenceValue', description: 'Bootstrap percentile interval of co-information, lower end.' },
+        ci_high: { $ref: '#/$defs/evidenceValue', description: 'Bootstrap percentile interval of co-information, upper end.' },
+        same_sign: { $ref: '#/$defs/evidenceValue', description: 'Share of bootstrap resamples whose co-information has the observed sign.' },
+        entropy_ci_low: { $ref: '#/$defs/evidenceValue', description: 'Bootstrap interval of the joint entropy, lower end.' },
+        entropy_ci_high: { $ref: '#/$defs/evidenceValue', description: 'Bootstrap interval of the joint entropy, upper end.' },
+        total_correlation_ci_low: { $ref: '#/$defs/evidenceValue', description: 'Bootstrap interval of total correlation, lower end.' },
+        total_correlation_ci_high: { $ref: '#/$defs/evidenceValue', description: 'Bootstrap interval of total correlation, upper end.' },
+        dual_total_correlation_ci_low: { $ref: '#/$defs/evidenceValue', description: 'Bootstrap interval of dual total correlation, lower end.' },
+        dual_total_correlation_ci_high: { $ref: '#/$defs/evidenceValue', description: 'Bootstrap interval of dual total correlation, upper end.' },
+        o_information_ci_low: { $ref: '#/$defs/evidenceValue', description: 'Bootstrap interval of O-information, lower end.' },
+        o_information_ci_high: { $ref: '#/$defs/evidenceValue', description: 'Bootstrap interval of O-information, upper end.' },
+        s_information_ci_low: { $ref: '#/$defs/evidenceValue', description: 'Bootstrap interval of S-information, lower end.' },
+        s_information_ci_high: { $ref: '#/$defs/evidenceValue', description: 'Bootstrap interval of S-information, upper end.' },
+        connected_information: { $ref: '#/$defs/evidenceValue', description: 'Connected information of the order of the multiplet: entropy of the maximum-entropy fit to its lower-order marginals minus its own.' },
+        connected_p_value: { $ref: '#/$defs/evidenceValue', description: 'Parametric-bootstrap p-value of the connected information.' }
       }
     },
     histogram: {
@@ -358,7 +498,13 @@ export const RECORD_SCHEMA = {
           type: 'array',
           maxItems: 1000,
           items: { $ref: '#/$defs/histogram' }
-        }
+        },
+        inadequate_count: {
+          description: 'Multiplets of order 2 and above with adequacy below 1 (fewer rows than possible joint cells).',
+          type: 'integer',
+          minimum: 0
+        },
+        evidence: { $ref: '#/$defs/evidence', description: 'What the evidence was computed over; present with statistics.' }
       }
     }
   }

@@ -135,7 +135,7 @@ export function sameRun(a: IAnalysisRecord, b: IAnalysisRecord): boolean {
       analysis.estimator,
       analysis.units,
       analysis.max_order,
-      Object.entries(analysis.statistics).sort(([x], [y]) => (x < y ? -1 : x > y ? 1 : 0))
+      Object.entries(analysis.statistics ?? {}).sort(([x], [y]) => (x < y ? -1 : x > y ? 1 : 0))
     ]);
   return settings(a) === settings(b);
 }

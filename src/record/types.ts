@@ -4,15 +4,17 @@
  * code reads after a check.
  */
 
-import type { BinMethod, EstimatorName, MissingPolicy, Units } from '../engine/types';
+import type { StatisticsTail } from '../engine/statistics/options';
+import type { BinMethod, EstimatorName, IMultipletRow, IStatisticsReport, MissingPolicy, Units } from '../engine/types';
+import type { CoreMultipletField } from '../results-format';
 
 /** The notebook metadata key of the record. */
 export const RECORD_METADATA_KEY = 'polyadic';
 
 /** The record layout version this code writes. */
-export const RECORD_VERSION = 1;
+export const RECORD_VERSION = 2;
 
-/** MIME type of a decomposition cell's output: `{ record_id }`, looked up in the notebook's record. */
+/** MIME type of an analysis cell's output: `{ record_id }`, looked up in the notebook's record. */
 export const ANALYSIS_MIME_TYPE = 'application/vnd.polyadic.analysis+json';
 
 /** Longest label a record holds, in characters (the schema's `maxLength`). */
@@ -21,7 +23,7 @@ export const MAX_LABEL_LENGTH = 200;
 /** Name of the canonical encoding the fingerprint hashes (docs/fingerprint.md). */
 export const FINGERPRINT_ENCODING = 'pdfp1';
 
-/** The whole record: `{ "version": 1, "analyses": [...] }`. */
+/** The whole record: `{ "version": 2, "analyses": [...] }`. */
 export interface IRecordDocument {
   version: typeof RECORD_VERSION;
   analyses: IAnalysisRecord[];
@@ -70,20 +72,39 @@ export interface IColumnBinningRecord {
   missing_code?: number;
 }
 
-/** Significance-testing settings (defaults in the schema). */
+/** The settings of the evidence against chance an analysis computed (the engine's resolved options). */
 export interface IStatisticsSettings {
   surrogates: number;
   seed: number;
   bootstrap: number;
+  tail: StatisticsTail;
   alpha: number;
+  beyond_pairs: number;
+  fit_draws: number;
+  sharpen: number;
+}
+
+/** The evidence fields a summary multiplet may carry (those the engine computed for it). */
+export type MultipletEvidence = Partial<Pick<IMultipletRow, Exclude<keyof IMultipletRow, CoreMultipletField>>>;
+
+/** What the evidence was computed over (the engine's report without the settings). */
+export interface IEvidenceSummary {
+  families: IStatisticsReport['families'];
+  null_bands: IStatisticsReport['null_bands'];
+  interval_level: number;
+  sharpened: number;
+  bootstrap_multiplets: number;
+  /** Present when the pairwise-preserving null was asked for. */
+  fitted?: number;
+  refused?: { columns: string[]; reason: string }[];
 }
 
 /** One multiplet of the summary, in the units of the analysis. */
-export interface IMultipletSummary {
+export interface IMultipletSummary extends MultipletEvidence {
   columns: string[];
   order: number;
   entropy: number;
-  coinformation: number;
+  co_information: number;
   total_correlation: number;
   dual_total_correlation: number;
   o_information: number;
@@ -103,6 +124,10 @@ export interface IResultSummary {
   multiplet_count: number;
   rows_used: number;
   histograms?: IOrderHistogram[];
+  /** Multiplets of order ≥ 2 with adequacy below 1. */
+  inadequate_count?: number;
+  /** Present when the analysis computed evidence against chance. */
+  evidence?: IEvidenceSummary;
 }
 
 /** One analysis of the record. */
@@ -118,7 +143,8 @@ export interface IAnalysisRecord {
   estimator: EstimatorName;
   units: Units;
   max_order: number;
-  statistics: IStatisticsSettings;
+  /** Present when the analysis computed evidence against chance. */
+  statistics?: IStatisticsSettings;
   summary: IResultSummary;
 }
 

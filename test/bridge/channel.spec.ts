@@ -249,7 +249,7 @@ describe('KernelBridge', () => {
         columns: ['valve', 'flow'],
         order: 2,
         entropy: 1,
-        coinformation: -0.5,
+        co_information: -0.5,
         total_correlation: 0.5,
         dual_total_correlation: 0.5,
         o_information: 0,

@@ -373,7 +373,7 @@ describe('KernelBridge', () => {
       columns: ['leak_alarm', `soil_moisture_${i}`],
       order: 2,
       entropy: i / 3,
-      coinformation: -i / 5,
+      co_information: -i / 5,
       total_correlation: i / 7,
       dual_total_correlation: i / 9,
       o_information: i / 7 - i / 9,

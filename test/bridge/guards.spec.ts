@@ -76,7 +76,7 @@ const ROWS: IMultipletRow[] = [
     columns: ['valve', 'leak'],
     order: 2,
     entropy: 1.5,
-    coinformation: -0.25,
+    co_information: -0.25,
     total_correlation: 0.5,
     dual_total_correlation: 0.5,
     o_information: 0,

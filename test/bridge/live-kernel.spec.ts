@@ -264,7 +264,7 @@ describe('KernelBridge with a real kernel', () => {
       columns: ['valve_command', 'flow_meter', `leak_alarm_${i}`],
       order: 3,
       entropy: i / 3,
-      coinformation: -i / 5,
+      co_information: -i / 5,
       total_correlation: i / 7,
       dual_total_correlation: i / 9,
       o_information: i / 7 - i / 9,

@@ -102,7 +102,7 @@ describe('polyadic analyze', () => {
       expect(multiplet(result, 'X').entropy).toBeCloseTo(1.75, 12);
       expect(multiplet(result, 'Y').entropy).toBeCloseTo(2, 12);
       expect(multiplet(result, 'X', 'Y').entropy).toBeCloseTo(3.375, 12);
-      expect(multiplet(result, 'X', 'Y').coinformation).toBeCloseTo(0.375, 12);
+      expect(multiplet(result, 'X', 'Y').co_information).toBeCloseTo(0.375, 12);
     });
 
     it('should give Cover & Thomas Example 2.2.1 in nats', () => {
@@ -110,7 +110,7 @@ describe('polyadic analyze', () => {
       const result = parseResult(analyze(path.join(folder, 'ct.csv'), '--units', 'nats'));
       expect(result.units).toBe('nats');
       // 1 bit = ln 2 nats (Cover & Thomas 2006, §2.1)
-      expect(multiplet(result, 'X', 'Y').coinformation).toBeCloseTo(0.375 * Math.LN2, 12);
+      expect(multiplet(result, 'X', 'Y').co_information).toBeCloseTo(0.375 * Math.LN2, 12);
     });
 
     it('should give the XOR triplet a co-information of −1 bit', () => {
@@ -121,13 +121,13 @@ describe('polyadic analyze', () => {
       const result = parseResult(analyze(path.join(folder, 'xor.csv'), '--bins', 'categorical'));
       const triplet = multiplet(result, 'A', 'B', 'C');
       expect(triplet.order).toBe(3);
-      expect(triplet.coinformation).toBeCloseTo(-1, 12);
+      expect(triplet.co_information).toBeCloseTo(-1, 12);
       expect(triplet.total_correlation).toBeCloseTo(1, 12);
       expect(triplet.dual_total_correlation).toBeCloseTo(2, 12);
       expect(triplet.o_information).toBeCloseTo(-1, 12);
       expect(triplet.s_information).toBeCloseTo(3, 12);
-      expect(multiplet(result, 'A', 'B').coinformation).toBeCloseTo(0, 12);
-      expect(multiplet(result, 'A', 'C').coinformation).toBeCloseTo(0, 12);
+      expect(multiplet(result, 'A', 'B').co_information).toBeCloseTo(0, 12);
+      expect(multiplet(result, 'A', 'C').co_information).toBeCloseTo(0, 12);
     });
   });
 
@@ -157,7 +157,7 @@ describe('polyadic analyze', () => {
         ['auto', 'categorical', 2],
         ['auto', 'categorical', 2]
       ]);
-      expect(multiplet(result, 'A', 'B', 'C').coinformation).toBeCloseTo(-(0.25 * 2 + 0.75 * Math.log2(4 / 3)), 12);
+      expect(multiplet(result, 'A', 'B', 'C').co_information).toBeCloseTo(-(0.25 * 2 + 0.75 * Math.log2(4 / 3)), 12);
     });
   });
 
@@ -169,7 +169,7 @@ describe('polyadic analyze', () => {
         ['columns', 'engine', 'estimator', 'inadequate_count', 'max_order', 'multiplet_count', 'multiplets', 'rows', 'rows_used', 'units', 'warnings'].sort()
       );
       expect(Object.keys(result.multiplets[0]).sort()).toEqual(
-        ['adequacy', 'coinformation', 'columns', 'dual_total_correlation', 'entropy', 'o_information', 'order', 's_information', 'total_correlation'].sort()
+        ['adequacy', 'co_information', 'columns', 'dual_total_correlation', 'entropy', 'o_information', 'order', 's_information', 'total_correlation'].sort()
       );
       // five columns and every order: 2^5 − 1 multiplets
       expect(result.multiplets).toHaveLength(31);
@@ -188,7 +188,7 @@ describe('polyadic analyze', () => {
         'columns',
         'order',
         'entropy',
-        'coinformation',
+        'co_information',
         'total_correlation',
         'dual_total_correlation',
         'o_information',
@@ -201,7 +201,7 @@ describe('polyadic analyze', () => {
         expect(row.columns.split('|')).toEqual(expected.columns);
         expect(Number(row.order)).toBe(expected.order);
         expect(Number(row.entropy)).toBe(expected.entropy);
-        expect(Number(row.coinformation)).toBe(expected.coinformation);
+        expect(Number(row.co_information)).toBe(expected.co_information);
         expect(Number(row.o_information)).toBe(expected.o_information);
         expect(Number(row.adequacy)).toBe(expected.adequacy);
       });
@@ -245,7 +245,7 @@ describe('polyadic analyze', () => {
       const all = parseResult(analyze(path.join(folder, 'm.csv')));
       const top = parseResult(analyze(path.join(folder, 'm.csv'), '--top', '3'));
       const higher = (rows: IMultipletRow[]) => rows.filter(row => row.order >= 2);
-      const sorted = higher(all.multiplets).sort((a, b) => a.coinformation - b.coinformation);
+      const sorted = higher(all.multiplets).sort((a, b) => a.co_information - b.co_information);
       const expected = [...sorted.slice(0, 3), ...sorted.slice(-3)].map(row => row.columns.join('|')).sort();
       expect(higher(top.multiplets).map(row => row.columns.join('|')).sort()).toEqual(expected);
     });
@@ -289,7 +289,7 @@ describe('polyadic analyze', () => {
       const run = analyze(path.join(folder, 'c.csv'), ...args);
       const result = parseResult(run);
       expect(multiplet(result, 'flat').entropy).toBe(0);
-      expect(multiplet(result, 'flat', 'p').coinformation).toBe(0);
+      expect(multiplet(result, 'flat', 'p').co_information).toBe(0);
       const warningLines = run.stderr.trimEnd().split('\n').filter(line => line.startsWith('polyadic: warning:'));
       expect(warningLines).toHaveLength(result.warnings.length);
       return result.warnings.filter(w => w.includes('flat'));

@@ -153,7 +153,7 @@ describe('main', () => {
     expect(result.multiplet_count).toBe(3);
     // independent fair bits: H(a) = 1 and I(a;b) = 0 (worked by hand)
     expect(result.multiplets[0].entropy).toBeCloseTo(1, 12);
-    expect(result.multiplets[2].coinformation).toBeCloseTo(0, 12);
+    expect(result.multiplets[2].co_information).toBeCloseTo(0, 12);
   });
 
   it('should report a usage error in one line and return 2', async () => {

@@ -49,8 +49,8 @@ describe('analyze', () => {
       expect(result.multiplets.length).toBe(31);
       expect(result.multiplets.slice(0, 6).map(m => m.columns.join(','))).toEqual(['x', 'y', 'z', 'c1', 'c2', 'x,y']);
       expect(result.multiplets[30].columns).toEqual(['x', 'y', 'z', 'c1', 'c2']);
-      expect(row(result, 'x', 'y', 'z')?.coinformation).toBeCloseTo(-1, 12);
-      expect(row(result, 'c1', 'c2')?.coinformation).toBeCloseTo(1, 12);
+      expect(row(result, 'x', 'y', 'z')?.co_information).toBeCloseTo(-1, 12);
+      expect(row(result, 'c1', 'c2')?.co_information).toBeCloseTo(1, 12);
       expect(row(result, 'x')?.entropy).toBeCloseTo(1, 12);
       expect(row(result, 'x')?.total_correlation).toBe(0);
       expect(result.units).toBe('bits');
@@ -65,7 +65,7 @@ describe('analyze', () => {
       // them all exactly 0, so 3 or 4 rows.
       expect(result.multiplets.length).toBeGreaterThanOrEqual(3);
       expect(result.multiplets.length).toBeLessThanOrEqual(4);
-      expect(Math.abs(result.multiplets[1].coinformation)).toBeLessThan(1e-12);
+      expect(Math.abs(result.multiplets[1].co_information)).toBeLessThan(1e-12);
       expect(result.multiplets[0].columns).toEqual(['x', 'y', 'z']);
       expect(result.multiplets.every(m => m.order >= 2)).toBe(true);
       const highest = result.multiplets.slice(2);
@@ -158,7 +158,7 @@ describe('analyze', () => {
         ['categorical', 2]
       ]);
       expect(row(result, 'x')!.entropy).toBeCloseTo(1, 12);
-      expect(row(result, 'x', 'y', 'z')!.coinformation).toBeCloseTo(-1, 12);
+      expect(row(result, 'x', 'y', 'z')!.co_information).toBeCloseTo(-1, 12);
       expect(result.warnings).toEqual([]);
     });
 

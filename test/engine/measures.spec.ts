@@ -80,7 +80,7 @@ describe('measures', () => {
       const result = analyze([numericColumn('X', x), numericColumn('Y', y)], { bins: 'categorical' });
       const pair = result.multiplets.find(row => row.order === 2);
       expect(pair?.entropy).toBeCloseTo(27 / 8, 12);
-      expect(pair?.coinformation).toBeCloseTo(3 / 8, 12);
+      expect(pair?.co_information).toBeCloseTo(3 / 8, 12);
     });
   });
 

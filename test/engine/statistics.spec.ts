@@ -166,12 +166,12 @@ describe('analyze with statistics', () => {
     const columns = intColumns(table(600, 3, 1, true));
     const result = analyze(columns, { ...CATEGORICAL, maxOrder: 3, statistics: { surrogates: 199, seed: 4, tail: 'synergy' } });
     const triplet = result.multiplets.find(row => row.columns.join() === 'x0,x1,x2')!;
-    expect(triplet.coinformation).toBeLessThan(-0.3);
+    expect(triplet.co_information).toBeLessThan(-0.3);
     expect(triplet.p_value).toBe(1 / 200);
     expect(triplet.o_information_p_value).toBe(1 / 200);
     // The surrogate mean of a triplet's co-information is near 0 (plug-in bias only).
     expect(Math.abs(triplet.null_mean!)).toBeLessThan(0.01);
-    expect(triplet.co_information_corrected).toBeCloseTo(triplet.coinformation - triplet.null_mean!, 12);
+    expect(triplet.co_information_corrected).toBeCloseTo(triplet.co_information - triplet.null_mean!, 12);
     // Single columns are not tested; pairs have no O-information test.
     const single = result.multiplets.find(row => row.order === 1)!;
     expect(single.p_value).toBeNull();
@@ -186,7 +186,7 @@ describe('analyze with statistics', () => {
     }
     // The triplet lies far below its order's null band.
     const band3 = result.statistics!.null_bands.find(band => band.order === 3)!;
-    expect(triplet.coinformation).toBeLessThan(band3.low);
+    expect(triplet.co_information).toBeLessThan(band3.low);
   });
 
   it('should give p-values uniform under independence (scipy.stats.kstest at the 1 % level)', () => {
@@ -247,8 +247,8 @@ print(json.dumps([stats.kstest(s, 'uniform').pvalue for s in samples]))
     const columns = intColumns(table(800, 2, 9, true));
     const result = analyze(columns, { ...CATEGORICAL, maxOrder: 3, statistics: { bootstrap: 200, seed: 1 } });
     const triplet = result.multiplets.find(row => row.columns.join() === 'x0,x1,x2')!;
-    expect(triplet.ci_low!).toBeLessThan(triplet.coinformation);
-    expect(triplet.ci_high!).toBeGreaterThan(triplet.coinformation);
+    expect(triplet.ci_low!).toBeLessThan(triplet.co_information);
+    expect(triplet.ci_high!).toBeGreaterThan(triplet.co_information);
     expect(triplet.ci_high!).toBeLessThan(0);
     expect(triplet.same_sign).toBe(1);
     expect(triplet.entropy_ci_low!).toBeLessThanOrEqual(triplet.entropy_ci_high!);

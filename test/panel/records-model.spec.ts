@@ -2,7 +2,7 @@
  * The records section's model over a notebook's metadata: a completed run is recorded under
  * the `polyadic` key only and validates; rename, delete and restore; invalid and newer records
  * are left untouched; the data check tells the same data from changed data. Also the lookup
- * of a decomposition cell's record id.
+ * of a analysis cell's record id.
  */
 import * as fs from 'fs';
 import * as path from 'path';
@@ -156,7 +156,7 @@ describe('RecordsModel', () => {
       const model = new RecordsModel();
       model.setNotebook({ path: 'a.ipynb', metadata });
       await model.recordRun(runOf(columns, 'pd-fromfuture01'));
-      const newer = { ...(clone(metadata.data.polyadic) as object), version: 2 };
+      const newer = { ...(clone(metadata.data.polyadic) as object), version: 3 };
       const stored = metadataOf({ polyadic: newer });
       model.setNotebook({ path: 'c.ipynb', metadata: stored });
       expect(model.state?.status).toBe('newer');

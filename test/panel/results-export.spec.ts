@@ -94,7 +94,7 @@ describe('provenanceCsv', () => {
     });
     // the co-information column is the CLI's, untouched
     const triplet = store.rows.find(row => row.order === 3)!;
-    expect(Number(parsed.data.slice(1).find(cells => cells[0] === 'a|b|line\nbreak, c')![3])).toBe(triplet.coinformation);
+    expect(Number(parsed.data.slice(1).find(cells => cells[0] === 'a|b|line\nbreak, c')![3])).toBe(triplet.co_information);
   });
 
   it('should say which filters made the rows', () => {

@@ -80,7 +80,7 @@ describe('MultipletStore', () => {
         const cells = row.columns.reduce((p, name) => p * bins.get(name)!, 1);
         expect(store.adequacy[i]).toBe(result.rows_used / cells);
         expect(store.order[i]).toBe(row.order);
-        expect(store.coinformation[i]).toBe(row.coinformation);
+        expect(store.co_information[i]).toBe(row.co_information);
       });
       // valve, flow, alarm have 2 codes each and the numeric columns 4 (quantile:4): a quartet of
       // four numeric columns has 256 cells, 600 rows → 2.34375.
@@ -107,7 +107,7 @@ describe('MultipletTable', () => {
       const first = store.rows[table.visible[0]];
       expect(sameSet(first.columns, ['valve', 'flow', 'alarm'])).toBe(true);
       // Noisy parity with 5 % flips: I(V;F;A) = I(V;F) − I(V;F|A) ≈ 0 − (1 − H2(0.05)) ≈ −0.71 bits.
-      expect(first.coinformation).toBeLessThan(-0.5);
+      expect(first.co_information).toBeLessThan(-0.5);
     });
 
     it('should rank the planted pair first in the redundancy table', () => {
@@ -122,11 +122,11 @@ describe('MultipletTable', () => {
         const table = new MultipletTable({ side });
         table.setStore(store);
         const expected = result.multiplets.filter(
-          r => r.order >= 2 && (side === 'synergy' ? r.coinformation < 0 : r.coinformation > 0)
+          r => r.order >= 2 && (side === 'synergy' ? r.co_information < 0 : r.co_information > 0)
         ).length;
         expect(table.totalCount).toBe(expected);
         expect(table.totalCount).toBeGreaterThan(0);
-        const values = Array.from(table.visible, i => store.coinformation[i]);
+        const values = Array.from(table.visible, i => store.co_information[i]);
         for (let j = 1; j < values.length; j++) {
           if (side === 'synergy') {
             expect(values[j]).toBeGreaterThanOrEqual(values[j - 1]);
@@ -179,7 +179,7 @@ describe('MultipletTable', () => {
         expect(store.rows[i].columns).toContain('humidity_b');
       }
       const expected = result.multiplets.filter(
-        r => r.order >= 2 && r.coinformation > 0 && r.columns.includes('humidity_b')
+        r => r.order >= 2 && r.co_information > 0 && r.columns.includes('humidity_b')
       ).length;
       expect(table.rowCount).toBe(expected);
     });
@@ -200,7 +200,7 @@ describe('MultipletTable', () => {
       table.setFilter({ column: 'flow', order: 3 });
       const rows = Array.from(table.visible, i => store.rows[i]);
       expect(rows.length).toBe(
-        result.multiplets.filter(r => r.order === 3 && r.coinformation < 0 && r.columns.includes('flow')).length
+        result.multiplets.filter(r => r.order === 3 && r.co_information < 0 && r.columns.includes('flow')).length
       );
       expect(rows.every(r => r.order === 3)).toBe(true);
       expect(sameSet(rows[0].columns, ['valve', 'flow', 'alarm'])).toBe(true);
@@ -241,7 +241,7 @@ describe('MultipletTable', () => {
       expect(body.length).toBe(table.rowCount);
       body.forEach((cells, j) => {
         const row = store.rows[table.visible[j]];
-        expect(Number(cells[3])).toBe(row.coinformation);
+        expect(Number(cells[3])).toBe(row.co_information);
         expect(Number(cells[6])).toBe(row.o_information);
       });
     });
@@ -251,7 +251,7 @@ describe('MultipletTable', () => {
         columns: [name, 'alarm'],
         order: 2,
         entropy: 1,
-        coinformation: 0.5 + i,
+        co_information: 0.5 + i,
         total_correlation: 0.5,
         dual_total_correlation: 0.5,
         o_information: 0,
@@ -287,7 +287,7 @@ describe('ResultsModel', () => {
       const byOrder: Record<number, number[]> = {};
       for (const row of result.multiplets) {
         if (row.order >= 2) {
-          (byOrder[row.order] ??= []).push(row.coinformation);
+          (byOrder[row.order] ??= []).push(row.co_information);
         }
       }
       // Reference: numpy.histogram computed now, bins = min(20, ⌈√n⌉) as orderHistogram documents.
@@ -336,13 +336,13 @@ describe('ResultsModel', () => {
       expect(model.bar!.count).toBe(histogram.counts[bar]);
       const shown = [...model.synergy.visible, ...model.redundancy.visible].map(i => model.store!.rows[i]);
       const zeros = result.multiplets.filter(
-        r => r.order === 3 && r.coinformation === 0 && r.coinformation >= histogram.edges[bar] && r.coinformation <= histogram.edges[bar + 1]
+        r => r.order === 3 && r.co_information === 0 && r.co_information >= histogram.edges[bar] && r.co_information <= histogram.edges[bar + 1]
       ).length;
       expect(shown.length + zeros).toBe(histogram.counts[bar]);
       for (const row of shown) {
         expect(row.order).toBe(3);
-        expect(row.coinformation).toBeGreaterThanOrEqual(histogram.edges[bar]);
-        expect(row.coinformation).toBeLessThanOrEqual(histogram.edges[bar + 1]);
+        expect(row.co_information).toBeGreaterThanOrEqual(histogram.edges[bar]);
+        expect(row.co_information).toBeLessThanOrEqual(histogram.edges[bar + 1]);
       }
       model.selectBar(null);
       expect(model.bar).toBeNull();
@@ -374,7 +374,7 @@ describe('ResultsModel', () => {
       const reference = chainAlong(source, chain.columns.map(n => names.indexOf(n)));
       chain.values.forEach((v, i) => expect(v).toBeCloseTo(reference.values[i] / Math.LN2, 10));
       // The last value is the multiplet's own co-information; each step is the difference.
-      expect(chain.values[2]).toBeCloseTo(store.coinformation[index], 10);
+      expect(chain.values[2]).toBeCloseTo(store.co_information[index], 10);
       expect(chain.steps[1]).toBeCloseTo(chain.values[2] - chain.values[1], 12);
       // The first value is H(alarm) ≈ 1 bit for a near-fair parity.
       expect(chain.values[0]).toBeCloseTo(

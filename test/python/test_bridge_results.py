@@ -28,7 +28,7 @@ def multiplet_table(rows: int, salt: float = 0.0, extra: bool = True) -> pa.Tabl
         "columns": pa.array(names, pa.list_(pa.string())),
         "order": pa.array([len(n) for n in names], pa.int32()),
         "entropy": pa.array([1.0 + i + salt for i in range(rows)]),
-        "coinformation": pa.array([-0.5 * i - salt for i in range(rows)]),
+        "co_information": pa.array([-0.5 * i - salt for i in range(rows)]),
         "total_correlation": pa.array([0.1 * i for i in range(rows)]),
         "dual_total_correlation": pa.array([0.2 * i for i in range(rows)]),
         "o_information": pa.array([-0.1 * i for i in range(rows)]),
@@ -59,7 +59,7 @@ class TestDecode:
         assert frame["columns"].tolist() == [tuple(n) for n in table.column("columns").to_pylist()]
         assert frame["order"].tolist() == [3, 2, 3, 2, 3]
         pd.testing.assert_series_equal(
-            frame["coinformation"], pd.Series(table.column("coinformation").to_pylist(), name="coinformation")
+            frame["co_information"], pd.Series(table.column("co_information").to_pylist(), name="co_information")
         )
         assert pd.isna(frame["p_value"].iloc[0]) and frame["p_value"].iloc[1] == 0.5
 

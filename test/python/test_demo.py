@@ -110,7 +110,7 @@ class Measures:
     def mi(self, a: str, b: str) -> float:
         return self.h(a) + self.h(b) - self.h(a, b)
 
-    def coinformation(self, a: str, b: str, c: str) -> float:
+    def co_information(self, a: str, b: str, c: str) -> float:
         # I(A;B;C) = −Σ_{∅≠T⊆S} (−1)^{|T|} H(T)  (DESIGN.md §3, Bell 2003)
         return (
             self.h(a) + self.h(b) + self.h(c)
@@ -198,7 +198,7 @@ def test_planted_structure(greenhouse, with_timestamp):
     # A clear winner, not a near tie (the runner-up is leaf wetness, which follows humidity).
     assert pairs[HUMIDITY_PAIR] - pairs[ranked_pairs[1]] > 0.3
 
-    triplets = {t: measures.coinformation(*t) for t in itertools.combinations(names, 3)}
+    triplets = {t: measures.co_information(*t) for t in itertools.combinations(names, 3)}
     ranked_triplets = sorted(triplets, key=triplets.get)
     assert ranked_triplets[0] == TRIPLET, [(t, round(triplets[t], 3)) for t in ranked_triplets[:3]]
     assert triplets[TRIPLET] < -0.5
@@ -219,7 +219,7 @@ def test_triplet_matches_exclusive_or_with_noisy_alarm(greenhouse):
     # of the flow meter split each mode in two, so allow a small gap.
     measures = Measures(default_codes(greenhouse))
     expected = -(1.0 - binary_entropy(0.03))
-    assert measures.coinformation(*TRIPLET) == pytest.approx(expected, abs=0.05)
+    assert measures.co_information(*TRIPLET) == pytest.approx(expected, abs=0.05)
 
 
 # --- the demo notebook ----------------------------------------------------------------------
@@ -270,10 +270,10 @@ def test_engine_tops_both_tables_with_the_planted_multiplets(written, greenhouse
     # panel. (In the CSV it is text; the CLI then treats it as an identifier.)
     result = polyadic_analyze(written.with_suffix(".parquet"), "--max-order", "3")
     multiplets = [m for m in result["multiplets"] if m["order"] >= 2]
-    ranked = sorted(multiplets, key=lambda m: m["coinformation"])
+    ranked = sorted(multiplets, key=lambda m: m["co_information"])
     assert tuple(ranked[0]["columns"]) == TRIPLET
     assert tuple(ranked[-1]["columns"]) == HUMIDITY_PAIR
     # Same numbers as the numpy computation above (plug-in estimator, the engine's default).
     measures = Measures(default_codes(greenhouse))
-    assert ranked[0]["coinformation"] == pytest.approx(measures.coinformation(*TRIPLET), abs=1e-9)
-    assert ranked[-1]["coinformation"] == pytest.approx(measures.mi(*HUMIDITY_PAIR), abs=1e-9)
+    assert ranked[0]["co_information"] == pytest.approx(measures.co_information(*TRIPLET), abs=1e-9)
+    assert ranked[-1]["co_information"] == pytest.approx(measures.mi(*HUMIDITY_PAIR), abs=1e-9)

@@ -119,7 +119,7 @@ def test_entropy_and_mutual_information_match_scipy_and_sklearn(fmt, tmp_path, p
     for x, y in itertools.combinations(codes, 2):
         # reference: sklearn.metrics.mutual_info_score (plug-in MI in nats) / ln 2
         expected = mutual_info_score(codes[x], codes[y]) / math.log(2)
-        assert rows[frozenset([x, y])]["coinformation"] == pytest.approx(expected, abs=TOLERANCE)
+        assert rows[frozenset([x, y])]["co_information"] == pytest.approx(expected, abs=TOLERANCE)
 
 
 def test_formats_give_the_same_result(tmp_path, polyadic_analyze):
@@ -159,7 +159,7 @@ def test_rule_edges_match_numpy_histogram_bin_edges(rule, dataset, polyadic_anal
         assert rows[frozenset([column["name"]])]["entropy"] == pytest.approx(expected_entropy, abs=TOLERANCE)
         # row by row: MI with the class from numpy.histogram's assignment (sklearn.metrics.mutual_info_score)
         expected_mi = mutual_info_score(codes_from_edges(x, edges), frame["class"]) / math.log(2)
-        assert rows[frozenset([column["name"], "class"])]["coinformation"] == pytest.approx(expected_mi, abs=TOLERANCE)
+        assert rows[frozenset([column["name"], "class"])]["co_information"] == pytest.approx(expected_mi, abs=TOLERANCE)
     if inexact:
         warnings.warn(f"{name} {rule}: edges 1 ulp from numpy for {inexact}")
 
@@ -185,7 +185,7 @@ def test_quantile_edges_match_numpy_quantile(k, dataset, polyadic_analyze):
         assert rows[frozenset([column["name"]])]["entropy"] == pytest.approx(expected_entropy, abs=TOLERANCE)
         # row by row: MI with the class from numpy.histogram's assignment (sklearn.metrics.mutual_info_score)
         expected_mi = mutual_info_score(codes_from_edges(x, edges), frame["class"]) / math.log(2)
-        assert rows[frozenset([column["name"], "class"])]["coinformation"] == pytest.approx(expected_mi, abs=TOLERANCE)
+        assert rows[frozenset([column["name"], "class"])]["co_information"] == pytest.approx(expected_mi, abs=TOLERANCE)
 
 
 def test_quantile_edges_drop_repeats(tmp_path, polyadic_analyze):
@@ -211,7 +211,7 @@ def test_mutual_information_of_every_pair_matches_sklearn(dataset, polyadic_anal
     for x, y in itertools.combinations(codes, 2):
         # reference: sklearn.metrics.mutual_info_score in nats, / ln 2 for bits
         expected = mutual_info_score(codes[x], codes[y]) / math.log(2)
-        assert rows[frozenset([x, y])]["coinformation"] == pytest.approx(expected, abs=TOLERANCE), (x, y)
+        assert rows[frozenset([x, y])]["co_information"] == pytest.approx(expected, abs=TOLERANCE), (x, y)
 
 
 def test_coinformation_of_triplets_matches_numpy_joint_histograms(dataset, polyadic_analyze):
@@ -232,7 +232,7 @@ def test_coinformation_of_triplets_matches_numpy_joint_histograms(dataset, polya
             + joint_entropy_bits(*c)
         )
         row = rows[frozenset(triplet)]
-        assert row["coinformation"] == pytest.approx(expected, abs=TOLERANCE), triplet
+        assert row["co_information"] == pytest.approx(expected, abs=TOLERANCE), triplet
         assert row["entropy"] == pytest.approx(joint_entropy_bits(*c), abs=TOLERANCE), triplet
         # reference: Watanabe (1960) total correlation from the same numpy histograms
         total = sum(joint_entropy_bits(ci) for ci in c) - joint_entropy_bits(*c)
@@ -246,7 +246,7 @@ def test_nats_are_bits_times_ln2(dataset, polyadic_analyze):
     for key, row in bits.items():
         # 1 bit = ln 2 nats (Cover & Thomas 2006, §2.1)
         assert nats[key]["entropy"] == pytest.approx(row["entropy"] * math.log(2), abs=TOLERANCE)
-        assert nats[key]["coinformation"] == pytest.approx(row["coinformation"] * math.log(2), abs=TOLERANCE)
+        assert nats[key]["co_information"] == pytest.approx(row["co_information"] * math.log(2), abs=TOLERANCE)
 
 
 def typed_table(rows: int = 300) -> pa.Table:
@@ -316,7 +316,7 @@ def test_column_types_and_nulls_match_pandas(fmt, tmp_path, polyadic_analyze):
     for x, y in itertools.combinations(codes, 2):
         # reference: sklearn.metrics.mutual_info_score / ln 2
         expected = mutual_info_score(codes[x], codes[y]) / math.log(2)
-        assert rows[frozenset([x, y])]["coinformation"] == pytest.approx(expected, abs=TOLERANCE), (x, y)
+        assert rows[frozenset([x, y])]["co_information"] == pytest.approx(expected, abs=TOLERANCE), (x, y)
     # under 'drop' a row is used only when no selected column is null or NaN
     dropped = polyadic_analyze(path, "--bins", "categorical", "--max-order", "1")
     missing = np.array([[is_missing(v) for v in table.column(name).to_pylist()] for name in table.column_names])

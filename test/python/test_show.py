@@ -1,4 +1,4 @@
-"""``polyadic.show(record_id)``: the output bundle of a decomposition cell (polyadic/show.py)."""
+"""``polyadic.show(record_id)``: the output bundle of a analysis cell (polyadic/show.py)."""
 
 from __future__ import annotations
 
@@ -107,7 +107,7 @@ def test_markdown_from_a_record_summary():
     top = summary["synergy"][0]
     assert rows[1][0] == " · ".join(top["columns"])
     assert rows[1][1] == str(top["order"])
-    assert rows[1][2] == f"{top['coinformation']:.4f}".replace("-", "−")
+    assert rows[1][2] == f"{top['co_information']:.4f}".replace("-", "−")
 
 
 def test_markdown_from_the_results_the_panel_sent():
@@ -117,7 +117,7 @@ def test_markdown_from_the_results_the_panel_sent():
             "columns": pa.array(names, pa.list_(pa.string())),
             "order": pa.array([2, 3, 2, 1], pa.int32()),
             "entropy": [1.0, 2.0, 1.5, 1.0],
-            "coinformation": [-0.25, -0.75, 0.5, 1.0],
+            "co_information": [-0.25, -0.75, 0.5, 1.0],
             "total_correlation": [0.1, 0.2, 0.3, 0.0],
             "dual_total_correlation": [0.1, 0.2, 0.3, 0.0],
             "o_information": [0.0, -0.5, 0.0, 0.0],
@@ -158,7 +158,7 @@ def test_bad_summary_is_refused_with_the_field():
                     {
                         "columns": "ab",
                         "order": 2,
-                        "coinformation": 0,
+                        "co_information": 0,
                         "o_information": 0,
                         "total_correlation": 0,
                         "dual_total_correlation": 0,

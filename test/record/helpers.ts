@@ -82,7 +82,7 @@ export function notebookWith(record: unknown, extra: Record<string, unknown> = {
 
 /** A record document of analyses. */
 export function recordOf(analyses: unknown[]): IRecordDocument {
-  return { version: 1, analyses } as IRecordDocument;
+  return { version: 2, analyses } as IRecordDocument;
 }
 
 /** A stream that keeps what is written. */

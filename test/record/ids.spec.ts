@@ -1,4 +1,4 @@
-/** Record ids: the strict pattern, new random ids, and the code of a decomposition cell. */
+/** Record ids: the strict pattern, new random ids, and the code of a analysis cell. */
 import { isRecordId, newRecordId, NEW_ID_LENGTH, showCellSource } from '../../src/record/ids';
 
 describe('record ids', () => {

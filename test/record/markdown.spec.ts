@@ -1,5 +1,5 @@
 /**
- * The text/markdown fallback of a decomposition cell: untrusted column names and labels must
+ * The text/markdown fallback of a analysis cell: untrusted column names and labels must
  * render as their literal text in one table cell. Checked by rendering with marked, the GFM
  * parser JupyterLab's own Markdown renderer uses (@jupyterlab/markedparser-extension).
  */
@@ -42,7 +42,7 @@ const multiplet = (columns: string[]): IMultipletSummary => ({
   columns,
   order: columns.length,
   entropy: 2,
-  coinformation: -0.25,
+  co_information: -0.25,
   total_correlation: 0.5,
   dual_total_correlation: 1.25,
   o_information: -0.75
@@ -90,7 +90,7 @@ describe('markdown fallback', () => {
       expect(html.match(/<table>/g)).toHaveLength(2);
       expect(text).toContain(`**Polyadic analysis pd\\-0fixture01: Drip line\\, quartiles**`);
       const top = analysis.summary.synergy[0];
-      expect(text).toContain(`| ${formatValue(top.coinformation)} | ${formatValue(top.o_information)} |`);
+      expect(text).toContain(`| ${formatValue(top.co_information)} | ${formatValue(top.o_information)} |`);
     });
 
     it('should say when a side has no multiplet', () => {

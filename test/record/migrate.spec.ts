@@ -1,6 +1,7 @@
 /**
- * Record versions: the pre-release layout (version 0) migrates to version 1 as written out by
- * hand in fixtures/v0-migrated.json, problems in an old layout name their path in the stored
+ * Record versions: the pre-release layout (version 0) migrates through version 1 to the
+ * current layout as written out by hand in fixtures/v0-migrated.json, a version 1 record
+ * (fixtures/v1-record.json) migrates to version 2 field by field, problems in an old layout name their path in the stored
  * document, newer layouts are recognised, and the stored value is never changed.
  */
 import * as fs from 'fs';
@@ -13,10 +14,11 @@ import { clone } from './helpers';
 const FIXTURES = path.join(__dirname, 'fixtures');
 const v0 = JSON.parse(fs.readFileSync(path.join(FIXTURES, 'v0-record.json'), 'utf8'));
 const v0Migrated = JSON.parse(fs.readFileSync(path.join(FIXTURES, 'v0-migrated.json'), 'utf8'));
-const v1 = JSON.parse(fs.readFileSync(path.join(FIXTURES, 'valid-record.json'), 'utf8'));
+const v1 = JSON.parse(fs.readFileSync(path.join(FIXTURES, 'v1-record.json'), 'utf8'));
+const v2 = JSON.parse(fs.readFileSync(path.join(FIXTURES, 'valid-record.json'), 'utf8'));
 
 describe('migrateRecord', () => {
-  it('should migrate version 0 to the version 1 written out by hand', () => {
+  it('should migrate version 0 to the current version written out by hand', () => {
     const outcome = migrateRecord(v0);
     expect(outcome.status).toBe('current');
     if (outcome.status === 'current') {
@@ -33,8 +35,50 @@ describe('migrateRecord', () => {
   });
 
   it('should return a current record as it is, for the caller to check', () => {
+    const outcome = migrateRecord(v2);
+    expect(outcome).toEqual({ status: 'current', document: v2, fromVersion: 2 });
+  });
+
+  it('should migrate version 1: co_information renamed, the placeholder statistics dropped, nothing else changed', () => {
     const outcome = migrateRecord(v1);
-    expect(outcome).toEqual({ status: 'current', document: v1, fromVersion: 1 });
+    expect(outcome.status).toBe('current');
+    if (outcome.status !== 'current') {
+      return;
+    }
+    expect(outcome.fromVersion).toBe(1);
+    const migrated = outcome.document as { version: number; analyses: Record<string, unknown>[] };
+    expect(migrated.version).toBe(2);
+    expect(validateRecord(migrated).ok).toBe(true);
+    v1.analyses.forEach((old: Record<string, any>, i: number) => {
+      const now = migrated.analyses[i] as Record<string, any>;
+      expect(now.statistics).toBeUndefined();
+      const { statistics: _dropped, summary: oldSummary, ...rest } = old;
+      void _dropped;
+      const { summary: newSummary, ...restNow } = now;
+      expect(restNow).toEqual(rest);
+      for (const side of ['synergy', 'redundancy']) {
+        expect(newSummary[side]).toHaveLength(oldSummary[side].length);
+        oldSummary[side].forEach((m: Record<string, unknown>, j: number) => {
+          const { coinformation, ...others } = m;
+          expect(newSummary[side][j]).toEqual({ ...others, co_information: coinformation });
+          expect(Object.keys(newSummary[side][j])).toEqual(Object.keys(m).map(k => (k === 'coinformation' ? 'co_information' : k)));
+        });
+      }
+      expect(newSummary.multiplet_count).toBe(oldSummary.multiplet_count);
+      expect(newSummary.histograms).toEqual(oldSummary.histograms);
+    });
+  });
+
+  it('should name the path of a problem in a version 1 record, checked against the frozen version 1 layout', () => {
+    const broken = clone(v1);
+    broken.analyses[0].summary.synergy[0].co_information = broken.analyses[0].summary.synergy[0].coinformation;
+    delete broken.analyses[0].summary.synergy[0].coinformation;
+    const outcome = migrateRecord(broken);
+    expect(outcome.status).toBe('invalid');
+    if (outcome.status === 'invalid') {
+      expect(outcome.problems[0].path).toBe('/analyses/0/summary/synergy/0/coinformation');
+      expect(outcome.problems[0].message).toContain('(in a record of layout version 1)');
+    }
   });
 
   it('should name the path of a problem in a version 0 record', () => {
@@ -55,7 +99,7 @@ describe('migrateRecord', () => {
     expect(outcome.status).toBe('newer');
     if (outcome.status === 'newer') {
       expect(outcome.version).toBe(4);
-      expect(outcome.notice).toContain('layout version 4, newer than the version 1 this Polyadic reads');
+      expect(outcome.notice).toContain('layout version 4, newer than the version 2 this Polyadic reads');
       expect(outcome.notice).toContain('read-only');
     }
   });
@@ -91,7 +135,10 @@ describe('migrateRecord', () => {
       status: 'invalid',
       problems: [{ path: '/version', message: '/version is 0, a layout this Polyadic cannot read (no migration from it).' }]
     });
-    expect(MIGRATIONS.map(m => [m.from, m.to])).toEqual([[0, 1]]);
+    expect(MIGRATIONS.map(m => [m.from, m.to])).toEqual([
+      [0, 1],
+      [1, 2]
+    ]);
   });
 
   it('should run each step on a copy, after checking the old layout', () => {
@@ -107,7 +154,7 @@ describe('migrateRecord', () => {
       }
     };
     const stored = { version: 0, runs: [] };
-    const outcome = migrateRecord(stored, [step]);
+    const outcome = migrateRecord(stored, [step], 1);
     expect(outcome).toEqual({ status: 'current', document: { version: 1, analyses: [] }, fromVersion: 0 });
     expect(seen).toEqual([{ version: 0, runs: [], touched: true }]);
     expect(stored).toEqual({ version: 0, runs: [] });

@@ -74,7 +74,7 @@ describe('record schema', () => {
   describe('#validateRecord', () => {
     it('should accept the valid fixture and an empty record', () => {
       expect(validateRecord(valid)).toEqual({ ok: true, value: valid });
-      expect(validateRecord({ version: 1, analyses: [] }).ok).toBe(true);
+      expect(validateRecord({ version: 2, analyses: [] }).ok).toBe(true);
     });
 
     it('should not change the record it checks', () => {
@@ -97,7 +97,7 @@ describe('record schema', () => {
         '/analyses/0/source/fingerprint/sha256 must be a SHA-256 digest of 64 lower-case hexadecimal digits.'
       ],
       ['bad-created', '/analyses/0/created', '/analyses/0/created must be a date and time such as 2024-05-01T12:00:00Z.'],
-      ['version-as-text', '/version', '/version must be 1.'],
+      ['version-as-text', '/version', '/version must be 2.'],
       ['negative-surrogates', '/analyses/1/statistics/surrogates', '/analyses/1/statistics/surrogates must be >= 0.'],
       ['duplicate-id', '/analyses/1/id', "/analyses/1/id repeats the id 'pd-0fixture01' of /analyses/0; ids must be unique."],
       [
@@ -127,7 +127,7 @@ describe('record schema', () => {
     });
 
     it('should cap the number of problems of a badly broken record', () => {
-      const broken = { version: 1, analyses: Array.from({ length: 200 }, () => ({ id: 'x' })) };
+      const broken = { version: 2, analyses: Array.from({ length: 200 }, () => ({ id: 'x' })) };
       const outcome = validateRecord(broken);
       expect(outcome.ok).toBe(false);
       if (!outcome.ok) {
@@ -149,18 +149,25 @@ describe('record schema', () => {
   });
 
   describe('#completeAnalysis', () => {
-    it("should fill the statistics settings left out with the schema file's defaults", () => {
+    it('should refuse statistics settings with one left out, since a record states every setting the engine ran with', () => {
       const analysis = clone(valid.analyses[1]) as unknown as Record<string, unknown>;
       analysis.statistics = { surrogates: 999 };
       const outcome = completeAnalysis(analysis);
-      expect(outcome.ok).toBe(true);
-      const defaults = schemaFile.$defs.statistics.properties;
-      expect(analysis.statistics).toEqual({
-        surrogates: 999,
-        seed: defaults.seed.default,
-        bootstrap: defaults.bootstrap.default,
-        alpha: defaults.alpha.default
-      });
+      expect(outcome.ok).toBe(false);
+      if (!outcome.ok) {
+        expect(outcome.problems[0].path).toBe('/statistics/seed');
+        expect(outcome.problems[0].message).toContain('/statistics/seed');
+      }
+    });
+
+    it('should accept an analysis without statistics, and evidence values that are null', () => {
+      const analysis = clone(valid.analyses[1]) as unknown as Record<string, any>;
+      delete analysis.statistics;
+      analysis.summary.synergy[0].ci_low = null;
+      expect(completeAnalysis(analysis).ok).toBe(true);
+      analysis.summary.synergy[0].ci_low = 'wide';
+      const outcome = completeAnalysis(analysis);
+      expect(outcome.ok).toBe(false);
     });
   });
 });

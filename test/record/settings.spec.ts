@@ -52,7 +52,7 @@ describe('optionsFromRecord', () => {
     // cross-version tolerance, not necessarily to the last bit
     top.synergy.forEach((multiplet, i) => {
       const recorded = analysis.summary.synergy[i];
-      for (const field of ['entropy', 'coinformation', 'total_correlation', 'dual_total_correlation', 'o_information'] as const) {
+      for (const field of ['entropy', 'co_information', 'total_correlation', 'dual_total_correlation', 'o_information'] as const) {
         expect(Math.abs(multiplet[field] - recorded[field])).toBeLessThanOrEqual(1e-9);
       }
     });

@@ -94,7 +94,7 @@ describe('record store', () => {
 
     it('should show the readable analyses of a newer record, read-only', () => {
       const newer = {
-        version: 2,
+        version: 3,
         analyses: [clone(first), { ...clone(second), shelf: 'B' }],
         shelves: ['A', 'B']
       };
@@ -103,7 +103,7 @@ describe('record store', () => {
       const state = readRecords(metadata);
       expect(state.status).toBe('newer');
       expect(state.readOnly).toBe(true);
-      expect(state.storedVersion).toBe(2);
+      expect(state.storedVersion).toBe(3);
       expect(state.analyses.map(a => a.id)).toEqual([first.id]);
       expect(state.notice).toContain('read-only');
       expect(() => addAnalysis(metadata, withId(first, 'pd-newrun0001'))).toThrow('read-only');
@@ -131,7 +131,7 @@ describe('record store', () => {
       const snapshot = clone(others);
       const state = addAnalysis(metadata, clone(first));
       expect(metadata.writes).toEqual(['polyadic']);
-      expect(metadata.values.polyadic).toEqual({ version: 1, analyses: [first] });
+      expect(metadata.values.polyadic).toEqual({ version: 2, analyses: [first] });
       expect(state.analyses.map(a => a.id)).toEqual([first.id]);
       // the other extensions' values are the same objects, unchanged
       expect(metadata.values.kernelspec).toBe(others.kernelspec);
@@ -151,9 +151,9 @@ describe('record store', () => {
       const metadata = notebookMetadata(clone(v0));
       addAnalysis(metadata, withId(first, 'pd-newrun0001'));
       const record = metadata.values.polyadic as IRecordDocument;
-      expect(record.version).toBe(1);
+      expect(record.version).toBe(2);
       expect(record.analyses.map(a => a.id)).toEqual(['pd-legacy0001', 'pd-newrun0001']);
-      expect(readRecords(metadata)).toMatchObject({ status: 'ok', migrated: false, storedVersion: 1 });
+      expect(readRecords(metadata)).toMatchObject({ status: 'ok', migrated: false, storedVersion: 2 });
     });
 
     it('should refuse an id that is already recorded, writing nothing', () => {
@@ -211,7 +211,7 @@ describe('record store', () => {
       deleteAnalysis(metadata, first.id);
       expect((metadata.values.polyadic as IRecordDocument).analyses.map(a => a.id)).toEqual([second.id]);
       deleteAnalysis(metadata, second.id);
-      expect(metadata.values.polyadic).toEqual({ version: 1, analyses: [] });
+      expect(metadata.values.polyadic).toEqual({ version: 2, analyses: [] });
       expect(metadata.writes).toEqual(['polyadic', 'polyadic']);
     });
   });

@@ -13,12 +13,12 @@ import { histogramsOfRows, orderHistogram, topMultiplets } from '../../src/recor
 import { validateAnalysis } from '../../src/record/validate';
 import { greenhouseTable, toCsv } from './helpers';
 
-function row(columns: string[], coinformation: number): IMultipletRow {
+function row(columns: string[], coInformation: number): IMultipletRow {
   return {
     columns,
     order: columns.length,
     entropy: 1,
-    coinformation,
+    co_information: coInformation,
     total_correlation: 0,
     dual_total_correlation: 0,
     o_information: 0,
@@ -143,19 +143,23 @@ describe('recordFromResult', () => {
     // the engine's default policy, as resolveOptions fills it in
     expect(record.missing).toBe('drop');
     expect([record.estimator, record.units, record.max_order]).toEqual(['shrinkage', 'nats', 3]);
-    expect(record.statistics).toEqual({ surrogates: 200, seed: 1, bootstrap: 0, alpha: 0.05 });
+    // no evidence was computed, so the record claims none
+    expect(record.statistics).toBeUndefined();
+    expect(record.summary.evidence).toBeUndefined();
+    expect(record.summary.synergy[0].p_value).toBeUndefined();
     expect(record.summary.synergy).toHaveLength(4);
     expect(record.summary.synergy[0].columns).toEqual(['valve_command', 'flow_l_min', 'leak_alarm']);
     expect(record.summary.multiplet_count).toBe(result.multiplet_count);
     expect(record.summary.rows_used).toBe(300);
-    const order3 = result.multiplets.filter(m => m.order === 3).map(m => m.coinformation);
+    const order3 = result.multiplets.filter(m => m.order === 3).map(m => m.co_information);
     expect(record.summary.histograms?.[1]).toEqual(orderHistogram(3, order3));
   });
 
-  it('should keep the sample, the statistics chosen and a cleaned label', async () => {
-    const result = analyze(source.columns, options);
+  it('should keep the sample, the statistics the engine ran with, their evidence and a cleaned label', async () => {
+    const withStatistics = { ...options, statistics: { surrogates: 19, seed: 5, alpha: 0.01 } };
+    const result = analyze(source.columns, withStatistics);
     const record = recordFromResult({
-      options,
+      options: withStatistics,
       result,
       source: {
         frame: 'greenhouse',
@@ -163,13 +167,30 @@ describe('recordFromResult', () => {
         fingerprint: await fingerprintColumns(source.columns),
         sample: { seed: 5, row_cap: 300, original_rows: 5000 }
       },
-      statistics: { surrogates: 1000, alpha: 0.01 },
       label: `  Valve\ncheck ${'é'.repeat(300)}`,
       id: 'pd-chosen0001'
     });
     expect(record.id).toBe('pd-chosen0001');
     expect(record.source.sample).toEqual({ seed: 5, row_cap: 300, original_rows: 5000 });
-    expect(record.statistics).toEqual({ surrogates: 1000, seed: 1, bootstrap: 0, alpha: 0.01 });
+    expect(record.statistics).toEqual({
+      surrogates: 19,
+      seed: 5,
+      bootstrap: 0,
+      tail: 'two',
+      alpha: 0.01,
+      beyond_pairs: 0,
+      fit_draws: 0,
+      sharpen: 0
+    });
+    const top = record.summary.synergy[0];
+    const row = result.multiplets.find(m => m.columns.join() === top.columns.join());
+    expect(top.p_value).toBe(row?.p_value);
+    expect(top.q_value).toBe(row?.q_value);
+    expect(top.null_mean).toBe(row?.null_mean);
+    // p cannot go below 1/(N + 1)
+    expect(top.p_value).toBeGreaterThanOrEqual(1 / 20);
+    expect(record.summary.evidence?.families.co_information?.count).toBe(result.statistics?.families.co_information?.count);
+    expect(record.summary.evidence?.null_bands).toEqual(result.statistics?.null_bands);
     expect(Array.from(record.label)).toHaveLength(200);
     expect(record.label.startsWith('Valve check éé')).toBe(true);
   });
@@ -198,15 +219,16 @@ describe('recordFromResult', () => {
   });
 
   it('should refuse statistics outside the schema, naming the field', async () => {
-    const result = analyze(source.columns, options);
+    const withStatistics = { ...options, statistics: { surrogates: 9 } };
+    const result = analyze(source.columns, withStatistics);
+    const tampered = { ...result, statistics: { ...result.statistics!, alpha: 2 } };
     const fingerprint = await fingerprintColumns(source.columns);
     expect(() =>
       recordFromResult({
-        options,
-        result,
-        source: { frame: 'greenhouse', columns: source.columns, fingerprint },
-        statistics: { alpha: 2 }
+        options: withStatistics,
+        result: tampered,
+        source: { frame: 'greenhouse', columns: source.columns, fingerprint }
       })
-    ).toThrow('The analysis cannot be recorded: /statistics/alpha must be <= 1.');
+    ).toThrow('The analysis cannot be recorded: /statistics/alpha must be < 1.');
   });
 });

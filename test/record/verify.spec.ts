@@ -106,15 +106,15 @@ describe('runVerify', () => {
 
   it('should exit 1 with DIFFERS naming the value when a recorded value is off by 1e-12', async () => {
     const tampered = clone(analysis);
-    const recorded = tampered.summary.synergy[0].coinformation;
-    tampered.summary.synergy[0].coinformation = recorded + 1e-12;
+    const recorded = tampered.summary.synergy[0].co_information;
+    tampered.summary.synergy[0].co_information = recorded + 1e-12;
     const notebook = writeNotebook([analysis, { ...tampered, id: 'pd-tampered01', label: 'Tampered' }]);
     const run = await verify(notebook, '--data', `greenhouse=${csvPath}`);
     expect(run.code).toBe(VERIFY_EXIT.differs);
     const lines = run.stdout.split('\n');
     expect(lines.find(line => line.startsWith(analysis.id))).toContain('reproduced');
     const line = lines.find(line => line.startsWith('pd-tampered01')) ?? '';
-    expect(line).toContain(`DIFFERS: synergy[0] {${tampered.summary.synergy[0].columns.join(', ')}} coinformation ${recorded + 1e-12} vs ${recorded}`);
+    expect(line).toContain(`DIFFERS: synergy[0] {${tampered.summary.synergy[0].columns.join(', ')}} co_information ${recorded + 1e-12} vs ${recorded}`);
     expect(run.stdout).toContain('1 of 2 analyses reproduce.');
   });
 
@@ -219,10 +219,10 @@ describe('runVerify', () => {
 
     it('should exit 2 for a record of a newer layout', async () => {
       const file = path.join(folder, 'newer.ipynb');
-      fs.writeFileSync(file, JSON.stringify(notebookWith({ version: 2, analyses: [] })));
+      fs.writeFileSync(file, JSON.stringify(notebookWith({ version: 3, analyses: [] })));
       const run = await verify(file, '--data', `greenhouse=${csvPath}`);
       expect(run.code).toBe(VERIFY_EXIT.badInput);
-      expect(run.stderr).toContain('layout version 2, newer than the version 1');
+      expect(run.stderr).toContain('layout version 3, newer than the version 2');
     });
 
     it('should exit 2 when a recorded frame has no --data', async () => {

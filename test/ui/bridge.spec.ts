@@ -112,7 +112,7 @@ test('should hand the multiplet table to the kernel and leave the history alone'
     'columns',
     'order',
     'entropy',
-    'coinformation',
+    'co_information',
     'total_correlation',
     'dual_total_correlation',
     'o_information',

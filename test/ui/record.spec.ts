@@ -1,7 +1,7 @@
 /**
  * Browser test of the record in a real JupyterLab with a real kernel: run an analysis, save,
  * read the .ipynb the server wrote and validate its record against schema/record.schema.json,
- * reopen the notebook and restore the settings, insert a decomposition cell and see it drawn
+ * reopen the notebook and restore the settings, insert a analysis cell and see it drawn
  * (with the Markdown fallback saved beside it), then run `polyadic verify` on the saved
  * notebook with the frame's Parquet file: it passes, and fails on a copy with one value changed.
  */

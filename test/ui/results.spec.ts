@@ -130,7 +130,7 @@ test('should export the filtered table as CSV with the CLI header, an adequacy c
     'columns',
     'order',
     'entropy',
-    'coinformation',
+    'co_information',
     'total_correlation',
     'dual_total_correlation',
     'o_information',

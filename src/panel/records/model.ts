@@ -60,8 +60,8 @@ export interface IRestoreRequest {
   frame: string;
   /** Engine options that re-run it exactly. */
   options: IAnalyzeOptions;
-  /** Its statistics settings. */
-  statistics: IStatisticsSettings;
+  /** Its statistics settings, or null when it computed no evidence. */
+  statistics: IStatisticsSettings | null;
 }
 
 /** How the data the panel fetched compares with the chosen analysis. */
@@ -252,7 +252,7 @@ export class RecordsModel {
       analysis,
       frame: analysis.source.frame,
       options: optionsFromRecord(analysis),
-      statistics: { ...analysis.statistics }
+      statistics: analysis.statistics ? { ...analysis.statistics } : null
     });
     return true;
   }

@@ -189,7 +189,7 @@ export namespace RecordsView {
   export interface IOptions {
     /** The model to show. */
     model: RecordsModel;
-    /** Inserts a decomposition cell for an analysis; no button without it. */
+    /** Inserts a analysis cell for an analysis; no button without it. */
     onInsertCell?: (id: string) => void;
   }
 }

@@ -189,10 +189,10 @@ export class ResultsModel {
     this._higher = higher;
     for (const k of [...byOrder.keys()].sort((a, b) => a - b)) {
       const members = byOrder.get(k)!;
-      const values = Float64Array.from(members, i => store.coinformation[i]);
+      const values = Float64Array.from(members, i => store.co_information[i]);
       const histogram = orderHistogram(k, values);
       for (const i of members) {
-        this._barOf[i] = binIndexByEdges(histogram.edges, store.coinformation[i]);
+        this._barOf[i] = binIndexByEdges(histogram.edges, store.co_information[i]);
       }
       this._histograms.push({ ...histogram, total: members.length });
     }

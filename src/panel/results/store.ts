@@ -9,7 +9,7 @@ import type { IAnalysisResult, IMultipletRow } from '../../engine/types';
 export type ResultsColumnKey =
   | 'columns'
   | 'order'
-  | 'coinformation'
+  | 'co_information'
   | 'o_information'
   | 'total_correlation'
   | 'dual_total_correlation'
@@ -19,7 +19,7 @@ export type ResultsColumnKey =
 export const RESULTS_COLUMNS: readonly { key: ResultsColumnKey; label: string }[] = [
   { key: 'columns', label: 'Multiplet' },
   { key: 'order', label: 'Order' },
-  { key: 'coinformation', label: 'Co-information' },
+  { key: 'co_information', label: 'Co-information' },
   { key: 'o_information', label: 'O-information' },
   { key: 'total_correlation', label: 'Total correlation' },
   { key: 'dual_total_correlation', label: 'Dual total correlation' },
@@ -39,7 +39,7 @@ export class MultipletStore {
     this.columnNames.forEach((name, i) => indexOfName.set(name, i));
 
     this.order = new Uint8Array(n);
-    this.coinformation = new Float64Array(n);
+    this.co_information = new Float64Array(n);
     this.o_information = new Float64Array(n);
     this.total_correlation = new Float64Array(n);
     this.dual_total_correlation = new Float64Array(n);
@@ -54,7 +54,7 @@ export class MultipletStore {
     for (let i = 0; i < n; i++) {
       const row = rows[i];
       this.order[i] = row.order;
-      this.coinformation[i] = row.coinformation;
+      this.co_information[i] = row.co_information;
       this.o_information[i] = row.o_information;
       this.total_correlation[i] = row.total_correlation;
       this.dual_total_correlation[i] = row.dual_total_correlation;
@@ -83,7 +83,7 @@ export class MultipletStore {
   /** Order of each row. */
   readonly order: Uint8Array;
   /** Co-information of each row, in the result's units. */
-  readonly coinformation: Float64Array;
+  readonly co_information: Float64Array;
   /** O-information of each row. */
   readonly o_information: Float64Array;
   /** Total correlation of each row. */

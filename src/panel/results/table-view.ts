@@ -135,7 +135,7 @@ export class MultipletTableView extends Widget {
         tr.append(
           multiplet,
           textElement('td', 'pd-ResultsTable-cell pd-mod-order', String(store.order[index])),
-          textElement('td', 'pd-ResultsTable-cell pd-mod-number', formatValue(store.coinformation[index])),
+          textElement('td', 'pd-ResultsTable-cell pd-mod-number', formatValue(store.co_information[index])),
           textElement('td', 'pd-ResultsTable-cell pd-mod-number', formatValue(store.o_information[index])),
           textElement('td', 'pd-ResultsTable-cell pd-mod-number', formatValue(store.total_correlation[index])),
           textElement('td', 'pd-ResultsTable-cell pd-mod-number', formatValue(store.dual_total_correlation[index])),

@@ -104,7 +104,7 @@ export class MultipletTable {
     if (store) {
       const sign = this.side === 'synergy' ? -1 : 1;
       for (let i = 0; i < store.size; i++) {
-        if (store.order[i] >= 2 && Math.sign(store.coinformation[i]) === sign) {
+        if (store.order[i] >= 2 && Math.sign(store.co_information[i]) === sign) {
           side.push(i);
         }
       }
@@ -263,7 +263,7 @@ export namespace MultipletTable {
 
   /** Most negative co-information first for synergy, most positive first for redundancy. */
   export function defaultSort(side: TableSide): ITableSort {
-    return { key: 'coinformation', descending: side === 'redundancy' };
+    return { key: 'co_information', descending: side === 'redundancy' };
   }
 
   /** The direction a first click on a column sorts in: the side's strongest first for measures. */
