@@ -6,9 +6,14 @@
  * For each analysis: read the selected columns of the file given for its frame, compare the
  * fingerprint, re-run the engine with the recorded settings (binning specs, missing-value
  * policy, estimator, units, maximum order), and compare the resulting binning, the row and
- * multiplet counts, every measure of every summary multiplet and the order histograms.
+ * multiplet counts, every measure of every summary multiplet and the order histograms. When the
+ * analysis recorded evidence (its `statistics` settings), the evidence is re-run with exactly
+ * those settings (same seed, in one thread: the engine's results do not depend on the thread
+ * count) and every evidence field a summary multiplet holds is compared, with the scope of the
+ * evidence (families, null bands, counts) and the count of inadequate multiplets.
  * Values must be identical when the engine version is the recorded one, and within 1e-9
- * (relative above 1) across versions.
+ * (relative above 1) across versions; a null (not computed, or not a finite number) equals
+ * only a null.
  *
  * Exit codes: 0 every analysis reproduces; 1 at least one does not (its line says which value
  * and why); 2 bad input (no such notebook, not a notebook, no or an invalid record, a --data
@@ -18,20 +23,21 @@
 import { promises as fs } from 'fs';
 import { parseArgs } from 'util';
 
-import { latticeInput, prepareColumns } from '../engine/analyze';
+import { analyzeCodes, latticeInput, prepareColumns } from '../engine/analyze';
 import { isPolyadicError, PolyadicError } from '../engine/errors';
 import { fromNats } from '../engine/estimators';
 import { computeLattice, type ILattice } from '../engine/lattice';
 import { coinformationAll, multipletMeasures } from '../engine/measures';
 import { checkMultipletCount, forEachMultiplet } from '../engine/multiplets';
-import type { ColumnView, IColumnBinning, Units } from '../engine/types';
+import type { ColumnView, IAnalysisResult, IColumnBinning, Units } from '../engine/types';
 import { formatCount, plural, wordFor } from '../engine/text';
 import { ENGINE_NAME, ENGINE_VERSION } from '../engine/version';
 import { fingerprintColumns } from '../record/fingerprint';
-import { compareFingerprint, optionsFromRecord } from '../record/settings';
+import { compareFingerprint, optionsFromRecord, statisticsOptionsFromRecord } from '../record/settings';
 import { readRecords } from '../record/store';
-import { orderHistogram } from '../record/summary';
+import { evidenceSummaryOf, multipletSummary, orderHistogram, statisticsSettingsOf } from '../record/summary';
 import type { IAnalysisRecord, IMultipletSummary } from '../record/types';
+import { EVIDENCE_FIELDS } from '../results-format';
 import { EXIT, ICliStreams, oneLine } from './core';
 import { readDataFile, type IDataSource } from './readers';
 
@@ -51,6 +57,9 @@ dataframe name an analysis recorded (its frame); PATH is a .csv, .tsv, Arrow IPC
 For each analysis the fingerprint of the selected columns is compared, the
 analysis is re-run with the recorded settings, and every recorded value is
 compared: identical under the recorded engine version, within 1e-9 otherwise.
+An analysis that recorded evidence (surrogates, bootstrap, pairwise-preserving
+null) has it re-run with the recorded seed and settings, and every recorded
+p, q, null, interval and band is compared the same way.
 
 Options:
   --data NAME=PATH      the data file of frame NAME; repeat for several frames
@@ -360,7 +369,107 @@ namespace Private {
     if (analysis.summary.histograms) {
       differences.push(...histogramDifferences(analysis, lattice, coinformation, equal));
     }
+    // the evidence and adequacy through the engine's own entry (what analyze() runs after
+    // binning), on the lattice just walked from the same codes and options
+    const statistics = statisticsOptionsFromRecord(analysis);
+    const result = analyzeCodes(prepared, { ...options, ...(statistics ? { statistics } : {}) }, lattice);
+    differences.push(...evidenceDifferences(analysis, result, equal));
     return differences;
+  }
+
+  /**
+   * The evidence of the re-run against the record's: the settings the engine resolved, every
+   * evidence field each summary multiplet holds (and, for an analysis with statistics, every
+   * field the re-run computes that the record lacks), the scope of the evidence and the count of
+   * inadequate multiplets.
+   */
+  function evidenceDifferences(analysis: IAnalysisRecord, result: IAnalysisResult, equal: (a: number, b: number) => boolean): string[] {
+    const out: string[] = [];
+    const summary = analysis.summary;
+    if (summary.inadequate_count !== undefined && summary.inadequate_count !== result.inadequate_count) {
+      out.push(`inadequate_count ${summary.inadequate_count} vs ${result.inadequate_count ?? 'none'}`);
+    }
+    if (analysis.statistics) {
+      if (!result.statistics) {
+        out.push('statistics recorded, but the re-run with those settings computes no evidence');
+      } else {
+        const now = statisticsSettingsOf(result.statistics);
+        for (const key of Object.keys(analysis.statistics) as (keyof typeof now)[]) {
+          if (analysis.statistics[key] !== now[key]) {
+            out.push(`statistics.${key} ${analysis.statistics[key]} vs ${now[key]}`);
+          }
+        }
+      }
+    }
+    const rows = new Map(result.multiplets.map(row => [multipletKey(row.columns), row]));
+    for (const side of ['synergy', 'redundancy'] as const) {
+      summary[side].forEach((recorded, i) => {
+        const label = `${side}[${i}] {${recorded.columns.join(', ')}}`;
+        const row = rows.get(multipletKey(recorded.columns));
+        if (!row) {
+          out.push(`${label} is not among the re-run's multiplets`);
+          return;
+        }
+        const now = multipletSummary(row);
+        for (const field of EVIDENCE_FIELDS) {
+          const held = field in recorded;
+          // a record with statistics holds every field the engine computed; an older layout
+          // (or a record without evidence) is compared only on what it holds
+          if (!held && !(analysis.statistics && field in now)) {
+            continue;
+          }
+          const difference = valueDifference(held ? recorded[field] : undefined, now[field], equal);
+          if (difference) {
+            out.push(`${label} ${field} ${difference}`);
+          }
+        }
+      });
+    }
+    if (summary.evidence || result.statistics) {
+      out.push(
+        ...structureDifferences(
+          'evidence',
+          summary.evidence,
+          result.statistics && analysis.statistics ? evidenceSummaryOf(result.statistics) : undefined,
+          equal
+        )
+      );
+    }
+    return out;
+  }
+
+  /** A multiplet's identity: its column names as a set. */
+  function multipletKey(columns: readonly string[]): string {
+    return JSON.stringify([...columns].sort());
+  }
+
+  /** How a recorded value differs from the re-run's ('recorded vs now'), or '' when equal. */
+  function valueDifference(recorded: unknown, now: unknown, equal: (a: number, b: number) => boolean): string {
+    const show = (value: unknown): string => (value === undefined ? 'absent' : JSON.stringify(value));
+    if (typeof recorded === 'number' && typeof now === 'number') {
+      return equal(recorded, now) ? '' : `${recorded} vs ${now}`;
+    }
+    return recorded === now ? '' : `${show(recorded)} vs ${show(now)}`;
+  }
+
+  /**
+   * Differences between two plain JSON values (the evidence summaries), each named by its path,
+   * e.g. `evidence.null_bands[0].high 0.1 vs 0.2`; numbers compared with `equal`.
+   */
+  function structureDifferences(where: string, recorded: unknown, now: unknown, equal: (a: number, b: number) => boolean): string[] {
+    const isObject = (value: unknown): value is Record<string, unknown> => typeof value === 'object' && value !== null;
+    if (Array.isArray(recorded) && Array.isArray(now)) {
+      if (recorded.length !== now.length) {
+        return [`${where} has ${formatCount(recorded.length)} entries recorded, ${formatCount(now.length)} now`];
+      }
+      return recorded.flatMap((item, i) => structureDifferences(`${where}[${i}]`, item, now[i], equal));
+    }
+    if (isObject(recorded) && isObject(now) && !Array.isArray(recorded) && !Array.isArray(now)) {
+      const keys = [...new Set([...Object.keys(recorded), ...Object.keys(now)])];
+      return keys.flatMap(key => structureDifferences(`${where}.${key}`, recorded[key], now[key], equal));
+    }
+    const difference = valueDifference(recorded, now, equal);
+    return difference ? [`${where} ${difference}`] : [];
   }
 
   /** Differences between a recorded binning and the re-run's. */
@@ -468,10 +577,24 @@ namespace Private {
 
   /** How many recorded values a reproduction covers (for the report). */
   function countValues(analysis: IAnalysisRecord): number {
-    const multiplets = analysis.summary.synergy.length + analysis.summary.redundancy.length;
+    const multiplets = [...analysis.summary.synergy, ...analysis.summary.redundancy];
+    const evidence = multiplets.reduce((sum, multiplet) => sum + EVIDENCE_FIELDS.filter(field => field in multiplet).length, 0);
     const edges = analysis.binning.reduce((sum, binning) => sum + (binning.edges?.length ?? 0), 0);
     const histograms = (analysis.summary.histograms ?? []).reduce((sum, h) => sum + h.edges.length + h.counts.length, 0);
-    return 5 * multiplets + edges + histograms + 2;
+    const scope = analysis.summary.evidence ? Private.leafCount(analysis.summary.evidence) : 0;
+    const inadequate = analysis.summary.inadequate_count !== undefined ? 1 : 0;
+    return 5 * multiplets.length + evidence + edges + histograms + scope + inadequate + 2;
+  }
+
+  /** The number of numbers, strings, booleans and nulls in a JSON value. */
+  export function leafCount(value: unknown): number {
+    if (Array.isArray(value)) {
+      return value.reduce((sum: number, item) => sum + leafCount(item), 0);
+    }
+    if (typeof value === 'object' && value !== null) {
+      return Object.values(value).reduce((sum: number, item) => sum + leafCount(item), 0);
+    }
+    return 1;
   }
 
   /** Print a failure before any analysis ran: usage and input problems are 2, bugs 1. */

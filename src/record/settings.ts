@@ -5,6 +5,7 @@
  */
 
 import { DEFAULT_MAX_MULTIPLETS } from '../engine/multiplets';
+import type { IStatisticsOptions } from '../engine/statistics/options';
 import type { IAnalyzeOptions } from '../engine/types';
 import type { IFingerprint } from './fingerprint';
 import type { IAnalysisRecord } from './types';
@@ -23,6 +24,29 @@ export function optionsFromRecord(analysis: IAnalysisRecord): IAnalyzeOptions {
     units: analysis.units,
     maxOrder: analysis.max_order,
     maxMultiplets: Math.max(DEFAULT_MAX_MULTIPLETS, analysis.summary.multiplet_count)
+  };
+}
+
+/**
+ * The statistics options that re-run a recorded analysis' evidence exactly: its surrogates,
+ * seed, bootstrap resamples, tail, level, pairwise-preserving null (multiplets per table and
+ * draws) and sharpening, in the engine's names; undefined when the analysis computed none.
+ * The panel restores only {@link optionsFromRecord}; `polyadic verify` adds these.
+ */
+export function statisticsOptionsFromRecord(analysis: IAnalysisRecord): IStatisticsOptions | undefined {
+  const settings = analysis.statistics;
+  if (!settings) {
+    return undefined;
+  }
+  return {
+    surrogates: settings.surrogates,
+    seed: settings.seed,
+    bootstrap: settings.bootstrap,
+    tail: settings.tail,
+    alpha: settings.alpha,
+    beyondPairs: settings.beyond_pairs,
+    fitDraws: settings.fit_draws,
+    sharpen: settings.sharpen
   };
 }
 

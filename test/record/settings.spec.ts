@@ -8,7 +8,8 @@ import * as path from 'path';
 import { readDelimitedText } from '../../src/cli/readers';
 import { analyze } from '../../src/engine/analyze';
 import { fingerprintColumns } from '../../src/record/fingerprint';
-import { compareFingerprint, optionsFromRecord } from '../../src/record/settings';
+import { compareFingerprint, optionsFromRecord, statisticsOptionsFromRecord } from '../../src/record/settings';
+import { statisticsSettingsOf } from '../../src/record/summary';
 import { topMultiplets } from '../../src/record/summary';
 import type { IRecordDocument } from '../../src/record/types';
 import { clone, greenhouseTable, toCsv } from './helpers';
@@ -24,6 +25,22 @@ function fixtureColumns() {
   table.rows[9][0] = '';
   return readDelimitedText(toCsv(table), 'csv', 'greenhouse.csv').columns;
 }
+
+describe('statisticsOptionsFromRecord', () => {
+  it('should give nothing for an analysis without statistics', () => {
+    expect(valid.analyses[0].statistics).toBeUndefined();
+    expect(statisticsOptionsFromRecord(valid.analyses[0])).toBeUndefined();
+  });
+
+  it('should give the engine the options that it reports back as the recorded settings', () => {
+    const analysis = clone(valid.analyses[1]);
+    analysis.statistics = { surrogates: 30, seed: 9, bootstrap: 12, tail: 'redundancy', alpha: 0.2, beyond_pairs: 1, fit_draws: 7, sharpen: 40 };
+    const options = statisticsOptionsFromRecord(analysis);
+    expect(options).toEqual({ surrogates: 30, seed: 9, bootstrap: 12, tail: 'redundancy', alpha: 0.2, beyondPairs: 1, fitDraws: 7, sharpen: 40 });
+    const result = analyze(fixtureColumns(), { ...optionsFromRecord(analysis), statistics: options });
+    expect(statisticsSettingsOf(result.statistics!)).toEqual(analysis.statistics);
+  });
+});
 
 describe('optionsFromRecord', () => {
   it('should give the engine options of the recorded analysis', () => {

@@ -2,7 +2,9 @@
  * `polyadic verify` end to end through runVerify: a notebook whose record was made by
  * recordFromResult from analyze() on a CSV file reproduces (exit 0), stops reproducing when one
  * cell of the data changes or one recorded value is tampered with (exit 1), and refuses bad
- * input (exit 2).
+ * input (exit 2). A record with evidence (surrogates, bootstrap, pairwise-preserving null) has
+ * it re-derived on the recorded seed and every evidence value compared; a version 1 record
+ * (fixtures/v1-record.json) verifies or fails as it did before the layout change.
  */
 import * as fs from 'fs';
 import * as path from 'path';
@@ -12,10 +14,12 @@ import * as arrow from 'apache-arrow';
 import { runVerify, VERIFY_EXIT } from '../../src/cli/verify';
 import { readDataFile } from '../../src/cli/readers';
 import { analyze } from '../../src/engine/analyze';
-import type { IAnalyzeOptions } from '../../src/engine/types';
+import type { IAnalysisResult, IAnalyzeOptions } from '../../src/engine/types';
 import { fingerprintColumns } from '../../src/record/fingerprint';
 import { recordFromResult } from '../../src/record/recordFromResult';
-import type { IAnalysisRecord } from '../../src/record/types';
+import type { IAnalysisRecord, IMultipletSummary } from '../../src/record/types';
+import { EnginePool } from '../../src/worker/pool';
+import { InProcessFactory } from '../worker/helpers';
 import { captureStreams, clone, greenhouseTable, notebookWith, recordOf, tempFolder, toCsv } from './helpers';
 
 const OPTIONS: IAnalyzeOptions = { estimator: 'miller-madow', maxOrder: 3 };
@@ -24,9 +28,14 @@ let folder: string;
 let csvPath: string;
 let analysis: IAnalysisRecord;
 
-async function recordOfFile(file: string, frame: string, options: IAnalyzeOptions): Promise<IAnalysisRecord> {
+async function recordOfFile(
+  file: string,
+  frame: string,
+  options: IAnalyzeOptions,
+  run: (columns: Parameters<typeof analyze>[0]) => Promise<IAnalysisResult> = async columns => analyze(columns, options)
+): Promise<IAnalysisRecord> {
   const source = await readDataFile(file);
-  const result = analyze(source.columns, options);
+  const result = await run(source.columns);
   return recordFromResult({
     options,
     result,
@@ -259,4 +268,203 @@ describe('runVerify', () => {
       expect(run.stderr).not.toContain('\u001b');
     });
   });
+});
+
+/** Statistics as the panel or the CLI would ask for them: every kind of evidence at once. */
+const EVIDENCE_OPTIONS: IAnalyzeOptions = {
+  ...OPTIONS,
+  statistics: { surrogates: 99, seed: 17, bootstrap: 40, tail: 'two', alpha: 0.1, beyondPairs: 1, fitDraws: 10 }
+};
+
+describe('runVerify with evidence', () => {
+  let evidenced: IAnalysisRecord;
+
+  /** The line verify prints for analysis `id`. */
+  function lineOf(stdout: string, id: string): string {
+    return stdout.split('\n').find(line => line.startsWith(id)) ?? '';
+  }
+
+  /** The first summary multiplet (synergy, then redundancy) matching a test, with where it is. */
+  function findMultiplet(
+    record: IAnalysisRecord,
+    test: (multiplet: IMultipletSummary) => boolean
+  ): { where: string; multiplet: IMultipletSummary } {
+    for (const side of ['synergy', 'redundancy'] as const) {
+      const i = record.summary[side].findIndex(test);
+      if (i >= 0) {
+        const multiplet = record.summary[side][i];
+        return { where: `${side}[${i}] {${multiplet.columns.join(', ')}}`, multiplet };
+      }
+    }
+    throw new Error('no summary multiplet matches');
+  }
+
+  beforeAll(async () => {
+    // made by a pool of two workers; verify re-runs in one thread and must agree bit for bit
+    const factory = new InProcessFactory();
+    evidenced = await recordOfFile(csvPath, 'greenhouse', EVIDENCE_OPTIONS, async columns => {
+      const pool = new EnginePool({ createWorker: factory.create, workers: 2 });
+      try {
+        return (await pool.analyze(columns, EVIDENCE_OPTIONS)).result;
+      } finally {
+        pool.dispose();
+      }
+    });
+    evidenced.id = 'pd-evidence001';
+  }, 60_000);
+
+  it('should record every kind of evidence, numbers and nulls, for verify to compare', () => {
+    expect(evidenced.statistics).toEqual({
+      surrogates: 99,
+      seed: 17,
+      bootstrap: 40,
+      tail: 'two',
+      alpha: 0.1,
+      beyond_pairs: 1,
+      fit_draws: 10,
+      sharpen: 0
+    });
+    const top = evidenced.summary.synergy[0];
+    for (const field of ['adequacy', 'p_value', 'q_value', 'null_mean', 'ci_low', 'ci_high', 'connected_information'] as const) {
+      expect([field, typeof top[field]]).toEqual([field, 'number']);
+    }
+    // a pair has no pairwise-preserving null: its connected information is recorded as null
+    expect(findMultiplet(evidenced, m => m.order === 2).multiplet.connected_information).toBeNull();
+    expect(evidenced.summary.evidence?.null_bands.map(band => band.order)).toEqual([2, 3]);
+    expect(evidenced.summary.evidence?.families.co_information).toEqual({ orders: [2, 3], count: 35 });
+    expect(evidenced.summary.inadequate_count).toEqual(expect.any(Number));
+  });
+
+  it('should exit 0 when the evidence re-derives on the recorded seed, counting the evidence values', async () => {
+    const run = await verify(writeNotebook([analysis, evidenced], 'evidence.ipynb'), '--data', `greenhouse=${csvPath}`);
+    expect(run.stderr).toBe('');
+    expect(run.code).toBe(VERIFY_EXIT.reproduced);
+    const count = (line: string): number => Number(/reproduced \(([\d,]+) values/.exec(line)?.[1].replace(/,/g, ''));
+    const plain = count(lineOf(run.stdout, analysis.id));
+    const withEvidence = count(lineOf(run.stdout, evidenced.id));
+    // the same multiplets and histograms, plus every evidence field and the evidence's scope
+    expect(withEvidence).toBeGreaterThan(plain + 20 * (evidenced.summary.synergy.length + evidenced.summary.redundancy.length));
+    expect(run.stdout).toContain('2 of 2 analyses reproduce.');
+  });
+
+  it('should name the multiplet and the field of a tampered p_value and q_value', async () => {
+    const tampered = clone(evidenced);
+    const p = tampered.summary.synergy[0].p_value as number;
+    tampered.summary.synergy[0].p_value = p + 0.001;
+    const q = tampered.summary.redundancy[1].q_value as number;
+    tampered.summary.redundancy[1].q_value = q / 2;
+    const run = await verify(writeNotebook([tampered]), '--data', `greenhouse=${csvPath}`);
+    expect(run.code).toBe(VERIFY_EXIT.differs);
+    const line = lineOf(run.stdout, evidenced.id);
+    expect(line).toContain(`DIFFERS: synergy[0] {${tampered.summary.synergy[0].columns.join(', ')}} p_value ${p + 0.001} vs ${p}`);
+    expect(line).toContain(`redundancy[1] {${tampered.summary.redundancy[1].columns.join(', ')}} q_value ${q / 2} vs ${q}`);
+    expect(line).not.toContain('(and');
+  });
+
+  it('should report a null recorded where the re-run has a number, and the reverse, and a field left out', async () => {
+    const tampered = clone(evidenced);
+    const pair = findMultiplet(tampered, m => m.order === 2);
+    pair.multiplet.connected_information = 0;
+    const top = tampered.summary.synergy[0];
+    const low = top.ci_low as number;
+    top.ci_low = null;
+    const q = top.o_information_q_value as number;
+    delete top.o_information_q_value;
+    const run = await verify(writeNotebook([tampered]), '--data', `greenhouse=${csvPath}`);
+    expect(run.code).toBe(VERIFY_EXIT.differs);
+    const line = lineOf(run.stdout, evidenced.id);
+    const head = `synergy[0] {${top.columns.join(', ')}}`;
+    expect(line).toContain(`${head} o_information_q_value absent vs ${q}`);
+    expect(line).toContain(`${head} ci_low null vs ${low}`);
+    expect(line).toContain(`${pair.where} connected_information 0 vs null`);
+  });
+
+  it('should name a tampered null band, family count and inadequate count', async () => {
+    const tampered = clone(evidenced);
+    const band = tampered.summary.evidence!.null_bands[1];
+    const high = band.high;
+    band.high = high + 0.01;
+    tampered.summary.evidence!.families.co_information!.count += 1;
+    tampered.summary.inadequate_count! += 1;
+    const run = await verify(writeNotebook([tampered]), '--data', `greenhouse=${csvPath}`);
+    expect(run.code).toBe(VERIFY_EXIT.differs);
+    const line = lineOf(run.stdout, evidenced.id);
+    expect(line).toContain(`inadequate_count ${evidenced.summary.inadequate_count! + 1} vs ${evidenced.summary.inadequate_count}`);
+    expect(line).toContain(`evidence.families.co_information.count 36 vs 35`);
+    expect(line).toContain(`evidence.null_bands[1].high ${high + 0.01} vs ${high}`);
+  });
+
+  it('should re-run with the recorded seed and tail, so another recorded seed or tail does not verify', async () => {
+    for (const change of [{ seed: 18 }, { tail: 'synergy' as const }]) {
+      const other = clone(evidenced);
+      other.statistics = { ...other.statistics!, ...change };
+      const run = await verify(writeNotebook([other]), '--data', `greenhouse=${csvPath}`);
+      expect([change, run.code]).toEqual([change, VERIFY_EXIT.differs]);
+      // the values differ, not the settings: the re-run used the settings as recorded
+      expect(lineOf(run.stdout, evidenced.id)).toMatch(/DIFFERS: (synergy|redundancy)\[\d+\] \{[^}]+\} (p_value|null_mean|ci_low)/);
+      expect(lineOf(run.stdout, evidenced.id)).not.toContain('statistics.');
+    }
+  });
+
+  it('should report a tampered adequacy in a record without statistics', async () => {
+    const tampered = clone(analysis);
+    expect(tampered.statistics).toBeUndefined();
+    const adequacy = tampered.summary.synergy[0].adequacy as number;
+    tampered.summary.synergy[0].adequacy = adequacy * 2;
+    const run = await verify(writeNotebook([tampered]), '--data', `greenhouse=${csvPath}`);
+    expect(run.code).toBe(VERIFY_EXIT.differs);
+    expect(lineOf(run.stdout, analysis.id)).toContain(`adequacy ${adequacy * 2} vs ${adequacy}`);
+  });
+});
+
+describe('runVerify on a version 1 record', () => {
+  const v1 = JSON.parse(fs.readFileSync(path.join(__dirname, 'fixtures', 'v1-record.json'), 'utf8'));
+
+  /** The data of the fixtures: greenhouseTable(60, 11) with two blank cells (as settings.spec.ts says). */
+  function fixtureCsv(): string {
+    const table = greenhouseTable(60, 11);
+    table.rows[5][3] = '';
+    table.rows[9][0] = '';
+    const file = path.join(folder, 'fixture-data.csv');
+    fs.writeFileSync(file, toCsv(table));
+    return file;
+  }
+
+  function writeV1(record: unknown): string {
+    const file = path.join(folder, 'v1.ipynb');
+    fs.writeFileSync(file, JSON.stringify(notebookWith(record), null, 1));
+    return file;
+  }
+
+  // The expected lines are those `polyadic verify` of commit a9c1765 (layout 1, before the
+  // layout change) printed for the same notebook and data, but for the measure's name, which
+  // layout 2 spells co_information. Its placeholder statistics (the schema's defaults) are not
+  // evidence the engine computed: migration drops them and nothing is re-run for them.
+  it('should verify the first analysis and report the same last-bit differences of the second as before', async () => {
+    const run = await verify(writeV1(v1), '--data', `greenhouse=${fixtureCsv()}`);
+    expect(run.stderr).toBe('');
+    expect(run.code).toBe(VERIFY_EXIT.differs);
+    expect(lineOf(run.stdout, 'pd-0fixture01')).toBe('pd-0fixture01  Drip line, quartiles  reproduced (72 values identical)');
+    expect(lineOf(run.stdout, 'pd-0fixture02')).toBe(
+      'pd-0fixture02  Drip line, fixed edges  DIFFERS: ' +
+        'synergy[0] {valve_command, flow_l_min, leak_alarm} co_information -0.6481518336677301 vs -0.64815183366773; ' +
+        'synergy[0] {valve_command, flow_l_min, leak_alarm} o_information -0.6481518336677301 vs -0.6481518336677294; ' +
+        'synergy[0] {valve_command, flow_l_min, leak_alarm} total_correlation 0.7136586406184364 vs 0.7136586406184366 (and 12 more)'
+    );
+    expect(run.stdout).toContain('1 of 2 analyses reproduce.');
+  });
+
+  it('should report a tampered version 1 value as before', async () => {
+    const tampered = clone(v1);
+    tampered.analyses[0].summary.synergy[0].coinformation += 1e-6;
+    const run = await verify(writeV1(tampered), '--data', `greenhouse=${fixtureCsv()}`);
+    expect(lineOf(run.stdout, 'pd-0fixture01')).toBe(
+      'pd-0fixture01  Drip line, quartiles  DIFFERS: synergy[0] {valve_command, flow_l_min, leak_alarm} co_information -0.8391325795557911 vs -0.8391335795557912'
+    );
+    expect(run.code).toBe(VERIFY_EXIT.differs);
+  });
+
+  function lineOf(stdout: string, id: string): string {
+    return stdout.split('\n').find(line => line.startsWith(id)) ?? '';
+  }
 });
