@@ -37,6 +37,38 @@ MULTIPLET_FIELDS = (
     "s_information",
 )
 
+#: Evidence fields a multiplet row may carry after the core ones, in the order the table has them
+#: (the CLI's CSV order, src/results-format.ts ``EVIDENCE_FIELDS``). A table has those the
+#: analysis computed; a value not computed for a multiplet is null in Arrow, NaN in pandas.
+EVIDENCE_FIELDS = (
+    "adequacy",
+    "p_value",
+    "q_value",
+    "p_surrogates",
+    "null_mean",
+    "null_sd",
+    "co_information_corrected",
+    "o_information_p_value",
+    "o_information_q_value",
+    "o_information_null_mean",
+    "o_information_null_sd",
+    "ci_low",
+    "ci_high",
+    "same_sign",
+    "entropy_ci_low",
+    "entropy_ci_high",
+    "total_correlation_ci_low",
+    "total_correlation_ci_high",
+    "dual_total_correlation_ci_low",
+    "dual_total_correlation_ci_high",
+    "o_information_ci_low",
+    "o_information_ci_high",
+    "s_information_ci_low",
+    "s_information_ci_high",
+    "connected_information",
+    "connected_p_value",
+)
+
 
 class ResultsNotFound(LookupError):
     """No stored results match the request; the message lists the analyses that exist."""
@@ -76,7 +108,8 @@ def decode_multiplets(stream: bytes) -> Any:
     """Decode an Arrow IPC stream of a multiplet table into a pandas DataFrame.
 
     ``columns`` becomes a tuple of column names per row (hashable, so it can index the frame);
-    every other field keeps its values. Raises BridgeError naming a missing or mistyped field.
+    every other field keeps its values; an evidence field's nulls (not computed for that
+    multiplet) become NaN. Raises BridgeError naming a missing or mistyped field.
     """
     try:
         table = pa.ipc.open_stream(pa.py_buffer(stream)).read_all()
@@ -97,9 +130,11 @@ def decode_multiplets(stream: bytes) -> Any:
             f"The multiplet field 'order' must be an integer, got {table.schema.field('order').type}.",
             field="order",
         )
-    for name in MULTIPLET_FIELDS[2:]:
+    evidence = [name for name in EVIDENCE_FIELDS if name in table.column_names]
+    for name in (*MULTIPLET_FIELDS[2:], *evidence):
         dtype = table.schema.field(name).type
-        if not (pa.types.is_floating(dtype) or pa.types.is_integer(dtype)):
+        # an evidence column of nulls only (nothing computed) may arrive typed as null
+        if not (pa.types.is_floating(dtype) or pa.types.is_integer(dtype) or (name in evidence and pa.types.is_null(dtype))):
             raise BridgeError(f"The multiplet field {name!r} must be a number, got {dtype}.", field=name)
     frame = table.drop_columns(["columns"]).to_pandas()
     frame.insert(0, "columns", [tuple(names or ()) for names in table.column("columns").to_pylist()])

@@ -42,9 +42,37 @@ STORE = ResultStore()
 def results(analysis_id: str | None = None) -> Any:
     """The multiplet table of the latest analysis (or of ``analysis_id``) as a pandas DataFrame.
 
-    Columns are the CLI's JSON multiplet fields (columns, order, entropy, co_information,
-    total_correlation, dual_total_correlation, o_information, s_information) plus any statistics
-    the analysis computed. ``columns`` holds a tuple of column names per multiplet.
+    One row per multiplet, in the analysis' units (bits or nats). The columns, in this order:
+
+    * ``columns``: a tuple of the multiplet's column names (hashable, so it can index the frame);
+    * ``order``: how many columns (int32);
+    * the measures (float64): ``entropy``, ``co_information`` (negative: synergy-dominated,
+      positive: redundancy-dominated), ``total_correlation``, ``dual_total_correlation``,
+      ``o_information``, ``s_information``;
+    * the evidence the analysis computed (float64), in the CLI's CSV order
+      (``polyadic._results.EVIDENCE_FIELDS``); a table has only the groups that were asked for:
+
+      - ``adequacy``: rows per possible joint cell; below 1 the sample cannot fill the joint
+        table and the measures are biased (always present);
+      - with surrogates: ``p_value`` and ``q_value`` of co-information (surrogate p; q is the
+        Benjamini–Hochberg adjusted p over all tested multiplets of order 2 and above: it
+        controls the expected share of false discoveries among those called, not the chance
+        that any one is false), ``p_surrogates`` (surrogates behind p, more when sharpened),
+        ``null_mean`` and ``null_sd`` of the surrogate co-information,
+        ``co_information_corrected`` (co-information minus the null mean), and the same for
+        O-information: ``o_information_p_value``, ``o_information_q_value``,
+        ``o_information_null_mean``, ``o_information_null_sd``;
+      - with bootstrap resamples: the percentile interval of co-information ``ci_low`` /
+        ``ci_high``, ``same_sign`` (the share of resamples with the observed sign), and
+        ``<measure>_ci_low`` / ``<measure>_ci_high`` for entropy, total_correlation,
+        dual_total_correlation, o_information and s_information;
+      - with the pairwise-preserving null: ``connected_information`` and its
+        ``connected_p_value``.
+
+      A value not computed for a multiplet (a pair has no pairwise-preserving null; intervals
+      cover only the bootstrapped multiplets; p of an order-1 multiplet) is NaN.
+
+    ``attrs["polyadic"]`` holds the analysis id and what the panel sent with the table.
     Raises ResultsNotFound, listing the known ids, when there is nothing to return.
     """
     return STORE.get(analysis_id)

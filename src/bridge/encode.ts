@@ -7,7 +7,7 @@ import * as arrow from 'apache-arrow';
 
 import type { IMultipletRow } from '../engine/types';
 import { BridgeError } from './errors';
-import { CoreMultipletField, MULTIPLET_FIELDS } from '../results-format';
+import { CoreMultipletField, EVIDENCE_FIELDS, MULTIPLET_FIELDS } from '../results-format';
 import { RESULTS_CHUNK_MAX_BYTES } from './protocol';
 
 /** The fields every multiplet row carries, in table order (polyadic/_results.py; the CLI's too). */
@@ -18,8 +18,10 @@ const MEASURES = MULTIPLET_FIELDS.slice(2) as ReadonlyArray<Exclude<CoreMultiple
 
 /**
  * The multiplet table as an Arrow IPC stream: `columns` as List<Utf8>, `order` as Int32, the
- * measures as Float64. Further fields of the rows (statistics such as p-values) become
- * Float64 columns after them, in order of first appearance; a missing one is null.
+ * measures as Float64. Further fields of the rows become Float64 columns after them: first
+ * the evidence fields (adequacy, p, q, null, intervals, connected information) that any row
+ * carries, in the CLI's CSV order ({@link EVIDENCE_FIELDS}), then any other field in order of
+ * first appearance. A value a row lacks or holds as null (not computed for it) is an Arrow null.
  * Rows are checked first: the error names the row (0-based) and the field at fault.
  */
 export function encodeMultiplets(rows: readonly IMultipletRow[]): Uint8Array {
@@ -68,7 +70,10 @@ export function splitBytes(bytes: Uint8Array, limit: number = RESULTS_CHUNK_MAX_
 namespace Private {
   const KNOWN = new Set<string>(MULTIPLET_FIELDS);
 
-  /** Check every row; return the extra (statistics) field names in order of first appearance. */
+  /**
+   * Check every row; return the extra field names: the evidence fields in EVIDENCE_FIELDS
+   * order, then the others in order of first appearance.
+   */
   export function checkRows(rows: readonly IMultipletRow[]): string[] {
     const extras = new Set<string>();
     rows.forEach((row, index) => {
@@ -97,7 +102,9 @@ namespace Private {
         extras.add(name);
       }
     });
-    return [...extras];
+    const evidence = EVIDENCE_FIELDS.filter(name => extras.has(name));
+    const known = new Set<string>(evidence);
+    return [...evidence, ...[...extras].filter(name => !known.has(name))];
   }
 
   function bad(row: number, field: string | undefined, problem: string): BridgeError {

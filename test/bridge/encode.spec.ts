@@ -10,7 +10,9 @@ import * as arrow from 'apache-arrow';
 
 import { encodeMultiplets, MULTIPLET_FIELDS, splitBytes } from '../../src/bridge/encode';
 import { BridgeError } from '../../src/bridge/errors';
-import type { IMultipletRow } from '../../src/engine/types';
+import { analyze } from '../../src/engine/analyze';
+import type { ColumnView, IMultipletRow } from '../../src/engine/types';
+import { EVIDENCE_FIELDS, evidenceFieldsOf } from '../../src/results-format';
 import { runPython, tempFolder } from './helpers';
 
 /** A multiplet row with statistics fields beyond IMultipletRow's. */
@@ -140,10 +142,61 @@ describe('encodeMultiplets', () => {
     });
   });
 
-  it('should put the multiplet fields first, then the statistics in order of appearance', () => {
+  it('should put the multiplet fields first, then the evidence in the CLI order, then other fields in order of appearance', () => {
     const table = arrow.tableFromIPC(encodeMultiplets(ROWS));
     expect(table.schema.fields.map(field => field.name)).toEqual([...MULTIPLET_FIELDS, 'p_value']);
     expect(String(table.schema.fields[0].type)).toBe('List<Utf8>');
+  });
+
+  it('should order evidence fields as the CLI does, whatever row brings them first', () => {
+    const rows = [
+      { ...ROWS[1], connected_information: null, zone: 3 },
+      { ...ROWS[2], q_value: 0.01, adequacy: 2.5 }
+    ];
+    const table = arrow.tableFromIPC(encodeMultiplets(rows));
+    expect(table.schema.fields.map(field => field.name)).toEqual([
+      ...MULTIPLET_FIELDS,
+      'adequacy',
+      'p_value',
+      'q_value',
+      'connected_information',
+      'zone'
+    ]);
+  });
+
+  it('should carry every evidence column of an analysis with statistics to the kernel, values and nulls', () => {
+    // the greenhouse drip line: an exclusive-or triplet, with a redundant pair of sensors
+    const n = 240;
+    const valve = Array.from({ length: n }, (_, i) => (i * 7919) % 2);
+    const forced = Array.from({ length: n }, (_, i) => ((i * 104729) >> 3) % 2);
+    const columns: ColumnView[] = [
+      { name: 'valve_command', kind: 'numeric', dtype: 'float64', missing: null, values: Float64Array.from(valve) },
+      { name: 'flow_meter', kind: 'numeric', dtype: 'float64', missing: null, values: Float64Array.from(valve, (v, i) => v ^ forced[i]) },
+      { name: 'leak_alarm', kind: 'numeric', dtype: 'float64', missing: null, values: Float64Array.from(forced) },
+      { name: 'humidity_a', kind: 'numeric', dtype: 'float64', missing: null, values: Float64Array.from(valve, (v, i) => (i % 5) + v) }
+    ];
+    const result = analyze(columns, {
+      maxOrder: 3,
+      statistics: { surrogates: 19, bootstrap: 8, seed: 3, beyondPairs: 1, fitDraws: 5 }
+    });
+    const rows = result.multiplets;
+    // the analysis computed every kind of evidence, so every evidence column travels
+    expect(evidenceFieldsOf(rows)).toEqual([...EVIDENCE_FIELDS]);
+    const nulls = EVIDENCE_FIELDS.filter(field => rows.some(row => row[field] === null));
+    expect(nulls).toEqual(expect.arrayContaining(['p_value', 'connected_information', 'connected_p_value']));
+    const decoded = decodeInKernel([encodeMultiplets(rows)]);
+    expect(Object.keys(decoded.dtypes)).toEqual([...MULTIPLET_FIELDS, ...EVIDENCE_FIELDS]);
+    for (const field of EVIDENCE_FIELDS) {
+      expect([field, decoded.dtypes[field]]).toEqual([field, 'float64']);
+    }
+    expect(decoded.rows).toEqual(
+      rows.map(row => ({ ...row, ...Object.fromEntries(EVIDENCE_FIELDS.map(field => [field, row[field] ?? null])) }))
+    );
+  });
+
+  it("should list the evidence fields in the kernel's decoder as the CLI does", () => {
+    const listed = JSON.parse(runPython('import json; from polyadic._results import EVIDENCE_FIELDS; print(json.dumps(EVIDENCE_FIELDS))'));
+    expect(listed).toEqual([...EVIDENCE_FIELDS]);
   });
 
   it('should encode an empty table the kernel reads as no rows', () => {

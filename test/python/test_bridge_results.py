@@ -18,7 +18,13 @@ if str(ROOT) not in sys.path:
 
 from polyadic import _results  # noqa: E402
 from polyadic._errors import BridgeError  # noqa: E402
-from polyadic._results import MULTIPLET_FIELDS, ResultsNotFound, ResultStore, decode_multiplets  # noqa: E402
+from polyadic._results import (  # noqa: E402
+    EVIDENCE_FIELDS,
+    MULTIPLET_FIELDS,
+    ResultsNotFound,
+    ResultStore,
+    decode_multiplets,
+)
 
 
 def multiplet_table(rows: int, salt: float = 0.0, extra: bool = True) -> pa.Table:
@@ -224,3 +230,83 @@ def test_many_threads_feeding_chunks():
         frame = store.get(analysis_id)
         assert frame["entropy"].tolist() == table.column("entropy").to_pylist()
         assert frame["columns"].tolist() == [tuple(n) for n in table.column("columns").to_pylist()]
+
+
+def evidence_table(multiplets: list[dict]) -> pa.Table:
+    """Rows as the front end sends them (src/bridge/encode.ts): core fields, then every evidence
+    field any row carries, in EVIDENCE_FIELDS order, as float64 with nulls where not computed."""
+    present = [name for name in EVIDENCE_FIELDS if any(name in row for row in multiplets)]
+    data = {
+        "columns": pa.array([row["columns"] for row in multiplets], pa.list_(pa.string())),
+        "order": pa.array([row["order"] for row in multiplets], pa.int32()),
+    }
+    for name in MULTIPLET_FIELDS[2:]:
+        data[name] = pa.array([row[name] for row in multiplets], pa.float64())
+    for name in present:
+        data[name] = pa.array([row.get(name) for row in multiplets], pa.float64())
+    return pa.table(data)
+
+
+@pytest.fixture(scope="module")
+def analysed(polyadic_analyze, tmp_path_factory):
+    """The CLI's rows of a small greenhouse drip line (an exclusive-or) with every kind of evidence."""
+    rng = random.Random(5)
+    lines = ["valve_command,flow_meter,leak_alarm,fan_on"]
+    for _ in range(150):
+        valve, forced = rng.randrange(2), rng.randrange(2)
+        lines.append(f"{valve},{valve ^ forced},{forced},{rng.randrange(2)}")
+    data = tmp_path_factory.mktemp("evidence") / "drip.csv"
+    data.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    return polyadic_analyze(
+        data, "--max-order", "3", "--surrogates", "19", "--bootstrap", "8", "--seed", "4",
+        "--beyond-pairs", "1", "--fit-draws", "5", "--threads", "1",
+    )["multiplets"]
+
+
+class TestEvidenceColumns:
+    def test_every_evidence_column_arrives_in_order(self, analysed):
+        frame = decode_multiplets(ipc_bytes(evidence_table(analysed)))
+        # the CLI computed every kind of evidence, so every evidence column is there
+        assert list(frame.columns) == [*MULTIPLET_FIELDS, *EVIDENCE_FIELDS]
+        assert all(str(frame[name].dtype) == "float64" for name in EVIDENCE_FIELDS)
+
+    def test_values_and_nulls_arrive_as_computed(self, analysed):
+        frame = decode_multiplets(ipc_bytes(evidence_table(analysed)))
+        nulls = set()
+        for i, row in enumerate(analysed):
+            assert frame["columns"].iloc[i] == tuple(row["columns"])
+            for name in EVIDENCE_FIELDS:
+                value = row.get(name)
+                if value is None:
+                    assert pd.isna(frame[name].iloc[i]), (i, name)
+                    nulls.add(name)
+                else:
+                    assert frame[name].iloc[i] == value, (i, name)
+        # the fixture holds both kinds: a pair has no pairwise-preserving null, a single column no p
+        assert {"p_value", "connected_information"} <= nulls
+        assert frame["q_value"].notna().any() and frame["connected_information"].notna().any()
+
+    def test_a_column_of_nulls_only(self):
+        table = multiplet_table(3, extra=False).append_column("connected_p_value", pa.nulls(3))
+        frame = decode_multiplets(ipc_bytes(table))
+        assert frame["connected_p_value"].isna().all()
+
+    def test_mistyped_evidence_is_named(self):
+        table = multiplet_table(2, extra=False).append_column("q_value", pa.array(["low", "high"]))
+        with pytest.raises(BridgeError, match=r"'q_value' must be a number, got string") as caught:
+            decode_multiplets(ipc_bytes(table))
+        assert caught.value.detail == {"field": "q_value"}
+
+
+def test_results_documents_every_column():
+    from polyadic.bridge import results
+
+    doc = results.__doc__ or ""
+    # the intervals of the measures other than co-information are documented as one pattern,
+    # ``<measure>_ci_low`` / ``<measure>_ci_high``, with each measure named
+    measures = ("entropy", "total_correlation", "dual_total_correlation", "o_information", "s_information")
+    patterned = {f"{measure}_ci_{end}" for measure in measures for end in ("low", "high")}
+    assert patterned <= set(EVIDENCE_FIELDS)
+    assert "``<measure>_ci_low``" in doc and all(measure in doc for measure in measures)
+    named = [*MULTIPLET_FIELDS, *(name for name in EVIDENCE_FIELDS if name not in patterned)]
+    assert [name for name in named if f"``{name}``" not in doc] == []
