@@ -2,10 +2,16 @@
  * The text/markdown fallback of a analysis cell: the record's top multiplets as tables,
  * for renderers without Polyadic (GitHub, nbviewer, a plain Jupyter). Column names and labels
  * come from untrusted data, so every one is escaped (see {@link escapeMarkdown}).
+ *
+ * With evidence recorded, the tables show q and p beside co-information, a line says what the
+ * q-values were computed over and what they control, another gives the null band per order,
+ * and multiplets with adequacy below 1 are marked. What is drawn from the summary alone
+ * ({@link markdownBody}) is written the same, character for character, by polyadic/show.py.
  */
 
-import { formatCount, plural } from '../engine/text';
-import type { IAnalysisRecord, IMultipletSummary } from './types';
+import { formatCount, plural, wordFor } from '../engine/text';
+import { formatValue as formatSignificant } from '../panel/results/format';
+import type { IAnalysisRecord, IMultipletSummary, IResultSummary } from './types';
 
 /** Decimals of the values in the tables. */
 export const MARKDOWN_DECIMALS = 4;
@@ -31,6 +37,12 @@ export function formatValue(value: number): string {
   return text.startsWith('-') ? `−${text.slice(1)}` : text;
 }
 
+/** The mark after the names of a multiplet whose adequacy is below 1. */
+export const INADEQUATE_MARK = '†';
+
+/** What a table shows for a value that was not computed for a multiplet. */
+export const NOT_COMPUTED = '—';
+
 /** The markdown fallback of a record's analysis. */
 export function markdownSummary(analysis: IAnalysisRecord): string {
   const { summary } = analysis;
@@ -40,28 +52,116 @@ export function markdownSummary(analysis: IAnalysisRecord): string {
     `Frame ${escapeMarkdown(analysis.source.frame)}, ${formatCount(summary.rows_used)} of ${plural(analysis.source.rows, 'row')} used, ` +
       `${plural(analysis.columns.length, 'column')}, ${plural(summary.multiplet_count, 'multiplet')} up to order ${analysis.max_order}, ` +
       `${escapeMarkdown(analysis.estimator)} estimator, values in ${analysis.units}. ` +
-      'Co-information sign (Bell 2003): negative means synergy dominates, positive redundancy.',
-    ''
+      'Co-information sign (Bell 2003): negative means synergy dominates, positive redundancy.' +
+      (analysis.statistics && analysis.statistics.surrogates > 0 ? ` ${surrogateSentence(analysis.statistics)}` : ''),
+    '',
+    ...markdownBody(summary)
   ];
-  lines.push(...multipletTable('Synergy (most negative co-information)', summary.synergy));
-  lines.push('');
-  lines.push(...multipletTable('Redundancy (most positive co-information)', summary.redundancy));
   return lines.join('\n') + '\n';
 }
 
-/** One table of multiplets, or a line saying there are none. */
-export function multipletTable(title: string, rows: readonly IMultipletSummary[]): string[] {
+/** How the p-values were drawn: "p from 500 surrogates (…), seed 42, two-sided." */
+export function surrogateSentence(statistics: NonNullable<IAnalysisRecord['statistics']>): string {
+  const tail =
+    statistics.tail === 'two'
+      ? 'two-sided'
+      : statistics.tail === 'synergy'
+        ? 'one-sided toward synergy (negative)'
+        : 'one-sided toward redundancy (positive)';
+  return (
+    `p from ${plural(statistics.surrogates, 'surrogate')} (each column shuffled on its own, which destroys all dependence), ` +
+    `seed ${statistics.seed}, ${tail}.`
+  );
+}
+
+/**
+ * What the fallback draws from the summary alone: the lines on the evidence (what was tested,
+ * the null bands, the adequacy mark), each a paragraph, then the synergy and redundancy tables.
+ * polyadic/show.py writes the same lines for the same summary.
+ */
+export function markdownBody(summary: IResultSummary): string[] {
+  const tested = Boolean(summary.evidence?.families.co_information);
+  const lines: string[] = [];
+  for (const line of evidenceLines(summary)) {
+    lines.push(line, '');
+  }
+  lines.push(...multipletTable('Synergy (most negative co-information)', summary.synergy, tested));
+  lines.push('');
+  lines.push(...multipletTable('Redundancy (most positive co-information)', summary.redundancy, tested));
+  return lines;
+}
+
+/** The sentences on the evidence of a summary (none without evidence and without inadequate multiplets). */
+export function evidenceLines(summary: IResultSummary): string[] {
+  const lines: string[] = [];
+  const family = summary.evidence?.families.co_information;
+  if (family) {
+    lines.push(
+      `Benjamini–Hochberg q over ${plural(family.count, 'multiplet')} of ${ordersText(family.orders)}; ` +
+        'q controls the expected share of false discoveries among those called, not the chance that any one is false.'
+    );
+  }
+  const bands = summary.evidence?.null_bands ?? [];
+  if (bands.length > 0) {
+    const listed = bands.map(band => `order ${band.order} ${formatValue(band.low)} to ${formatValue(band.high)}`).join('; ');
+    lines.push(`Null band of co-information (2.5–97.5 % of surrogates): ${listed}.`);
+  }
+  const marked = [...summary.synergy, ...summary.redundancy].some(isInadequate);
+  const inadequate = summary.inadequate_count ?? 0;
+  if (marked || inadequate > 0) {
+    const count =
+      summary.inadequate_count === undefined
+        ? ''
+        : ` In all, ${plural(inadequate, 'multiplet')} of order 2 and above ${wordFor(inadequate, 'has', 'have')} adequacy below 1.`;
+    lines.push(
+      `${INADEQUATE_MARK} adequacy below 1: fewer rows than possible joint cells, so the estimates are biased ` +
+        `(a rule of thumb, common practice).${count}`
+    );
+  }
+  return lines;
+}
+
+/** "order 3", "orders 2–4", "orders 2, 4". */
+export function ordersText(orders: readonly number[]): string {
+  if (orders.length === 1) {
+    return `order ${orders[0]}`;
+  }
+  const contiguous = orders.every((order, i) => i === 0 || order === orders[i - 1] + 1);
+  return contiguous && orders.length > 0 ? `orders ${orders[0]}–${orders[orders.length - 1]}` : `orders ${orders.join(', ')}`;
+}
+
+/** Whether a multiplet's recorded adequacy is below 1. */
+export function isInadequate(row: IMultipletSummary): boolean {
+  return typeof row.adequacy === 'number' && row.adequacy < 1;
+}
+
+/** A p- or q-value as the tables show it (significant digits, so a small one stays readable). */
+export function formatProbability(value: number | null | undefined): string {
+  return typeof value === 'number' ? formatSignificant(value) : NOT_COMPUTED;
+}
+
+/**
+ * One table of multiplets, or a line saying there are none. With `tested`, q and p follow
+ * co-information. A multiplet with adequacy below 1 has {@link INADEQUATE_MARK} after its names.
+ */
+export function multipletTable(title: string, rows: readonly IMultipletSummary[], tested = false): string[] {
   if (rows.length === 0) {
     return [`*${title}: none.*`];
   }
-  const out = [
-    `| ${title} | order | co-information | O-information | total correlation | dual total correlation |`,
-    '|---|---:|---:|---:|---:|---:|'
-  ];
+  const out = tested
+    ? [
+        `| ${title} | order | co-information | q | p | O-information | total correlation | dual total correlation |`,
+        '|---|---:|---:|---:|---:|---:|---:|---:|'
+      ]
+    : [
+        `| ${title} | order | co-information | O-information | total correlation | dual total correlation |`,
+        '|---|---:|---:|---:|---:|---:|'
+      ];
   for (const row of rows) {
-    const names = row.columns.map(escapeMarkdown).join(' · ');
+    const names = row.columns.map(escapeMarkdown).join(' · ') + (isInadequate(row) ? ` ${INADEQUATE_MARK}` : '');
+    const evidence = tested ? ` ${formatProbability(row.q_value)} | ${formatProbability(row.p_value)} |` : '';
     out.push(
-      `| ${names} | ${row.order} | ${formatValue(row.co_information)} | ${formatValue(row.o_information)} | ` +
+      `| ${names} | ${row.order} | ${formatValue(row.co_information)} |${evidence} ${formatValue(row.o_information)} | ` +
         `${formatValue(row.total_correlation)} | ${formatValue(row.dual_total_correlation)} |`
     );
   }
