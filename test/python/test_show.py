@@ -21,6 +21,8 @@ from polyadic.show import (  # noqa: E402
     analysis_bundle,
     check_record_id,
     escape_markdown,
+    format_significant,
+    format_value,
     markdown_fallback,
 )
 
@@ -177,3 +179,55 @@ def test_show_displays_the_bundle_raw(monkeypatch):
     assert shown == [((analysis_bundle("pd-0fixture01"),), {"raw": True})]
     # the package exports the function; its module stays importable as polyadic.show
     assert polyadic.show is sys.modules["polyadic.show"].show
+
+
+def test_markdown_with_evidence_shows_q_p_scope_band_and_mark():
+    record = json.loads(FIXTURE.read_text())
+    summary = record["analyses"][1]["summary"]
+    summary["redundancy"][0]["adequacy"] = 0.5
+    summary["inadequate_count"] = 1
+    markdown = markdown_fallback("pd-0fixture02", summary)
+    assert (
+        "Benjamini–Hochberg q over 10 multiplets of orders 2–3; q controls the expected share of false "
+        "discoveries among those called, not the chance that any one is false." in markdown
+    )
+    assert "Null band of co-information (2.5–97.5 % of surrogates): order 2 −0.0010 to 0.0020." in markdown
+    rows = markdown_cells(markdown)
+    assert rows[0][:5] == ["Synergy (most negative co-information)", "order", "co-information", "q", "p"]
+    top = summary["synergy"][0]
+    # q 0.01 and p 1/501, in four significant digits
+    assert rows[1][2:5] == [format_value(top["co_information"]), "0.01000", "0.001996"]
+    # a pair has no q in the fixture: a dash, and the inadequate pair is marked
+    assert rows[3][0] == "valve_command · flow_l_min †" and rows[3][3:5] == ["—", "—"]
+    assert "In all, 1 multiplet of order 2 and above has adequacy below 1." in markdown
+
+
+def test_markdown_without_evidence_has_no_q_column():
+    record = json.loads(FIXTURE.read_text())
+    markdown = markdown_fallback("pd-0fixture01", record["analyses"][0]["summary"])
+    assert "| q | p |" not in markdown and "Benjamini" not in markdown and "†" not in markdown
+
+
+@pytest.mark.parametrize(
+    "value, text",
+    [
+        # JavaScript's toPrecision(4) / toExponential(3), as src/panel/results/format.ts uses them
+        (1e-5, "1.000e-5"),
+        (0.001996007984031936, "0.001996"),
+        (0.015625, "0.01563"),  # an exact half: rounded up, as JavaScript does
+        (0.00099996, "1.000e-3"),
+        (9999.6, "1.000e+4"),
+        (123.45, "123.5"),
+        (-0.25, "−0.2500"),
+        (4e-13, "0"),
+        (float("nan"), "NaN"),
+    ],
+)
+def test_significant_digits_as_the_front_end_writes_them(value, text):
+    assert format_significant(value) == text
+
+
+def test_four_decimals_round_halves_up_and_drop_the_sign_of_zero():
+    assert format_value(0.03125) == "0.0313"  # toFixed(4); Python's format gives 0.0312
+    assert format_value(-0.0) == "0.0000"
+    assert format_value(-0.00001) == "−0.0000"
