@@ -4,14 +4,27 @@
  * tables, drawn from the notebook's record. The kernel only names the record id (it does not
  * see the metadata), so the renderer is given the notebook's metadata by the plugin that
  * creates it, and draws again when the metadata changes (a rename, a delete, a new run).
- * Every label, frame and column name goes in through `textContent`.
+ * With evidence recorded, the tables show q and p beside co-information, lines say how p was
+ * drawn and what q was computed over, each histogram shows its order's null band, and
+ * multiplets with adequacy below 1 are marked.
+ * Every label, frame, column name and value goes in through `textContent`.
  */
 import type { IRenderMime } from '@jupyterlab/rendermime-interfaces';
 import type { ISignal } from '@lumino/signaling';
 import { Widget } from '@lumino/widgets';
 
 import { formatCount, plural } from '../engine/text';
-import { formatValue } from '../record/markdown';
+import {
+  formatProbability,
+  formatValue,
+  INADEQUATE_MARK,
+  inadequateLine,
+  isInadequate,
+  nullBandLine,
+  nullBandText,
+  surrogateSentence,
+  testedLine
+} from '../record/markdown';
 import type { IMetadataAccess } from '../record/store';
 import { ANALYSIS_MIME_TYPE, type IAnalysisRecord, type IMultipletSummary, type IOrderHistogram } from '../record/types';
 import { textElement } from '../panel/dom';
@@ -108,30 +121,54 @@ namespace Private {
         'Co-information sign (Bell 2003): negative means synergy dominates, positive means redundancy dominates.'
       )
     );
+    const { summary } = record;
+    if (record.statistics && record.statistics.surrogates > 0) {
+      head.append(textElement('p', 'pd-AnalysisCell-evidence', surrogateSentence(record.statistics)));
+    }
+    const tested = testedLine(summary);
+    if (tested) {
+      head.append(textElement('p', 'pd-AnalysisCell-evidence', tested));
+    }
+    const inadequate = inadequateLine(summary);
+    if (inadequate) {
+      head.append(textElement('p', 'pd-AnalysisCell-evidence jp-mod-warning', inadequate));
+    }
     const parts: HTMLElement[] = [head];
-    const histograms = record.summary.histograms ?? [];
+    const histograms = summary.histograms ?? [];
+    const bands = new Map((summary.evidence?.null_bands ?? []).map(band => [band.order, band]));
     if (histograms.length > 0) {
       const row = textElement('div', 'pd-AnalysisCell-histograms');
       row.setAttribute('role', 'group');
       row.setAttribute('aria-label', 'Order histograms of co-information');
       for (const histogram of histograms) {
-        row.append(orderHistogram(histogram, record.units));
+        row.append(orderHistogram(histogram, record.units, bands.get(histogram.order)));
       }
       parts.push(row);
     } else {
       parts.push(
         textElement('p', 'pd-AnalysisCell-note', 'The record holds no order histograms (the run kept only its top multiplets).')
       );
+      const bandLine = nullBandLine(summary);
+      if (bandLine) {
+        parts.push(textElement('p', 'pd-AnalysisCell-evidence', bandLine));
+      }
     }
+    const withQ = Boolean(summary.evidence?.families.co_information);
     parts.push(
-      table('Synergy (most negative co-information)', record.summary.synergy.slice(0, CELL_TABLE_SIZE), record.units),
-      table('Redundancy (most positive co-information)', record.summary.redundancy.slice(0, CELL_TABLE_SIZE), record.units)
+      table('Synergy (most negative co-information)', summary.synergy.slice(0, CELL_TABLE_SIZE), record.units, withQ),
+      table('Redundancy (most positive co-information)', summary.redundancy.slice(0, CELL_TABLE_SIZE), record.units, withQ)
     );
     return parts;
   }
 
-  /** One order's histogram as bars over the recorded edges, with the range and the zero line. */
-  function orderHistogram(histogram: IOrderHistogram, units: string): HTMLElement {
+  /** A null band of the record. */
+  type NullBand = NonNullable<IAnalysisRecord['summary']['evidence']>['null_bands'][number];
+
+  /**
+   * One order's histogram as bars over the recorded edges, with the range and the zero line,
+   * and the order's null band (surrogate 2.5–97.5 %) shaded behind the bars when recorded.
+   */
+  function orderHistogram(histogram: IOrderHistogram, units: string, band: NullBand | undefined): HTMLElement {
     const figure = textElement('figure', 'pd-AnalysisCell-histogram');
     const width = 220;
     const height = 80;
@@ -146,7 +183,26 @@ namespace Private {
     svg.setAttribute('class', 'pd-AnalysisCell-plot');
     svg.setAttribute('role', 'img');
     const total = counts.reduce((sum, count) => sum + count, 0);
-    svg.setAttribute('aria-label', `Order ${histogram.order}: ${plural(total, 'multiplet')}, co-information from ${formatValue(low)} to ${formatValue(high)} ${units}`);
+    svg.setAttribute(
+      'aria-label',
+      `Order ${histogram.order}: ${plural(total, 'multiplet')}, co-information from ${formatValue(low)} to ${formatValue(high)} ${units}` +
+        (band ? `; null band ${nullBandText(band)}` : '')
+    );
+    if (band) {
+      // clamped to the drawn range: a band wider than the data still shows where it covers
+      const from = x(Math.max(low, Math.min(high, band.low)));
+      const to = x(Math.max(low, Math.min(high, band.high)));
+      const shade = document.createElementNS(SVG, 'rect');
+      shade.setAttribute('x', String(from));
+      shade.setAttribute('width', String(Math.max(1, to - from)));
+      shade.setAttribute('y', '0');
+      shade.setAttribute('height', String(height));
+      shade.setAttribute('class', 'pd-AnalysisCell-band');
+      const tip = document.createElementNS(SVG, 'title');
+      tip.textContent = `Null band (2.5–97.5 % of surrogates): ${nullBandText(band)} ${units}`;
+      shade.append(tip);
+      svg.append(shade);
+    }
     counts.forEach((count, i) => {
       if (count === 0) {
         return;
@@ -175,23 +231,24 @@ namespace Private {
     }
     const axis = textElement('div', 'pd-AnalysisCell-axis');
     axis.append(textElement('span', '', formatValue(low)), textElement('span', '', `${formatValue(high)} ${units}`));
-    figure.append(
-      svg,
-      axis,
-      textElement('figcaption', 'pd-AnalysisCell-caption', `Order ${histogram.order} · ${plural(total, 'multiplet')}`)
-    );
+    const caption = textElement('figcaption', 'pd-AnalysisCell-caption', `Order ${histogram.order} · ${plural(total, 'multiplet')}`);
+    if (band) {
+      caption.append(textElement('span', 'pd-AnalysisCell-bandText', `null band ${nullBandText(band)} ${units}`));
+    }
+    figure.append(svg, axis, caption);
     return figure;
   }
 
-  /** A table of multiplets with their measures. */
-  function table(title: string, rows: readonly IMultipletSummary[], units: string): HTMLElement {
+  /** A table of multiplets with their measures; with `withQ`, q and p follow co-information. */
+  function table(title: string, rows: readonly IMultipletSummary[], units: string, withQ: boolean): HTMLElement {
     if (rows.length === 0) {
       return textElement('p', 'pd-AnalysisCell-note', `${title}: none.`);
     }
     const node = textElement('table', 'pd-AnalysisCell-table');
     node.append(textElement('caption', '', `${title}, ${units}`));
     const head = textElement('tr', '');
-    for (const name of ['multiplet', 'order', 'co-information', 'O-information', 'total correlation', 'dual total correlation']) {
+    const names = ['multiplet', 'order', 'co-information', ...(withQ ? ['q', 'p'] : []), 'O-information', 'total correlation', 'dual total correlation'];
+    for (const name of names) {
       const cell = textElement('th', '', name);
       cell.scope = 'col';
       head.append(cell);
@@ -200,11 +257,23 @@ namespace Private {
     thead.append(head);
     const tbody = textElement('tbody', '');
     for (const row of rows) {
-      const line = textElement('tr', '');
+      const line = textElement('tr', isInadequate(row) ? 'jp-mod-inadequate' : '');
+      const multiplet = textElement('td', 'pd-AnalysisCell-names', row.columns.join(' · '));
+      if (isInadequate(row)) {
+        const mark = textElement('span', 'pd-AnalysisCell-mark', ` ${INADEQUATE_MARK}`);
+        mark.title = `Adequacy ${formatValue(row.adequacy as number)}: fewer rows than possible joint cells; the estimates are biased.`;
+        multiplet.append(mark);
+      }
       line.append(
-        textElement('td', 'pd-AnalysisCell-names', row.columns.join(' · ')),
+        multiplet,
         textElement('td', 'pd-AnalysisCell-number', String(row.order)),
         textElement('td', 'pd-AnalysisCell-number', formatValue(row.co_information)),
+        ...(withQ
+          ? [
+              textElement('td', 'pd-AnalysisCell-number', formatProbability(row.q_value)),
+              textElement('td', 'pd-AnalysisCell-number', formatProbability(row.p_value))
+            ]
+          : []),
         textElement('td', 'pd-AnalysisCell-number', formatValue(row.o_information)),
         textElement('td', 'pd-AnalysisCell-number', formatValue(row.total_correlation)),
         textElement('td', 'pd-AnalysisCell-number', formatValue(row.dual_total_correlation))

@@ -93,32 +93,51 @@ export function markdownBody(summary: IResultSummary): string[] {
 
 /** The sentences on the evidence of a summary (none without evidence and without inadequate multiplets). */
 export function evidenceLines(summary: IResultSummary): string[] {
-  const lines: string[] = [];
+  return [testedLine(summary), nullBandLine(summary), inadequateLine(summary)].filter((line): line is string => line !== null);
+}
+
+/** What the q-values were computed over and what they control, or null without them. */
+export function testedLine(summary: IResultSummary): string | null {
   const family = summary.evidence?.families.co_information;
-  if (family) {
-    lines.push(
-      `Benjamini–Hochberg q over ${plural(family.count, 'multiplet')} of ${ordersText(family.orders)}; ` +
-        'q controls the expected share of false discoveries among those called, not the chance that any one is false.'
-    );
+  if (!family) {
+    return null;
   }
+  return (
+    `Benjamini–Hochberg q over ${plural(family.count, 'multiplet')} of ${ordersText(family.orders)}; ` +
+    'q controls the expected share of false discoveries among those called, not the chance that any one is false.'
+  );
+}
+
+/** The null band of one order as text: "−0.0010 to 0.0020". */
+export function nullBandText(band: { low: number; high: number }): string {
+  return `${formatValue(band.low)} to ${formatValue(band.high)}`;
+}
+
+/** The null band of every order in one sentence, or null without surrogates. */
+export function nullBandLine(summary: IResultSummary): string | null {
   const bands = summary.evidence?.null_bands ?? [];
-  if (bands.length > 0) {
-    const listed = bands.map(band => `order ${band.order} ${formatValue(band.low)} to ${formatValue(band.high)}`).join('; ');
-    lines.push(`Null band of co-information (2.5–97.5 % of surrogates): ${listed}.`);
+  if (bands.length === 0) {
+    return null;
   }
+  const listed = bands.map(band => `order ${band.order} ${nullBandText(band)}`).join('; ');
+  return `Null band of co-information (2.5–97.5 % of surrogates): ${listed}.`;
+}
+
+/** What the adequacy mark means (and how many multiplets are below 1), or null when none is. */
+export function inadequateLine(summary: IResultSummary): string | null {
   const marked = [...summary.synergy, ...summary.redundancy].some(isInadequate);
   const inadequate = summary.inadequate_count ?? 0;
-  if (marked || inadequate > 0) {
-    const count =
-      summary.inadequate_count === undefined
-        ? ''
-        : ` In all, ${plural(inadequate, 'multiplet')} of order 2 and above ${wordFor(inadequate, 'has', 'have')} adequacy below 1.`;
-    lines.push(
-      `${INADEQUATE_MARK} adequacy below 1: fewer rows than possible joint cells, so the estimates are biased ` +
-        `(a rule of thumb, common practice).${count}`
-    );
+  if (!marked && inadequate === 0) {
+    return null;
   }
-  return lines;
+  const count =
+    summary.inadequate_count === undefined
+      ? ''
+      : ` In all, ${plural(inadequate, 'multiplet')} of order 2 and above ${wordFor(inadequate, 'has', 'have')} adequacy below 1.`;
+  return (
+    `${INADEQUATE_MARK} adequacy below 1: fewer rows than possible joint cells, so the estimates are biased ` +
+    `(a rule of thumb, common practice).${count}`
+  );
 }
 
 /** "order 3", "orders 2–4", "orders 2, 4". */
