@@ -47,6 +47,7 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
     const model = new PanelModel({ engine });
     const panel = new PolyadicPanel({
       model,
+      workers: () => engine.size,
       // The notebook tracker and the create-new command come from the same JupyterLab
       // plugin family; without a tracker the button would lead nowhere.
       onNewNotebook:

@@ -17,6 +17,7 @@ import { PanelModel } from './model';
 import { RecordsView } from './records/view';
 import { ResultsView } from './results/view';
 import { SourceView } from './source/view';
+import { StatisticsView } from './statistics/view';
 
 /** The right-sidebar panel of Polyadic. */
 export class PolyadicPanel extends SidePanel {
@@ -42,6 +43,7 @@ export class PolyadicPanel extends SidePanel {
     this.addWidget(new DataView({ model: analysis.data }));
     this.addWidget(new BinningView({ model: analysis.binning }));
     this.addWidget(new EstimatorView({ model: analysis }));
+    this.addWidget(new StatisticsView({ model: analysis, workers: options.workers }));
     this.addWidget(new RunView({ model: analysis }));
     this.addWidget(new ResultsView({ model: this.model.results }));
     this.addWidget(
@@ -87,6 +89,8 @@ export namespace PolyadicPanel {
     model: PanelModel;
     /** Creates a notebook; offered by the empty state. */
     onNewNotebook?: () => void;
+    /** How many workers a run uses (the Statistics section's time estimate). */
+    workers?: () => number;
     /** Opens the Settings Editor on Polyadic's settings. */
     onOpenSettings?: () => void;
     /** Inserts a analysis cell for a recorded analysis (records section). */

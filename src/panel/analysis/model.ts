@@ -16,6 +16,7 @@ import type { EnginePool, IRunProgress, IRunResult } from '../../worker/pool';
 import type { IColumnPreview } from '../../worker/protocol';
 import { BinningModel } from '../binning/model';
 import { DataModel } from '../data/model';
+import { StatisticsModel } from '../statistics/model';
 import { adequacyOf, EstimatorModel, IAdequacy, type IEstimatorChoices, type IOrderClamp } from '../estimator/model';
 import type { IAnalysisState, IRunCompleted, IRunStatus, RunState } from './types';
 
@@ -39,10 +40,12 @@ export class AnalysisModel implements IAnalysisState {
       debounceMs: options.previewDebounceMs
     });
     this.estimator = new EstimatorModel();
+    this.statistics = new StatisticsModel();
     this.data.changed.connect(this._onDataChanged, this);
     this.data.frameChanged.connect(this._onFrameChanged, this);
     this.binning.changed.connect(this._onInputsChanged, this);
     this.estimator.changed.connect(this._onInputsChanged, this);
+    this.statistics.changed.connect(this._onInputsChanged, this);
   }
 
   /** The Data section's state. */
@@ -51,6 +54,8 @@ export class AnalysisModel implements IAnalysisState {
   readonly binning: BinningModel;
   /** The Estimator and order section's state. */
   readonly estimator: EstimatorModel;
+  /** The Statistics section's state. */
+  readonly statistics: StatisticsModel;
 
   /** Fires when anything the sections show changes (inputs, adequacy). */
   get changed(): ISignal<this, void> {
@@ -143,6 +148,7 @@ export class AnalysisModel implements IAnalysisState {
       if (!this._estimatorTouched) {
         this.estimator.setDefaults(settings.estimator, settings.units);
       }
+      this.statistics.setDefaults({ surrogates: settings.surrogates, seed: settings.seed, alpha: settings.alpha });
     } finally {
       this._applyingSettings = false;
     }
@@ -191,6 +197,10 @@ export class AnalysisModel implements IAnalysisState {
     if (bad !== undefined) {
       return `The binning of column "${bad}" is not valid.`;
     }
+    const statistics = this.statistics.problem;
+    if (statistics !== null) {
+      return `Statistics: ${statistics.message}`;
+    }
     const cap = this._settings?.multipletCap;
     if (cap !== undefined && this.multipletCount > BigInt(cap)) {
       return (
@@ -211,6 +221,11 @@ export class AnalysisModel implements IAnalysisState {
       units: this.estimator.units,
       maxOrder: this.maxOrder
     };
+    // the blocker has refused invalid statistics before a run asks for the options
+    const statistics = this.statistics.problem === null ? this.statistics.options() : undefined;
+    if (statistics !== undefined) {
+      options.statistics = statistics;
+    }
     if (this._settings !== null) {
       options.missing = this._settings.missing;
       options.maxMultiplets = this._settings.multipletCap;
@@ -344,6 +359,7 @@ export class AnalysisModel implements IAnalysisState {
     this.data.dispose();
     this.binning.dispose();
     this.estimator.dispose();
+    this.statistics.dispose();
     Signal.clearData(this);
   }
 

@@ -8,6 +8,7 @@ import type { ISignal } from '@lumino/signaling';
 
 import { wordFor } from '../../engine/text';
 import type { EstimatorName, Units } from '../../engine/types';
+import type { IStatisticsSettings } from '../../record/types';
 import type { IRestoreRequest, IRunFrame, RecordsModel } from './model';
 
 /** The members of the analysis model a restore uses. */
@@ -31,10 +32,13 @@ export interface IRestoreTarget {
     units: Units;
     maxOrder: number | null;
   };
+  /** The Statistics section; absent in targets without one. */
+  statistics?: { restore(settings: IStatisticsSettings | null): void };
 }
 
 /**
- * Restore the request's frame, selection, binning specs, estimator, units and maximum order.
+ * Restore the request's frame, selection, binning specs, estimator, units, maximum order and
+ * statistics (a record without statistics sets every count to 0: the run computed none).
  * Resolves to a sentence naming what could not be restored, or null when everything was.
  */
 export async function restoreSettings(target: IRestoreTarget, request: IRestoreRequest): Promise<string | null> {
@@ -67,6 +71,7 @@ export async function restoreSettings(target: IRestoreTarget, request: IRestoreR
     estimator.units = request.options.units;
   }
   estimator.maxOrder = request.options.maxOrder ?? null;
+  target.statistics?.restore(request.statistics);
   const missing = [...absent, ...notSelectable];
   return missing.length === 0
     ? null

@@ -80,6 +80,9 @@ export function tableEntries(side: TableSide, filter: ITableFilter, rows: number
   if (filter.mask !== null) {
     filters.push('one histogram bar');
   }
+  if (filter.qAtMost !== null) {
+    filters.push(`q ≤ ${filter.qAtMost}`);
+  }
   return [
     ['table', side === 'synergy' ? 'synergy (co-information < 0, most negative first)' : 'redundancy (co-information > 0, most positive first)'],
     ['filter', filters.length === 0 ? 'none' : filters.join(', ')],

@@ -69,7 +69,11 @@ export class HistogramsView extends Panel {
         'p',
         'pd-Histogram-convention',
         `Co-information in ${units}. Left of 0 (shaded): negative, synergy-dominated; right of 0: ` +
-          'positive, redundancy-dominated (sign convention of Bell 2003).'
+          'positive, redundancy-dominated (sign convention of Bell 2003).' +
+          (histogram.band
+            ? ` Grey band: where 95 % of the independence surrogates fall (${formatValue(histogram.band.low)} to ` +
+              `${formatValue(histogram.band.high)}); bars outside it stand out from chance.`
+            : '')
       )
     );
     const chart = new ChartView({
@@ -176,6 +180,33 @@ namespace Private {
         layer: 'below'
       });
     }
+    const annotations: Record<string, unknown>[] = [];
+    if (histogram.band) {
+      // the null band: where 95 % of the surrogates' co-information of this order lies
+      shapes.push({
+        type: 'rect',
+        xref: 'x',
+        yref: 'paper',
+        x0: histogram.band.low,
+        x1: histogram.band.high,
+        y0: 0,
+        y1: 1,
+        fillcolor: colors.muted,
+        opacity: 0.28,
+        line: { color: colors.muted, width: 1, dash: 'dash' },
+        layer: 'below'
+      });
+      annotations.push({
+        xref: 'x',
+        yref: 'paper',
+        x: (histogram.band.low + histogram.band.high) / 2,
+        y: 1,
+        yanchor: 'bottom',
+        showarrow: false,
+        text: 'null 95 %',
+        font: { size: 10, color: colors.muted }
+      });
+    }
     if (low <= 0 && high >= 0) {
       shapes.push({
         type: 'line',
@@ -209,9 +240,10 @@ namespace Private {
       layout: {
         bargap: 0,
         shapes,
+        annotations,
         xaxis: { title: { text: 'co-information' }, gridcolor: colors.grid, zerolinecolor: colors.grid, color: colors.muted },
         yaxis: { title: { text: 'count' }, gridcolor: colors.grid, zerolinecolor: colors.grid, color: colors.muted, rangemode: 'tozero' },
-        margin: { l: 44, r: 8, t: 6, b: 38 }
+        margin: { l: 44, r: 8, t: histogram.band ? 16 : 6, b: 38 }
       }
     };
   }

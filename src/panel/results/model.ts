@@ -45,6 +45,8 @@ export interface IResultsHistogram {
   counts: number[];
   /** Number of multiplets of this order. */
   total: number;
+  /** The surrogate 2.5–97.5 % range of co-information of this order (the null band), when tested. */
+  band?: { low: number; high: number; mean: number };
 }
 
 /** The histogram bar that filters the tables. */
@@ -194,7 +196,12 @@ export class ResultsModel {
       for (const i of members) {
         this._barOf[i] = binIndexByEdges(histogram.edges, store.co_information[i]);
       }
-      this._histograms.push({ ...histogram, total: members.length });
+      const band = result.statistics?.null_bands.find(b => b.order === k);
+      this._histograms.push({
+        ...histogram,
+        total: members.length,
+        ...(band && band.values > 0 ? { band: { low: band.low, high: band.high, mean: band.mean } } : {})
+      });
     }
     this.synergy.setStore(store);
     this.redundancy.setStore(store);

@@ -7,7 +7,7 @@ import { Widget } from '@lumino/widgets';
 import { textElement } from '../dom';
 import { exportFileName, provenanceCsv, provenanceEntries, tableEntries, type IExportSource } from './export';
 import { formatAdequacy, formatCount, formatValue } from './format';
-import { RESULTS_COLUMNS } from './store';
+import { RESULTS_COLUMNS, type ResultsColumnKey } from './store';
 import { MultipletTable } from './table';
 
 /** Shows a {@link MultipletTable}. */
@@ -35,21 +35,21 @@ export class MultipletTableView extends Widget {
     this._table = textElement('table', 'pd-ResultsTable-table');
     this._table.setAttribute('aria-labelledby', headingId);
     const head = document.createElement('thead');
-    const headRow = document.createElement('tr');
-    for (const column of RESULTS_COLUMNS) {
-      const th = textElement('th', `pd-ResultsTable-head pd-mod-${column.key}`);
-      th.scope = 'col';
-      const button = textElement('button', 'pd-ResultsTable-sort', column.label);
-      button.type = 'button';
-      button.title = `Sort by ${column.label.toLowerCase()}`;
-      button.addEventListener('click', () => this._model.setSort(column.key));
-      th.append(button);
-      headRow.append(th);
-      this._headers.push(th);
-    }
-    head.append(headRow);
+    head.append(this._headRow);
     this._body = document.createElement('tbody');
     this._table.append(head, this._body);
+    const filterId = `pd-results-q-${side}-${Private.nextId++}`;
+    this._qFilter = document.createElement('input');
+    this._qFilter.type = 'checkbox';
+    this._qFilter.id = filterId;
+    this._qFilter.className = 'pd-ResultsTable-qFilter';
+    this._qFilter.addEventListener('change', () =>
+      this._model.setFilter({ qAtMost: this._qFilter.checked ? this._model.store?.alpha ?? null : null })
+    );
+    this._qLabel = textElement('label', 'pd-ResultsTable-qLabel');
+    this._qLabel.htmlFor = filterId;
+    this._qRow = textElement('div', 'pd-ResultsTable-filters');
+    this._qRow.append(this._qFilter, this._qLabel);
     const scroll = textElement('div', 'pd-ResultsTable-scroll');
     scroll.append(this._table);
 
@@ -71,7 +71,7 @@ export class MultipletTableView extends Widget {
     exportButton.addEventListener('click', () => this._export());
     pager.append(this._previous, this._status, this._next, exportButton);
 
-    this.node.append(heading, note, scroll, pager);
+    this.node.append(heading, note, this._qRow, scroll, pager);
     this._model.changed.connect(this._render, this);
     this._render();
   }
@@ -104,12 +104,19 @@ export class MultipletTableView extends Widget {
     const model = this._model;
     const store = model.store;
     const { key, descending } = model.sort;
-    RESULTS_COLUMNS.forEach((column, i) => {
+    const columns = store ? store.columns : RESULTS_COLUMNS;
+    this._renderHead(columns);
+    columns.forEach((column, i) => {
       this._headers[i].setAttribute(
         'aria-sort',
         column.key === key ? (descending ? 'descending' : 'ascending') : 'none'
       );
     });
+    const alpha = store?.alpha ?? null;
+    const hasQ = store !== null && store.evidence.has('q_value') && alpha !== null;
+    this._qRow.hidden = !hasQ;
+    this._qFilter.checked = model.filter.qAtMost !== null;
+    this._qLabel.textContent = hasQ ? `Only q ≤ α (${alpha}): the multiplets the false discovery rate calls significant` : '';
     const rows: HTMLTableRowElement[] = [];
     if (store) {
       for (const index of model.pageRows()) {
@@ -133,13 +140,27 @@ export class MultipletTableView extends Widget {
           adequacyCell.title = 'Fewer rows than possible joint cells: treat this value with care.';
         }
         tr.append(
-          multiplet,
-          textElement('td', 'pd-ResultsTable-cell pd-mod-order', String(store.order[index])),
-          textElement('td', 'pd-ResultsTable-cell pd-mod-number', formatValue(store.co_information[index])),
-          textElement('td', 'pd-ResultsTable-cell pd-mod-number', formatValue(store.o_information[index])),
-          textElement('td', 'pd-ResultsTable-cell pd-mod-number', formatValue(store.total_correlation[index])),
-          textElement('td', 'pd-ResultsTable-cell pd-mod-number', formatValue(store.dual_total_correlation[index])),
-          adequacyCell
+          ...columns.map(column => {
+            if (column.key === 'columns') {
+              return multiplet;
+            }
+            if (column.key === 'adequacy') {
+              return adequacyCell;
+            }
+            if (column.key === 'order') {
+              return textElement('td', 'pd-ResultsTable-cell pd-mod-order', String(store.order[index]));
+            }
+            const value = store.numeric(column.key)[index];
+            const cell = textElement(
+              'td',
+              `pd-ResultsTable-cell pd-mod-number pd-mod-${column.key}`,
+              Number.isNaN(value) ? '\u2014' : formatValue(value)
+            );
+            if (column.key === 'q_value' && alpha !== null && value <= alpha) {
+              cell.classList.add('pd-mod-significant');
+            }
+            return cell;
+          })
         );
         tr.title = 'Show the conditioning chain of this multiplet';
         const select = (): void => this._onSelect(index);
@@ -160,7 +181,7 @@ export class MultipletTableView extends Widget {
         'pd-ResultsTable-empty',
         model.totalCount === 0 ? 'No multiplets on this side.' : 'No multiplets match the filters.'
       );
-      td.colSpan = RESULTS_COLUMNS.length;
+      td.colSpan = columns.length;
       tr.append(td);
       rows.push(tr);
     }
@@ -175,6 +196,28 @@ export class MultipletTableView extends Widget {
         : `Rows ${formatCount(first + 1)}–${formatCount(first + shown)} of ${formatCount(model.rowCount)}${filtered}`;
     this._previous.disabled = model.page === 0;
     this._next.disabled = model.page >= model.pageCount - 1;
+  }
+
+  /** Rebuild the header row when the columns change (a result with or without evidence). */
+  private _renderHead(columns: readonly { key: ResultsColumnKey; label: string; title?: string }[]): void {
+    const signature = columns.map(column => column.key).join(',');
+    if (signature === this._headSignature) {
+      return;
+    }
+    this._headSignature = signature;
+    this._headers.length = 0;
+    const cells = columns.map(column => {
+      const th = textElement('th', `pd-ResultsTable-head pd-mod-${column.key}`);
+      th.scope = 'col';
+      const button = textElement('button', 'pd-ResultsTable-sort', column.label);
+      button.type = 'button';
+      button.title = column.title ? `${column.title}; sort by it` : `Sort by ${column.label.toLowerCase()}`;
+      button.addEventListener('click', () => this._model.setSort(column.key));
+      th.append(button);
+      this._headers.push(th);
+      return th;
+    });
+    this._headRow.replaceChildren(...cells);
   }
 
   private _export(): void {
@@ -209,6 +252,11 @@ export class MultipletTableView extends Widget {
   private readonly _table: HTMLTableElement;
   private readonly _body: HTMLTableSectionElement;
   private readonly _headers: HTMLTableCellElement[] = [];
+  private readonly _headRow = document.createElement('tr');
+  private _headSignature = '';
+  private readonly _qRow: HTMLElement;
+  private readonly _qFilter: HTMLInputElement;
+  private readonly _qLabel: HTMLLabelElement;
   private readonly _previous: HTMLButtonElement;
   private readonly _next: HTMLButtonElement;
   private readonly _status: HTMLSpanElement;

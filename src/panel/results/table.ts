@@ -21,6 +21,8 @@ export interface ITableFilter {
   order: number | null;
   /** Keep rows whose store index is marked here (a histogram bar); null keeps all. */
   mask: Uint8Array | null;
+  /** Keep rows whose q-value is at most this (the run's α); null keeps all. */
+  qAtMost: number | null;
 }
 
 /** The sort of a table. */
@@ -111,7 +113,7 @@ export class MultipletTable {
     }
     this._side = Uint32Array.from(side);
     this._sort = MultipletTable.defaultSort(this.side);
-    this._filter = { column: '', order: null, mask: null };
+    this._filter = { column: '', order: null, mask: null, qAtMost: null };
     this._resort();
   }
 
@@ -196,9 +198,10 @@ export class MultipletTable {
 
   private _refilter(): void {
     const store = this._store;
-    const { column, order, mask } = this._filter;
+    const { column, order, mask, qAtMost } = this._filter;
     const needle = column.trim().toLowerCase();
-    if (!store || (needle === '' && order === null && mask === null)) {
+    const q = qAtMost === null || !store ? null : store.numeric('q_value');
+    if (!store || (needle === '' && order === null && mask === null && q === null)) {
       this._visible = this._sorted;
     } else {
       let wanted: Uint8Array | null = null;
@@ -216,6 +219,10 @@ export class MultipletTable {
           continue;
         }
         if (mask !== null && !mask[i]) {
+          continue;
+        }
+        // NaN (not tested) is never at most α
+        if (q !== null && !(q[i] <= qAtMost!)) {
           continue;
         }
         if (wanted !== null) {
@@ -243,7 +250,7 @@ export class MultipletTable {
   private _sorted: Uint32Array = new Uint32Array(0);
   private _visible: Uint32Array = new Uint32Array(0);
   private _sort: ITableSort;
-  private _filter: ITableFilter = { column: '', order: null, mask: null };
+  private _filter: ITableFilter = { column: '', order: null, mask: null, qAtMost: null };
   private _page = 0;
   private readonly _pageSize: number;
   private readonly _changed = new Signal<this, void>(this);
@@ -271,8 +278,11 @@ export namespace MultipletTable {
     if (key === 'columns' || key === 'order') {
       return false;
     }
-    if (key === 'adequacy') {
+    if (key === 'adequacy' || key === 'same_sign') {
       return true;
+    }
+    if (key === 'q_value' || key === 'p_value' || key === 'connected_p_value') {
+      return false;
     }
     return side === 'redundancy';
   }

@@ -8,6 +8,7 @@ import { Panel, Widget } from '@lumino/widgets';
 import { textElement } from '../dom';
 import { ChainView } from './chain-view';
 import { formatCount, plural, wordFor } from '../../engine/text';
+import type { IAnalysisResult } from '../../engine/types';
 import { HistogramsView } from './histograms';
 import { ResultsModel } from './model';
 import { MultipletTableView } from './table-view';
@@ -155,11 +156,7 @@ export class ResultsView extends Panel {
           `order 2 to ${result.max_order}, ${result.estimator} estimator, ${result.units}.`
       )
     );
-    const cautions: string[] = [
-      `These values are estimates from a sample. With ${plural(model.multipletCount, 'multiplet')}, ` +
-        'some will look extreme by chance alone; significance tests (surrogate data, q-values) come ' +
-        'in a later version.'
-    ];
+    const cautions: string[] = [Private.evidenceCaution(result, model.multipletCount)];
     if (model.inadequateCount > 0) {
       cautions.push(
         `${plural(model.inadequateCount, 'multiplet')} ${wordFor(model.inadequateCount, 'has', 'have')} ` +
@@ -209,6 +206,34 @@ export namespace ResultsView {
 }
 
 namespace Private {
+  /**
+   * The caution of a result: without statistics, that extremes appear by chance alone; with
+   * them, against what null p was computed, which family q covers and what q controls and does
+   * not (the usual reading of a false discovery rate, Benjamini & Hochberg 1995).
+   */
+  export function evidenceCaution(result: IAnalysisResult, multiplets: number): string {
+    const statistics = result.statistics;
+    const family = statistics?.families.co_information ?? null;
+    if (!statistics || statistics.surrogates === 0 || family === null) {
+      return (
+        `These values are estimates from a sample. With ${plural(multiplets, 'multiplet')}, some will look ` +
+        'extreme by chance alone, and plug-in bias alone makes co-information negative: nothing here is tested ' +
+        'against chance. Set surrogates in the Statistics section for p- and q-values.'
+      );
+    }
+    const orders = family.orders.length > 1 ? `orders ${family.orders[0]}–${family.orders[family.orders.length - 1]}` : `order ${family.orders[0]}`;
+    const tail = statistics.tail === 'two' ? 'two-sided' : `one-sided (${statistics.tail} side)`;
+    return (
+      `p: ${tail}, against ${plural(statistics.surrogates, 'independence surrogate')} (each column shuffled on its ` +
+      `own, seed ${statistics.seed}); it cannot go below ${formatCount(1)}/${formatCount(statistics.surrogates + 1)}` +
+      `${statistics.tail === 'two' ? ' times 2' : ''}. q: Benjamini–Hochberg over ${plural(family.count, 'multiplet')} of ${orders}. ` +
+      `Calling every multiplet with q ≤ ${statistics.alpha} significant keeps the expected share of false ` +
+      'discoveries among them at most that level; it does not say that any one of them is real, nor how ' +
+      'strong it is, and the surrogates test independence, not whether pairs explain a triplet ' +
+      '(the pairwise-preserving null does).'
+    );
+  }
+
   /** Counter for unique control ids. */
   export let nextId = 0;
 }

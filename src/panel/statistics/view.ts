@@ -1,0 +1,185 @@
+/**
+ * The Statistics section: how many independence surrogates and bootstrap resamples a run
+ * computes, the seed, the tail of the test and the level, and how many multiplets per table
+ * get the pairwise-preserving null; the field at fault is marked with the engine's own
+ * message, and a rough time estimate shows before the run starts.
+ */
+import { Widget } from '@lumino/widgets';
+
+import { formatCount, plural } from '../../engine/text';
+import type { AnalysisModel } from '../analysis/model';
+import { textElement } from '../dom';
+import type { StatisticsField } from './model';
+
+/** Shows the {@link StatisticsModel} of an {@link AnalysisModel}. */
+export class StatisticsView extends Widget {
+  /** Create the section for `options.model`. */
+  constructor(options: StatisticsView.IOptions) {
+    super();
+    this.addClass('pd-Statistics');
+    this.title.label = 'Statistics';
+    this._model = options.model;
+    this._workers = options.workers ?? (() => 1);
+    const intro = textElement(
+      'p',
+      'pd-Statistics-intro',
+      'Evidence against chance for every multiplet: surrogates shuffle each column on its own ' +
+        '(every dependence gone, every marginal kept) and walk the lattice again; p counts the ' +
+        'surrogates at least as extreme, q corrects for the number of multiplets tested ' +
+        '(Benjamini–Hochberg). 0 turns a part off.'
+    );
+    const fields: [StatisticsField, string, string][] = [
+      ['surrogates', 'Surrogates', 'Independence surrogates N; the smallest p is 1/(N + 1) one-sided, 2/(N + 1) two-sided.'],
+      ['seed', 'Seed', 'Seed of every random draw: the same seed gives the same p-values, whatever the number of workers.'],
+      ['alpha', 'Level α', 'Level of the "q ≤ α" filter; bootstrap intervals cover 1 − α.'],
+      ['bootstrap', 'Bootstrap resamples', 'Row resamples B for percentile intervals of every measure; 0 = off.'],
+      ['beyondPairs', 'Pairwise-preserving null (per table)', 'Top multiplets of order ≥ 3 per table fitted by maximum entropy to their lower-order marginals (slow: keep it small).'],
+      ['sharpen', 'Sharpening surrogates', 'Fresh surrogates for each multiplet whose p sits at its floor, on that multiplet alone (at most 64 multiplets; slow).']
+    ];
+    const rows: HTMLElement[] = [];
+    for (const [field, label, hint] of fields) {
+      const id = `pd-statistics-${field}-${Private.nextId()}`;
+      const row = textElement('div', 'pd-Field');
+      const labelNode = textElement('label', 'pd-Field-label', label);
+      labelNode.htmlFor = id;
+      const input = document.createElement('input');
+      input.id = id;
+      input.type = 'text';
+      input.inputMode = field === 'alpha' ? 'decimal' : 'numeric';
+      input.className = 'pd-Statistics-input jp-mod-styled';
+      input.title = hint;
+      input.setAttribute('aria-describedby', `${id}-hint`);
+      input.addEventListener('input', () => this._model.statistics.set(field, input.value));
+      const hintNode = textElement('span', 'pd-Statistics-hint', hint);
+      hintNode.id = `${id}-hint`;
+      row.append(labelNode, input, hintNode);
+      rows.push(row);
+      this._inputs.set(field, input);
+    }
+    const tailId = `pd-statistics-tail-${Private.nextId()}`;
+    const tailRow = textElement('div', 'pd-Field');
+    const tailLabel = textElement('label', 'pd-Field-label', 'Tail');
+    tailLabel.htmlFor = tailId;
+    this._tail = document.createElement('select');
+    this._tail.id = tailId;
+    this._tail.className = 'jp-mod-styled';
+    for (const [value, text] of [
+      ['two', 'two-sided (synergy or redundancy)'],
+      ['synergy', 'synergy only (co-information below the null)'],
+      ['redundancy', 'redundancy only (co-information above the null)']
+    ]) {
+      const option = textElement('option', '', text);
+      option.value = value;
+      this._tail.append(option);
+    }
+    this._tail.addEventListener('change', () => this._model.statistics.set('tail', this._tail.value));
+    tailRow.append(tailLabel, this._tail);
+    rows.splice(3, 0, tailRow);
+    this._problem = textElement('p', 'pd-Statistics-problem pd-mod-warning');
+    this._problem.setAttribute('role', 'alert');
+    this._problem.hidden = true;
+    this._estimate = textElement('p', 'pd-Statistics-estimate');
+    this._estimate.setAttribute('aria-live', 'polite');
+    this.node.append(intro, ...rows, this._problem, this._estimate);
+    this._model.changed.connect(this._render, this);
+    this._model.statistics.changed.connect(this._render, this);
+    this._render();
+  }
+
+  /** Disconnect from the model and dispose the widget. */
+  dispose(): void {
+    if (this.isDisposed) {
+      return;
+    }
+    this._model.changed.disconnect(this._render, this);
+    this._model.statistics.changed.disconnect(this._render, this);
+    super.dispose();
+  }
+
+  private _render(): void {
+    const statistics = this._model.statistics;
+    const values = statistics.values;
+    for (const [field, input] of this._inputs) {
+      if (document.activeElement !== input && input.value !== values[field]) {
+        input.value = values[field];
+      }
+    }
+    this._tail.value = values.tail;
+    const problem = statistics.problem;
+    const fault = problem === null ? null : String(problem.detail.option ?? '');
+    for (const [field, input] of this._inputs) {
+      const bad = field === fault;
+      input.classList.toggle('pd-mod-invalid', bad);
+      input.setAttribute('aria-invalid', String(bad));
+    }
+    this._tail.classList.toggle('pd-mod-invalid', fault === 'tail');
+    this._problem.hidden = problem === null;
+    this._problem.textContent = problem === null ? '' : problem.message;
+    const fetched = this._model.data.fetched;
+    const multiplets = Number(this._model.multipletCount);
+    const rows = fetched?.rows ?? 0;
+    const workers = this._workers();
+    const estimate = problem === null && rows > 0 ? statistics.estimateMs(multiplets, rows, workers) : null;
+    let options: ReturnType<typeof statistics.options> | undefined;
+    try {
+      options = statistics.options();
+    } catch {
+      options = undefined;
+    }
+    if (problem !== null) {
+      this._estimate.textContent = '';
+    } else if (options === undefined) {
+      this._estimate.textContent = 'No evidence is computed: the tables rank raw estimates.';
+    } else if (estimate === null) {
+      this._estimate.textContent = 'The estimated time shows once the dataframe has loaded.';
+    } else {
+      const replicates = (options.surrogates ?? 0) + (options.bootstrap ?? 0);
+      const extra =
+        (options.sharpen ?? 0) > 0 || (options.beyondPairs ?? 0) > 0
+          ? ', plus the sharpening and the pairwise-preserving null, which can take much longer'
+          : '';
+      this._estimate.textContent =
+        `About ${Private.duration(estimate)} for ${plural(replicates, 'replicate')} of ` +
+        `${formatCount(multiplets)} multiplets × ${formatCount(rows)} rows on ${plural(workers, 'worker')}${extra} ` +
+        '(a rough estimate).';
+    }
+  }
+
+  private _model: AnalysisModel;
+  private _workers: () => number;
+  private _inputs = new Map<StatisticsField, HTMLInputElement>();
+  private _tail: HTMLSelectElement;
+  private _problem: HTMLElement;
+  private _estimate: HTMLElement;
+}
+
+/** The statics of {@link StatisticsView}. */
+export namespace StatisticsView {
+  /** Options of a {@link StatisticsView}. */
+  export interface IOptions {
+    /** The analysis whose statistics the section sets. */
+    model: AnalysisModel;
+    /** How many workers a run uses (for the time estimate); default 1. */
+    workers?: () => number;
+  }
+}
+
+namespace Private {
+  let counter = 0;
+
+  /** A fresh number for element ids. */
+  export function nextId(): number {
+    return ++counter;
+  }
+
+  /** A duration in words: "under a second", "12 s", "3 min". */
+  export function duration(ms: number): string {
+    if (ms < 1000) {
+      return 'under a second';
+    }
+    if (ms < 90_000) {
+      return `${Math.round(ms / 1000)} s`;
+    }
+    return `${Math.round(ms / 60_000)} min`;
+  }
+}
