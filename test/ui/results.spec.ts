@@ -137,7 +137,17 @@ test('should export the filtered table as CSV with the CLI header, an adequacy c
     's_information',
     'adequacy'
   ]);
-  expect(lines[0]).toBe(cli.split('\n')[0]);
+  // The panel ran with the settings' surrogates, so its header is the CLI's with surrogates: the
+  // measures, adequacy, then the evidence fields, in the CLI's order.
+  const input3 = path.join(dir, 'tiny3.csv');
+  writeFileSync(input3, 'a,b,c\n1,2,1\n2,1,2\n1,1,2\n2,2,1\n');
+  const cliWithEvidence = execFileSync(
+    process.execPath,
+    [path.join(REPO, 'bin', 'polyadic.cjs'), 'analyze', input3, '--format', 'csv', '--bins', 'categorical', '--surrogates', '9'],
+    { encoding: 'utf8' }
+  );
+  expect(cliWithEvidence.split('\n')[0].startsWith(`${cli.split('\n')[0]},p_value,q_value`)).toBe(true);
+  expect(lines[0]).toBe(cliWithEvidence.split('\n')[0]);
   const status = await results().locator('.pd-ResultsTable-redundancy .pd-ResultsTable-status').textContent();
   const total = Number(/of ([\d,]+)/.exec(status ?? '')![1].replace(/,/g, ''));
   expect(lines.filter(line => line !== '').length - 1).toBe(total);

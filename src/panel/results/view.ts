@@ -224,6 +224,7 @@ namespace Private {
     const orders = family.orders.length > 1 ? `orders ${family.orders[0]}–${family.orders[family.orders.length - 1]}` : `order ${family.orders[0]}`;
     const tail = statistics.tail === 'two' ? 'two-sided' : `one-sided (${statistics.tail} side)`;
     return (
+      `With ${plural(multiplets, 'multiplet')}, some look extreme by chance alone; each carries its evidence. ` +
       `p: ${tail}, against ${plural(statistics.surrogates, 'independence surrogate')} (each column shuffled on its ` +
       `own, seed ${statistics.seed}); it cannot go below ${formatCount(1)}/${formatCount(statistics.surrogates + 1)}` +
       `${statistics.tail === 'two' ? ' times 2' : ''}. q: Benjamini–Hochberg over ${plural(family.count, 'multiplet')} of ${orders}. ` +
