@@ -98,11 +98,13 @@ describe('provenanceCsv', () => {
   });
 
   it('should say which filters made the rows', () => {
-    const entries = tableEntries('redundancy', { column: ' hum ', order: 2, mask: new Uint8Array(1) }, 3, 40);
+    const entries = tableEntries('redundancy', { column: ' hum ', order: 2, mask: new Uint8Array(1), qAtMost: null }, 3, 40);
     expect(Object.fromEntries(entries)).toMatchObject({
       filter: 'a column name containing "hum", order 2, one histogram bar',
       multiplets: '3 of 40'
     });
+    const significant = tableEntries('synergy', { column: '', order: null, mask: null, qAtMost: 0.05 }, 2, 40);
+    expect(Object.fromEntries(significant)).toMatchObject({ filter: 'q ≤ 0.05', multiplets: '2 of 40' });
   });
 });
 

@@ -7,7 +7,7 @@ import { Widget } from '@lumino/widgets';
 import { plural } from '../../engine/text';
 import type { EstimatorName, Units } from '../../engine/types';
 import type { AnalysisModel } from '../analysis/model';
-import { textElement } from '../dom';
+import { labelledSelect, textElement, uniqueId, type ILabelledSelect } from '../dom';
 import { formatAdequacy } from '../results/format';
 import { ADEQUACY_CAUTION, ESTIMATOR_CHOICES } from './model';
 
@@ -20,12 +20,12 @@ export class EstimatorView extends Widget {
     this.title.label = 'Estimator and order';
     this._model = options.model;
     const estimator = this._model.estimator;
-    this._estimator = Private.select(
+    this._estimator = labelledSelect(
       'Estimator',
       ESTIMATOR_CHOICES.map(choice => [choice.value, choice.label]),
       value => (estimator.estimator = value as EstimatorName)
     );
-    this._units = Private.select(
+    this._units = labelledSelect(
       'Units',
       [
         ['bits', 'bits (log base 2)'],
@@ -33,7 +33,7 @@ export class EstimatorView extends Widget {
       ],
       value => (estimator.units = value as Units)
     );
-    const orderId = `pd-max-order-${Private.nextId()}`;
+    const orderId = uniqueId('pd-max-order');
     this._order = document.createElement('input');
     this._order.id = orderId;
     this._order.type = 'number';
@@ -113,8 +113,8 @@ export class EstimatorView extends Widget {
   }
 
   private _model: AnalysisModel;
-  private _estimator: Private.ISelect;
-  private _units: Private.ISelect;
+  private _estimator: ILabelledSelect;
+  private _units: ILabelledSelect;
   private _order: HTMLInputElement;
   private _count: HTMLElement;
   private _clamp: HTMLElement;
@@ -127,41 +127,5 @@ export namespace EstimatorView {
   export interface IOptions {
     /** The analysis whose choices the section shows. */
     model: AnalysisModel;
-  }
-}
-
-namespace Private {
-  let counter = 0;
-
-  /** A fresh number for element ids. */
-  export function nextId(): number {
-    return ++counter;
-  }
-
-  /** A labelled select. */
-  export interface ISelect {
-    row: HTMLElement;
-    select: HTMLSelectElement;
-  }
-
-  /** A labelled select of fixed choices. */
-  export function select(label: string, choices: [string, string][], onChange: (value: string) => void): ISelect {
-    const id = `pd-select-${nextId()}`;
-    const row = textElement('div', 'pd-Field');
-    const labelNode = textElement('label', 'pd-Field-label', label);
-    labelNode.htmlFor = id;
-    const node = document.createElement('select');
-    node.id = id;
-    node.className = 'jp-mod-styled';
-    node.append(
-      ...choices.map(([value, text]) => {
-        const option = textElement('option', '', text);
-        option.value = value;
-        return option;
-      })
-    );
-    node.addEventListener('change', () => onChange(node.value));
-    row.append(labelNode, node);
-    return { row, select: node };
   }
 }

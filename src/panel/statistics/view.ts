@@ -8,7 +8,7 @@ import { Widget } from '@lumino/widgets';
 
 import { formatCount, plural } from '../../engine/text';
 import type { AnalysisModel } from '../analysis/model';
-import { textElement } from '../dom';
+import { labelledSelect, textElement, uniqueId } from '../dom';
 import type { StatisticsField } from './model';
 
 /** Shows the {@link StatisticsModel} of an {@link AnalysisModel}. */
@@ -38,7 +38,7 @@ export class StatisticsView extends Widget {
     ];
     const rows: HTMLElement[] = [];
     for (const [field, label, hint] of fields) {
-      const id = `pd-statistics-${field}-${Private.nextId()}`;
+      const id = uniqueId(`pd-statistics-${field}`);
       const row = textElement('div', 'pd-Field');
       const labelNode = textElement('label', 'pd-Field-label', label);
       labelNode.htmlFor = id;
@@ -56,24 +56,17 @@ export class StatisticsView extends Widget {
       rows.push(row);
       this._inputs.set(field, input);
     }
-    const tailId = `pd-statistics-tail-${Private.nextId()}`;
-    const tailRow = textElement('div', 'pd-Field');
-    const tailLabel = textElement('label', 'pd-Field-label', 'Tail');
-    tailLabel.htmlFor = tailId;
-    this._tail = document.createElement('select');
-    this._tail.id = tailId;
-    this._tail.className = 'jp-mod-styled';
-    for (const [value, text] of [
-      ['two', 'two-sided (synergy or redundancy)'],
-      ['synergy', 'synergy only (co-information below the null)'],
-      ['redundancy', 'redundancy only (co-information above the null)']
-    ]) {
-      const option = textElement('option', '', text);
-      option.value = value;
-      this._tail.append(option);
-    }
-    this._tail.addEventListener('change', () => this._model.statistics.set('tail', this._tail.value));
-    tailRow.append(tailLabel, this._tail);
+    const tail = labelledSelect(
+      'Tail',
+      [
+        ['two', 'two-sided (synergy or redundancy)'],
+        ['synergy', 'synergy only (co-information below the null)'],
+        ['redundancy', 'redundancy only (co-information above the null)']
+      ],
+      value => this._model.statistics.set('tail', value)
+    );
+    this._tail = tail.select;
+    const tailRow = tail.row;
     rows.splice(3, 0, tailRow);
     this._problem = textElement('p', 'pd-Statistics-problem pd-mod-warning');
     this._problem.setAttribute('role', 'alert');
@@ -165,13 +158,6 @@ export namespace StatisticsView {
 }
 
 namespace Private {
-  let counter = 0;
-
-  /** A fresh number for element ids. */
-  export function nextId(): number {
-    return ++counter;
-  }
-
   /** A duration in words: "under a second", "12 s", "3 min". */
   export function duration(ms: number): string {
     if (ms < 1000) {
