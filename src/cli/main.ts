@@ -14,6 +14,7 @@ import { analyze } from '../engine/analyze';
 import { MAX_SEED, STATISTICS_TAILS, type IStatisticsOptions, type StatisticsTail } from '../engine/statistics/options';
 import { EnginePool } from '../worker/pool';
 import { BIN_SPEC_FORMS, parseBinSpec } from '../engine/binning';
+import { ESTIMATORS } from '../engine/estimators';
 import { isPolyadicError, PolyadicError } from '../engine/errors';
 import { unknownColumn } from '../engine/table';
 import type { EstimatorName, IAnalysisResult, IAnalyzeOptions, MissingPolicy, Units } from '../engine/types';
@@ -33,7 +34,7 @@ export { EXIT, type ICliStreams } from './core';
 /** Values each enumerated option accepts. */
 export const CHOICES = {
   missing: ['drop', 'category', 'error'] as readonly MissingPolicy[],
-  estimator: ['plugin', 'miller-madow', 'chao-shen', 'shrinkage'] as readonly EstimatorName[],
+  estimator: ESTIMATORS,
   units: ['bits', 'nats'] as readonly Units[],
   format: OUTPUT_FORMATS,
   tail: STATISTICS_TAILS as readonly StatisticsTail[]
@@ -60,7 +61,11 @@ Options:
                         boolean columns stay categorical
   --bin COLUMN=SPEC     binning of one column; repeat for several
   --missing POLICY      drop | category | error (default: drop)
-  --estimator NAME      plugin | miller-madow | chao-shen | shrinkage (default: plugin)
+  --estimator NAME      plugin | miller-madow | chao-shen | shrinkage (default: plugin),
+                        or gaussian-copula: no binning; each numeric column becomes
+                        the normal scores of its ranks and every entropy comes from
+                        their covariance (bias-corrected); continuous columns only,
+                        missing values: drop or error
   --units UNITS         bits | nats (default: bits)
   --max-order K         largest multiplet order (default: all when at most 12
                         columns, else 3)

@@ -162,7 +162,8 @@ export class AnalysisModel implements IAnalysisState {
   get adequacy(): IAdequacy | null {
     const fetched = this.data.fetched;
     const selected = this.data.selected;
-    if (fetched === null || selected.length === 0) {
+    // Adequacy counts possible joint cells of binned columns; the Gaussian copula does not bin.
+    if (fetched === null || selected.length === 0 || this.estimator.estimator === 'gaussian-copula') {
       return null;
     }
     const counts = selected.map(name => this.binning.binCount(name));
