@@ -178,8 +178,10 @@ describe('AnalysisModel', () => {
     it('should run the Gaussian copula on continuous columns, without adequacy, and refuse a boolean column by name', async () => {
       const kernel = new FakeKernel(await greenhouseColumns());
       const { analysis, records } = await panelOn(kernel);
+      expect(analysis.binning.unusedBecause).toBeNull();
       analysis.estimator.estimator = 'gaussian-copula';
       expect(analysis.adequacy).toBeNull();
+      expect(analysis.binning.unusedBecause).toMatch(/does not bin/);
       await analysis.start();
       await settle();
       // every column selected: the flags are boolean, and the run says which
@@ -192,6 +194,8 @@ describe('AnalysisModel', () => {
       const result = analysis.latest!.result;
       expect(result.estimator).toBe('gaussian-copula');
       expect(result.columns.map(column => column.binning.method)).toEqual(['copula', 'copula', 'copula', 'copula']);
+      analysis.estimator.estimator = 'plugin';
+      expect(analysis.binning.unusedBecause).toBeNull();
       // the record the panel writes says so and passes the schema
       const recorded = records.state!.analyses;
       expect(recorded.map(a => [a.estimator, a.binning[0].method, a.binning[0].spec])).toEqual([['gaussian-copula', 'copula', 'copula']]);

@@ -411,6 +411,13 @@ export class AnalysisModel implements IAnalysisState {
     if (sender === this.estimator && !this._applyingSettings) {
       this._estimatorTouched = true;
     }
+    if (sender === this.estimator) {
+      this.binning.unusedBecause =
+        this.estimator.estimator === 'gaussian-copula'
+          ? 'Not used by the Gaussian-copula estimator: it does not bin, but replaces each column by the normal ' +
+            'scores of its ranks. These specs apply again when a binned estimator is chosen.'
+          : null;
+    }
     this._changed.emit();
   }
 
