@@ -23,6 +23,7 @@ import { runFingerprint } from './fingerprint';
 import { formatResult, OUTPUT_FORMATS, OutputFormat } from './output';
 import { readDataFile, type IDataSource } from './readers';
 import { defaultThreads, ThreadWorker } from './threads';
+import { runRobustness } from './robustness';
 import { runVerify } from './verify';
 
 /** The package version, replaced by the bundler; undefined when running from source. */
@@ -44,6 +45,7 @@ export const CHOICES = {
 export const HELP = `Usage: polyadic analyze DATA [options]
        polyadic verify NOTEBOOK --data NAME=PATH ...   (see polyadic verify --help)
        polyadic fingerprint DATA [--columns a,b,c]     (see polyadic fingerprint --help)
+       polyadic robustness DATA [--variant SPEC ...]   (see polyadic robustness --help)
        polyadic --help | --version
 
 Find higher-order structure in a table: entropy of every column, and co-information,
@@ -114,6 +116,9 @@ export async function main(argv: string[], streams: ICliStreams = process): Prom
   }
   if (argv[0] === 'fingerprint') {
     return runFingerprint(argv.slice(1), streams);
+  }
+  if (argv[0] === 'robustness') {
+    return runRobustness(argv.slice(1), streams);
   }
   let source: IDataSource | undefined;
   try {
@@ -264,7 +269,7 @@ namespace Private {
       throw new PolyadicError('usage', 'No command given; try polyadic analyze DATA, or polyadic --help.', {});
     }
     if (verb !== 'analyze') {
-      throw new PolyadicError('usage', `Unknown command '${verb}'; the commands are analyze, verify and fingerprint (see polyadic --help).`, {
+      throw new PolyadicError('usage', `Unknown command '${verb}'; the commands are analyze, verify, fingerprint and robustness (see polyadic --help).`, {
         value: verb
       });
     }

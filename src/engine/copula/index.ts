@@ -7,7 +7,7 @@ export { covarianceMatrix, entropyOffsets, gaussianEntropy, gaussianEntropyBias,
 export { COPULA_SPEC, isCopulaSpec, prepareCopulaColumns } from './prepare';
 export type { ICopulaPrepareOptions } from './prepare';
 export { digamma, normalQuantile } from './special';
-export { copulaNormalise, rankCodes, scoresOfCodes, scoreTable } from './transform';
+export { averageRanks, copulaNormalise, rankCodes, scoresOfCodes, scoreTable } from './transform';
 export {
   COPULA_ESTIMATOR,
   computeCopulaLattice,

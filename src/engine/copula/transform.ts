@@ -54,6 +54,22 @@ export function scoreTable(codes: ArrayLike<number>, bins: number): Float64Array
   return table;
 }
 
+/** Average ranks 1 … N of values, ties given the mean of their ranks (scipy.stats.rankdata's default). */
+export function averageRanks(values: ArrayLike<number>): Float64Array {
+  const { codes, distinct } = rankCodes(values);
+  const counts = new Float64Array(distinct);
+  for (let i = 0; i < codes.length; i++) {
+    counts[codes[i]]++;
+  }
+  const rankOf = new Float64Array(distinct);
+  let below = 0;
+  for (let c = 0; c < distinct; c++) {
+    rankOf[c] = below + (counts[c] + 1) / 2;
+    below += counts[c];
+  }
+  return Float64Array.from(codes, code => rankOf[code]);
+}
+
 /** The normal scores of a column of rank codes (see {@link scoreTable}), written into `out` when given. */
 export function scoresOfCodes(codes: ArrayLike<number>, bins: number, out?: Float64Array): Float64Array {
   const table = scoreTable(codes, bins);
