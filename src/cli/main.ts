@@ -14,6 +14,7 @@ import { analyze } from '../engine/analyze';
 import { MAX_SEED, STATISTICS_TAILS, type IStatisticsOptions, type StatisticsTail } from '../engine/statistics/options';
 import { EnginePool } from '../worker/pool';
 import { BIN_SPEC_FORMS, parseBinSpec } from '../engine/binning';
+import { ESTIMATORS } from '../engine/estimators';
 import { isPolyadicError, PolyadicError } from '../engine/errors';
 import { unknownColumn } from '../engine/table';
 import type { EstimatorName, IAnalysisResult, IAnalyzeOptions, MissingPolicy, Units } from '../engine/types';
@@ -22,6 +23,7 @@ import { runFingerprint } from './fingerprint';
 import { formatResult, OUTPUT_FORMATS, OutputFormat } from './output';
 import { readDataFile, type IDataSource } from './readers';
 import { defaultThreads, ThreadWorker } from './threads';
+import { runRobustness } from './robustness';
 import { runVerify } from './verify';
 
 /** The package version, replaced by the bundler; undefined when running from source. */
@@ -33,7 +35,7 @@ export { EXIT, type ICliStreams } from './core';
 /** Values each enumerated option accepts. */
 export const CHOICES = {
   missing: ['drop', 'category', 'error'] as readonly MissingPolicy[],
-  estimator: ['plugin', 'miller-madow', 'chao-shen', 'shrinkage'] as readonly EstimatorName[],
+  estimator: ESTIMATORS,
   units: ['bits', 'nats'] as readonly Units[],
   format: OUTPUT_FORMATS,
   tail: STATISTICS_TAILS as readonly StatisticsTail[]
@@ -43,6 +45,7 @@ export const CHOICES = {
 export const HELP = `Usage: polyadic analyze DATA [options]
        polyadic verify NOTEBOOK --data NAME=PATH ...   (see polyadic verify --help)
        polyadic fingerprint DATA [--columns a,b,c]     (see polyadic fingerprint --help)
+       polyadic robustness DATA [--variant SPEC ...]   (see polyadic robustness --help)
        polyadic --help | --version
 
 Find higher-order structure in a table: entropy of every column, and co-information,
@@ -60,7 +63,11 @@ Options:
                         boolean columns stay categorical
   --bin COLUMN=SPEC     binning of one column; repeat for several
   --missing POLICY      drop | category | error (default: drop)
-  --estimator NAME      plugin | miller-madow | chao-shen | shrinkage (default: plugin)
+  --estimator NAME      plugin | miller-madow | chao-shen | shrinkage (default: plugin),
+                        or gaussian-copula: no binning; each numeric column becomes
+                        the normal scores of its ranks and every entropy comes from
+                        their covariance (bias-corrected); continuous columns only,
+                        missing values: drop or error
   --units UNITS         bits | nats (default: bits)
   --max-order K         largest multiplet order (default: all when at most 12
                         columns, else 3)
@@ -109,6 +116,9 @@ export async function main(argv: string[], streams: ICliStreams = process): Prom
   }
   if (argv[0] === 'fingerprint') {
     return runFingerprint(argv.slice(1), streams);
+  }
+  if (argv[0] === 'robustness') {
+    return runRobustness(argv.slice(1), streams);
   }
   let source: IDataSource | undefined;
   try {
@@ -259,7 +269,7 @@ namespace Private {
       throw new PolyadicError('usage', 'No command given; try polyadic analyze DATA, or polyadic --help.', {});
     }
     if (verb !== 'analyze') {
-      throw new PolyadicError('usage', `Unknown command '${verb}'; the commands are analyze, verify and fingerprint (see polyadic --help).`, {
+      throw new PolyadicError('usage', `Unknown command '${verb}'; the commands are analyze, verify, fingerprint and robustness (see polyadic --help).`, {
         value: verb
       });
     }

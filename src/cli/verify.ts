@@ -26,7 +26,8 @@ import { parseArgs } from 'util';
 import { analyzeCodes, latticeInput, prepareColumns } from '../engine/analyze';
 import { isPolyadicError, PolyadicError } from '../engine/errors';
 import { fromNats } from '../engine/estimators';
-import { computeLattice, type ILattice } from '../engine/lattice';
+import type { ILattice } from '../engine/lattice';
+import { walkLattice } from '../engine/walk';
 import { coinformationAll, multipletMeasures } from '../engine/measures';
 import { checkMultipletCount, forEachMultiplet } from '../engine/multiplets';
 import type { ColumnView, IAnalysisResult, IColumnBinning, Units } from '../engine/types';
@@ -358,7 +359,7 @@ namespace Private {
       differences.push(`max_order ${analysis.max_order} vs ${input.maxOrder}`);
       return differences;
     }
-    const lattice = computeLattice(input);
+    const lattice = walkLattice(input);
     const coinformation = coinformationAll(lattice);
     const units = analysis.units;
     for (const side of ['synergy', 'redundancy'] as const) {

@@ -8,7 +8,8 @@
 import { applyMissingPolicy, binColumn, IBinnedColumn, IPreparedCodes, parseBinSpec } from './binning';
 import { checkEstimator, fromNats } from './estimators';
 import { PolyadicError } from './errors';
-import { computeLattice, ILattice, ILatticeInput } from './lattice';
+import { prepareCopulaColumns } from './copula/prepare';
+import type { ILattice, ILatticeInput } from './lattice';
 import { connectedInformation } from './maxent';
 import { coinformationAll, computeMeasures, IMeasureArrays, multipletMeasures } from './measures';
 import { checkMultipletCount, DEFAULT_MAX_MULTIPLETS, forEachMultiplet, membersOfIndex } from './multiplets';
@@ -22,6 +23,7 @@ import {
   runAllReplicates
 } from './statistics/replicates';
 import { columnLength, unknownColumn } from './table';
+import { isContinuousEstimator, walkLattice } from './walk';
 import { formatCount, plural } from './text';
 import type {
   ColumnView,
@@ -106,7 +108,8 @@ export function prepareColumns(columns: ColumnView[], options: IAnalyzeOptions =
       warnings.push(`A binning is given for column '${name}', which is not selected; it was not used.`);
     }
   }
-  const defaultSpec = options.bins === undefined ? undefined : parseBinSpec(options.bins);
+  const continuous = isContinuousEstimator(checkEstimator(options.estimator ?? 'plugin'));
+  const defaultSpec = options.bins === undefined || continuous ? undefined : parseBinSpec(options.bins);
   const missing = checkMissing(options.missing);
   const byName = new Map(columns.map(column => [column.name, column]));
   const selected = names.map(name => byName.get(name) as ColumnView);
@@ -122,6 +125,17 @@ export function prepareColumns(columns: ColumnView[], options: IAnalyzeOptions =
   }
   if (rows === 0) {
     throw new PolyadicError('input', 'The table has no rows.');
+  }
+  if (continuous) {
+    // No binning: rank codes, from which the walk takes the normal scores (copula/prepare.ts).
+    const prepared = prepareCopulaColumns(selected, {
+      missing,
+      bins: options.bins,
+      binsByColumn: perColumn,
+      pairs: options.maxOrder === undefined || options.maxOrder >= 2
+    });
+    prepared.warnings = [...warnings, ...prepared.warnings];
+    return prepared;
   }
   const binned: IBinnedColumn[] = selected.map(column => {
     const text = perColumn[column.name];
@@ -184,6 +198,15 @@ export function resolveOptions(options: IAnalyzeOptions, columnCount: number): I
     top = options.top;
   }
   const statistics = resolveStatistics(options.statistics);
+  if (statistics && statistics.beyondPairs > 0 && isContinuousEstimator(estimator)) {
+    throw new PolyadicError(
+      'usage',
+      'The pairwise-preserving null fits count tables, and under the Gaussian-copula estimator the maximum-entropy ' +
+        'fit to a multiplet\'s (k−1)-column marginals is the Gaussian itself, so its connected information is zero by ' +
+        'construction. Turn the pairwise-preserving null off, or use a discrete estimator for it.',
+      { option: 'beyondPairs', value: String(statistics.beyondPairs) }
+    );
+  }
   return { estimator, units, missing, maxOrder, maxMultiplets, top, statistics, warnings };
 }
 
@@ -216,7 +239,7 @@ export function analyzeCodes(
   const count = checkMultipletCount(n, resolved.maxOrder, resolved.maxMultiplets);
   const walked =
     lattice ??
-    computeLattice({
+    walkLattice({
       codes: prepared.codes,
       bins: prepared.bins,
       maxOrder: resolved.maxOrder,
@@ -242,6 +265,8 @@ export function analyzeCodes(
   const members = new Int32Array(resolved.maxOrder);
   const units = resolved.units;
   const inUnits = (nats: number): number | null => (Number.isNaN(nats) ? null : fromNats(nats, units));
+  // Adequacy counts possible joint cells of binned codes; the copula has none.
+  const counted = !isContinuousEstimator(resolved.estimator);
   const bootstrapAt = new Map<number, number>();
   found?.outcome.evidence.bootstrapped.forEach((index, j) => bootstrapAt.set(index, j));
   const multiplets: IMultipletRow[] = selected.map(index => {
@@ -259,9 +284,11 @@ export function analyzeCodes(
       total_correlation: fromNats(measures.totalCorrelation, units),
       dual_total_correlation: fromNats(measures.dualTotalCorrelation, units),
       o_information: fromNats(measures.oInformation, units),
-      s_information: fromNats(measures.sInformation, units),
-      adequacy: prepared.rowsUsed / cells
+      s_information: fromNats(measures.sInformation, units)
     };
+    if (counted) {
+      row.adequacy = prepared.rowsUsed / cells;
+    }
     if (found && resolved.statistics) {
       Private.addEvidence(row, index, found, resolved.statistics, bootstrapAt.get(index), inUnits);
     }
@@ -269,7 +296,7 @@ export function analyzeCodes(
   });
   let inadequate = 0;
   forEachMultiplet(walked.indexing, (_index, ids, order) => {
-    if (order >= 2) {
+    if (order >= 2 && counted) {
       let cells = 1;
       for (let i = 0; i < order; i++) {
         cells *= prepared.bins[ids[i]];
@@ -289,7 +316,7 @@ export function analyzeCodes(
     columns: prepared.binnings,
     multiplets,
     multiplet_count: count,
-    inadequate_count: inadequate,
+    ...(counted ? { inadequate_count: inadequate } : {}),
     warnings: [...prepared.warnings, ...resolved.warnings, ...(found?.warnings ?? [])]
   };
   if (found && resolved.statistics) {

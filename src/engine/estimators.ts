@@ -14,7 +14,7 @@ import type { EstimatorName, Units } from './types';
 import { expm1, ln, log1p } from './detmath';
 
 /** Every estimator name, in the order the user interface lists them. */
-export const ESTIMATORS: readonly EstimatorName[] = ['plugin', 'miller-madow', 'chao-shen', 'shrinkage'];
+export const ESTIMATORS: readonly EstimatorName[] = ['plugin', 'miller-madow', 'chao-shen', 'shrinkage', 'gaussian-copula'];
 
 /** What an estimator needs to know about a count histogram. */
 export interface ICountSummary {
@@ -95,6 +95,8 @@ export function entropyNats(estimator: EstimatorName, summary: ICountSummary, ce
       return chaoShenNats(summary, requireCells(estimator, cells));
     case 'shrinkage':
       return shrinkageNats(summary, requireCells(estimator, cells));
+    case 'gaussian-copula':
+      throw new PolyadicError('internal', 'The Gaussian-copula estimator works from normal scores, not from counts.');
     default:
       throw new PolyadicError('usage', `Unknown estimator '${String(estimator)}'.`, {
         option: 'estimator',

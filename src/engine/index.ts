@@ -49,6 +49,10 @@ export {
 export type { IMultipletIndexing } from './multiplets';
 export { assembleLattice, computeLattice, jointEntropyOfCodes, walkSubtree } from './lattice';
 export type { ILattice, ILatticeInput, ISubtreeResult } from './lattice';
+export { isContinuousEstimator, walkLattice, walkLatticeSubtree } from './walk';
+export { computeCopulaLattice, copulaNormalise, gaussianEntropy, normalQuantile, walkCopulaSubtree } from './copula';
+export { kendallTau, robustnessRun } from './robustness';
+export type { IRobustnessAgreement, IRobustnessResult, IRobustnessRow, IRobustnessVariant } from './robustness';
 export {
   chainAlong,
   coinformationAll,

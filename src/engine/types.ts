@@ -61,7 +61,9 @@ export type BinMethod =
   | 'doane'
   | 'kmeans'
   | 'edges'
-  | 'categorical';
+  | 'categorical'
+  /** Not a binning: the Gaussian-copula estimator's normal scores of the column's ranks. */
+  | 'copula';
 
 /**
  * What a spec may name: a binning method, or `auto`, the default rule that picks one per column
@@ -81,8 +83,8 @@ export interface IBinSpec {
 /** How missing values are handled across the selected columns. */
 export type MissingPolicy = 'drop' | 'category' | 'error';
 
-/** Entropy estimators. */
-export type EstimatorName = 'plugin' | 'miller-madow' | 'chao-shen' | 'shrinkage';
+/** Entropy estimators: four from counts of binned codes, and the Gaussian copula from ranks. */
+export type EstimatorName = 'plugin' | 'miller-madow' | 'chao-shen' | 'shrinkage' | 'gaussian-copula';
 
 /** Units of every information value. */
 export type Units = 'bits' | 'nats';

@@ -120,7 +120,7 @@ export const RECORD_SCHEMA = {
         },
         estimator: {
           description: 'Entropy estimator.',
-          enum: ['plugin', 'miller-madow', 'chao-shen', 'shrinkage']
+          enum: ['plugin', 'miller-madow', 'chao-shen', 'shrinkage', 'gaussian-copula']
         },
         units: { description: 'Units of every information value.', enum: ['bits', 'nats'] },
         max_order: {
@@ -215,7 +215,7 @@ export const RECORD_SCHEMA = {
         name: { $ref: '#/$defs/columnName', description: 'Column name.' },
         method: {
           description: 'Binning method.',
-          enum: ['width', 'quantile', 'fd', 'scott', 'sturges', 'rice', 'sqrt', 'doane', 'kmeans', 'edges', 'categorical']
+          enum: ['width', 'quantile', 'fd', 'scott', 'sturges', 'rice', 'sqrt', 'doane', 'kmeans', 'edges', 'categorical', 'copula']
         },
         spec: {
           description: 'The binning spec as text, e.g. quantile:4 or edges:0,1.5,3.',

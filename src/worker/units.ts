@@ -13,7 +13,8 @@
  */
 
 import { PolyadicError } from '../engine/errors';
-import { computeLattice, ILatticeInput, ISubtreeResult, walkSubtree } from '../engine/lattice';
+import type { ILatticeInput, ISubtreeResult } from '../engine/lattice';
+import { walkLattice, walkLatticeSubtree } from '../engine/walk';
 import { forEachInSubtree, IMultipletIndexing, subtreeSize } from '../engine/multiplets';
 import type { IWorkUnit } from './protocol';
 
@@ -77,7 +78,7 @@ export function walkUnit(input: ILatticeInput, unit: IWorkUnit): ISubtreeResult[
   }
   if (last === n - 1 && first < last) {
     // The tail: one walk over the last columns, then cut into subtrees in the walk's order.
-    const lattice = computeLattice(Private.from(input, first));
+    const lattice = walkLattice(Private.from(input, first));
     const parts: ISubtreeResult[] = [];
     for (let root = first; root < n; root++) {
       parts.push(Private.extract(lattice.indexing, lattice.entropy, lattice.occupied, root - first, root));
@@ -86,7 +87,7 @@ export function walkUnit(input: ILatticeInput, unit: IWorkUnit): ISubtreeResult[
   }
   const parts: ISubtreeResult[] = [];
   for (let root = first; root <= last; root++) {
-    const part = walkSubtree(Private.from(input, root), 0);
+    const part = walkLatticeSubtree(Private.from(input, root), 0);
     parts.push({ root, entropy: part.entropy, occupied: part.occupied });
   }
   return parts;

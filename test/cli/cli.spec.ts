@@ -536,7 +536,7 @@ describe('polyadic analyze', () => {
 
     it.each([
       [['analyze', 'x.csv', '--estimatr', 'plugin'], /--estimatr/],
-      [['analyze', 'x.csv', '--estimator', 'bayes'], /--estimator must be one of plugin, miller-madow, chao-shen, shrinkage; got 'bayes'/],
+      [['analyze', 'x.csv', '--estimator', 'bayes'], /--estimator must be one of plugin, miller-madow, chao-shen, shrinkage, gaussian-copula; got 'bayes'/],
       [['analyze', 'x.csv', '--missing', 'skip'], /--missing must be one of drop, category, error/],
       [['analyze', 'x.csv', '--max-order', '0'], /--max-order must be a whole number/],
       [['analyze', 'x.csv', '--top', 'ten'], /--top must be a whole number/],

@@ -175,6 +175,33 @@ describe('AnalysisModel', () => {
       analysis.dispose();
     });
 
+    it('should run the Gaussian copula on continuous columns, without adequacy, and refuse a boolean column by name', async () => {
+      const kernel = new FakeKernel(await greenhouseColumns());
+      const { analysis, records } = await panelOn(kernel);
+      expect(analysis.binning.unusedBecause).toBeNull();
+      analysis.estimator.estimator = 'gaussian-copula';
+      expect(analysis.adequacy).toBeNull();
+      expect(analysis.binning.unusedBecause).toMatch(/does not bin/);
+      await analysis.start();
+      await settle();
+      // every column selected: the flags are boolean, and the run says which
+      expect(analysis.run.state).toBe('error');
+      expect(analysis.run.message).toMatch(/'valve_command' is boolean/);
+      analysis.data.setSelected('valve_command', false);
+      analysis.data.setSelected('leak_alarm', false);
+      await analysis.start();
+      await settle();
+      const result = analysis.latest!.result;
+      expect(result.estimator).toBe('gaussian-copula');
+      expect(result.columns.map(column => column.binning.method)).toEqual(['copula', 'copula', 'copula', 'copula']);
+      analysis.estimator.estimator = 'plugin';
+      expect(analysis.binning.unusedBecause).toBeNull();
+      // the record the panel writes says so and passes the schema
+      const recorded = records.state!.analyses;
+      expect(recorded.map(a => [a.estimator, a.binning[0].method, a.binning[0].spec])).toEqual([['gaussian-copula', 'copula', 'copula']]);
+      analysis.dispose();
+    });
+
     it('should keep the binning specs when the loaded frame takes a run’s newer columns', async () => {
       const kernel = new FakeKernel(await greenhouseColumns());
       const { analysis } = await panelOn(kernel);

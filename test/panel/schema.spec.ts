@@ -123,7 +123,8 @@ describe('schema/settings/plugin.json', () => {
       'plugin',
       'miller-madow',
       'chao-shen',
-      'shrinkage'
+      'shrinkage',
+      'gaussian-copula'
     ];
     for (const estimator of engineEstimators) {
       expect(validate({ estimator }).errors).toBeNull();

@@ -87,7 +87,7 @@ describe('record schema', () => {
 
     // each invalid fixture is the valid one with one defect; the first problem must name its path
     const cases: [string, string, string][] = [
-      ['bad-estimator', '/analyses/0/estimator', '/analyses/0/estimator must be one of plugin, miller-madow, chao-shen, shrinkage.'],
+      ['bad-estimator', '/analyses/0/estimator', '/analyses/0/estimator must be one of plugin, miller-madow, chao-shen, shrinkage, gaussian-copula.'],
       ['id-with-quote', '/analyses/1/id', '/analyses/1/id must be a record id: pd- followed by 8 to 32 lower-case letters or digits.'],
       ['missing-label', '/analyses/0/label', '/analyses/0/label is missing (a required field of /analyses/0).'],
       ['unknown-field', '/analyses/0/colour~1shade', '/analyses/0/colour~1shade is not a field of a Polyadic record; remove it.'],

@@ -222,7 +222,7 @@ describe('runVerify', () => {
       const run = await verify(writeNotebook([broken as unknown as IAnalysisRecord]), '--data', `greenhouse=${csvPath}`);
       expect(run.code).toBe(VERIFY_EXIT.badInput);
       expect(run.stderr).toContain(
-        'has an invalid Polyadic record: /analyses/0/estimator must be one of plugin, miller-madow, chao-shen, shrinkage.'
+        'has an invalid Polyadic record: /analyses/0/estimator must be one of plugin, miller-madow, chao-shen, shrinkage, gaussian-copula.'
       );
     });
 

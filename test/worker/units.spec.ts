@@ -2,6 +2,7 @@ import { latticeInput, prepareColumns } from '../../src/engine/analyze';
 import { PolyadicError } from '../../src/engine/errors';
 import { ESTIMATORS } from '../../src/engine/estimators';
 import { computeLattice, ILatticeInput, ISubtreeResult, assembleLattice } from '../../src/engine/lattice';
+import { walkLattice } from '../../src/engine/walk';
 import { createIndexing, multipletCount, subtreeSize } from '../../src/engine/multiplets';
 import { planUnits, unitMultiplets, walkUnit } from '../../src/worker/units';
 import { firstBitDifference, makeColumns } from './helpers';
@@ -88,8 +89,12 @@ describe('units', () => {
       ];
       for (const [rows, count, maxOrder] of cases) {
         for (const estimator of ESTIMATORS) {
+          if (estimator === 'gaussian-copula' && rows <= maxOrder) {
+            // refused: a covariance of k columns needs more than k rows (test/engine/copula.spec.ts)
+            continue;
+          }
           const input = { ...inputOf(rows, count, maxOrder), estimator };
-          const whole = computeLattice(input);
+          const whole = walkLattice(input);
           for (const workers of [1, 2, 3, 4]) {
             const split = assembleLattice(input, walkByUnits(input, workers));
             const where = `${rows}×${count} up to ${maxOrder}, ${estimator}, ${workers} workers`;

@@ -19,9 +19,10 @@
 import { unsafeUniformIntDistribution, xoroshiro128plus } from 'pure-rand';
 
 import { PolyadicError } from '../errors';
-import { computeLattice, ILatticeInput } from '../lattice';
+import type { ILatticeInput } from '../lattice';
 import { coinformationAll, computeMeasures, multipletMeasures } from '../measures';
 import { membersOfIndex } from '../multiplets';
+import { walkLattice } from '../walk';
 import type { IResolvedStatistics } from './options';
 
 /** Which replicates a block holds. */
@@ -347,7 +348,7 @@ namespace Private {
     for (let r = 0; r < block.count; r++) {
       const replicate = block.first + r;
       const codes = shuffleColumns(input.codes, seeds[replicate], scratch);
-      const lattice = computeLattice({ ...input, codes });
+      const lattice = walkLattice({ ...input, codes });
       const measures = computeMeasures(lattice);
       const co = measures.coinformation;
       const o = measures.oInformation;
@@ -397,7 +398,7 @@ namespace Private {
           to[i] = from[picks[i]];
         }
       }
-      const lattice = computeLattice({ ...input, codes: scratch });
+      const lattice = walkLattice({ ...input, codes: scratch });
       const co = useAll ? coinformationAll(lattice) : undefined;
       let at = r * chosen.length * width;
       for (let j = 0; j < chosen.length; j++) {

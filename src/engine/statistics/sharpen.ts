@@ -15,6 +15,7 @@
 
 import { unsafeUniformIntDistribution, xoroshiro128plus } from 'pure-rand';
 
+import { CopulaSubsetEntropies } from '../copula/subsets';
 import { countLogCountTable, entropyNats, ICountSummary, needsCounts } from '../estimators';
 import { popcount } from '../measures';
 import type { EstimatorName } from '../types';
@@ -51,7 +52,8 @@ export function sharpenMultiplet(
 ): ISharpened {
   const k = codes.length;
   const rows = codes[0].length;
-  const counter = new Private.SubsetCounter(bins, estimator, rows);
+  const counter: Private.ISubsetMeasures =
+    estimator === 'gaussian-copula' ? new Private.CopulaSubsets(codes, bins) : new Private.SubsetCounter(bins, estimator, rows);
   const observed = counter.measures(codes);
   const shuffled = codes.map((column, c) => (c === 0 ? column : new Int32Array(column)));
   const rng = xoroshiro128plus(seed | 0);
@@ -88,8 +90,49 @@ export function atFloor(low: number, high: number, tail: StatisticsTail): boolea
 }
 
 namespace Private {
+  /** Co-information and O-information (nats) of a multiplet's columns as given. */
+  export interface ISubsetMeasures {
+    measures(codes: Int32Array[]): { co: number; o: number };
+  }
+
+  /**
+   * Co-information and O-information from the entropies of every subset of k columns, indexed
+   * by bitmask (index 0 unused).
+   */
+  export function measuresOfSubsets(entropy: Float64Array, k: number): { co: number; o: number } {
+    const full = (1 << k) - 1;
+    // Co-information I(S) = −Σ_{∅≠T⊆S} (−1)^{|T|} H(T) (Bell 2003).
+    let co = 0;
+    for (let mask = 1; mask <= full; mask++) {
+      co += popcount(mask) % 2 === 1 ? entropy[mask] : -entropy[mask];
+    }
+    // TC = Σ H(i) − H(S); DTC = Σ H(S∖i) − (k − 1) H(S); O = TC − DTC (Rosas et al. 2019).
+    let singles = 0;
+    let leaveOne = 0;
+    for (let i = 0; i < k; i++) {
+      singles += entropy[1 << i];
+      leaveOne += entropy[full ^ (1 << i)];
+    }
+    const tc = singles - entropy[full];
+    const dtc = leaveOne - (k - 1) * entropy[full];
+    return { co, o: tc - dtc };
+  }
+
+  /** The Gaussian-copula entropies of every subset of a multiplet's columns. */
+  export class CopulaSubsets implements ISubsetMeasures {
+    constructor(codes: Int32Array[], bins: number[]) {
+      this._entropies = new CopulaSubsetEntropies(codes, bins);
+    }
+
+    measures(codes: Int32Array[]): { co: number; o: number } {
+      return measuresOfSubsets(this._entropies.entropies(codes), codes.length);
+    }
+
+    private _entropies: CopulaSubsetEntropies;
+  }
+
   /** Counts every subset (two or more columns) of a multiplet's columns; scratch reused. */
-  export class SubsetCounter {
+  export class SubsetCounter implements ISubsetMeasures {
     constructor(
       private readonly _bins: number[],
       private readonly _estimator: EstimatorName,
@@ -117,21 +160,7 @@ namespace Private {
       for (let mask = 1; mask <= full; mask++) {
         entropy[mask] = this._entropyOf(codes, mask);
       }
-      // Co-information I(S) = −Σ_{∅≠T⊆S} (−1)^{|T|} H(T) (Bell 2003).
-      let co = 0;
-      for (let mask = 1; mask <= full; mask++) {
-        co += popcount(mask) % 2 === 1 ? entropy[mask] : -entropy[mask];
-      }
-      // TC = Σ H(i) − H(S); DTC = Σ H(S∖i) − (k − 1) H(S); O = TC − DTC (Rosas et al. 2019).
-      let singles = 0;
-      let leaveOne = 0;
-      for (let i = 0; i < k; i++) {
-        singles += entropy[1 << i];
-        leaveOne += entropy[full ^ (1 << i)];
-      }
-      const tc = singles - entropy[full];
-      const dtc = leaveOne - (k - 1) * entropy[full];
-      return { co, o: tc - dtc };
+      return measuresOfSubsets(entropy, k);
     }
 
     private _entropyOf(codes: Int32Array[], mask: number): number {

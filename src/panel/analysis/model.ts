@@ -168,7 +168,8 @@ export class AnalysisModel implements IAnalysisState {
   get adequacy(): IAdequacy | null {
     const fetched = this.data.fetched;
     const selected = this.data.selected;
-    if (fetched === null || selected.length === 0) {
+    // Adequacy counts possible joint cells of binned columns; the Gaussian copula does not bin.
+    if (fetched === null || selected.length === 0 || this.estimator.estimator === 'gaussian-copula') {
       return null;
     }
     const counts = selected.map(name => this.binning.binCount(name));
@@ -425,6 +426,13 @@ export class AnalysisModel implements IAnalysisState {
   private _onInputsChanged(sender: unknown): void {
     if (sender === this.estimator && !this._applyingSettings) {
       this._estimatorTouched = true;
+    }
+    if (sender === this.estimator) {
+      this.binning.unusedBecause =
+        this.estimator.estimator === 'gaussian-copula'
+          ? 'Not used by the Gaussian-copula estimator: it does not bin, but replaces each column by the normal ' +
+            'scores of its ranks. These specs apply again when a binned estimator is chosen.'
+          : null;
     }
     this._changed.emit();
   }

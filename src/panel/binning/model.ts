@@ -48,9 +48,25 @@ export class BinningModel {
     this._numericDefault = options.numericDefault ?? null;
   }
 
+  private _unusedBecause: string | null = null;
+
   /** Fires when a spec, the previewed column or a preview changes. */
   get changed(): ISignal<this, void> {
     return this._changed;
+  }
+
+  /**
+   * Why the specs are not used by the next run (the chosen estimator does not bin), or null when
+   * they are. The specs are kept for when a binned estimator is chosen again.
+   */
+  get unusedBecause(): string | null {
+    return this._unusedBecause;
+  }
+  set unusedBecause(reason: string | null) {
+    if (reason !== this._unusedBecause) {
+      this._unusedBecause = reason;
+      this._changed.emit();
+    }
   }
 
   /** The spec new numeric columns get (the settings' numeric binning); null: the engine's default. */

@@ -49,13 +49,18 @@ export class BinningView extends SectionView<BinningModel> {
     });
     this._preview = textElement('figure', 'pd-Binning-preview');
     this._preview.setAttribute('aria-live', 'polite');
-    this.node.append(this._datalist, this._empty, this._rows, this._apply, this._preview);
+    this._unused = textElement('p', 'pd-Binning-unused pd-mod-warning');
+    this._unused.setAttribute('role', 'status');
+    this.node.append(this._datalist, this._unused, this._empty, this._rows, this._apply, this._preview);
     this.render();
   }
 
   /** Redraw from the model. */
   protected render(): void {
     const names = this.model.names;
+    const unused = this.model.unusedBecause;
+    this._unused.textContent = unused ?? '';
+    this._unused.hidden = unused === null;
     this._empty.hidden = names.length > 0;
     this._apply.hidden = names.length === 0;
     const key = JSON.stringify(names);
@@ -144,6 +149,7 @@ export class BinningView extends SectionView<BinningModel> {
   private _rows: HTMLElement;
   private _apply: HTMLButtonElement;
   private _preview: HTMLElement;
+  private _unused: HTMLElement;
   private _fields = new Map<string, { input: HTMLInputElement; problem: HTMLElement; outcome: HTMLElement; row: HTMLElement }>();
   private _key = '';
   private _drawn: IColumnPreview | null = null;

@@ -9,7 +9,7 @@ import type { EstimatorName, Units } from '../../engine/types';
 import type { AnalysisModel } from '../analysis/model';
 import { labelledSelect, textElement, uniqueId, type ILabelledSelect } from '../dom';
 import { formatAdequacy } from '../results/format';
-import { ADEQUACY_CAUTION, ESTIMATOR_CHOICES } from './model';
+import { ADEQUACY_CAUTION, COPULA_NOTE, ESTIMATOR_CHOICES } from './model';
 
 /** Shows the estimator choices of an {@link AnalysisModel}. */
 export class EstimatorView extends Widget {
@@ -54,7 +54,8 @@ export class EstimatorView extends Widget {
     this._clamp.setAttribute('role', 'status');
     this._clamp.hidden = true;
     this._adequacy = textElement('p', 'pd-Estimator-adequacy');
-    this.node.append(this._estimator.row, this._units.row, orderRow, this._clamp, this._count, this._adequacy);
+    this._copula = textElement('p', 'pd-Estimator-copula', COPULA_NOTE);
+    this.node.append(this._estimator.row, this._copula, this._units.row, orderRow, this._clamp, this._count, this._adequacy);
     this._model.changed.connect(this._render, this);
     this._model.estimator.changed.connect(this._render, this);
     this._render();
@@ -74,6 +75,7 @@ export class EstimatorView extends Widget {
     const model = this._model;
     this._estimator.select.value = model.estimator.estimator;
     this._units.select.value = model.estimator.units;
+    this._copula.hidden = model.estimator.estimator !== 'gaussian-copula';
     const columns = model.data.selected.length;
     const order = model.maxOrder;
     this._order.max = String(Math.max(1, columns));
@@ -119,6 +121,7 @@ export class EstimatorView extends Widget {
   private _count: HTMLElement;
   private _clamp: HTMLElement;
   private _adequacy: HTMLElement;
+  private _copula: HTMLElement;
 }
 
 /** The statics of {@link EstimatorView}. */
