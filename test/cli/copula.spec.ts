@@ -68,7 +68,7 @@ describe('polyadic analyze --estimator gaussian-copula', () => {
     expect(one.multiplet_count).toBe(31);
     expect(three.multiplets).toEqual(one.multiplets);
     const triple = one.multiplets.find(row => row.columns.join() === 'x,y,z');
-    expect(triple?.coinformation as number).toBeLessThan(-0.1);
+    expect(triple?.co_information as number).toBeLessThan(-0.1);
   });
 
   it('should run surrogates and bootstrap on worker threads as in one thread', () => {

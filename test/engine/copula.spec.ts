@@ -251,7 +251,7 @@ json.dump({'truth': {'co': co, 'o': tc - dtc, 'tc': tc, 'h1': h([0])}, 'samples'
       expect(triple).toBeDefined();
       return {
         n,
-        co: Math.abs((triple?.coinformation ?? NaN) - convergence.truth.co),
+        co: Math.abs((triple?.co_information ?? NaN) - convergence.truth.co),
         o: Math.abs((triple?.o_information ?? NaN) - convergence.truth.o)
       };
     });
@@ -271,7 +271,7 @@ json.dump({'truth': {'co': co, 'o': tc - dtc, 'tc': tc, 'h1': h([0])}, 'samples'
     const bits = analyze(columns.map((values, c) => numericColumn(`x${c}`, values)), { estimator: 'gaussian-copula' });
     const nats = analyze(columns.map((values, c) => numericColumn(`x${c}`, values)), { estimator: 'gaussian-copula', units: 'nats' });
     expect(bits.estimator).toBe('gaussian-copula');
-    expect(bits.multiplets[6].coinformation).toBeCloseTo(nats.multiplets[6].coinformation / LN2, 12);
+    expect(bits.multiplets[6].co_information).toBeCloseTo(nats.multiplets[6].co_information / LN2, 12);
     for (const column of bits.columns) {
       expect(column.binning).toEqual({ method: 'copula', spec: 'copula' });
       expect(column.bins).toBe(200);
@@ -334,7 +334,7 @@ json.dump({'truth': {'co': co, 'o': tc - dtc, 'tc': tc, 'h1': h([0])}, 'samples'
     const planted = row(['x0', 'x1', 'x2']);
     expect(planted?.p_value).toBeCloseTo(2 / 100, 10);
     expect(planted?.ci_high as number).toBeLessThan(0);
-    expect(planted?.ci_low as number).toBeLessThan(planted?.coinformation as number);
+    expect(planted?.ci_low as number).toBeLessThan(planted?.co_information as number);
     expect(planted?.same_sign).toBe(1);
     // Surrogates destroy dependence: the null of a pair is centred near 0 (within 3 of its spreads).
     const pair = row(['x0', 'noise']);
