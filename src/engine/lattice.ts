@@ -22,6 +22,8 @@ import {
   DEFAULT_MAX_MULTIPLETS,
   forEachInSubtree,
   IMultipletIndexing,
+  sliceOffset,
+  sliceSize,
   subsetsUpTo,
   subtreeSize
 } from './multiplets';
@@ -57,11 +59,16 @@ export interface ILattice {
   occupied: Int32Array;
 }
 
-/** The multiplets whose smallest column is `root`, in the walk's order (see forEachInSubtree). */
+/**
+ * The multiplets whose smallest column is `root`, in the walk's order (see forEachInSubtree),
+ * or a run of them starting at `offset` (a slice, see {@link walkSubtree}).
+ */
 export interface ISubtreeResult {
   root: number;
   entropy: Float64Array;
   occupied: Int32Array;
+  /** Position of the first entry within the subtree's walk order (absent: 0). */
+  offset?: number;
 }
 
 /** Walk the whole lattice in this thread. */
@@ -75,13 +82,24 @@ export function computeLattice(input: ILatticeInput): ILattice {
   return assembleLattice(input, parts);
 }
 
-/** Walk the subtree of multiplets whose smallest column is `root` (one worker's share). */
-export function walkSubtree(input: ILatticeInput, root: number): ISubtreeResult {
+/**
+ * Walk the subtree of multiplets whose smallest column is `root` (one worker's share); or, with
+ * `slices`, only the multiplets whose second column is slices[0] … slices[1] (the slice at
+ * root + 1 holds {root} too; see sliceSize), so that a large subtree is shared by several workers.
+ */
+export function walkSubtree(input: ILatticeInput, root: number, slices?: [number, number]): ISubtreeResult {
   const prepared = prepareInput(input);
   if (!(root >= 0 && root < prepared.n && Number.isInteger(root))) {
     throw new PolyadicError('internal', `No column ${root} to start a subtree at.`);
   }
-  return new Private.Walker(prepared).walk(root);
+  if (slices === undefined) {
+    return new Private.Walker(prepared).walk(root);
+  }
+  const [from, to] = slices;
+  if (!(Number.isInteger(from) && Number.isInteger(to) && root < from && from <= to && to < prepared.n && prepared.m >= 2)) {
+    throw new PolyadicError('internal', `No slices ${from} … ${to} of subtree ${root} in ${prepared.n} columns up to order ${prepared.m}.`);
+  }
+  return new Private.Walker(prepared).walkSlices(root, from, to);
 }
 
 /** Put subtree results (one per first column, any order) into one lattice. */
@@ -92,25 +110,40 @@ export function assembleLattice(input: ILatticeInput, parts: ISubtreeResult[]): 
   const entropy = new Float64Array(indexing.size);
   const occupied = new Int32Array(indexing.size);
   occupied[0] = rows > 0 ? 1 : 0;
-  const seen = new Uint8Array(n);
+  const byRoot: ISubtreeResult[][] = Array.from({ length: n }, () => []);
   for (const part of parts) {
-    if (seen[part.root]) {
-      throw new PolyadicError('internal', `Subtree ${part.root} given twice.`);
+    if (!(part.root >= 0 && part.root < n)) {
+      throw new PolyadicError('internal', `Subtree ${part.root} is outside columns 0 … ${n - 1}.`);
     }
-    seen[part.root] = 1;
-    if (part.entropy.length !== subtreeSize(indexing, part.root)) {
-      throw new PolyadicError('internal', `Subtree ${part.root} has ${part.entropy.length} entries.`);
+    byRoot[part.root].push(part);
+  }
+  for (let root = 0; root < n; root++) {
+    // The parts of a subtree, by offset, must tile it exactly.
+    const pieces = byRoot[root].sort((a, b) => (a.offset ?? 0) - (b.offset ?? 0));
+    if (pieces.length === 0) {
+      throw new PolyadicError('internal', `Subtree ${root} missing from the lattice.`);
     }
+    let covered = 0;
+    for (const piece of pieces) {
+      if ((piece.offset ?? 0) !== covered) {
+        throw new PolyadicError('internal', `Subtree ${root} given twice or with a gap at entry ${covered}.`);
+      }
+      covered += piece.entropy.length;
+    }
+    if (covered !== subtreeSize(indexing, root)) {
+      throw new PolyadicError('internal', `Subtree ${root} has ${covered} entries.`);
+    }
+    let piece = 0;
     let position = 0;
-    forEachInSubtree(indexing, part.root, index => {
-      entropy[index] = part.entropy[position];
-      occupied[index] = part.occupied[position];
+    forEachInSubtree(indexing, root, index => {
+      while (position === pieces[piece].entropy.length) {
+        piece++;
+        position = 0;
+      }
+      entropy[index] = pieces[piece].entropy[position];
+      occupied[index] = pieces[piece].occupied[position];
       position++;
     });
-  }
-  const missing = seen.indexOf(0);
-  if (missing >= 0) {
-    throw new PolyadicError('internal', `Subtree ${missing} missing from the lattice.`);
   }
   return { indexing, estimator: input.estimator, rows, bins: input.bins.slice(), entropy, occupied };
 }
@@ -530,6 +563,13 @@ function countTables(rows: number): ICountTables {
 }
 
 namespace Private {
+  /** What the subtree below a counted multiplet needs. */
+  export const enum Below {
+    none,
+    fill,
+    walk
+  }
+
   /** Largest key range tallied through a table; larger ones use a Map. */
   const TABLE_LIMIT = 1 << 22;
 
@@ -558,6 +598,38 @@ namespace Private {
     /** Entropies and occupied cells of the subtree of `root`, in the walk's order. */
     walk(root: number): ISubtreeResult {
       const size = subtreeSize(this._p.indexing, root);
+      this._start(size);
+      this._visit(1, root);
+      this._check(size, `Subtree ${root}`);
+      return { root, entropy: this._entropy, occupied: this._occupied };
+    }
+
+    /**
+     * The slices of the subtree of `root` whose second column is `from` … `to`: {root} is
+     * computed (and recorded when the first slice is among them), then each {root, second} and
+     * its subtree, exactly as the whole walk computes them.
+     */
+    walkSlices(root: number, from: number, to: number): ISubtreeResult {
+      const indexing = this._p.indexing;
+      let size = 0;
+      for (let second = from; second <= to; second++) {
+        size += sliceSize(indexing, root, second);
+      }
+      this._start(size);
+      const below = this._count(1, root, from === root + 1);
+      for (let second = from; second <= to; second++) {
+        if (below === Below.walk) {
+          this._visit(2, second);
+        } else {
+          // {root} has every row alone: the slice is filled, as the whole walk fills the subtree.
+          this._fillDistinct(1, root, second);
+        }
+      }
+      this._check(size, `Slices ${from} … ${to} of subtree ${root}`);
+      return { root, entropy: this._entropy, occupied: this._occupied, offset: sliceOffset(indexing, root, from) };
+    }
+
+    private _start(size: number): void {
       this._entropy = new Float64Array(size);
       this._occupied = new Int32Array(size);
       this._position = 0;
@@ -565,15 +637,32 @@ namespace Private {
       this._labelCount[0] = this._p.rows > 0 ? 1 : 0;
       this._dropped[0] = 0;
       this._possible[0] = 1;
-      this._visit(1, root);
+    }
+
+    private _check(size: number, what: string): void {
       if (this._position !== size) {
-        throw new PolyadicError('internal', `Subtree ${root} wrote ${this._position} of ${size} entries.`);
+        throw new PolyadicError('internal', `${what} wrote ${this._position} of ${size} entries.`);
       }
-      return { root, entropy: this._entropy, occupied: this._occupied };
     }
 
     /** Compute the multiplet (parent at level − 1) ∪ {column}, then its subtree. */
     private _visit(level: number, column: number): void {
+      const next = this._count(level, column, true);
+      if (next === Below.walk) {
+        for (let child = column + 1; child < this._p.n; child++) {
+          this._visit(level + 1, child);
+        }
+      } else if (next === Below.fill) {
+        this._fillDistinct(level, column);
+      }
+    }
+
+    /**
+     * Count the multiplet (parent at level − 1) ∪ {column}, record it when asked, and say what
+     * its subtree needs: nothing (a leaf), a fill (every row alone), or a walk, for which the
+     * active rows and labels of this level are ready.
+     */
+    private _count(level: number, column: number, record: boolean): Below {
       const p = this._p;
       const parent = level - 1;
       const parentActive = this._active[parent];
@@ -611,7 +700,9 @@ namespace Private {
       }
       const blocks = stats[0];
       const singletons = stats[1];
-      this._record(blocks, dropped, singletons, stats[2], possible);
+      if (record) {
+        this._record(blocks, dropped, singletons, stats[2], possible);
+      }
       if (!direct) {
         // Renumber the kept labels densely.
         if (descend) {
@@ -622,11 +713,10 @@ namespace Private {
         counts.fill(0, 0, blocks);
       }
       if (!descend) {
-        return;
+        return Below.none;
       }
       if (singletons === blocks && p.fillDistinct) {
-        this._fillDistinct(level, column);
-        return;
+        return Below.fill;
       }
       const active = this._level(level);
       this._activeCount[level] = keepMapped(
@@ -639,9 +729,7 @@ namespace Private {
       );
       this._labelCount[level] = newLabels;
       this._dropped[level] = p.dropSingletons ? dropped + singletons : dropped;
-      for (let next = column + 1; next < p.n; next++) {
-        this._visit(level + 1, next);
-      }
+      return Below.walk;
     }
 
     /** Estimate the entropy of the node just counted and write it at the next position. */
@@ -663,8 +751,9 @@ namespace Private {
      * Every row is alone in its cell at this node: each superset in the subtree has N
      * singleton cells. Plug-in, Miller–Madow and Chao–Shen then give one value for all of them;
      * shrinkage depends on each superset's possible cells, so it visits them in walk order.
+     * With `only`, just the child with that column and its subtree (a slice).
      */
-    private _fillDistinct(level: number, column: number): void {
+    private _fillDistinct(level: number, column: number, only?: number): void {
       const p = this._p;
       const rows = p.rows;
       const summary = this._summary;
@@ -677,26 +766,33 @@ namespace Private {
       if (p.estimator !== 'shrinkage') {
         summary.possibleCells = this._possible[level];
         const value = entropyNats(p.estimator, summary, needsCounts(p.estimator) ? cells : undefined);
-        const count = subsetsUpTo(p.indexing, p.n - 1 - column, p.m - level) - 1;
+        const count =
+          only === undefined
+            ? subsetsUpTo(p.indexing, p.n - 1 - column, p.m - level) - 1
+            : subsetsUpTo(p.indexing, p.n - 1 - only, p.m - level - 1);
         const start = this._position;
         this._entropy.fill(value, start, start + count);
         this._occupied.fill(rows, start, start + count);
         this._position += count;
         return;
       }
-      const descend = (depth: number, last: number, possible: number): void => {
-        for (let next = last + 1; next < p.n; next++) {
+      const descend = (depth: number, from: number, to: number, possible: number): void => {
+        for (let next = from; next < to; next++) {
           const product = possible * p.bins[next];
           summary.possibleCells = product;
           const position = this._position++;
           this._entropy[position] = entropyNats(p.estimator, summary, cells);
           this._occupied[position] = rows;
           if (depth + 1 < p.m) {
-            descend(depth + 1, next, product);
+            descend(depth + 1, next + 1, p.n, product);
           }
         }
       };
-      descend(level, column, this._possible[level]);
+      if (only === undefined) {
+        descend(level, column + 1, p.n, this._possible[level]);
+      } else {
+        descend(level, only, only + 1, this._possible[level]);
+      }
     }
 
     /** The active-row array of a level, allocated on first use. */
