@@ -424,7 +424,9 @@ export class EnginePool {
         continue;
       }
       const planned = run.units[run.next++];
-      const unit: IWorkUnit = { first: planned.first, last: planned.last };
+      const unit: IWorkUnit = planned.slices
+        ? { first: planned.first, last: planned.last, slices: planned.slices }
+        : { first: planned.first, last: planned.last };
       const id = this._nextId();
       const transfer = new TransferList();
       let withCodes: ILatticeInput | undefined;

@@ -4,7 +4,9 @@
  * The subtree of multiplets whose smallest column is r involves only columns r … n − 1, so a unit
  * is walked on the input cut down to those columns: the walk's preparation (renumbering every
  * column's codes) then costs n − r columns, not n. The small subtrees at the end are walked
- * together as one lattice of the last columns, with one preparation.
+ * together as one lattice of the last columns, with one preparation. A subtree larger than a
+ * unit should be (in a full lattice, subtree 0 is half of it) is cut into runs of its slices by
+ * second column, so that two or more workers share it evenly.
  *
  * Splitting never changes a value: each subtree is walked with the same codes, the same rows in
  * the same order and the same arithmetic as in one whole walk, so the assembled lattice is the
@@ -14,7 +16,7 @@
 
 import { PolyadicError } from '../engine/errors';
 import { computeLattice, ILatticeInput, ISubtreeResult, walkSubtree } from '../engine/lattice';
-import { forEachInSubtree, IMultipletIndexing, subtreeSize } from '../engine/multiplets';
+import { forEachInSubtree, IMultipletIndexing, sliceSize, subtreeSize } from '../engine/multiplets';
 import type { IWorkUnit } from './protocol';
 
 /**
@@ -29,9 +31,11 @@ export interface IPlannedUnit extends IWorkUnit {
 }
 
 /**
- * Split a lattice into units, largest first (ties: smaller first column first). Every subtree
- * with more than a 1/(UNITS_PER_WORKER · workers) share of the multiplets is a unit of its own;
- * the trailing subtrees below that share form one tail unit.
+ * Split a lattice into units, largest first (ties: smaller first column first). The grain is a
+ * 1/(UNITS_PER_WORKER · workers) share of the multiplets. Every subtree above two grains is cut
+ * into runs of its slices by second column, each run as many slices as fit one grain (at least
+ * one); the other subtrees are units of their own, but the trailing ones within one grain form
+ * one tail.
  */
 export function planUnits(indexing: IMultipletIndexing, workers: number): IPlannedUnit[] {
   const n = indexing.columnCount;
@@ -51,16 +55,38 @@ export function planUnits(indexing: IMultipletIndexing, workers: number): IPlann
   }
   const units: IPlannedUnit[] = [];
   for (let root = 0; root < tail; root++) {
-    units.push({ first: root, last: root, multiplets: sizes[root] });
+    if (sizes[root] <= 2 * grain || indexing.maxOrder < 2 || root === n - 1) {
+      units.push({ first: root, last: root, multiplets: sizes[root] });
+      continue;
+    }
+    let from = root + 1;
+    let run = 0;
+    for (let second = root + 1; second < n; second++) {
+      const size = sliceSize(indexing, root, second);
+      if (run > 0 && run + size > grain) {
+        units.push({ first: root, last: root, slices: [from, second - 1], multiplets: run });
+        from = second;
+        run = 0;
+      }
+      run += size;
+    }
+    units.push({ first: root, last: root, slices: [from, n - 1], multiplets: run });
   }
   if (tail < n) {
     units.push({ first: tail, last: n - 1, multiplets: tailSize });
   }
-  return units.sort((a, b) => b.multiplets - a.multiplets || a.first - b.first);
+  return units.sort((a, b) => b.multiplets - a.multiplets || a.first - b.first || (a.slices?.[0] ?? 0) - (b.slices?.[0] ?? 0));
 }
 
 /** Number of multiplets of a unit. */
 export function unitMultiplets(indexing: IMultipletIndexing, unit: IWorkUnit): number {
+  if (unit.slices) {
+    let total = 0;
+    for (let second = unit.slices[0]; second <= unit.slices[1]; second++) {
+      total += sliceSize(indexing, unit.first, second);
+    }
+    return total;
+  }
   let total = 0;
   for (let root = unit.first; root <= unit.last; root++) {
     total += subtreeSize(indexing, root);
@@ -74,6 +100,14 @@ export function walkUnit(input: ILatticeInput, unit: IWorkUnit): ISubtreeResult[
   const { first, last } = unit;
   if (!(Number.isInteger(first) && Number.isInteger(last) && first >= 0 && first <= last && last < n)) {
     throw new PolyadicError('internal', `Work unit ${first} … ${last} is not within columns 0 … ${n - 1}.`);
+  }
+  if (unit.slices) {
+    if (first !== last) {
+      throw new PolyadicError('internal', `Slices of work unit ${first} … ${last}, which is not one subtree.`);
+    }
+    // Second columns counted from `first` in the cut input; the offset within the subtree is the same.
+    const part = walkSubtree(Private.from(input, first), 0, [unit.slices[0] - first, unit.slices[1] - first]);
+    return [{ root: first, entropy: part.entropy, occupied: part.occupied, offset: part.offset }];
   }
   if (last === n - 1 && first < last) {
     // The tail: one walk over the last columns, then cut into subtrees in the walk's order.
