@@ -496,6 +496,87 @@ function tallyByKey(
   return met;
 }
 
+/** Largest key range tallied by {@link tallySmall}. */
+const SMALL_RANGE = 1024;
+
+/**
+ * {@link countByKey} (with `keys`) or {@link tallyByKey} (without) for key ranges up to
+ * SMALL_RANGE, where few cells take many rows: consecutive rows then often share a key, and each
+ * increment would wait for the one before. Rows go to four tallies in turn instead (`quarters`,
+ * 4 × SMALL_RANGE, all zero), summed into `byKey` afterwards; the keys in order of first
+ * appearance then come from the first rows, until every occupied key is met (`met`, all zero,
+ * marks them). The result is the same as the single tally's: counts in `byKey` and keys in
+ * `touched` in order of first appearance; `quarters` and `met` are left zero.
+ */
+function tallySmall(
+  active: Int32Array,
+  parentLabels: Int32Array,
+  activeCount: number,
+  code: CodeArray,
+  K: number,
+  range: number,
+  keys: Int32Array | null,
+  quarters: Int32Array,
+  met: Uint8Array,
+  byKey: Int32Array,
+  touched: Int32Array
+): number {
+  let q = 0;
+  if (keys === null) {
+    for (; q + 4 <= activeCount; q += 4) {
+      quarters[parentLabels[q] * K + code[active[q]]]++;
+      quarters[SMALL_RANGE + parentLabels[q + 1] * K + code[active[q + 1]]]++;
+      quarters[2 * SMALL_RANGE + parentLabels[q + 2] * K + code[active[q + 2]]]++;
+      quarters[3 * SMALL_RANGE + parentLabels[q + 3] * K + code[active[q + 3]]]++;
+    }
+  } else {
+    for (; q + 4 <= activeCount; q += 4) {
+      const key0 = parentLabels[q] * K + code[active[q]];
+      const key1 = parentLabels[q + 1] * K + code[active[q + 1]];
+      const key2 = parentLabels[q + 2] * K + code[active[q + 2]];
+      const key3 = parentLabels[q + 3] * K + code[active[q + 3]];
+      keys[q] = key0;
+      keys[q + 1] = key1;
+      keys[q + 2] = key2;
+      keys[q + 3] = key3;
+      quarters[key0]++;
+      quarters[SMALL_RANGE + key1]++;
+      quarters[2 * SMALL_RANGE + key2]++;
+      quarters[3 * SMALL_RANGE + key3]++;
+    }
+  }
+  for (; q < activeCount; q++) {
+    const key = parentLabels[q] * K + code[active[q]];
+    if (keys !== null) {
+      keys[q] = key;
+    }
+    quarters[key]++;
+  }
+  let occupied = 0;
+  for (let key = 0; key < range; key++) {
+    const count =
+      quarters[key] + quarters[SMALL_RANGE + key] + quarters[2 * SMALL_RANGE + key] + quarters[3 * SMALL_RANGE + key];
+    quarters[key] = 0;
+    quarters[SMALL_RANGE + key] = 0;
+    quarters[2 * SMALL_RANGE + key] = 0;
+    quarters[3 * SMALL_RANGE + key] = 0;
+    byKey[key] = count;
+    occupied += count > 0 ? 1 : 0;
+  }
+  let found = 0;
+  for (let r = 0; found < occupied; r++) {
+    const key = parentLabels[r] * K + code[active[r]];
+    if (met[key] === 0) {
+      met[key] = 1;
+      touched[found++] = key;
+    }
+  }
+  for (let t = 0; t < found; t++) {
+    met[touched[t]] = 0;
+  }
+  return found;
+}
+
 /**
  * Scan the keys met once (in order of first appearance): number of occupied cells, singletons
  * and Σ n·ln n into `stats`; the counts into `counts` when given (estimators that read them);
@@ -685,7 +766,11 @@ namespace Private {
         direct = true;
         const byKey = this._tallyTable(range);
         const touched = this._touched;
-        if (descend) {
+        if (range <= SMALL_RANGE) {
+          const keys = descend ? this._scratchLabel : null;
+          const met = tallySmall(parentActive, parentLabels, parentCount, p.dense[column], K, range, keys, this._quarters, this._met, byKey, touched);
+          newLabels = scanKeys(byKey, touched, met, this._tables, stats, compact, descend ? this._remap : null, keeps);
+        } else if (descend) {
           const met = countByKey(parentActive, parentLabels, parentCount, p.dense[column], K, this._scratchLabel, byKey, touched);
           newLabels = scanKeys(byKey, touched, met, this._tables, stats, compact, this._remap, keeps);
         } else {
@@ -824,6 +909,9 @@ namespace Private {
     private _scratchLabel: Int32Array;
     private _counts: Int32Array;
     private _byKey = new Int32Array(0);
+    /** Scratch of {@link tallySmall}. */
+    private _quarters = new Int32Array(4 * SMALL_RANGE);
+    private _met = new Uint8Array(SMALL_RANGE);
     private _remap: Int32Array;
     /** Keys met by the current node, in order of first appearance. */
     private _touched: Int32Array;

@@ -163,6 +163,27 @@ describe('lattice', () => {
       );
     });
 
+    it('should give the same counts on both sides of the small-range tally (1,024 keys)', () => {
+      // Pairs of columns of 30 and 40 codes: key ranges 30 · 30 = 900 (four interleaved
+      // tallies) and 40 · 40 = 1600 (one table), with repeated and lone rows, every estimator.
+      const rows = 3000;
+      for (const K of [30, 40]) {
+        const a = Int32Array.from({ length: rows }, (_, i) => (i * 7) % K);
+        const b = Int32Array.from({ length: rows }, (_, i) => ((i * i) >> 3) % K);
+        const c = Int32Array.from({ length: rows }, (_, i) => (i >> 4) % 3);
+        const codes = [a, b, c];
+        const bins = [K, K, 3];
+        for (const estimator of ESTIMATORS) {
+          const lattice = computeLattice({ codes, bins, maxOrder: 3, estimator });
+          for (const members of subsetsOf(3)) {
+            const index = indexOfColumns(lattice.indexing, members);
+            expect(lattice.entropy[index]).toBeCloseTo(naive(codes, bins, members, estimator), 11);
+            expect(lattice.occupied[index]).toBe(naiveCounts(codes, members).length);
+          }
+        }
+      }
+    });
+
     it('should count every row whatever the row count modulo the unrolled loops', () => {
       // 1 … 13 rows: each remainder of the four-row loops, with repeated and lone rows.
       for (let rows = 1; rows <= 13; rows++) {
