@@ -7,8 +7,9 @@
  * For each: the engine's walk on all cores (worker threads walking the units the CLI's pool
  * plans, src/worker/units.ts), the bare pass on all cores over the same units (per multiplet one
  * plain loop over every row: child label = parent label · K + code, no counting), the numpy
- * baseline (np.unique per multiplet, bench/numpy_baseline.py; timed on the first multiplets and
- * extrapolated when the whole lattice would take too long), and the whole CLI run on the CSV
+ * baselines (np.unique per multiplet on one combined int64 code, and np.unique(axis=0) on the
+ * stacked columns, bench/numpy_baseline.py; timed on the first multiplets of the walk's order and
+ * extrapolated by the multiplet count), and the whole CLI run on the CSV
  * file with its peak memory (GNU time). Prints one table and one JSON line; asserts nothing.
  *
  * Options: --threads N (default: all cores), --repeats R (default 3), --only a|b|c,
@@ -179,14 +180,16 @@ function median(values) {
   return sorted.length % 2 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2;
 }
 
-function runNumpy(python, testCase, codes) {
+function runNumpy(python, testCase, codes, variant) {
   const dataPath = join(results, `walk-${testCase.name}.arrow`);
   const edgesPath = join(results, `walk-${testCase.name}.edges.json`);
   const columns = names(codes.length);
   writeFileSync(dataPath, tableToIPC(tableFromArrays(Object.fromEntries(columns.map((name, j) => [name, Float64Array.from(codes[j])]))), 'file'));
   // Integer codes 0 … 3 binned as they are: [−0.5, 0.5), [0.5, 1.5), …
   writeFileSync(edgesPath, JSON.stringify(Object.fromEntries(columns.map(name => [name, [-0.5, 0.5, 1.5, 2.5, 3.5]]))));
-  const done = spawnSync(python, [join(root, 'bench', 'numpy_baseline.py'), dataPath, edgesPath, String(testCase.maxOrder), '1', String(testCase.numpyLimit)], {
+  const limit = variant === 'rows' ? Math.ceil(testCase.numpyLimit / 10) : testCase.numpyLimit;
+  const args = [join(root, 'bench', 'numpy_baseline.py'), dataPath, edgesPath, String(testCase.maxOrder), '1', String(limit), variant];
+  const done = spawnSync(python, args, {
     encoding: 'utf8',
     maxBuffer: 1 << 30
   });
@@ -255,13 +258,17 @@ for (const testCase of CASES) {
   };
   row.walk_over_bare = row.walk_s / row.bare_s;
   if (withNumpy) {
-    const numpy = runNumpy(python, testCase, codes);
-    if (numpy.error) {
-      row.numpy_error = numpy.error;
-    } else {
-      row.numpy_multiplets_timed = numpy.multiplets;
-      row.numpy_s = (numpy.median_ms / 1000) * (multiplets / numpy.multiplets);
-      row.numpy_over_walk = row.numpy_s / row.walk_s;
+    // Two numpy loops: one combined int64 code per row (bench/numpy_baseline.py's default), and
+    // np.unique(axis=0) over the stacked columns (the plain way).
+    for (const [variant, key] of [['codes', 'numpy'], ['rows', 'numpy_rows']]) {
+      const numpy = runNumpy(python, testCase, codes, variant);
+      if (numpy.error) {
+        row[`${key}_error`] = numpy.error;
+      } else {
+        row[`${key}_multiplets_timed`] = numpy.multiplets;
+        row[`${key}_s`] = (numpy.median_ms / 1000) * (multiplets / numpy.multiplets);
+        row[`${key}_over_walk`] = row[`${key}_s`] / row.walk_s;
+      }
     }
   }
   if (!flags['no-cli']) {
@@ -281,13 +288,21 @@ for (const testCase of CASES) {
 const machine = { node: process.version, cpus: cpus().length, threads, load_at_start: loadAtStart, load_at_end: loadavg()[0], source };
 writeFileSync(join(results, 'walk.json'), JSON.stringify({ ...machine, cases: rows }, null, 2));
 const f = (value, digits = 2) => (value === undefined || value === null ? '—' : value.toFixed(digits));
-console.log(`\n| case | multiplets | walk s (${threads} threads) | bare pass s | walk / bare | numpy s | numpy / walk | CLI run s | CLI peak MB |`);
-console.log('|---|---|---|---|---|---|---|---|---|');
+console.log(
+  `\n| case | multiplets | walk s (${threads} threads) | bare pass s | walk / bare | numpy s, int64 codes | numpy / walk | ` +
+    `numpy s, unique(axis=0) | numpy / walk | CLI run s | CLI peak MB |`
+);
+console.log('|---|---|---|---|---|---|---|---|---|---|---|');
+const numpyCell = (row, key) =>
+  row[`${key}_s`] === undefined
+    ? row[`${key}_error`] ?? '—'
+    : `${f(row[`${key}_s`], 0)}${row[`${key}_multiplets_timed`] < row.multiplets ? ` (from ${row[`${key}_multiplets_timed`]})` : ''}`;
+const ratioCell = (row, key) => (row[`${key}_over_walk`] === undefined ? '—' : f(row[`${key}_over_walk`], 0) + '×');
 for (const row of rows) {
-  const numpy = row.numpy_s === undefined ? row.numpy_error ?? '—' : `${f(row.numpy_s, 0)}${row.numpy_multiplets_timed < row.multiplets ? ` (from ${row.numpy_multiplets_timed})` : ''}`;
   console.log(
-    `| ${row.label} | ${row.multiplets.toLocaleString('en')} | ${f(row.walk_s)} | ${f(row.bare_s)} | ${f(row.walk_over_bare)}× | ${numpy} | ` +
-      `${row.numpy_over_walk === undefined ? '—' : f(row.numpy_over_walk, 0) + '×'} | ${row.cli_error ?? f(row.cli_s)} | ${f(row.cli_peak_mb, 0)} |`
+    `| ${row.label} | ${row.multiplets.toLocaleString('en')} | ${f(row.walk_s)} | ${f(row.bare_s)} | ${f(row.walk_over_bare)}× | ` +
+      `${numpyCell(row, 'numpy')} | ${ratioCell(row, 'numpy')} | ${numpyCell(row, 'numpy_rows')} | ${ratioCell(row, 'numpy_rows')} | ` +
+      `${row.cli_error ?? f(row.cli_s)} | ${f(row.cli_peak_mb, 0)} |`
   );
 }
 console.log(

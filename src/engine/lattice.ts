@@ -88,18 +88,36 @@ export function computeLattice(input: ILatticeInput): ILattice {
  * root + 1 holds {root} too; see sliceSize), so that a large subtree is shared by several workers.
  */
 export function walkSubtree(input: ILatticeInput, root: number, slices?: [number, number]): ISubtreeResult {
+  return subtreeWalker(input)(root, slices);
+}
+
+/** Walks subtrees and slices of one input, prepared once (see {@link subtreeWalker}). */
+export type SubtreeWalk = (root: number, slices?: [number, number]) => ISubtreeResult;
+
+/**
+ * {@link walkSubtree} for many subtrees or slices of one input: the input is checked and its
+ * codes renumbered once, and one walker's buffers serve every call (a worker's units of a run).
+ */
+export function subtreeWalker(input: ILatticeInput): SubtreeWalk {
   const prepared = prepareInput(input);
+  let walker: Private.Walker | null = null;
+  return (root, slices) => {
+    checkSubtree(prepared, root, slices);
+    walker ??= new Private.Walker(prepared);
+    return slices === undefined ? walker.walk(root) : walker.walkSlices(root, slices[0], slices[1]);
+  };
+}
+
+function checkSubtree(prepared: IPrepared, root: number, slices: [number, number] | undefined): void {
   if (!(root >= 0 && root < prepared.n && Number.isInteger(root))) {
     throw new PolyadicError('internal', `No column ${root} to start a subtree at.`);
   }
-  if (slices === undefined) {
-    return new Private.Walker(prepared).walk(root);
+  if (slices !== undefined) {
+    const [from, to] = slices;
+    if (!(Number.isInteger(from) && Number.isInteger(to) && root < from && from <= to && to < prepared.n && prepared.m >= 2)) {
+      throw new PolyadicError('internal', `No slices ${from} … ${to} of subtree ${root} in ${prepared.n} columns up to order ${prepared.m}.`);
+    }
   }
-  const [from, to] = slices;
-  if (!(Number.isInteger(from) && Number.isInteger(to) && root < from && from <= to && to < prepared.n && prepared.m >= 2)) {
-    throw new PolyadicError('internal', `No slices ${from} … ${to} of subtree ${root} in ${prepared.n} columns up to order ${prepared.m}.`);
-  }
-  return new Private.Walker(prepared).walkSlices(root, from, to);
 }
 
 /** Put subtree results (one per first column, any order) into one lattice. */

@@ -1,10 +1,9 @@
 /**
  * Work units of a lattice walk: how a pool splits the walk, and how one unit is walked.
  *
- * The subtree of multiplets whose smallest column is r involves only columns r … n − 1, so a unit
- * is walked on the input cut down to those columns: the walk's preparation (renumbering every
- * column's codes) then costs n − r columns, not n. The small subtrees at the end are walked
- * together as one lattice of the last columns, with one preparation. A subtree larger than a
+ * A worker prepares a run's input once (renumbering every column's codes) and walks each of its
+ * subtree units with the same walker. The small subtrees at the end are walked together as one
+ * lattice of the last columns (they involve only those). A subtree larger than a
  * unit should be (in a full lattice, subtree 0 is half of it) is cut into runs of its slices by
  * second column, so that two or more workers share it evenly.
  *
@@ -15,7 +14,7 @@
  */
 
 import { PolyadicError } from '../engine/errors';
-import { computeLattice, ILatticeInput, ISubtreeResult, walkSubtree } from '../engine/lattice';
+import { computeLattice, ILatticeInput, ISubtreeResult, SubtreeWalk, subtreeWalker } from '../engine/lattice';
 import { forEachInSubtree, IMultipletIndexing, sliceSize, subtreeSize } from '../engine/multiplets';
 import type { IWorkUnit } from './protocol';
 
@@ -105,9 +104,7 @@ export function walkUnit(input: ILatticeInput, unit: IWorkUnit): ISubtreeResult[
     if (first !== last) {
       throw new PolyadicError('internal', `Slices of work unit ${first} … ${last}, which is not one subtree.`);
     }
-    // Second columns counted from `first` in the cut input; the offset within the subtree is the same.
-    const part = walkSubtree(Private.from(input, first), 0, [unit.slices[0] - first, unit.slices[1] - first]);
-    return [{ root: first, entropy: part.entropy, occupied: part.occupied, offset: part.offset }];
+    return [Private.walkerOf(input)(first, unit.slices)];
   }
   if (last === n - 1 && first < last) {
     // The tail: one walk over the last columns, then cut into subtrees in the walk's order.
@@ -120,13 +117,27 @@ export function walkUnit(input: ILatticeInput, unit: IWorkUnit): ISubtreeResult[
   }
   const parts: ISubtreeResult[] = [];
   for (let root = first; root <= last; root++) {
-    const part = walkSubtree(Private.from(input, root), 0);
-    parts.push({ root, entropy: part.entropy, occupied: part.occupied });
+    parts.push(Private.walkerOf(input)(root));
   }
   return parts;
 }
 
 namespace Private {
+  /**
+   * One walker per input, prepared on its first unit: a worker walks many units of a run's
+   * input, and renumbering every column's codes once is cheaper than once per unit.
+   */
+  const walkers = new WeakMap<ILatticeInput, SubtreeWalk>();
+
+  export function walkerOf(input: ILatticeInput): SubtreeWalk {
+    let walk = walkers.get(input);
+    if (!walk) {
+      walk = subtreeWalker(input);
+      walkers.set(input, walk);
+    }
+    return walk;
+  }
+
   /** The input cut down to columns `first` … n − 1 (the arrays are shared, not copied). */
   export function from(input: ILatticeInput, first: number): ILatticeInput {
     return { ...input, codes: input.codes.slice(first), bins: input.bins.slice(first) };

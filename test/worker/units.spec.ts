@@ -144,7 +144,7 @@ describe('units', () => {
       expect(() => walkUnit(input, { first: 2, last: 4 })).toThrow(PolyadicError);
       expect(() => walkUnit(input, { first: 3, last: 2 })).toThrow('is not within columns 0 … 3');
       expect(() => walkUnit(input, { first: 1, last: 2, slices: [2, 3] })).toThrow('not one subtree');
-      expect(() => walkUnit(input, { first: 1, last: 1, slices: [1, 3] })).toThrow('No slices 0 … 2 of subtree 0');
+      expect(() => walkUnit(input, { first: 1, last: 1, slices: [1, 3] })).toThrow('No slices 1 … 3 of subtree 1');
     });
   });
 });
