@@ -246,3 +246,21 @@ export function subsetsUpTo(indexing: IMultipletIndexing, a: number, k: number):
   }
   return total;
 }
+
+/**
+ * Number of multiplets of the slice of subtree `root` whose two smallest columns are `root` and
+ * `second` (the slice at `root + 1` also holds {root} itself, so the slices of a subtree follow
+ * each other in the walk's order). Needs a maximum order of at least 2.
+ */
+export function sliceSize(indexing: IMultipletIndexing, root: number, second: number): number {
+  return subsetsUpTo(indexing, indexing.columnCount - 1 - second, indexing.maxOrder - 2) + (second === root + 1 ? 1 : 0);
+}
+
+/** Position of the slice's first multiplet within its subtree, in the walk's order (see {@link sliceSize}). */
+export function sliceOffset(indexing: IMultipletIndexing, root: number, second: number): number {
+  let offset = second === root + 1 ? 0 : 1;
+  for (let s = root + 1; s < second; s++) {
+    offset += subsetsUpTo(indexing, indexing.columnCount - 1 - s, indexing.maxOrder - 2);
+  }
+  return offset;
+}

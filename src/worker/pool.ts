@@ -15,6 +15,7 @@
 
 import { PolyadicError } from '../engine/errors';
 import type { ILattice, ILatticeInput, ISubtreeResult } from '../engine/lattice';
+import { isContinuousEstimator } from '../engine/walk';
 import { createIndexing } from '../engine/multiplets';
 import { IResolvedStatistics, resolveStatistics } from '../engine/statistics/options';
 import {
@@ -400,7 +401,7 @@ export class EnginePool {
   private _onPrepared(run: Private.IRun, input: ILatticeInput, multiplets: number): void {
     const n = input.bins.length;
     const indexing = createIndexing(n, Math.min(input.maxOrder, n));
-    run.units = planUnits(indexing, run.slots.length);
+    run.units = planUnits(indexing, run.slots.length, { slices: !isContinuousEstimator(input.estimator) });
     run.multipletsTotal = multiplets;
     run.input = input;
     run.slots[0].holds = run.id;
@@ -424,7 +425,9 @@ export class EnginePool {
         continue;
       }
       const planned = run.units[run.next++];
-      const unit: IWorkUnit = { first: planned.first, last: planned.last };
+      const unit: IWorkUnit = planned.slices
+        ? { first: planned.first, last: planned.last, slices: planned.slices }
+        : { first: planned.first, last: planned.last };
       const id = this._nextId();
       const transfer = new TransferList();
       let withCodes: ILatticeInput | undefined;

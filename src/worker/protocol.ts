@@ -43,12 +43,14 @@ export const MAX_PREVIEW_RESOLUTION = 65536;
 
 /**
  * A work unit: the subtrees of the lattice whose smallest column is `first` … `last` (indices
- * into the selected columns, inclusive). A unit is either one subtree or the tail of subtrees
- * that runs to the last column.
+ * into the selected columns, inclusive). A unit is one subtree, the tail of subtrees that runs
+ * to the last column, or (with `slices`) part of one large subtree.
  */
 export interface IWorkUnit {
   first: number;
   last: number;
+  /** Only the multiplets of subtree `first` (= `last`) whose second column is slices[0] … slices[1]. */
+  slices?: [number, number];
 }
 
 /** Fields every request carries. */

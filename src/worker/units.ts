@@ -1,10 +1,11 @@
 /**
  * Work units of a lattice walk: how a pool splits the walk, and how one unit is walked.
  *
- * The subtree of multiplets whose smallest column is r involves only columns r … n − 1, so a unit
- * is walked on the input cut down to those columns: the walk's preparation (renumbering every
- * column's codes) then costs n − r columns, not n. The small subtrees at the end are walked
- * together as one lattice of the last columns, with one preparation.
+ * A worker prepares a run's input once (renumbering every column's codes) and walks each of its
+ * subtree units with the same walker. The small subtrees at the end are walked together as one
+ * lattice of the last columns (they involve only those). A subtree larger than a
+ * unit should be (in a full lattice, subtree 0 is half of it) is cut into runs of its slices by
+ * second column, so that two or more workers share it evenly.
  *
  * Splitting never changes a value: each subtree is walked with the same codes, the same rows in
  * the same order and the same arithmetic as in one whole walk, so the assembled lattice is the
@@ -13,9 +14,9 @@
  */
 
 import { PolyadicError } from '../engine/errors';
-import type { ILatticeInput, ISubtreeResult } from '../engine/lattice';
-import { walkLattice, walkLatticeSubtree } from '../engine/walk';
-import { forEachInSubtree, IMultipletIndexing, subtreeSize } from '../engine/multiplets';
+import { ILatticeInput, ISubtreeResult, SubtreeWalk, subtreeWalker } from '../engine/lattice';
+import { isContinuousEstimator, walkLattice, walkLatticeSubtree } from '../engine/walk';
+import { forEachInSubtree, IMultipletIndexing, sliceSize, subtreeSize } from '../engine/multiplets';
 import type { IWorkUnit } from './protocol';
 
 /**
@@ -30,11 +31,14 @@ export interface IPlannedUnit extends IWorkUnit {
 }
 
 /**
- * Split a lattice into units, largest first (ties: smaller first column first). Every subtree
- * with more than a 1/(UNITS_PER_WORKER · workers) share of the multiplets is a unit of its own;
- * the trailing subtrees below that share form one tail unit.
+ * Split a lattice into units, largest first (ties: smaller first column first). The grain is a
+ * 1/(UNITS_PER_WORKER · workers) share of the multiplets. Every subtree above two grains is cut
+ * into runs of its slices by second column, each run as many slices as fit one grain (at least
+ * one); the other subtrees are units of their own, but the trailing ones within one grain form
+ * one tail.
  */
-export function planUnits(indexing: IMultipletIndexing, workers: number): IPlannedUnit[] {
+export function planUnits(indexing: IMultipletIndexing, workers: number, options: { slices?: boolean } = {}): IPlannedUnit[] {
+  const sliceable = options.slices ?? true;
   const n = indexing.columnCount;
   const sizes: number[] = [];
   let total = 0;
@@ -52,16 +56,38 @@ export function planUnits(indexing: IMultipletIndexing, workers: number): IPlann
   }
   const units: IPlannedUnit[] = [];
   for (let root = 0; root < tail; root++) {
-    units.push({ first: root, last: root, multiplets: sizes[root] });
+    if (!sliceable || sizes[root] <= 2 * grain || indexing.maxOrder < 2 || root === n - 1) {
+      units.push({ first: root, last: root, multiplets: sizes[root] });
+      continue;
+    }
+    let from = root + 1;
+    let run = 0;
+    for (let second = root + 1; second < n; second++) {
+      const size = sliceSize(indexing, root, second);
+      if (run > 0 && run + size > grain) {
+        units.push({ first: root, last: root, slices: [from, second - 1], multiplets: run });
+        from = second;
+        run = 0;
+      }
+      run += size;
+    }
+    units.push({ first: root, last: root, slices: [from, n - 1], multiplets: run });
   }
   if (tail < n) {
     units.push({ first: tail, last: n - 1, multiplets: tailSize });
   }
-  return units.sort((a, b) => b.multiplets - a.multiplets || a.first - b.first);
+  return units.sort((a, b) => b.multiplets - a.multiplets || a.first - b.first || (a.slices?.[0] ?? 0) - (b.slices?.[0] ?? 0));
 }
 
 /** Number of multiplets of a unit. */
 export function unitMultiplets(indexing: IMultipletIndexing, unit: IWorkUnit): number {
+  if (unit.slices) {
+    let total = 0;
+    for (let second = unit.slices[0]; second <= unit.slices[1]; second++) {
+      total += sliceSize(indexing, unit.first, second);
+    }
+    return total;
+  }
   let total = 0;
   for (let root = unit.first; root <= unit.last; root++) {
     total += subtreeSize(indexing, root);
@@ -76,6 +102,12 @@ export function walkUnit(input: ILatticeInput, unit: IWorkUnit): ISubtreeResult[
   if (!(Number.isInteger(first) && Number.isInteger(last) && first >= 0 && first <= last && last < n)) {
     throw new PolyadicError('internal', `Work unit ${first} … ${last} is not within columns 0 … ${n - 1}.`);
   }
+  if (unit.slices) {
+    if (first !== last) {
+      throw new PolyadicError('internal', `Slices of work unit ${first} … ${last}, which is not one subtree.`);
+    }
+    return [Private.walkerOf(input)(first, unit.slices)];
+  }
   if (last === n - 1 && first < last) {
     // The tail: one walk over the last columns, then cut into subtrees in the walk's order.
     const lattice = walkLattice(Private.from(input, first));
@@ -87,13 +119,36 @@ export function walkUnit(input: ILatticeInput, unit: IWorkUnit): ISubtreeResult[
   }
   const parts: ISubtreeResult[] = [];
   for (let root = first; root <= last; root++) {
-    const part = walkLatticeSubtree(Private.from(input, root), 0);
-    parts.push({ root, entropy: part.entropy, occupied: part.occupied });
+    parts.push(Private.walkerOf(input)(root));
   }
   return parts;
 }
 
 namespace Private {
+  /**
+   * One walker per input, prepared on its first unit: a worker walks many units of a run's
+   * input, and renumbering every column's codes once is cheaper than once per unit.
+   */
+  const walkers = new WeakMap<ILatticeInput, SubtreeWalk>();
+
+  export function walkerOf(input: ILatticeInput): SubtreeWalk {
+    let walk = walkers.get(input);
+    if (!walk) {
+      // the Gaussian copula's walk has no slices: its units are whole subtrees (planUnits with slices off)
+      walk = isContinuousEstimator(input.estimator)
+        ? (root, slices) => {
+            if (slices !== undefined) {
+              throw new PolyadicError('internal', 'The Gaussian-copula walk takes whole subtrees, not slices.');
+            }
+            const part = walkLatticeSubtree(Private.from(input, root), 0);
+            return { root, entropy: part.entropy, occupied: part.occupied };
+          }
+        : subtreeWalker(input);
+      walkers.set(input, walk);
+    }
+    return walk;
+  }
+
   /** The input cut down to columns `first` … n − 1 (the arrays are shared, not copied). */
   export function from(input: ILatticeInput, first: number): ILatticeInput {
     return { ...input, codes: input.codes.slice(first), bins: input.bins.slice(first) };

@@ -10,6 +10,7 @@ import {
   assembleLattice,
   computeLattice,
   ILatticeInput,
+  ISubtreeResult,
   jointEntropyOfCodes,
   walkSubtree
 } from '../../src/engine/lattice';
@@ -22,6 +23,7 @@ import {
   membersOfIndex,
   multipletCount,
   orderOfIndex,
+  sliceSize,
   subtreeSize
 } from '../../src/engine/multiplets';
 import type { EstimatorName } from '../../src/engine/types';
@@ -161,6 +163,41 @@ describe('lattice', () => {
       );
     });
 
+    it('should give the same counts on both sides of the small-range tally (1,024 keys)', () => {
+      // Pairs of columns of 30 and 40 codes: key ranges 30 · 30 = 900 (four interleaved
+      // tallies) and 40 · 40 = 1600 (one table), with repeated and lone rows, every estimator.
+      const rows = 3000;
+      for (const K of [30, 40]) {
+        const a = Int32Array.from({ length: rows }, (_, i) => (i * 7) % K);
+        const b = Int32Array.from({ length: rows }, (_, i) => ((i * i) >> 3) % K);
+        const c = Int32Array.from({ length: rows }, (_, i) => (i >> 4) % 3);
+        const codes = [a, b, c];
+        const bins = [K, K, 3];
+        for (const estimator of ESTIMATORS) {
+          const lattice = computeLattice({ codes, bins, maxOrder: 3, estimator });
+          for (const members of subsetsOf(3)) {
+            const index = indexOfColumns(lattice.indexing, members);
+            expect(lattice.entropy[index]).toBeCloseTo(naive(codes, bins, members, estimator), 11);
+            expect(lattice.occupied[index]).toBe(naiveCounts(codes, members).length);
+          }
+        }
+      }
+    });
+
+    it('should count every row whatever the row count modulo the unrolled loops', () => {
+      // 1 … 13 rows: each remainder of the four-row loops, with repeated and lone rows.
+      for (let rows = 1; rows <= 13; rows++) {
+        const codes = [0, 1, 2].map(c => Int32Array.from({ length: rows }, (_, i) => ((i * (c + 2)) >> 1) % 3));
+        const input: ILatticeInput = { codes, bins: [3, 3, 3], maxOrder: 3, estimator: 'chao-shen' };
+        const lattice = computeLattice(input);
+        for (const members of subsetsOf(3)) {
+          const index = indexOfColumns(lattice.indexing, members);
+          expect(lattice.entropy[index]).toBeCloseTo(naive(codes, input.bins, members, 'chao-shen'), 12);
+          expect(lattice.occupied[index]).toBe(naiveCounts(codes, members).length);
+        }
+      }
+    });
+
     it('should fill every superset of an all-distinct multiplet', () => {
       // Column 0 is a row identifier: every multiplet containing it has N singleton cells.
       const rows = 8;
@@ -213,6 +250,89 @@ describe('lattice', () => {
         ),
         { numRuns: 150 }
       );
+    });
+
+    it('should give bit-identical results when subtrees are cut into slices by second column (property)', () => {
+      fc.assert(
+        fc.property(
+          codedTable(6, 40, 4, 2),
+          fc.constantFrom(...ESTIMATORS),
+          fc.integer({ min: 2, max: 6 }),
+          fc.boolean(),
+          fc.boolean(),
+          fc.integer({ min: 0, max: 1000 }),
+          (table, estimator, order, dropSingletons, fillDistinct, seed) => {
+            const n = table.codes.length;
+            const input: ILatticeInput = { ...table, maxOrder: Math.min(order, n), estimator, dropSingletons, fillDistinct };
+            const whole = computeLattice(input);
+            // Every subtree but the last (a single multiplet) in slices; alternate roots whole.
+            const parts: ISubtreeResult[] = [];
+            for (let root = 0; root < n; root++) {
+              if (root === n - 1 || (root + seed) % 3 === 0) {
+                parts.push(walkSubtree(input, root));
+              } else {
+                // Slices one by one, or the first alone and the rest together.
+                if (seed % 2 === 0) {
+                  for (let second = root + 1; second < n; second++) {
+                    const slice = walkSubtree(input, root, [second, second]);
+                    expect(slice.entropy.length).toBe(sliceSize(whole.indexing, root, second));
+                    parts.push(slice);
+                  }
+                } else {
+                  parts.push(walkSubtree(input, root, [root + 1, root + 1]));
+                  if (root + 2 < n) {
+                    parts.push(walkSubtree(input, root, [root + 2, n - 1]));
+                  }
+                }
+              }
+            }
+            const shuffled = parts
+              .map((part, i) => ({ part, key: (i * 7919 + seed) % 1009 }))
+              .sort((x, y) => x.key - y.key)
+              .map(x => x.part);
+            const split = assembleLattice(input, shuffled);
+            for (let i = 0; i < whole.entropy.length; i++) {
+              expect(Object.is(split.entropy[i], whole.entropy[i])).toBe(true);
+              expect(split.occupied[i]).toBe(whole.occupied[i]);
+            }
+          }
+        ),
+        { numRuns: 150 }
+      );
+    });
+
+    it('should slice a subtree whose first column has every row alone, and a single row', () => {
+      // Column 0 is a row identifier, so {0} fills its subtree; its slices must fill the same values.
+      for (const rows of [1, 7]) {
+        const id = Int32Array.from({ length: rows }, (_, i) => i);
+        const flag = Int32Array.from({ length: rows }, (_, i) => i % 2);
+        const other = Int32Array.from({ length: rows }, (_, i) => i % 3);
+        for (const estimator of ESTIMATORS) {
+          const input: ILatticeInput = { codes: [id, flag, other], bins: [rows, 2, 3], maxOrder: 3, estimator };
+          const whole = computeLattice(input);
+          const parts = [walkSubtree(input, 0, [1, 1]), walkSubtree(input, 0, [2, 2]), walkSubtree(input, 1), walkSubtree(input, 2)];
+          const split = assembleLattice(input, parts);
+          for (let i = 0; i < whole.entropy.length; i++) {
+            expect(Object.is(split.entropy[i], whole.entropy[i])).toBe(true);
+            expect(split.occupied[i]).toBe(whole.occupied[i]);
+          }
+        }
+      }
+    });
+
+    it('should refuse slices that overlap, leave a gap, or do not exist', () => {
+      const table = { codes: [0, 1, 2].map(c => Int32Array.from([0, 1, 1, c % 2])), bins: [2, 2, 2] };
+      const input: ILatticeInput = { ...table, maxOrder: 3, estimator: 'plugin' };
+      const rest = [walkSubtree(input, 1), walkSubtree(input, 2)];
+      expectPolyadic(() => assembleLattice(input, [walkSubtree(input, 0, [2, 2]), ...rest]), 'internal', /gap at entry 0/);
+      expectPolyadic(
+        () => assembleLattice(input, [walkSubtree(input, 0), walkSubtree(input, 0, [2, 2]), ...rest]),
+        'internal',
+        /given twice or with a gap/
+      );
+      expectPolyadic(() => walkSubtree(input, 1, [1, 1]), 'internal', /No slices 1 … 1 of subtree 1/);
+      expectPolyadic(() => walkSubtree(input, 0, [2, 1]), 'internal', /No slices 2 … 1/);
+      expectPolyadic(() => walkSubtree({ ...input, maxOrder: 1 }, 0, [1, 1]), 'internal', /No slices 1 … 1 of subtree 0/);
     });
   });
 });

@@ -12,9 +12,10 @@ import {
   IPreparedResponse,
   IProgressResponse,
   IResultResponse,
+  IWorkUnit,
   PROTOCOL_VERSION
 } from '../../src/worker/protocol';
-import { planUnits, walkUnit } from '../../src/worker/units';
+import { IPlannedUnit, planUnits, walkUnit } from '../../src/worker/units';
 import { createIndexing } from '../../src/engine/multiplets';
 import { makeColumns, runPython } from './helpers';
 
@@ -233,8 +234,10 @@ print(json.dumps(out))
       // A second host plays a helper worker: it gets the codes with its first walk.
       const helper = recordingHost();
       const units = planUnits(createIndexing(7, 7), 2);
-      const mine = units.filter((_, i) => i % 2 === 0).map(({ first, last }) => ({ first, last }));
-      const theirs = units.filter((_, i) => i % 2 === 1).map(({ first, last }) => ({ first, last }));
+      // The units as the pool sends them: without the planner's multiplet counts.
+      const unitOf = ({ multiplets: _multiplets, ...unit }: IPlannedUnit): IWorkUnit => unit;
+      const mine = units.filter((_, i) => i % 2 === 0).map(unitOf);
+      const theirs = units.filter((_, i) => i % 2 === 1).map(unitOf);
       host.handle({ ...base, type: 'walk', id: 2, run: 9, units: mine });
       helper.host.handle({ ...base, type: 'walk', id: 3, run: 9, units: theirs, input: prepared.input });
       const progress = responses.filter((r): r is IProgressResponse => r.type === 'progress');

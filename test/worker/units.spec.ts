@@ -1,3 +1,4 @@
+import { isContinuousEstimator } from '../../src/engine/walk';
 import { latticeInput, prepareColumns } from '../../src/engine/analyze';
 import { PolyadicError } from '../../src/engine/errors';
 import { ESTIMATORS } from '../../src/engine/estimators';
@@ -17,7 +18,8 @@ function inputOf(rows: number, count: number, maxOrder: number, seed = 3): ILatt
 function walkByUnits(input: ILatticeInput, workers: number): ISubtreeResult[] {
   const n = input.codes.length;
   const indexing = createIndexing(n, Math.min(input.maxOrder, n));
-  const units = planUnits(indexing, workers);
+  // as the pool plans them: the Gaussian copula's units are whole subtrees
+  const units = planUnits(indexing, workers, { slices: !isContinuousEstimator(input.estimator) });
   const parts: ISubtreeResult[] = [];
   // Reverse order: the parts arrive in another order than the walk's.
   for (const unit of units.slice().reverse()) {
@@ -28,7 +30,7 @@ function walkByUnits(input: ILatticeInput, workers: number): ISubtreeResult[] {
 
 describe('units', () => {
   describe('#planUnits', () => {
-    it('should cover every subtree once, largest unit first, with at most one tail at the end', () => {
+    it('should cover every multiplet once, largest unit first, with at most one tail at the end', () => {
       for (const [n, m] of [
         [1, 1],
         [2, 2],
@@ -41,11 +43,20 @@ describe('units', () => {
         for (const workers of [1, 2, 3, 4]) {
           const indexing = createIndexing(n, m);
           const units = planUnits(indexing, workers);
+          // Per root: whole subtrees, and per second column: slices.
           const seen = new Array<number>(n).fill(0);
+          const sliced = Array.from({ length: n }, () => new Array<number>(n).fill(0));
           let total = 0;
           for (const unit of units) {
-            for (let root = unit.first; root <= unit.last; root++) {
-              seen[root]++;
+            if (unit.slices) {
+              expect(unit.last).toBe(unit.first);
+              for (let second = unit.slices[0]; second <= unit.slices[1]; second++) {
+                sliced[unit.first][second]++;
+              }
+            } else {
+              for (let root = unit.first; root <= unit.last; root++) {
+                seen[root]++;
+              }
             }
             expect(unit.multiplets).toBe(unitMultiplets(indexing, unit));
             total += unit.multiplets;
@@ -53,28 +64,42 @@ describe('units', () => {
               expect(unit.last).toBe(n - 1);
             }
           }
-          expect(seen).toEqual(new Array<number>(n).fill(1));
+          for (let root = 0; root < n; root++) {
+            const slices = sliced[root].slice(root + 1);
+            const whole = seen[root] === 1 && slices.every(count => count === 0);
+            const cut = seen[root] === 0 && slices.length > 0 && slices.every(count => count === 1);
+            expect([n, m, workers, root, whole || cut]).toEqual([n, m, workers, root, true]);
+          }
           expect(total).toBe(Number(multipletCount(n, m)));
           for (let i = 1; i < units.length; i++) {
             expect(units[i - 1].multiplets).toBeGreaterThanOrEqual(units[i].multiplets);
           }
-          // Root 0, the largest subtree, always walks alone.
-          expect(units).toContainEqual({ first: 0, last: 0, multiplets: subtreeSize(indexing, 0) });
         }
       }
     });
 
-    it('should merge the small trailing subtrees into one tail', () => {
-      // 16 columns, all orders: subtree r holds 2^(15 − r) multiplets, 65535 in all. With 2
-      // workers the grain is 65535 / 16 ≈ 4096, so roots 4 … 15 (4095 multiplets) form the tail.
+    it('should cut the large subtrees into runs of slices and merge the small trailing subtrees into one tail', () => {
+      // 16 columns, all orders: subtree r holds 2^(15 − r) multiplets, 65535 in all; its slice
+      // by second column s holds 2^(15 − s) (and {r} itself when s = r + 1). With 2 workers the
+      // grain is 65535 / 16 ≈ 4096: subtrees 0, 1 and 2, above two grains, are cut (their slices
+      // at s ≥ 4 together hold 4095), subtree 3 walks whole, and roots 4 … 15 (4095 multiplets)
+      // form the tail.
       const units = planUnits(createIndexing(16, 16), 2);
-      expect(units.map(u => [u.first, u.last, u.multiplets])).toEqual([
-        [0, 0, 32768],
-        [1, 1, 16384],
-        [2, 2, 8192],
-        [3, 3, 4096],
-        [4, 15, 4095]
+      expect(units.map(u => [u.first, u.last, u.slices ?? null, u.multiplets])).toEqual([
+        [0, 0, [1, 1], 16385],
+        [1, 1, [2, 2], 8193],
+        [0, 0, [2, 2], 8192],
+        [2, 2, [3, 3], 4097],
+        [0, 0, [3, 3], 4096],
+        [1, 1, [3, 3], 4096],
+        [3, 3, null, 4096],
+        [0, 0, [4, 15], 4095],
+        [1, 1, [4, 15], 4095],
+        [2, 2, [4, 15], 4095],
+        [4, 15, null, 4095]
       ]);
+      // The largest unit is a quarter of the lattice and {0} (subtree 0 alone was half of it).
+      expect(Math.max(...units.map(u => u.multiplets))).toBe((65535 + 1) / 4 + 1);
     });
   });
 
@@ -125,6 +150,8 @@ describe('units', () => {
       const input = inputOf(20, 4, 4);
       expect(() => walkUnit(input, { first: 2, last: 4 })).toThrow(PolyadicError);
       expect(() => walkUnit(input, { first: 3, last: 2 })).toThrow('is not within columns 0 … 3');
+      expect(() => walkUnit(input, { first: 1, last: 2, slices: [2, 3] })).toThrow('not one subtree');
+      expect(() => walkUnit(input, { first: 1, last: 1, slices: [1, 3] })).toThrow('No slices 1 … 3 of subtree 1');
     });
   });
 });
