@@ -13,8 +13,9 @@
  * file with its peak memory (GNU time). Prints one table and one JSON line; asserts nothing.
  *
  * Options: --threads N (default: all cores), --repeats R (default 3), --only a|b|c,
- * --source DIR (walk the engine of another checkout, e.g. an older commit, for before/after),
- * --cli PATH (the CLI bundle to time, default bin/polyadic.cjs), --no-numpy, --no-cli.
+ * --baseline DIR (also walk the engine of another checkout, e.g. an older commit, and time its
+ * built CLI, DIR/bin/polyadic.cjs, interleaved with this one's, so that before and after see the
+ * same load), --no-numpy, --no-cli.
  */
 import { spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
@@ -39,8 +40,7 @@ const { values: flags } = parseArgs({
     threads: { type: 'string' },
     repeats: { type: 'string', default: '3' },
     only: { type: 'string' },
-    source: { type: 'string' },
-    cli: { type: 'string' },
+    baseline: { type: 'string' },
     'no-numpy': { type: 'boolean', default: false },
     'no-cli': { type: 'boolean', default: false }
   },
@@ -48,8 +48,8 @@ const { values: flags } = parseArgs({
 });
 const threads = Number(flags.threads ?? (typeof availableParallelism === 'function' ? availableParallelism() : cpus().length));
 const repeats = Number(flags.repeats);
-const source = resolve(flags.source ?? root);
-const cli = resolve(flags.cli ?? join(root, 'bin', 'polyadic.cjs'));
+const baseline = flags.baseline ? resolve(flags.baseline) : null;
+const cli = join(root, 'bin', 'polyadic.cjs');
 
 /** The cases; numpyLimit: multiplets numpy is timed on before extrapolating (null: all). */
 const CASES = [
@@ -200,7 +200,7 @@ function runNumpy(python, testCase, codes, variant) {
 }
 
 /** The whole CLI run on the CSV file: wall seconds and peak resident memory (GNU time). */
-function runCli(testCase, csv) {
+function runCli(cli, testCase, csv) {
   const args = [cli, 'analyze', csv, '--bins', 'categorical', '--max-order', String(testCase.maxOrder), '--format', 'csv', '--out', '/dev/null'];
   if (flags.threads) {
     args.push('--threads', String(threads));
@@ -219,12 +219,14 @@ function runCli(testCase, csv) {
 }
 
 mkdirSync(results, { recursive: true });
-const tag = source === root ? 'here' : 'source';
-// The planner and the engine of the checkout measured, so an older checkout splits and walks as it did.
-const planner = require(
-  await bundle(join(root, 'bench', 'walk-plan.ts'), join(results, `walk-plan-${tag}.cjs`), source)
-);
-const script = await bundle(join(root, 'bench', 'walk-thread.ts'), join(results, `walk-thread-${tag}.cjs`), source);
+// The planner and the engine of each checkout measured, so an older checkout splits and walks as it did.
+const planner = require(await bundle(join(root, 'bench', 'walk-plan.ts'), join(results, 'walk-plan.cjs')));
+const script = await bundle(join(root, 'bench', 'walk-thread.ts'), join(results, 'walk-thread.cjs'));
+const before = baseline && {
+  planner: require(await bundle(join(root, 'bench', 'walk-plan.ts'), join(results, 'walk-plan-baseline.cjs'), baseline)),
+  script: await bundle(join(root, 'bench', 'walk-thread.ts'), join(results, 'walk-thread-baseline.cjs'), baseline),
+  cli: join(baseline, 'bin', 'polyadic.cjs')
+};
 const python = join(root, '.venv', 'bin', 'python');
 const withNumpy = !flags['no-numpy'] && existsSync(python);
 const loadAtStart = loadavg()[0];
@@ -238,14 +240,24 @@ for (const testCase of CASES) {
   const multiplets = Number(planner.multipletCount(testCase.columns, testCase.maxOrder));
   const crew = new Crew(script, threads);
   await crew.load(input);
+  const oldCrew = before && new Crew(before.script, threads);
+  const oldUnits = before && before.planner.planUnits(indexing, threads);
+  if (oldCrew) {
+    await oldCrew.load(input);
+  }
   const engineMs = [];
   const bareMs = [];
+  const oldMs = [];
   for (let r = 0; r < repeats; r++) {
-    // Interleaved, so a change of load on a shared machine touches both alike.
+    // Interleaved, so a change of load on a shared machine touches all alike.
     engineMs.push((await crew.run('engine', units)).ms);
     bareMs.push((await crew.run('bare', units)).ms);
+    if (oldCrew) {
+      oldMs.push((await oldCrew.run('engine', oldUnits)).ms);
+    }
   }
   await crew.close();
+  await oldCrew?.close();
   const row = {
     case: testCase.name,
     label: testCase.label,
@@ -256,6 +268,11 @@ for (const testCase of CASES) {
     bare_s: median(bareMs) / 1000,
     repeats
   };
+  if (oldCrew) {
+    row.baseline_walk_s = median(oldMs) / 1000;
+    row.baseline_over_bare = row.baseline_walk_s / row.bare_s;
+    row.baseline_over_walk = row.baseline_walk_s / row.walk_s;
+  }
   row.walk_over_bare = row.walk_s / row.bare_s;
   if (withNumpy) {
     // Two numpy loops: one combined int64 code per row (bench/numpy_baseline.py's default), and
@@ -274,18 +291,23 @@ for (const testCase of CASES) {
   if (!flags['no-cli']) {
     const csv = join(results, `walk-${testCase.name}.csv`);
     writeCsv(csv, codes);
-    const run = runCli(testCase, csv);
+    const run = runCli(cli, testCase, csv);
     if (run.error) {
       row.cli_error = run.error;
     } else {
       row.cli_s = run.seconds;
       row.cli_peak_mb = run.peakMb;
     }
+    if (before) {
+      const old = runCli(before.cli, testCase, csv);
+      row.baseline_cli_s = old.seconds;
+      row.baseline_cli_peak_mb = old.peakMb;
+    }
   }
   rows.push(row);
 }
 
-const machine = { node: process.version, cpus: cpus().length, threads, load_at_start: loadAtStart, load_at_end: loadavg()[0], source };
+const machine = { node: process.version, cpus: cpus().length, threads, load_at_start: loadAtStart, load_at_end: loadavg()[0], baseline };
 writeFileSync(join(results, 'walk.json'), JSON.stringify({ ...machine, cases: rows }, null, 2));
 const f = (value, digits = 2) => (value === undefined || value === null ? '—' : value.toFixed(digits));
 console.log(
@@ -304,6 +326,17 @@ for (const row of rows) {
       `${numpyCell(row, 'numpy')} | ${ratioCell(row, 'numpy')} | ${numpyCell(row, 'numpy_rows')} | ${ratioCell(row, 'numpy_rows')} | ` +
       `${row.cli_error ?? f(row.cli_s)} | ${f(row.cli_peak_mb, 0)} |`
   );
+}
+if (baseline) {
+  console.log(`\nBaseline ${baseline}, in the same run:\n`);
+  console.log('| case | baseline walk s | baseline walk / bare | baseline / this walk | baseline CLI run s | baseline CLI peak MB |');
+  console.log('|---|---|---|---|---|---|');
+  for (const row of rows) {
+    console.log(
+      `| ${row.label} | ${f(row.baseline_walk_s)} | ${f(row.baseline_over_bare)}× | ${f(row.baseline_over_walk)}× | ` +
+        `${f(row.baseline_cli_s)} | ${f(row.baseline_cli_peak_mb, 0)} |`
+    );
+  }
 }
 console.log(
   `\nnode ${process.version}, ${machine.cpus} CPUs, ${threads} threads, median of ${repeats}; 1-minute load ` +
