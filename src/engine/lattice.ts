@@ -519,8 +519,8 @@ const SMALL_RANGE = 1024;
 
 /**
  * {@link countByKey} (with `keys`) or {@link tallyByKey} (without) for key ranges up to
- * SMALL_RANGE, where few cells take many rows: consecutive rows then often share a key, and each
- * increment would wait for the one before. Rows go to four tallies in turn instead (`quarters`,
+ * SMALL_RANGE with at least 8 rows per key, where few cells take many rows: consecutive rows then
+ * often share a key, and each increment would wait for the one before. Rows go to four tallies in turn instead (`quarters`,
  * 4 × SMALL_RANGE, all zero), summed into `byKey` afterwards; the keys in order of first
  * appearance then come from the first rows, until every occupied key is met (`met`, all zero,
  * marks them). The result is the same as the single tally's: counts in `byKey` and keys in
@@ -784,7 +784,7 @@ namespace Private {
         direct = true;
         const byKey = this._tallyTable(range);
         const touched = this._touched;
-        if (range <= SMALL_RANGE) {
+        if (range <= SMALL_RANGE && parentCount >= 8 * range) {
           const keys = descend ? this._scratchLabel : null;
           const met = tallySmall(parentActive, parentLabels, parentCount, p.dense[column], K, range, keys, this._quarters, this._met, byKey, touched);
           newLabels = scanKeys(byKey, touched, met, this._tables, stats, compact, descend ? this._remap : null, keeps);
