@@ -15,6 +15,8 @@ import { INSERT_ANALYSIS_CELL, setupAnalysisCells } from './cells/command';
 import { polyadicIcon } from './icons';
 import { followNotebooks, followSettings, PanelModel, PolyadicPanel } from './panel';
 import { followAnalysis } from './panel/analysis/tracker';
+import { ResultsDocuments } from './panel/results/document';
+import { isRecordId } from './record/ids';
 import { recordCompletedRuns } from './panel/records/connect';
 import { followRestores } from './panel/records/restore';
 import { followRecords } from './panel/records/tracker';
@@ -45,8 +47,15 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
     const { commands, shell } = app;
     const engine = new EnginePool({ createWorker: createEngineWorker });
     const model = new PanelModel({ engine });
+    const documents = new ResultsDocuments({
+      shell,
+      analysis: model.analysis,
+      records: model.records,
+      currentNotebook: () => notebooks?.currentWidget ?? null
+    });
     const panel = new PolyadicPanel({
       model,
+      onShowResults: () => void commands.execute(CommandIDs.showLatestResults),
       workers: () => engine.size,
       // The notebook tracker and the create-new command come from the same JupyterLab
       // plugin family; without a tracker the button would lead nowhere.
@@ -58,6 +67,7 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
       onInsertAnalysisCell: id => void commands.execute(INSERT_ANALYSIS_CELL, { id })
     });
     panel.disposed.connect(() => {
+      documents.dispose();
       model.dispose();
       engine.dispose();
     });
@@ -72,6 +82,33 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
       execute: () => shell.activateById(panel.id)
     });
     palette?.addItem({ command: CommandIDs.openPanel, category: PALETTE_CATEGORY });
+
+    commands.addCommand(CommandIDs.openResults, {
+      label: 'Open Polyadic results',
+      caption: 'Open the results view of a recorded analysis beside the notebook',
+      icon: polyadicIcon,
+      execute: args => {
+        const id = args['id'];
+        if (!isRecordId(id)) {
+          throw new Error(`Polyadic results: not an analysis id: ${JSON.stringify(id)}`);
+        }
+        return documents.open(id);
+      }
+    });
+    commands.addCommand(CommandIDs.showLatestResults, {
+      label: 'Show Polyadic results of the latest run',
+      caption: 'Bring the results view of the latest run beside the notebook',
+      icon: polyadicIcon,
+      isEnabled: () => model.analysis.latest !== null,
+      execute: () => documents.showLatest()
+    });
+    model.analysis.resultChanged.connect(() => commands.notifyCommandChanged(CommandIDs.showLatestResults));
+    palette?.addItem({ command: CommandIDs.showLatestResults, category: PALETTE_CATEGORY });
+    void restorer?.restore(documents.tracker, {
+      command: CommandIDs.openResults,
+      args: doc => ({ id: doc.analysisId }),
+      name: doc => doc.analysisId
+    });
 
     if (notebooks !== null) {
       const follower = followNotebooks(notebooks, model.source);

@@ -21,6 +21,10 @@ export const PLUGIN_ID = `${EXTENSION_ID}:plugin`;
 export namespace CommandIDs {
   /** Show the Polyadic panel in the right sidebar and give it focus. */
   export const openPanel = 'polyadic:open-panel';
+  /** Open (or bring to the front) the results view of an analysis: args `{ id }`, a record id. */
+  export const openResults = 'polyadic:open-results';
+  /** Bring the results view of the latest run to the front. */
+  export const showLatestResults = 'polyadic:show-latest-results';
 }
 
 /** Category of Polyadic's commands in the command palette. */

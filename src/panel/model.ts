@@ -1,10 +1,10 @@
 /**
- * The model of the whole Polyadic panel: one sub-model per section.
+ * The model of the whole Polyadic panel: one sub-model per section. Results live in their
+ * main-area documents (src/panel/results/document.ts), one model each.
  */
 import { AnalysisModel, IEngineRunner } from './analysis/model';
 import { DefaultsModel } from './defaults/model';
 import { RecordsModel } from './records/model';
-import { ResultsModel } from './results/model';
 import { SourceModel } from './source/model';
 
 /** State of the Polyadic side panel. */
@@ -12,7 +12,6 @@ export class PanelModel {
   /** Create the model; `options.engine` runs the analyses and previews. */
   constructor(options: PanelModel.IOptions) {
     this.analysis = new AnalysisModel({ engine: options.engine, recordIdFor: run => this.records.rerunOf(run) });
-    this._stopResults = this.results.follow(this.analysis);
   }
 
   /** The analysis being set up and run (dataframe, binning, estimator and run sections). */
@@ -26,9 +25,6 @@ export class PanelModel {
 
   /** The analyses recorded in the followed notebook (records section). */
   readonly records = new RecordsModel();
-
-  /** Histograms, tables and chains of the latest run (results section). */
-  readonly results = new ResultsModel();
 
   /** Whether the model has been disposed. */
   get isDisposed(): boolean {
@@ -44,13 +40,10 @@ export class PanelModel {
     this.source.dispose();
     this.defaults.dispose();
     this.records.dispose();
-    this._stopResults();
-    this.results.dispose();
     this.analysis.dispose();
   }
 
   private _isDisposed = false;
-  private readonly _stopResults: () => void;
 }
 
 /** The statics of {@link PanelModel}. */

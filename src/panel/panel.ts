@@ -1,10 +1,9 @@
 /**
- * The Polyadic side panel: a header with the product name and one accordion section per
- * part of an analysis.
+ * The Polyadic side panel: a header with the product name and the set-up form, one foldable
+ * section per part of an analysis. Results open in the main area (./results/document.ts).
  */
 import { SidePanel } from '@jupyterlab/ui-components';
-import type { Message } from '@lumino/messaging';
-import { AccordionPanel, Widget } from '@lumino/widgets';
+import { Widget } from '@lumino/widgets';
 
 import { polyadicIcon } from '../icons';
 import { BinningView } from './binning/view';
@@ -13,9 +12,9 @@ import { EstimatorView } from './estimator/view';
 import { RunView } from './run/view';
 import { DefaultsView } from './defaults/view';
 import { textElement } from './dom';
+import { FoldForm } from './form';
 import { PanelModel } from './model';
 import { RecordsView } from './records/view';
-import { ResultsView } from './results/view';
 import { SourceView } from './source/view';
 import { StatisticsView } from './statistics/view';
 
@@ -23,7 +22,9 @@ import { StatisticsView } from './statistics/view';
 export class PolyadicPanel extends SidePanel {
   /** Create the panel and its sections for `options.model`. */
   constructor(options: PolyadicPanel.IOptions) {
-    super();
+    const form = new FoldForm();
+    super({ content: form });
+    this.form = form;
     this.id = PolyadicPanel.ID;
     this.addClass('pd-Panel');
     this.title.icon = polyadicIcon;
@@ -36,46 +37,23 @@ export class PolyadicPanel extends SidePanel {
     heading.addClass('jp-text-truncated');
     this.header.addWidget(heading);
 
-    this.addWidget(
-      new SourceView({ model: this.model.source, onNewNotebook: options.onNewNotebook })
-    );
+    form.addSection(new SourceView({ model: this.model.source, onNewNotebook: options.onNewNotebook }));
     const analysis = this.model.analysis;
-    this.addWidget(new DataView({ model: analysis.data }));
-    this.addWidget(new BinningView({ model: analysis.binning }));
-    this.addWidget(new EstimatorView({ model: analysis }));
-    this.addWidget(new StatisticsView({ model: analysis, workers: options.workers }));
-    this.addWidget(new RunView({ model: analysis }));
-    this.addWidget(new ResultsView({ model: this.model.results }));
-    this.addWidget(
-      new DefaultsView({ model: this.model.defaults, onOpenSettings: options.onOpenSettings })
-    );
-    this.addWidget(
-      new RecordsView({ model: this.model.records, onInsertCell: options.onInsertAnalysisCell })
-    );
+    form.addSection(new DataView({ model: analysis.data }));
+    form.addSection(new BinningView({ model: analysis.binning }));
+    form.addSection(new EstimatorView({ model: analysis }));
+    form.addSection(new StatisticsView({ model: analysis, workers: options.workers }));
+    form.addSection(new RunView({ model: analysis, onShowResults: options.onShowResults }));
+    form.addSection(new DefaultsView({ model: this.model.defaults, onOpenSettings: options.onOpenSettings }), false);
+    form.addSection(new RecordsView({ model: this.model.records, onInsertCell: options.onInsertAnalysisCell }));
   }
+
+  /** The set-up form: one foldable section per part of an analysis. */
+  readonly form: FoldForm;
 
   /** The state the panel shows. */
   readonly model: PanelModel;
 
-  /**
-   * On the first show, expand every section if all of them are collapsed. JupyterLab 4.5
-   * saves a sidebar accordion's sections as collapsed when the panel was not on screen at
-   * save time (it records each section's visibility), so a panel the user never opened
-   * would otherwise come back after a reload with every section shut.
-   */
-  protected onAfterShow(msg: Message): void {
-    super.onAfterShow(msg);
-    if (this._shownOnce) {
-      return;
-    }
-    this._shownOnce = true;
-    const content = this.content;
-    if (content instanceof AccordionPanel && content.widgets.every(section => section.isHidden)) {
-      content.widgets.forEach((_, index) => content.expand(index));
-    }
-  }
-
-  private _shownOnce = false;
 }
 
 /** The statics of {@link PolyadicPanel}. */
@@ -93,7 +71,9 @@ export namespace PolyadicPanel {
     workers?: () => number;
     /** Opens the Settings Editor on Polyadic's settings. */
     onOpenSettings?: () => void;
-    /** Inserts a analysis cell for a recorded analysis (records section). */
+    /** Brings the latest run's results view to the front (the Run section's button). */
+    onShowResults?: () => void;
+    /** Inserts an analysis cell for a recorded analysis (records section). */
     onInsertAnalysisCell?: (id: string) => void;
   }
 }

@@ -11,7 +11,7 @@ import Papa from 'papaparse';
 import { unsafeUniformIntDistribution, xoroshiro128plus } from 'pure-rand';
 
 import { analyze, prepareColumns } from '../../src/engine/analyze';
-import { chainAlong, coinformationOf, extremalChains } from '../../src/engine/measures';
+import { chainAlong, extremalChains, jointEntropy } from '../../src/engine/measures';
 import type { IAnalysisResult, IMultipletRow } from '../../src/engine/types';
 import { formatCsv } from '../../src/cli/output';
 import { ResultsModel } from '../../src/panel/results/model';
@@ -372,18 +372,21 @@ describe('ResultsModel', () => {
       const names = prepared.names;
       const source = { codes: prepared.codes, bins: prepared.bins, estimator: result.estimator };
       const reference = chainAlong(source, chain.columns.map(n => names.indexOf(n)));
-      chain.values.forEach((v, i) => expect(v).toBeCloseTo(reference.values[i] / Math.LN2, 10));
-      // The last value is the multiplet's own co-information; each step is the difference.
-      expect(chain.values[2]).toBeCloseTo(store.co_information[index], 10);
-      expect(chain.steps[1]).toBeCloseTo(chain.values[2] - chain.values[1], 12);
-      // The first value is H(alarm) ≈ 1 bit for a near-fair parity.
-      expect(chain.values[0]).toBeCloseTo(
-        coinformationOf(source, [names.indexOf('alarm')]) / Math.LN2,
-        10
-      );
+      // The chain starts at the pair: values are the co-information of each prefix from the pair on.
+      expect(chain.values).toHaveLength(2);
+      chain.values.forEach((v, i) => expect(v).toBeCloseTo(reference.values[i + 1] / Math.LN2, 10));
+      // The last value is the multiplet's own co-information; its step is minus the pair's
+      // co-information conditioned on the third column, from the subset entropies.
+      expect(chain.values[1]).toBeCloseTo(store.co_information[index], 10);
+      const [a, b, c] = chain.columns.map(n => names.indexOf(n));
+      const entropyOf = (cols: number[]): number => jointEntropy(source, cols) / Math.LN2;
+      const conditional = entropyOf([a, c]) + entropyOf([b, c]) - entropyOf([a, b, c]) - entropyOf([c]);
+      expect(chain.steps[0]).toBeCloseTo(-conditional, 10);
+      // The first value is I(alarm; valve): the pair's mutual information, ≈ 0 for a parity triplet.
+      expect(chain.values[0]).toBeCloseTo(entropyOf([a]) + entropyOf([b]) - entropyOf([a, b]), 10);
       model.rotateChain();
       expect(model.chain!.columns).toEqual(['valve', 'flow', 'alarm']);
-      expect(model.chain!.values[2]).toBeCloseTo(chain.values[2], 10);
+      expect(model.chain!.values[1]).toBeCloseTo(chain.values[1], 10);
     });
 
     it('should say why when the result keeps only its top multiplets', () => {
@@ -397,7 +400,7 @@ describe('ResultsModel', () => {
       const prepared = prepareColumns(plantedColumns(), {});
       model.setResult(top, { source: { codes: prepared.codes, bins: prepared.bins, estimator: top.estimator } });
       model.selectMultiplet(model.synergy.visible[0]);
-      expect(model.chain!.values).toHaveLength(3);
+      expect(model.chain!.values).toHaveLength(2);
     });
   });
 
@@ -416,7 +419,7 @@ describe('ResultsModel', () => {
       for (const kind of ['synergy', 'redundancy'] as const) {
         model.showExtremalChain(kind);
         expect(model.chain!.columns).toEqual(reference[kind].columns.map(c => prepared.names[c]));
-        model.chain!.values.forEach((v, i) => expect(v).toBeCloseTo(reference[kind].values[i] / Math.LN2, 10));
+        model.chain!.values.forEach((v, i) => expect(v).toBeCloseTo(reference[kind].values[i + 1] / Math.LN2, 10));
       }
     });
   });

@@ -1,6 +1,9 @@
 /**
- * The conditioning chain of a selected multiplet: I(X1), I(X1;X2), … step by step as a chart,
- * the same values as a list, and buttons for the strongest synergy and redundancy chains.
+ * The conditioning chain of a selected multiplet, drawn as a waterfall: the first bar is the
+ * co-information of the chain's first pair; each following bar is the term the next column adds
+ * (minus the co-information of the columns before it, conditioned on the new one), labelled with
+ * that column, with the running value beside it. The same numbers are listed as text. Buttons
+ * grow a chain greedily from the most synergistic triplet or the most redundant pair.
  */
 import { Panel, Widget } from '@lumino/widgets';
 
@@ -25,19 +28,25 @@ export class ChainView extends Panel {
       textElement(
         'p',
         'pd-Chain-note',
-        'Co-information of the first column, the first two, the first three, …: each step adds ' +
-          'minus the co-information conditioned on the new column. Pick a table row, or:'
+        'The chain rule along an ordering: start at the co-information of the first two columns; each ' +
+          'further column adds minus the co-information of the columns before it conditioned on the ' +
+          'new one, and the running value after the last column is the multiplet\u2019s co-information. ' +
+          'Bars below zero (synergy colour) pull towards synergy, bars above (redundancy colour) towards ' +
+          'redundancy. Pick a table row, or:'
       )
     );
     const actions = textElement('div', 'pd-Chain-actions');
-    const synergy = textElement('button', 'pd-Chain-action jp-mod-styled', 'Strongest synergy chain');
+    const synergy = textElement('button', 'pd-Chain-action jp-mod-styled', 'Grow from the most synergistic triplet');
     synergy.type = 'button';
+    synergy.title = 'Start at the triplet of most negative co-information, then add the column that makes the value most negative, up to the run\u2019s highest order';
     synergy.addEventListener('click', () => this._model.showExtremalChain('synergy'));
-    const redundancy = textElement('button', 'pd-Chain-action jp-mod-styled', 'Strongest redundancy chain');
+    const redundancy = textElement('button', 'pd-Chain-action jp-mod-styled', 'Grow from the most redundant pair');
     redundancy.type = 'button';
+    redundancy.title = 'Start at the pair of most mutual information, then add the column that makes the value most positive, up to the run\u2019s highest order';
     redundancy.addEventListener('click', () => this._model.showExtremalChain('redundancy'));
     this._rotate = textElement('button', 'pd-Chain-action jp-mod-styled', 'Start from the next column');
     this._rotate.type = 'button';
+    this._rotate.title = 'The same columns in another order: the first column moves to the end';
     this._rotate.addEventListener('click', () => this._model.rotateChain());
     actions.append(synergy, redundancy, this._rotate);
     top.node.append(actions);
@@ -45,22 +54,23 @@ export class ChainView extends Panel {
     this._message.setAttribute('aria-live', 'polite');
     top.node.append(this._message);
     this._chart = new ChartView({
-      label: 'Conditioning chain',
+      label: 'Conditioning chain waterfall',
       filename: 'polyadic-conditioning-chain',
-      height: 180,
+      height: 220,
       exportAs: () => {
         const source = this._model.exportSource;
         const chain = this._model.chain;
         return {
           title: chain === null ? 'Conditioning chain' : `Conditioning chain of ${chain.columns.join(', ')}`,
           subtitle: source === null ? '' : provenanceLine(source),
-          xTitle: 'columns, in the order they join the chain',
+          xTitle: 'the first pair, then each column as it joins the chain',
           yTitle: `co-information (${source?.result.units ?? ''})`,
           filename: exportFileName(source ?? {}, 'conditioning-chain')
         };
       }
     });
     this._list = new Widget({ node: textElement('ol', 'pd-Chain-list') });
+    this._list.node.setAttribute('aria-label', 'Conditioning chain, step by step');
     this.addWidget(top);
     this.addWidget(this._chart);
     this.addWidget(this._list);
@@ -80,7 +90,7 @@ export class ChainView extends Panel {
   private _update(): void {
     const chain = this._model.chain;
     const error = this._model.chainError;
-    this._rotate.disabled = !chain || chain.kind !== 'multiplet' || chain.columns.length < 2;
+    this._rotate.disabled = !chain || chain.kind !== 'multiplet' || chain.columns.length < 3;
     if (chain === this._shown && error === this._shownError) {
       return;
     }
@@ -93,10 +103,10 @@ export class ChainView extends Panel {
     } else {
       const what =
         chain.kind === 'multiplet'
-          ? 'Chain of the selected multiplet'
+          ? `Chain of ${chain.columns.join(', ')}`
           : chain.kind === 'synergy'
-            ? 'Strongest synergy chain (greedy, most negative next value)'
-            : 'Strongest redundancy chain (greedy, most positive next value)';
+            ? 'Grown from the most synergistic triplet (greedy: each added column makes the value most negative)'
+            : 'Grown from the most redundant pair (greedy: each added column makes the value most positive)';
       this._message.textContent = `${what}, in ${this._model.result?.units ?? ''}:`;
     }
     this._chart.setHidden(!chain);
@@ -104,17 +114,25 @@ export class ChainView extends Panel {
     if (chain) {
       const units = this._model.result?.units ?? '';
       this._chart.setFigure(colors => Private.figure(chain, units, colors));
-      const items = chain.columns.map((name, i) => {
+      const items: HTMLElement[] = [];
+      chain.values.forEach((value, i) => {
         const item = textElement('li', 'pd-Chain-item');
-        item.append(
-          textElement('span', 'pd-Chain-name', name),
-          textElement(
-            'span',
-            'pd-Chain-value',
-            `: ${formatValue(chain.values[i])}` + (i > 0 ? ` (step ${formatValue(chain.steps[i - 1])})` : '')
-          )
-        );
-        return item;
+        // full precision for readers that check the chain rule (the figure rounds)
+        item.dataset.value = String(value);
+        if (i === 0) {
+          item.append(
+            textElement('span', 'pd-Chain-name', `${chain.columns[0]}, ${chain.columns[1]}`),
+            textElement('span', 'pd-Chain-value', `: co-information ${formatValue(value)}`)
+          );
+        } else {
+          const step = chain.steps[i - 1];
+          item.dataset.step = String(step);
+          item.append(
+            textElement('span', 'pd-Chain-name', `+ ${chain.columns[i + 1]}`),
+            textElement('span', 'pd-Chain-value', `: step ${formatValue(step)}, running value ${formatValue(value)}`)
+          );
+        }
+        items.push(item);
       });
       this._list.node.replaceChildren(...items);
     }
@@ -138,30 +156,54 @@ export namespace ChainView {
 }
 
 namespace Private {
-  /** Values step by step, points coloured by sign; column names escaped for plotly. */
+  /**
+   * The waterfall: the pair's co-information as the first bar from zero, then one floating bar
+   * per added column from the running value before it to the one after, coloured by the sign of
+   * what it adds; the running value is written beside each bar.
+   */
   export function figure(chain: IChainView, units: string, colors: IChartColors): IFigure {
-    const steps = chain.columns.map((_c, i) => i + 1);
-    const labels = chain.columns.map((name, i) => (i === 0 ? '' : '+ ') + plotlyText(Private.short(name)));
+    const labels = chain.values.map((_v, i) =>
+      i === 0 ? `${plotlyText(short(chain.columns[0]))}, ${plotlyText(short(chain.columns[1]))}` : `+ ${plotlyText(short(chain.columns[i + 1]))}`
+    );
+    const x = labels.map((_l, i) => i);
+    const bases = chain.values.map((_v, i) => (i === 0 ? 0 : chain.values[i - 1]));
+    const heights = chain.values.map((v, i) => (i === 0 ? v : chain.steps[i - 1]));
+    const color = (h: number): string => (h < 0 ? colors.synergy : colors.redundancy);
+    const connectors = chain.values.slice(0, -1).map((v, i) => ({
+      type: 'line',
+      xref: 'x',
+      yref: 'y',
+      x0: i + 0.4,
+      x1: i + 0.6,
+      y0: v,
+      y1: v,
+      line: { color: colors.muted, width: 1, dash: 'dot' }
+    }));
     return {
       data: [
         {
-          type: 'scatter',
-          mode: 'lines+markers',
-          x: steps,
-          y: chain.values,
-          customdata: chain.values.map(formatValue),
-          hovertemplate: '%{customdata}<extra></extra>',
-          line: { color: colors.muted, width: 1 },
-          marker: {
-            size: 8,
-            color: chain.values.map((v, i) => (i > 0 && v < 0 ? colors.synergy : colors.redundancy))
-          }
+          type: 'bar',
+          x,
+          y: heights,
+          base: bases,
+          width: 0.8,
+          marker: { color: heights.map(color), line: { color: colors.background, width: 0.5 } },
+          text: chain.values.map(v => formatValue(v)),
+          textposition: 'outside',
+          cliponaxis: false,
+          textfont: { color: colors.text },
+          customdata: chain.values.map((v, i) => [formatValue(heights[i]), formatValue(v)]),
+          hovertemplate: '%{customdata[0]} added, running value %{customdata[1]}<extra></extra>'
         }
       ],
       layout: {
+        shapes: [
+          ...connectors,
+          { type: 'line', xref: 'paper', yref: 'y', x0: 0, x1: 1, y0: 0, y1: 0, line: { color: colors.muted, width: 1 } }
+        ],
         xaxis: {
           tickmode: 'array',
-          tickvals: steps,
+          tickvals: x,
           ticktext: labels,
           gridcolor: colors.grid,
           color: colors.muted,
@@ -171,14 +213,16 @@ namespace Private {
           title: { text: plotlyText(units) },
           gridcolor: colors.grid,
           zerolinecolor: colors.muted,
-          color: colors.muted
+          color: colors.muted,
+          automargin: true
         },
-        margin: { l: 44, r: 8, t: 6, b: 48 }
+        margin: { l: 48, r: 8, t: 18, b: 48 },
+        bargap: 0.2
       }
     };
   }
 
-  /** A name shortened for a tick label (the list beside the chart has it whole). */
+  /** A name shortened for a tick label (the list under the chart has it whole). */
   export function short(name: string): string {
     return name.length > 14 ? name.slice(0, 13) + '\u2026' : name;
   }

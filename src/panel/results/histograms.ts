@@ -1,15 +1,19 @@
 /**
- * The order histograms: one small bar chart per order of the co-information of all its
- * multiplets, the negative (synergy) side shaded, the sign convention written beside each
- * chart, counts on hover, and a click on a bar (or the bar picker under it, for the keyboard)
- * filtering the tables.
+ * The order histograms: one bar chart per order of the co-information of all its multiplets,
+ * counts on a logarithmic axis (a bar of one multiplet stays visible beside bars of thousands),
+ * a strip under the bars with the most extreme multiplets as ticks (a single outlier is never
+ * lost in a wide bar), the negative (synergy) side shaded, the null band when tested, the sign
+ * convention written beside each chart, counts on hover. A click on a bar (or the bar picker
+ * under it, for the keyboard) filters the tables; a click on a tick selects that multiplet; the
+ * selected table row's bar and tick are outlined.
  */
 import { Panel, Widget } from '@lumino/widgets';
 
-import { ChartView } from '../charts/chart';
+import { ChartView, plotlyText } from '../charts/chart';
 import type { IChartColors, IFigure } from '../charts/chart';
 import { textElement } from '../dom';
 import { plural } from '../../engine/text';
+import type { MultipletStore } from './store';
 import { exportFileName, provenanceLine } from './export';
 import { formatCount, formatValue } from './format';
 import type { IResultsHistogram } from './model';
@@ -50,12 +54,22 @@ export class HistogramsView extends Panel {
       }
     }
     const bar = this._model.bar;
+    const row = this._model.selectedBar;
+    const store = this._model.store;
+    const index = this._model.selected;
     for (const entry of this._charts) {
-      const selected = bar && bar.order === entry.histogram.order ? bar.bar : -1;
-      if (selected !== entry.selected) {
+      const order = entry.histogram.order;
+      const selected = bar && bar.order === order ? bar.bar : -1;
+      const marked = row && row.order === order ? row.bar : -1;
+      const markedRow = row && row.order === order ? index : -1;
+      if (selected !== entry.selected || markedRow !== entry.markedRow) {
         entry.selected = selected;
+        entry.markedRow = markedRow;
         entry.picker.value = String(selected);
-        entry.chart.setFigure(colors => Private.figure(entry.histogram, selected, colors));
+        entry.node.dataset.markedBar = String(marked);
+        if (store) {
+          entry.chart.setFigure(colors => Private.figure(entry.histogram, store, { selected, marked, row: markedRow }, colors));
+        }
       }
     }
   }
@@ -69,7 +83,8 @@ export class HistogramsView extends Panel {
         'p',
         'pd-Histogram-convention',
         `Co-information in ${units}. Left of 0 (shaded): negative, synergy-dominated; right of 0: ` +
-          'positive, redundancy-dominated (sign convention of Bell 2003).' +
+          'positive, redundancy-dominated (sign convention of Bell 2003). Counts on a log scale; ticks ' +
+          'under the bars: the most extreme multiplets of this order (click one to select it).' +
           (histogram.band
             ? ` Grey band: where 95 % of the independence surrogates fall (${formatValue(histogram.band.low)} to ` +
               `${formatValue(histogram.band.high)}); bars outside it stand out from chance.`
@@ -79,7 +94,7 @@ export class HistogramsView extends Panel {
     const chart = new ChartView({
       label: `Order ${order} histogram of co-information`,
       filename: `polyadic-order-${order}-histogram`,
-      height: 150,
+      height: 200,
       exportAs: () => {
         const source = this._model.exportSource;
         return {
@@ -90,7 +105,16 @@ export class HistogramsView extends Panel {
           filename: exportFileName(source ?? {}, `order-${order}-histogram`)
         };
       },
-      onClick: (_trace, point) => this._toggle(order, point)
+      onClick: (trace, point) => {
+        if (trace === 0) {
+          this._toggle(order, point);
+        } else {
+          const row = histogram.extremes[point];
+          if (row !== undefined) {
+            this._model.selectMultiplet(row);
+          }
+        }
+      }
     });
     const pickerRow = new Widget({ node: textElement('div', 'pd-Histogram-picker') });
     const pickerId = `pd-histogram-picker-${Private.nextId++}`;
@@ -123,7 +147,7 @@ export class HistogramsView extends Panel {
     group.addWidget(chart);
     group.addWidget(pickerRow);
     this.addWidget(group);
-    this._charts.push({ histogram, chart, picker, selected: -2 });
+    this._charts.push({ histogram, chart, picker, node: group.node, selected: -2, markedRow: -2 });
   }
 
   private _toggle(order: number, bar: number): void {
@@ -141,7 +165,9 @@ export class HistogramsView extends Panel {
     histogram: IResultsHistogram;
     chart: ChartView;
     picker: HTMLSelectElement;
+    node: HTMLElement;
     selected: number;
+    markedRow: number;
   }[] = [];
 }
 
@@ -157,9 +183,20 @@ namespace Private {
   /** Counter for unique control ids. */
   export let nextId = 0;
 
-  /** The bar chart of one histogram; bars left of 0 in the synergy colour. */
-  export function figure(histogram: IResultsHistogram, selected: number, colors: IChartColors): IFigure {
+  /** What a figure outlines: the bar filtering the tables, the bar and tick of the selected row. */
+  export interface IMarks {
+    selected: number;
+    marked: number;
+    row: number;
+  }
+
+  /**
+   * The bar chart of one histogram (bars left of 0 in the synergy colour, counts on a log axis)
+   * over a strip of its most extreme multiplets.
+   */
+  export function figure(histogram: IResultsHistogram, store: MultipletStore, marks: IMarks, colors: IChartColors): IFigure {
     const { edges, counts } = histogram;
+    const { selected, marked } = marks;
     const centers = counts.map((_c, i) => (edges[i] + edges[i + 1]) / 2);
     const widths = counts.map((_c, i) => edges[i + 1] - edges[i]);
     const low = edges[0];
@@ -219,32 +256,97 @@ namespace Private {
         line: { color: colors.muted, width: 1, dash: 'dot' }
       });
     }
-    return {
-      data: [
-        {
-          type: 'bar',
-          x: centers,
-          y: counts,
-          width: widths,
-          customdata: counts.map((_c, i) => [formatValue(edges[i]), formatValue(edges[i + 1])]),
-          hovertemplate: '%{customdata[0]} to %{customdata[1]}<br>%{y} multiplets<extra></extra>',
-          marker: {
-            color: centers.map(c => (c < 0 ? colors.synergy : colors.redundancy)),
-            line: {
-              color: counts.map((_c, i) => (i === selected ? colors.text : colors.background)),
-              width: counts.map((_c, i) => (i === selected ? 2 : 0.5))
-            }
-          }
+    const maxCount = Math.max(1, ...counts);
+    const extremes = histogram.extremes;
+    const extremeValues = extremes.map(i => store.co_information[i]);
+    const strip = {
+      type: 'scatter',
+      mode: 'markers',
+      x: extremeValues,
+      y: extremes.map(() => 0),
+      yaxis: 'y2',
+      customdata: extremes.map(i => [plotlyText(store.namesOf(i).join(' \u00b7 ')), formatValue(store.co_information[i])]),
+      hovertemplate: '%{customdata[0]}<br>%{customdata[1]}<extra></extra>',
+      marker: {
+        symbol: 'line-ns-open',
+        size: extremes.map(i => (i === marks.row ? 22 : 14)),
+        line: {
+          width: extremes.map(i => (i === marks.row ? 3 : 1.5)),
+          color: extremes.map((i, k) => (i === marks.row ? colors.accent : extremeValues[k] < 0 ? colors.synergy : colors.redundancy))
         }
-      ],
+      }
+    };
+    const data: Record<string, unknown>[] = [];
+    const bars = {
+      type: 'bar',
+      x: centers,
+      y: counts,
+      width: widths,
+      customdata: counts.map((_c, i) => [formatValue(edges[i]), formatValue(edges[i + 1])]),
+      hovertemplate: '%{customdata[0]} to %{customdata[1]}<br>%{y} multiplets<extra></extra>',
+      marker: {
+        color: centers.map(c => (c < 0 ? colors.synergy : colors.redundancy)),
+        line: {
+          color: counts.map((_c, i) => (i === marked ? colors.accent : i === selected ? colors.text : colors.background)),
+          width: counts.map((_c, i) => (i === marked ? 3 : i === selected ? 2 : 0.5))
+        }
+      }
+    };
+    data.push(bars, strip);
+    if (marks.row >= 0 && !extremes.includes(marks.row)) {
+      // the selected row, when it is not among the extremes, gets its own tick
+      data.push({
+        type: 'scatter',
+        mode: 'markers',
+        x: [store.co_information[marks.row]],
+        y: [0],
+        yaxis: 'y2',
+        hoverinfo: 'skip',
+        marker: { symbol: 'line-ns-open', size: 22, line: { width: 3, color: colors.accent } }
+      });
+    }
+    return {
+      data,
       layout: {
         bargap: 0,
         shapes,
         annotations,
-        xaxis: { title: { text: 'co-information' }, gridcolor: colors.grid, zerolinecolor: colors.grid, color: colors.muted },
-        yaxis: { title: { text: 'count' }, gridcolor: colors.grid, zerolinecolor: colors.grid, color: colors.muted, rangemode: 'tozero' },
-        margin: { l: 44, r: 8, t: histogram.band ? 16 : 6, b: 38 }
+        showlegend: false,
+        xaxis: {
+          title: { text: 'co-information' },
+          gridcolor: colors.grid,
+          zerolinecolor: colors.grid,
+          color: colors.muted,
+          range: Private.range(low, high, extremeValues)
+        },
+        yaxis: {
+          title: { text: 'count (log)' },
+          type: 'log',
+          // from half a multiplet up, so a bar of one multiplet has height
+          range: [Math.log10(0.5), Math.log10(maxCount * 1.6)],
+          domain: [0.26, 1],
+          gridcolor: colors.grid,
+          zerolinecolor: colors.grid,
+          color: colors.muted
+        },
+        yaxis2: {
+          domain: [0, 0.16],
+          range: [-1, 1],
+          showticklabels: false,
+          showgrid: false,
+          zeroline: false,
+          fixedrange: true
+        },
+        margin: { l: 48, r: 8, t: histogram.band ? 16 : 6, b: 38 }
       }
     };
+  }
+
+  /** The x range: the bars, and every extreme tick inside it with a little room. */
+  export function range(low: number, high: number, values: number[]): [number, number] {
+    const lo = Math.min(low, ...values);
+    const hi = Math.max(high, ...values);
+    const pad = (hi - lo || 1) * 0.03;
+    return [lo - pad, hi + pad];
   }
 }

@@ -15,6 +15,7 @@ import { createIndexing, indexOfColumns } from '../../engine/multiplets';
 import type { IAnalysisResult, MissingPolicy } from '../../engine/types';
 import type { IAnalysisState, IRunCompleted } from '../analysis/types';
 import { orderHistogram } from '../../record/summary';
+import type { IOrderHistogram } from '../../record/types';
 import type { IExportSource } from './export';
 import { MultipletStore } from './store';
 import { MultipletTable } from './table';
@@ -34,6 +35,13 @@ export interface IResultsContext {
    * computed from the result's own joint entropies, which needs the full result (no top-N cut).
    */
   source?: IEntropySource;
+  /**
+   * Order histograms over every multiplet, when the result itself keeps only some (a view
+   * restored from a record): shown instead of histograms of the kept rows.
+   */
+  histograms?: IOrderHistogram[];
+  /** Set for a view restored from the notebook's record: what it shows and what it cannot. */
+  restored?: boolean;
 }
 
 /** One order histogram of co-information, with which rows fall in which bar. */
@@ -47,6 +55,12 @@ export interface IResultsHistogram {
   total: number;
   /** The surrogate 2.5–97.5 % range of co-information of this order (the null band), when tested. */
   band?: { low: number; high: number; mean: number };
+  /**
+   * Store rows of the most extreme multiplets of this order (the most negative first, then the
+   * most positive; at most {@link ResultsModel.EXTREMES} each), drawn as a strip under the bars
+   * so that a single outlier stays visible however many multiplets share the other bars.
+   */
+  extremes: number[];
 }
 
 /** The histogram bar that filters the tables. */
@@ -59,15 +73,19 @@ export interface IBarSelection {
   count: number;
 }
 
-/** A conditioning chain on show, in the result's units. */
+/**
+ * A conditioning chain on show, in the result's units. It starts at the pair of its first two
+ * columns; each later column adds a step, minus the co-information of the columns before it
+ * conditioned on the new one (the chain rule: I(X1;…;Xk) = I(X1;…;Xk−1) − I(X1;…;Xk−1 | Xk)).
+ */
 export interface IChainView {
   /** What the chain follows: a table row, or a greedy chain over all columns. */
   kind: 'multiplet' | 'synergy' | 'redundancy';
-  /** Column names in chain order. */
+  /** Column names in chain order (at least two). */
   columns: string[];
-  /** I(X1), I(X1;X2), … */
+  /** Co-information of each prefix from the pair on: I(X1;X2), I(X1;X2;X3), … */
   values: number[];
-  /** Change at each step after the first (minus a conditional co-information). */
+  /** What each column after the pair adds: values[i + 1] − values[i]. */
   steps: number[];
 }
 
@@ -150,6 +168,16 @@ export class ResultsModel {
     return this._chainError;
   }
 
+  /** The histogram bar of the selected multiplet (a table row highlights its bar), or null. */
+  get selectedBar(): { order: number; bar: number } | null {
+    const store = this._store;
+    const index = this._selected;
+    if (!store || index < 0 || index >= store.size || this._barOf[index] < 0) {
+      return null;
+    }
+    return { order: store.order[index], bar: this._barOf[index] };
+  }
+
   /** Store index of the multiplet whose chain is on show, or -1. */
   get selected(): number {
     return this._selected;
@@ -192,15 +220,19 @@ export class ResultsModel {
     for (const k of [...byOrder.keys()].sort((a, b) => a - b)) {
       const members = byOrder.get(k)!;
       const values = Float64Array.from(members, i => store.co_information[i]);
-      const histogram = orderHistogram(k, values);
+      const recorded = context.histograms?.find(h => h.order === k);
+      const histogram = recorded ?? orderHistogram(k, values);
       for (const i of members) {
         this._barOf[i] = binIndexByEdges(histogram.edges, store.co_information[i]);
       }
       const band = result.statistics?.null_bands.find(b => b.order === k);
       this._histograms.push({
-        ...histogram,
-        total: members.length,
-        ...(band && band.values > 0 ? { band: { low: band.low, high: band.high, mean: band.mean } } : {})
+        order: k,
+        edges: histogram.edges,
+        counts: histogram.counts,
+        total: recorded ? recorded.counts.reduce((a, b) => a + b, 0) : members.length,
+        ...(band && band.values > 0 ? { band: { low: band.low, high: band.high, mean: band.mean } } : {}),
+        extremes: Private.extremes(members, store.co_information, ResultsModel.EXTREMES)
       });
     }
     this.synergy.setStore(store);
@@ -342,7 +374,7 @@ export class ResultsModel {
 
   private _computeChain(kind: IChainView['kind'], names: string[]): void {
     const result = this._result!;
-    const source = this._entropySource();
+    const source = names.length < 2 ? 'A single column has no conditioning chain: a chain starts at a pair.' : this._entropySource();
     if (typeof source === 'string') {
       this._chain = null;
       this._chainError = source;
@@ -357,7 +389,8 @@ export class ResultsModel {
 
   private _setChain(kind: IChainView['kind'], columns: string[], nats: number[]): void {
     const units = this._result!.units;
-    const values = nats.map(v => fromNats(v, units));
+    // the chain's first entry is a single column's entropy; the figure starts at the pair
+    const values = nats.slice(1).map(v => fromNats(v, units));
     const steps = values.slice(1).map((v, i) => v - values[i]);
     this._chain = { kind, columns, values, steps };
     this._chainError = null;
@@ -426,9 +459,42 @@ export class ResultsModel {
 
 /** The statics of {@link ResultsModel}. */
 export namespace ResultsModel {
+  /** Extreme multiplets per side drawn under each order histogram. */
+  export const EXTREMES = 5;
+
   /** Options of a {@link ResultsModel}. */
   export interface IOptions {
     /** Rows per table page. */
     pageSize?: number;
+  }
+}
+
+namespace Private {
+  /**
+   * The `count` members of least value (most negative first) and then the `count` of greatest
+   * value (most positive first), each member once; one pass with two small sorted lists.
+   */
+  export function extremes(members: number[], values: Float64Array, count: number): number[] {
+    const low: number[] = [];
+    const high: number[] = [];
+    const insert = (list: number[], index: number, before: (a: number, b: number) => boolean): void => {
+      if (list.length === count && !before(values[index], values[list[count - 1]])) {
+        return;
+      }
+      let at = list.length;
+      while (at > 0 && before(values[index], values[list[at - 1]])) {
+        at--;
+      }
+      list.splice(at, 0, index);
+      if (list.length > count) {
+        list.pop();
+      }
+    };
+    for (const index of members) {
+      insert(low, index, (a, b) => a < b);
+      insert(high, index, (a, b) => a > b);
+    }
+    const taken = new Set(low);
+    return [...low, ...high.filter(index => !taken.has(index))];
   }
 }

@@ -162,13 +162,21 @@ export class MultipletTableView extends Widget {
             return cell;
           })
         );
-        tr.title = 'Show the conditioning chain of this multiplet';
+        tr.title = 'Show this multiplet in the detail view and its conditioning chain (arrow keys move between rows)';
         const select = (): void => this._onSelect(index);
         tr.addEventListener('click', select);
         tr.addEventListener('keydown', event => {
           if (event.key === 'Enter' || event.key === ' ') {
             event.preventDefault();
             select();
+          } else if (event.key === 'ArrowDown' || event.key === 'ArrowUp') {
+            // the selection follows the focus, so the detail view follows the keyboard
+            const next = event.key === 'ArrowDown' ? tr.nextElementSibling : tr.previousElementSibling;
+            if (next instanceof HTMLTableRowElement && next.dataset.index !== undefined) {
+              event.preventDefault();
+              next.focus();
+              this._onSelect(Number(next.dataset.index));
+            }
           }
         });
         rows.push(tr);

@@ -1,7 +1,8 @@
 /**
- * The panel's Results section: a summary of the run with its cautions, the order histograms,
- * the column-name and order filters, the synergy and redundancy tables, and the conditioning
- * chain of the selected multiplet.
+ * The results view (the content of a main-area results document, ./document.ts): a summary of
+ * the run with its cautions, the order histograms as a grid, the column-name and order filters,
+ * the synergy and redundancy tables at full width, and below them what the caller adds (the
+ * multiplet detail view) and the conditioning chain of the selected multiplet.
  */
 import { Panel, Widget } from '@lumino/widgets';
 
@@ -29,9 +30,21 @@ export class ResultsView extends Panel {
     this._synergy = new MultipletTableView({ model: this._model.synergy, onSelect: select, source });
     this._redundancy = new MultipletTableView({ model: this._model.redundancy, onSelect: select, source });
     this._chain = new ChainView({ model: this._model });
-    for (const widget of [this._summary, this._histograms, this._filters, this._synergy, this._redundancy, this._chain]) {
+    this._below = new Panel();
+    this._below.addClass('pd-Results-below');
+    for (const extra of options.extras ?? []) {
+      this._below.addWidget(extra);
+    }
+    this._below.addWidget(this._chain);
+    const tables = new Panel();
+    tables.addClass('pd-Results-tables');
+    tables.addWidget(this._synergy);
+    tables.addWidget(this._redundancy);
+    this._tables = tables;
+    for (const widget of [this._summary, this._histograms, this._filters, tables, this._below]) {
       this.addWidget(widget);
     }
+    this.node.tabIndex = -1;
     this._model.changed.connect(this._render, this);
     this._render();
   }
@@ -101,12 +114,12 @@ export class ResultsView extends Panel {
     const model = this._model;
     const result = model.result;
     const hasResult = result !== null;
-    for (const widget of [this._histograms, this._filters, this._synergy, this._redundancy, this._chain]) {
+    for (const widget of [this._histograms, this._filters, this._tables, this._below]) {
       widget.setHidden(!hasResult);
     }
     if (!result) {
       this._summary.node.replaceChildren(
-        textElement('p', 'pd-Results-empty', 'No results yet: pick a frame and press Run.')
+        textElement('p', 'pd-Results-empty', 'No results yet: pick a frame in the Polyadic panel and press Run.')
       );
       this._shown = null;
       return;
@@ -156,6 +169,17 @@ export class ResultsView extends Panel {
           `order 2 to ${result.max_order}, ${result.estimator} estimator, ${result.units}.`
       )
     );
+    if (model.context.restored) {
+      const note = textElement(
+        'p',
+        'pd-Results-restored',
+        `Restored from the notebook\u2019s record, which keeps the ${plural(result.multiplets.length, 'strongest multiplet')} ` +
+          'of the two tables and the order histograms. Conditioning chains and the contingency tables need the data: ' +
+          'run the analysis again (Run in the Polyadic panel) to see them.'
+      );
+      note.setAttribute('role', 'note');
+      nodes.push(note);
+    }
     const cautions: string[] = [Private.evidenceCaution(result, model.multipletCount)];
     if (model.inadequateCount > 0) {
       cautions.push(
@@ -165,7 +189,7 @@ export class ResultsView extends Panel {
           'reliable (marked \u26a0 in the tables).'
       );
     }
-    if (!model.complete) {
+    if (!model.complete && !model.context.restored) {
       cautions.push(
         'This result keeps only its strongest multiplets: the histograms show those, not every multiplet.'
       );
@@ -188,6 +212,8 @@ export class ResultsView extends Panel {
   private readonly _synergy: MultipletTableView;
   private readonly _redundancy: MultipletTableView;
   private readonly _chain: ChainView;
+  private readonly _below: Panel;
+  private readonly _tables: Panel;
   private _column!: HTMLInputElement;
   private _names!: HTMLDataListElement;
   private _order!: HTMLSelectElement;
@@ -202,6 +228,8 @@ export namespace ResultsView {
   /** Options of a {@link ResultsView}. */
   export interface IOptions {
     model: ResultsModel;
+    /** Widgets shown below the tables, before the chain (the multiplet detail view). */
+    extras?: Widget[];
   }
 }
 

@@ -32,7 +32,13 @@ export class RunView extends Widget {
     this._line = textElement('p', 'pd-Run-status');
     this._line.setAttribute('role', 'status');
     this._hint = textElement('p', 'pd-Run-hint');
-    this.node.append(buttons, this._bar, this._progressText, this._line, this._hint);
+    this._show = textElement('button', 'pd-Run-show jp-mod-styled', 'Show results');
+    this._show.type = 'button';
+    this._show.title = 'Bring the results view of the latest run beside the notebook';
+    const onShow = options.onShowResults;
+    this._show.addEventListener('click', () => onShow?.());
+    this._canShow = onShow !== undefined;
+    this.node.append(buttons, this._bar, this._progressText, this._line, this._show, this._hint);
     this._model.runChanged.connect(this._render, this);
     this._model.changed.connect(this._render, this);
     this._render();
@@ -86,6 +92,7 @@ export class RunView extends Widget {
       this._line.textContent = '';
     }
     this._line.classList.toggle('pd-mod-error', run.state === 'error');
+    this._show.hidden = !this._canShow || latest === null;
     this._hint.textContent = !running && blocker !== null ? blocker : (model.kernelMessage ?? '');
     this._hint.hidden = this._hint.textContent === '';
   }
@@ -97,6 +104,8 @@ export class RunView extends Widget {
   private _progressText: HTMLElement;
   private _line: HTMLElement;
   private _hint: HTMLElement;
+  private _show: HTMLButtonElement;
+  private _canShow: boolean;
 }
 
 /** The statics of {@link RunView}. */
@@ -105,6 +114,8 @@ export namespace RunView {
   export interface IOptions {
     /** The analysis to run. */
     model: AnalysisModel;
+    /** Brings the latest run's results view to the front; without it, no Show results button. */
+    onShowResults?: () => void;
   }
 }
 
