@@ -28,11 +28,15 @@ export class FoldSection extends Panel {
     header.node.append(this._button);
     content.addClass('pd-Fold-body');
     content.node.setAttribute('role', 'region');
-    content.node.setAttribute('aria-label', content.title.label);
-    content.title.changed.connect(() => {
+    // "Notebook Section": the name JupyterLab's own sidebar sections give their regions
+    const name = (): void => {
       this._label.textContent = content.title.label;
-      content.node.setAttribute('aria-label', content.title.label);
-    });
+      content.node.setAttribute('aria-label', `${content.title.label} Section`);
+      // "Run section", so the header is not taken for the section's own Run button
+      this._button.setAttribute('aria-label', `${content.title.label} section`);
+    };
+    name();
+    content.title.changed.connect(name);
     this.addWidget(header);
     this.addWidget(content);
     this.setExpanded(options.expanded ?? true);

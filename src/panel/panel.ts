@@ -44,7 +44,7 @@ export class PolyadicPanel extends SidePanel {
     form.addSection(new EstimatorView({ model: analysis }));
     form.addSection(new StatisticsView({ model: analysis, workers: options.workers }));
     form.addSection(new RunView({ model: analysis, onShowResults: options.onShowResults }));
-    form.addSection(new DefaultsView({ model: this.model.defaults, onOpenSettings: options.onOpenSettings }), false);
+    form.addSection(new DefaultsView({ model: this.model.defaults, onOpenSettings: options.onOpenSettings }));
     form.addSection(new RecordsView({ model: this.model.records, onInsertCell: options.onInsertAnalysisCell }));
   }
 

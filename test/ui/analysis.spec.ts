@@ -6,7 +6,7 @@
 import { expect, type Page, test } from '@playwright/test';
 import path from 'node:path';
 
-import { execute, openLab, openNotebookAndPanel, polyadicPanel } from './helpers';
+import { execute, openLab, openNotebookAndPanel, polyadicPanel, sectionTitle } from './helpers';
 import { ARTIFACTS } from './paths';
 
 declare global {
@@ -118,7 +118,7 @@ test('should keep a dark-theme screenshot of the analysis sections', async ({}, 
   expect(fill).not.toBe('');
   // Room for the analysis sections: the notebook and settings sections shut.
   for (const title of ['Notebook', 'Defaults', 'Records']) {
-    const header = polyadicPanel(page).locator('.jp-AccordionPanel-title', { hasText: new RegExp(`^${title}$`, 'i') });
+    const header = sectionTitle(page, title);
     if ((await header.count()) === 1 && (await header.getAttribute('aria-expanded')) === 'true') {
       await header.click();
     }

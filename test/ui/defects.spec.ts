@@ -9,7 +9,7 @@
 import { expect, type Locator, type Page, test } from '@playwright/test';
 import path from 'node:path';
 
-import { execute, openLab, openNotebookAndPanel, polyadicPanel, runNotebookCells } from './helpers';
+import { execute, openLab, openNotebookAndPanel, polyadicPanel, resultsView, runNotebookCells } from './helpers';
 import { ARTIFACTS } from './paths';
 
 test.describe.configure({ mode: 'serial' });
@@ -73,7 +73,7 @@ test('should keep 0/1 and 0/1/2 integer columns as categories by default and fin
   }
   await expect(binningRow('genotype').locator('.pd-Binning-result')).toHaveText('→ 3 categories (each value kept)');
   await run();
-  const first = polyadicPanel(page).locator('.pd-ResultsTable-synergy tbody tr.pd-ResultsTable-row').first();
+  const first = resultsView(page).locator('.pd-ResultsTable-synergy tbody tr.pd-ResultsTable-row').first();
   expect((await first.locator('.pd-ResultsTable-name').allTextContents()).sort()).toEqual(['spike_a', 'spike_b', 'spike_c']);
 
   // an explicit spec that merges the values of such a column says so in the column's row

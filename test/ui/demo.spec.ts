@@ -8,7 +8,7 @@
 import { expect, type Locator, test } from '@playwright/test';
 import path from 'node:path';
 
-import { execute, focusResults, polyadicPanel } from './helpers';
+import { execute, focusResults, polyadicPanel, resultsView } from './helpers';
 import { ARTIFACTS } from './paths';
 
 /** The part of JupyterLab's application object the test uses (`--expose-app-in-browser`). */
@@ -50,7 +50,7 @@ const COLUMNS = [
 
 /** Member names of the first row of a results table, sorted. */
 async function firstRowNames(panel: Locator, side: 'synergy' | 'redundancy'): Promise<string[]> {
-  const row = panel.locator(`.pd-Results .pd-ResultsTable-${side} tbody tr`).first();
+  const row = resultsView(page).locator(`.pd-ResultsTable-${side} tbody tr`).first();
   return (await row.locator('.pd-ResultsTable-name').allTextContents()).sort();
 }
 
@@ -95,13 +95,13 @@ test('should rank the planted triplet and humidity pair first in the demo with t
 
   await run.click();
   await expect(panel.locator('.pd-Run')).toHaveAttribute('data-state', 'done', { timeout: 300_000 });
-  await expect(panel.locator('.pd-Results .pd-ResultsTable-synergy tbody tr').first()).toBeVisible();
+  await expect(resultsView(page).locator('.pd-ResultsTable-synergy tbody tr').first()).toBeVisible();
 
   expect(await firstRowNames(panel, 'synergy')).toEqual(TRIPLET);
   expect(await firstRowNames(panel, 'redundancy')).toEqual(PAIR);
 
-  // Room for the tables in the screenshot: a wider sidebar, and every section but Results folded.
+  // The results view beside the notebook, scrolled to its tables.
   await focusResults(page);
-  await panel.locator('.pd-Results .pd-Results-filters').evaluate(node => node.scrollIntoView({ block: 'start' }));
-  await panel.screenshot({ path: path.join(ARTIFACTS, 'demo-results.png') });
+  await resultsView(page).locator('.pd-Results-filters').evaluate(node => node.scrollIntoView({ block: 'start' }));
+  await page.screenshot({ path: path.join(ARTIFACTS, 'demo-results.png') });
 });

@@ -54,25 +54,26 @@ export async function openNotebookAndPanel(page: Page, notebook: string): Promis
   await expect(polyadicPanel(page)).toBeVisible();
 }
 
-/**
- * Make room for the Results section: drag the right sidebar 300 px wider and fold every section
- * of the panel but Results.
- */
+/** The results view on show in the main area (the front tab of the results documents). */
+export function resultsView(page: Page): Locator {
+  return page.locator('.pd-ResultsDocument:visible .pd-Results');
+}
+
+/** Wait for the results view of a run to show beside the notebook. */
 export async function focusResults(page: Page): Promise<void> {
-  const handle = page.locator('#jp-main-split-panel > .lm-SplitPanel-handle:visible').last();
-  const box = (await handle.boundingBox())!;
-  await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
-  await page.mouse.down();
-  await page.mouse.move(box.x - 300, box.y + box.height / 2, { steps: 5 });
-  await page.mouse.up();
-  const titles = polyadicPanel(page).locator('.lm-AccordionPanel-title');
-  for (let i = 0; i < (await titles.count()); i++) {
-    const title = titles.nth(i);
-    const expanded = (await title.getAttribute('aria-expanded')) === 'true';
-    const isResults = (await title.textContent())?.trim() === 'Results';
-    if (expanded !== isResults) {
-      await title.click();
-    }
+  await expect(resultsView(page)).toBeVisible({ timeout: 60_000 });
+}
+
+/** The header button of the side panel's section `title` (a foldable section of the set-up form). */
+export function sectionTitle(page: Page, title: string): Locator {
+  return polyadicPanel(page).locator('.pd-Fold-title', { hasText: new RegExp(`^${title}$`, 'i') });
+}
+
+/** Open the side panel's section `title` if it is folded. */
+export async function openSection(page: Page, title: string): Promise<void> {
+  const header = sectionTitle(page, title);
+  if ((await header.getAttribute('aria-expanded')) !== 'true') {
+    await header.click();
   }
 }
 

@@ -150,7 +150,7 @@ test.describe('Polyadic panel', () => {
 
     await openLabAtLauncher(page, workspace);
     await runFromPalette(page, 'Open Polyadic panel');
-    const titles = polyadicPanel(page).locator('.lm-AccordionPanel-title');
+    const titles = polyadicPanel(page).locator('.pd-Fold-title');
     await expect(titles.first()).toBeVisible();
     for (const title of await titles.all()) {
       await expect(title).toHaveAttribute('aria-expanded', 'true');

@@ -7,7 +7,7 @@
  */
 import { expect, type Locator, type Page, test } from '@playwright/test';
 
-import { execute, focusResults, openLab, openNotebookAndPanel, polyadicPanel } from './helpers';
+import { execute, focusResults, openLab, openNotebookAndPanel, openSection, polyadicPanel, resultsView } from './helpers';
 import { ARTIFACTS } from './paths';
 
 test.describe.configure({ mode: 'serial' });
@@ -21,7 +21,7 @@ function section(title: string): Locator {
 }
 
 function results(): Locator {
-  return polyadicPanel(page).locator('.pd-Results');
+  return resultsView(page);
 }
 
 test.beforeAll(async ({ browser }) => {
@@ -43,10 +43,7 @@ test.afterAll(async () => {
 
 test('should start from the settings’ surrogates and refuse a count that is not a number, blocking Run', async () => {
   const statistics = section('Statistics');
-  const title = polyadicPanel(page).locator('.lm-AccordionPanel-title', { hasText: 'Statistics' });
-  if ((await title.getAttribute('aria-expanded')) !== 'true') {
-    await title.click();
-  }
+  await openSection(page, 'Statistics');
   const surrogates = statistics.getByRole('textbox', { name: 'Surrogates', exact: true });
   // the settings' default (schema/settings/plugin.json)
   await expect(surrogates).toHaveValue('100');

@@ -5,7 +5,7 @@
  * runs again).
  */
 import { MainAreaWidget, WidgetTracker } from '@jupyterlab/apputils';
-import type { JupyterFrontEnd } from '@jupyterlab/application';
+import type { ILabShell, JupyterFrontEnd } from '@jupyterlab/application';
 import { IDisposable } from '@lumino/disposable';
 import type { Widget } from '@lumino/widgets';
 
@@ -227,8 +227,20 @@ export class ResultsDocuments implements IDisposable {
     if (doc.isAttached) {
       return;
     }
+    // beside the other results views when there are some (as tabs), else split beside the notebook
+    const sibling = this.tracker.find(other => other !== doc && other.isAttached && !other.isDisposed);
+    if (sibling) {
+      this._options.shell.add(doc, 'main', { mode: 'tab-after', ref: sibling.id });
+      return;
+    }
     const ref = this._options.currentNotebook?.() ?? null;
     this._options.shell.add(doc, 'main', ref ? { mode: 'split-right', ref: ref.id } : { mode: 'split-right' });
+    // two documents side by side need the width: fold the left sidebar (its icons stay, one
+    // click brings it back) when the main area is narrower than both at a readable width
+    const shell = this._options.shell as unknown as Partial<ILabShell>;
+    if (typeof shell.collapseLeft === 'function' && window.innerWidth < ResultsDocuments.ROOMY_WIDTH) {
+      shell.collapseLeft();
+    }
   }
 
   private readonly _options: ResultsDocuments.IOptions;
@@ -240,6 +252,9 @@ export class ResultsDocuments implements IDisposable {
 export namespace ResultsDocuments {
   /** Namespace of the tracker (and of the layout restorer's entries). */
   export const NAMESPACE = 'polyadic-results';
+
+  /** Window width (px) below which opening a results view folds the left sidebar. */
+  export const ROOMY_WIDTH = 1800;
 
   /** Completed runs kept for reopening a closed view in this session. */
   export const KEPT_RUNS = 4;

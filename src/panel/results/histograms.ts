@@ -324,6 +324,9 @@ namespace Private {
           type: 'log',
           // from half a multiplet up, so a bar of one multiplet has height
           range: [Math.log10(0.5), Math.log10(maxCount * 1.6)],
+          tickmode: 'array',
+          tickvals: Private.powers(maxCount),
+          ticktext: Private.powers(maxCount).map(v => formatCount(v)),
           domain: [0.26, 1],
           gridcolor: colors.grid,
           zerolinecolor: colors.grid,
@@ -340,6 +343,15 @@ namespace Private {
         margin: { l: 48, r: 8, t: histogram.band ? 16 : 6, b: 38 }
       }
     };
+  }
+
+  /** 1, 10, 100, … up to `max`: the ticks of a log count axis. */
+  export function powers(max: number): number[] {
+    const out = [1];
+    while (out[out.length - 1] * 10 <= max) {
+      out.push(out[out.length - 1] * 10);
+    }
+    return out;
   }
 
   /** The x range: the bars, and every extreme tick inside it with a little room. */

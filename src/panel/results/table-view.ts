@@ -4,7 +4,7 @@
  */
 import { Widget } from '@lumino/widgets';
 
-import { textElement } from '../dom';
+import { textElement, uniqueId } from '../dom';
 import { exportFileName, provenanceCsv, provenanceEntries, tableEntries, type IExportSource } from './export';
 import { formatAdequacy, formatCount, formatValue } from './format';
 import { RESULTS_COLUMNS, type ResultsColumnKey } from './store';
@@ -52,6 +52,18 @@ export class MultipletTableView extends Widget {
     this._qRow.append(this._qFilter, this._qLabel);
     const scroll = textElement('div', 'pd-ResultsTable-scroll');
     scroll.append(this._table);
+    // The table shows the ranking measures and the evidence on co-information; every other
+    // measure is one tick away (and always in the detail view of the selected row and in the CSV).
+    const allId = uniqueId('pd-results-all');
+    this._all = textElement('input', 'pd-ResultsTable-allToggle');
+    this._all.type = 'checkbox';
+    this._all.id = allId;
+    this._all.addEventListener('change', () => this._render());
+    const allLabel = textElement('label', 'pd-ResultsTable-allLabel', 'Every measure');
+    allLabel.htmlFor = allId;
+    allLabel.title = 'Add total and dual total correlation, S-information and the other evidence columns (the table may then scroll sideways)';
+    const allRow = textElement('div', 'pd-ResultsTable-filters');
+    allRow.append(this._all, allLabel);
 
     const pager = textElement('div', 'pd-ResultsTable-pager');
     this._previous = textElement('button', 'pd-ResultsTable-page jp-mod-styled', 'Previous');
@@ -71,9 +83,14 @@ export class MultipletTableView extends Widget {
     exportButton.addEventListener('click', () => this._export());
     pager.append(this._previous, this._status, this._next, exportButton);
 
-    this.node.append(heading, note, this._qRow, scroll, pager);
+    this.node.append(heading, note, this._qRow, allRow, scroll, pager);
     this._model.changed.connect(this._render, this);
     this._render();
+  }
+
+  /** Whether the table shows every measure, not only the compact set. */
+  get everyMeasure(): boolean {
+    return this._all.checked;
   }
 
   /** The table model shown. */
@@ -104,7 +121,8 @@ export class MultipletTableView extends Widget {
     const model = this._model;
     const store = model.store;
     const { key, descending } = model.sort;
-    const columns = store ? store.columns : RESULTS_COLUMNS;
+    const every = store ? store.columns : RESULTS_COLUMNS;
+    const columns = this._all.checked ? every : every.filter(column => MultipletTableView.COMPACT_COLUMNS.has(column.key));
     this._renderHead(columns);
     columns.forEach((column, i) => {
       this._headers[i].setAttribute(
@@ -159,6 +177,8 @@ export class MultipletTableView extends Widget {
             if (column.key === 'q_value' && alpha !== null && value <= alpha) {
               cell.classList.add('pd-mod-significant');
             }
+            // the unrounded value, for readers that check sums (the text is rounded)
+            cell.dataset.value = String(value);
             return cell;
           })
         );
@@ -256,6 +276,7 @@ export class MultipletTableView extends Widget {
 
   private readonly _model: MultipletTable;
   private readonly _onSelect: (index: number) => void;
+  private readonly _all: HTMLInputElement;
   private readonly _source: () => IExportSource | null;
   private readonly _table: HTMLTableElement;
   private readonly _body: HTMLTableSectionElement;
@@ -273,6 +294,20 @@ export class MultipletTableView extends Widget {
 
 /** The statics of {@link MultipletTableView}. */
 export namespace MultipletTableView {
+  /**
+   * The columns of the compact table (the default): the multiplet, its order, the two ranking
+   * measures, their evidence (q, p) and adequacy; they fit a results view beside a notebook.
+   */
+  export const COMPACT_COLUMNS: ReadonlySet<ResultsColumnKey> = new Set<ResultsColumnKey>([
+    'columns',
+    'order',
+    'co_information',
+    'o_information',
+    'q_value',
+    'p_value',
+    'adequacy'
+  ]);
+
   /** Options of a {@link MultipletTableView}. */
   export interface IOptions {
     model: MultipletTable;
