@@ -5,7 +5,7 @@
  * first: the valve/flow/leak-alarm triplet for synergy, the two humidity sensors for
  * redundancy (both planted in demo/generate.py; see its module docstring).
  */
-import { expect, type Locator, test } from '@playwright/test';
+import { expect, type Page, test } from '@playwright/test';
 import path from 'node:path';
 
 import { execute, focusResults, polyadicPanel, resultsView } from './helpers';
@@ -49,7 +49,7 @@ const COLUMNS = [
 ];
 
 /** Member names of the first row of a results table, sorted. */
-async function firstRowNames(panel: Locator, side: 'synergy' | 'redundancy'): Promise<string[]> {
+async function firstRowNames(page: Page, side: 'synergy' | 'redundancy'): Promise<string[]> {
   const row = resultsView(page).locator(`.pd-ResultsTable-${side} tbody tr`).first();
   return (await row.locator('.pd-ResultsTable-name').allTextContents()).sort();
 }
@@ -97,8 +97,8 @@ test('should rank the planted triplet and humidity pair first in the demo with t
   await expect(panel.locator('.pd-Run')).toHaveAttribute('data-state', 'done', { timeout: 300_000 });
   await expect(resultsView(page).locator('.pd-ResultsTable-synergy tbody tr').first()).toBeVisible();
 
-  expect(await firstRowNames(panel, 'synergy')).toEqual(TRIPLET);
-  expect(await firstRowNames(panel, 'redundancy')).toEqual(PAIR);
+  expect(await firstRowNames(page, 'synergy')).toEqual(TRIPLET);
+  expect(await firstRowNames(page, 'redundancy')).toEqual(PAIR);
 
   // The results view beside the notebook, scrolled to its tables.
   await focusResults(page);
