@@ -7,7 +7,7 @@
  */
 import { expect, type Locator, type Page, test } from '@playwright/test';
 
-import { execute, openLab, openNotebookAndPanel, polyadicPanel } from './helpers';
+import { execute, openLab, openNotebookAndPanel, polyadicPanel, resultsView } from './helpers';
 
 test.describe.configure({ mode: 'serial' });
 
@@ -90,7 +90,7 @@ test('should run on three columns with the defaults', async () => {
   });
   await expect(panel.locator('.pd-Run')).toHaveAttribute('data-state', 'done');
   // The default missing-value policy drops a row with a gap in any selected column.
-  await expect(panel.getByText(`${ROWS - ROWS_WITH_A_GAP} rows used of ${ROWS}`, { exact: false })).toBeVisible();
+  await expect(resultsView(page).getByText(`${ROWS - ROWS_WITH_A_GAP} rows used of ${ROWS}`, { exact: false })).toBeVisible();
 });
 
 test('should hand the multiplet table to the kernel and leave the history alone', async () => {
