@@ -43,7 +43,7 @@ async function serverFile(name: string, format: 'json' | 'base64'): Promise<unkn
 async function save(): Promise<void> {
   await execute(page, 'docmanager:save');
   await expect(page.locator('.jp-NotebookPanel .jp-mod-dirty')).toHaveCount(0);
-  await expect(page.locator('.lm-DockPanel-tabBar .lm-mod-current.jp-mod-dirty')).toHaveCount(0);
+  await expect(page.locator('.lm-DockPanel-tabBar .lm-TabBar-tab.jp-mod-current.jp-mod-dirty')).toHaveCount(0);
 }
 
 test.beforeAll(async ({ browser }) => {
@@ -75,7 +75,7 @@ test('should record a completed run in the notebook and save a record that valid
   recordId = (await item.getAttribute('data-record-id')) ?? '';
   expect(recordId).toMatch(/^pd-[0-9a-z]{8,32}$/);
   // recording is an edit: the notebook must be dirty until saved
-  await expect(page.locator('.lm-DockPanel-tabBar .lm-mod-current.jp-mod-dirty')).toHaveCount(1);
+  await expect(page.locator('.lm-DockPanel-tabBar .lm-TabBar-tab.jp-mod-current.jp-mod-dirty')).toHaveCount(1);
 
   await save();
   const notebook = (await serverFile(NOTEBOOK, 'json')) as { metadata: Record<string, unknown> };

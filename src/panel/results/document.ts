@@ -183,8 +183,25 @@ export class ResultsDocuments implements IDisposable {
     doc.showRun(run);
     doc.setTitle(run.frame.name, this._labelOf(run.analysisId));
     this._place(doc);
-    if (created) {
-      this._options.shell.activateById(doc.id);
+    if (!created) {
+      this._reveal(doc);
+    }
+  }
+
+  /**
+   * Bring `doc` to the front of its tab area without taking the focus: the notebook the run
+   * came from stays the current document, so saving, running cells and the side panel keep
+   * acting on it. (A new document is split beside the notebook, visible already.)
+   */
+  private _reveal(doc: ResultsDocument): void {
+    if (doc.isVisible) {
+      return;
+    }
+    const shell = this._options.shell as unknown as Partial<ILabShell>;
+    const previous = shell.currentWidget ?? null;
+    this._options.shell.activateById(doc.id);
+    if (previous && previous !== doc && !previous.isDisposed) {
+      this._options.shell.activateById(previous.id);
     }
   }
 
@@ -230,11 +247,12 @@ export class ResultsDocuments implements IDisposable {
     // beside the other results views when there are some (as tabs), else split beside the notebook
     const sibling = this.tracker.find(other => other !== doc && other.isAttached && !other.isDisposed);
     if (sibling) {
-      this._options.shell.add(doc, 'main', { mode: 'tab-after', ref: sibling.id });
+      this._options.shell.add(doc, 'main', { mode: 'tab-after', ref: sibling.id, activate: false });
       return;
     }
     const ref = this._options.currentNotebook?.() ?? null;
-    this._options.shell.add(doc, 'main', ref ? { mode: 'split-right', ref: ref.id } : { mode: 'split-right' });
+    // not activated: the notebook stays the current document (see `_reveal`)
+    this._options.shell.add(doc, 'main', { mode: 'split-right', ref: ref?.id ?? null, activate: false });
     // two documents side by side need the width: fold the left sidebar (its icons stay, one
     // click brings it back) when the main area is narrower than both at a readable width
     const shell = this._options.shell as unknown as Partial<ILabShell>;
