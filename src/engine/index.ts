@@ -52,6 +52,7 @@ export type { ILattice, ILatticeInput, ISubtreeResult } from './lattice';
 export { isContinuousEstimator, walkLattice, walkLatticeSubtree } from './walk';
 export { computeCopulaLattice, copulaNormalise, gaussianEntropy, normalQuantile, walkCopulaSubtree } from './copula';
 export { kendallTau, robustnessRun } from './robustness';
+export { chainFromNats, chainsOfLattice, checkChainRequests, GREEDY_CHAINS, latticeOfResult, latticeSource } from './chains';
 export type { IRobustnessAgreement, IRobustnessResult, IRobustnessRow, IRobustnessVariant } from './robustness';
 export {
   chainAlong,

@@ -8,7 +8,7 @@
 import { expect, type Locator, type Page, test } from '@playwright/test';
 import path from 'node:path';
 
-import { execute, openLab, openNotebookAndPanel, polyadicPanel, resultsView, sectionTitle } from './helpers';
+import { execute, openLab, openNotebookAndPanel, polyadicPanel, resultsView, sectionTitle, shutDownKernels } from './helpers';
 import { ARTIFACTS } from './paths';
 
 test.describe.configure({ mode: 'serial' });
@@ -37,6 +37,8 @@ test.beforeAll(async ({ browser }) => {
 });
 
 test.afterAll(async () => {
+  // results.spec opens the same notebook and expects a kernel without its frames
+  await shutDownKernels(page);
   await page.close();
 });
 

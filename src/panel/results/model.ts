@@ -7,11 +7,9 @@
 import { ISignal, Signal } from '@lumino/signaling';
 
 import { binIndexByEdges } from '../../engine/binning';
-import { fromNats } from '../../engine/estimators';
-import type { ILattice } from '../../engine/lattice';
+import { chainFromNats, latticeOfResult, latticeSource } from '../../engine/chains';
 import { chainAlong, extremalChains } from '../../engine/measures';
 import type { IEntropySource } from '../../engine/measures';
-import { createIndexing, indexOfColumns } from '../../engine/multiplets';
 import type { IAnalysisResult, MissingPolicy } from '../../engine/types';
 import type { IAnalysisState, IRunCompleted } from '../analysis/types';
 import { orderHistogram } from '../../record/summary';
@@ -388,10 +386,8 @@ export class ResultsModel {
   }
 
   private _setChain(kind: IChainView['kind'], columns: string[], nats: number[]): void {
-    const units = this._result!.units;
     // the chain's first entry is a single column's entropy; the figure starts at the pair
-    const values = nats.slice(1).map(v => fromNats(v, units));
-    const steps = values.slice(1).map((v, i) => v - values[i]);
+    const { values, steps } = chainFromNats('ordering', columns, nats, this._result!.units);
     this._chain = { kind, columns, values, steps };
     this._chainError = null;
   }
@@ -406,38 +402,11 @@ export class ResultsModel {
       return this._source;
     }
     const result = this._result!;
-    if (!this.complete) {
-      return (
-        'Conditioning chains need every multiplet of the analysis; this result keeps only its ' +
-        'strongest ones. Run again without a top-N limit to see chains.'
-      );
+    const lattice = latticeOfResult(result);
+    if (typeof lattice === 'string') {
+      return lattice;
     }
-    const n = result.columns.length;
-    const indexing = createIndexing(n, Math.min(result.max_order, n));
-    const entropy = new Float64Array(indexing.size);
-    const toNats = result.units === 'bits' ? Math.LN2 : 1;
-    const indexOf = new Map(result.columns.map((column, i) => [column.name, i]));
-    for (const row of result.multiplets) {
-      const index = indexOfColumns(
-        indexing,
-        row.columns.map(name => indexOf.get(name)!)
-      );
-      entropy[index] = row.entropy * toNats;
-    }
-    const lattice: ILattice = {
-      indexing,
-      estimator: result.estimator,
-      rows: result.rows_used,
-      bins: result.columns.map(column => column.bins),
-      entropy,
-      occupied: new Int32Array(indexing.size)
-    };
-    this._source = {
-      codes: result.columns.map(() => new Int32Array(0)),
-      bins: lattice.bins,
-      estimator: result.estimator,
-      lattice
-    };
+    this._source = latticeSource(lattice, result.estimator);
     return this._source;
   }
 
