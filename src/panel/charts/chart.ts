@@ -19,6 +19,8 @@ export interface IChartColors {
   background: string;
   synergy: string;
   redundancy: string;
+  /** A column's own distribution (the binning preview). */
+  distribution: string;
   accent: string;
   font: string;
 }
@@ -226,6 +228,7 @@ namespace Private {
       background: read('--jp-layout-color1', '#fff'),
       synergy: read('--pd-synergy-color', '#c60'),
       redundancy: read('--pd-redundancy-color', '#16c'),
+      distribution: read('--pd-distribution-color', '#888'),
       accent: read('--jp-brand-color1', '#16c'),
       font: read('--jp-ui-font-family', 'sans-serif')
     };
