@@ -11,7 +11,7 @@ import type { IFetchedFrame } from '../../bridge/decode';
 import { formatCount, plural, wordFor } from '../../engine/text';
 import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
 import { newRecordId } from '../../record/ids';
-import type { IPolyadicSettings } from '../../tokens';
+import type { IPolyadicSettings } from '../../settings';
 import type { EnginePool, IRunProgress, IRunResult } from '../../worker/pool';
 import type { IColumnPreview } from '../../worker/protocol';
 import { BinningModel } from '../binning/model';

@@ -7,7 +7,7 @@
  * The results view adds its strip of extreme multiplets under the bars (`strip`).
  */
 import { formatCount } from '../../engine/text';
-import type { IChartColors, IFigure } from './chart';
+import type { IChartColors, IFigure } from './types';
 
 /** What a histogram figure draws. */
 export interface IHistogramInput {
