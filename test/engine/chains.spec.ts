@@ -10,26 +10,8 @@ import { latticeOfResult } from '../../src/engine/chains';
 import { fromNats } from '../../src/engine/estimators';
 import { computeLattice } from '../../src/engine/lattice';
 import { conditionalCoinformation, type IEntropySource } from '../../src/engine/measures';
-import type { IAnalysisResult } from '../../src/engine/types';
-import { categoricalColumn, codedTable, expectPolyadic, numericColumn } from './helpers';
-
-/** XOR of two fair bits with a noise column, every combination twice: 16 rows. */
-function xorColumns(): ReturnType<typeof numericColumn>[] {
-  const a: number[] = [];
-  const b: number[] = [];
-  const noise: number[] = [];
-  for (let r = 0; r < 16; r++) {
-    a.push(r & 1);
-    b.push((r >> 1) & 1);
-    noise.push((r >> 2) & 1);
-  }
-  return [
-    numericColumn('a', a),
-    numericColumn('b', b),
-    numericColumn('c', a.map((x, i) => x ^ b[i])),
-    numericColumn('noise', noise)
-  ];
-}
+import type { IAnalysisResult, INumericColumn } from '../../src/engine/types';
+import { categoricalColumn, codedTable, expectPolyadic, numericColumn, xorWithCopies } from './helpers';
 
 /** The co-information of a set of names, read from the result's own multiplet rows. */
 function coinformationIn(result: IAnalysisResult, names: string[]): number {
@@ -43,27 +25,26 @@ function coinformationIn(result: IAnalysisResult, names: string[]): number {
 
 describe('conditioning chains', () => {
   describe('#analyze with chains', () => {
-    it('should give the XOR chain a, b, c as 0 then −1 bit, the step being −I(a;b | c) = −1 bit', () => {
-      // By hand: a and b are independent fair bits (I(a;b) = 0); given c = a xor b, either one
-      // determines the other, so I(a;b | c) = H(a | c) = 1 bit, and I(a;b;c) = 0 − 1 = −1 bit.
-      const result = analyze(xorColumns(), { bins: 'categorical', chains: [['a', 'b', 'c']] });
+    it('should give the XOR chain x, y, z as 0 then −1 bit, the step being −I(x;y | z) = −1 bit', () => {
+      // By hand: x and y are independent fair bits (I(x;y) = 0); given z = x xor y, either one
+      // determines the other, so I(x;y | z) = H(x | z) = 1 bit, and I(x;y;z) = 0 − 1 = −1 bit.
+      const result = analyze(xorWithCopies(), { bins: 'categorical', chains: [['x', 'y', 'z']] });
       expect(result.chains).toHaveLength(1);
       const [chain] = result.chains!;
       expect(chain.kind).toBe('ordering');
-      expect(chain.columns).toEqual(['a', 'b', 'c']);
+      expect(chain.columns).toEqual(['x', 'y', 'z']);
       expect(chain.values).toEqual([expect.closeTo(0, 12), expect.closeTo(-1, 12)]);
       expect(chain.steps).toEqual([expect.closeTo(-1, 12)]);
     });
 
     it('should grow the greedy chains from the XOR triplet and from the most redundant pair', () => {
-      const columns = [...xorColumns(), numericColumn('copy_of_noise', xorColumns()[3].values as Float64Array)];
-      const result = analyze(columns, { bins: 'categorical', maxOrder: 3, chains: ['greedy-synergy', 'greedy-redundancy'] });
+      const result = analyze(xorWithCopies(), { bins: 'categorical', maxOrder: 3, chains: ['greedy-synergy', 'greedy-redundancy'] });
       const [synergy, redundancy] = result.chains!;
       expect(synergy.kind).toBe('greedy-synergy');
-      expect([...synergy.columns].sort()).toEqual(['a', 'b', 'c']);
+      expect([...synergy.columns].sort()).toEqual(['x', 'y', 'z']);
       expect(synergy.values[1]).toBeCloseTo(-1, 12);
       expect(redundancy.kind).toBe('greedy-redundancy');
-      expect([...redundancy.columns.slice(0, 2)].sort()).toEqual(['copy_of_noise', 'noise']);
+      expect([...redundancy.columns.slice(0, 2)].sort()).toEqual(['c1', 'c2']);
       expect(redundancy.values[0]).toBeCloseTo(1, 12);
       expect(redundancy.columns).toHaveLength(3);
     });
@@ -117,21 +98,21 @@ describe('conditioning chains', () => {
     });
 
     it('should be the same with and without a top-N cut, with statistics, and in nats', () => {
-      const base = analyze(xorColumns(), { bins: 'categorical', chains: [['c', 'noise', 'a']] });
-      const cut = analyze(xorColumns(), { bins: 'categorical', top: 1, chains: [['c', 'noise', 'a']] });
+      const base = analyze(xorWithCopies(), { bins: 'categorical', chains: [['z', 'c1', 'x']] });
+      const cut = analyze(xorWithCopies(), { bins: 'categorical', top: 1, chains: [['z', 'c1', 'x']] });
       expect(cut.multiplets.length).toBeLessThan(base.multiplets.length);
       expect(cut.chains).toEqual(base.chains);
-      const nats = analyze(xorColumns(), { bins: 'categorical', units: 'nats', chains: [['a', 'b', 'c']] });
+      const nats = analyze(xorWithCopies(), { bins: 'categorical', units: 'nats', chains: [['x', 'y', 'z']] });
       expect(nats.chains![0].values[1]).toBeCloseTo(-Math.LN2, 12);
-      expect(analyze(xorColumns(), { bins: 'categorical' }).chains).toBeUndefined();
+      expect(analyze(xorWithCopies(), { bins: 'categorical' }).chains).toBeUndefined();
     });
 
     it('should refuse a column that is not analysed, a repeat, a single column, a chain longer than the maximum order, an unknown name', () => {
-      const columns = [...xorColumns(), categoricalColumn('label', Array.from({ length: 16 }, (_v, i) => (i % 2 ? 'x' : 'y')))];
-      expectPolyadic(() => analyze(columns, { chains: [['a', 'zeta']] }), 'usage', /names column 'zeta', which is not among the analysed columns/);
-      expectPolyadic(() => analyze(columns, { chains: [['a', 'b', 'a']] }), 'usage', /lists column 'a' twice/);
-      expectPolyadic(() => analyze(columns, { chains: [['a']] }), 'usage', /starts at a pair/);
-      expectPolyadic(() => analyze(columns, { maxOrder: 2, chains: [['a', 'b', 'c']] }), 'usage', /more than the maximum order 2/);
+      const columns = [...xorWithCopies(), categoricalColumn('label', Array.from({ length: 16 }, (_v, i) => (i % 2 ? 'p' : 'q')))];
+      expectPolyadic(() => analyze(columns, { chains: [['x', 'zeta']] }), 'usage', /names column 'zeta', which is not among the analysed columns/);
+      expectPolyadic(() => analyze(columns, { chains: [['x', 'y', 'x']] }), 'usage', /lists column 'x' twice/);
+      expectPolyadic(() => analyze(columns, { chains: [['x']] }), 'usage', /starts at a pair/);
+      expectPolyadic(() => analyze(columns, { maxOrder: 2, chains: [['x', 'y', 'z']] }), 'usage', /more than the maximum order 2/);
       expectPolyadic(
         () => analyze(columns, { chains: ['greedy-sideways' as 'greedy-synergy'] }),
         'usage',
@@ -142,14 +123,14 @@ describe('conditioning chains', () => {
 
   describe('#latticeOfResult', () => {
     it('should rebuild the walked lattice from a complete result and refuse a top-N result', () => {
-      const columns = xorColumns();
+      const columns = xorWithCopies();
       const result = analyze(columns, { bins: 'categorical', units: 'nats' });
       const rebuilt = latticeOfResult(result);
       if (typeof rebuilt === 'string') {
         throw new Error(rebuilt);
       }
-      const codes = columns.map(column => Int32Array.from(column.values as ArrayLike<number>));
-      const walked = computeLattice({ codes, bins: [2, 2, 2, 2], maxOrder: 4, estimator: 'plugin' });
+      const codes = columns.map(column => Int32Array.from((column as INumericColumn).values as Float64Array));
+      const walked = computeLattice({ codes, bins: [2, 2, 2, 2, 2], maxOrder: 5, estimator: 'plugin' });
       Array.from(walked.entropy).forEach((h, i) => expect(rebuilt.entropy[i]).toBeCloseTo(h, 12));
       expect(latticeOfResult(analyze(columns, { bins: 'categorical', top: 2 }))).toMatch(/without a top-N limit/);
     });
