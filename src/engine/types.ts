@@ -67,7 +67,7 @@ export type BinMethod =
 
 /**
  * What a spec may name: a binning method, or `auto`, the default rule that picks one per column
- * (`categorical` for a column of few distinct values, else `quantile:4`; see binning.ts).
+ * (`categorical` for a column of few distinct values, else `quantile:4`; see binning/spec.ts).
  */
 export type BinSpecMethod = BinMethod | 'auto';
 
