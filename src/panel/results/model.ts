@@ -12,7 +12,7 @@ import { chainAlong, extremalChains } from '../../engine/measures';
 import type { IEntropySource } from '../../engine/measures';
 import type { IAnalysisResult, MissingPolicy } from '../../engine/types';
 import type { IAnalysisState, IRunCompleted } from '../analysis/types';
-import { orderHistogram } from '../../record/summary';
+import { orderHistogram } from '../../engine/histogram';
 import type { IOrderHistogram } from '../../record/types';
 import type { IExportSource } from './export';
 import { MultipletStore } from './store';
