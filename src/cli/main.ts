@@ -16,7 +16,7 @@ import { EnginePool } from '../worker/pool';
 import { BIN_SPEC_FORMS, parseBinSpec } from '../engine/binning';
 import { GREEDY_CHAINS } from '../engine/chains';
 import { ESTIMATORS } from '../engine/estimators';
-import { isPolyadicError, PolyadicError } from '../engine/errors';
+import { errorMessage, isPolyadicError, PolyadicError } from '../engine/errors';
 import { unknownColumn } from '../engine/table';
 import type { ChainRequest, EstimatorName, IAnalysisResult, IAnalyzeOptions, MissingPolicy, Units } from '../engine/types';
 import { EXIT, ICliStreams, oneLine } from './core';
@@ -174,7 +174,7 @@ export function reportError(error: unknown, streams: ICliStreams, source?: IData
     streams.stderr.write(`polyadic: ${oneLine(message)}\n`);
     return EXIT.usage;
   }
-  const message = error instanceof Error ? error.message : String(error);
+  const message = errorMessage(error);
   streams.stderr.write(
     `polyadic: internal error: ${oneLine(message)}\n` +
       'polyadic: this is a bug in Polyadic; please report it with the command you ran, ' +
@@ -506,7 +506,7 @@ namespace Private {
 
   /** The first sentence of node's argument-parser message, in our lower-case style. */
   function firstSentence(error: unknown): string {
-    const message = error instanceof Error ? error.message : String(error);
+    const message = errorMessage(error);
     const sentence = message.split(/\.\s/)[0].replace(/\.$/, '');
     return sentence.charAt(0).toUpperCase() + sentence.slice(1);
   }
