@@ -161,6 +161,9 @@ describe('DetailModel', () => {
       }
       expect(tables.choices.map(c => c.column)).toEqual(detail.detail!.columns);
       expect(tables.chosenBy).toBe('default');
+      expect(tables.defaultConditioning).toBe(tables.conditioning);
+      // 500 rows over the 2 × 2 cells of the pooled pair
+      expect(tables.pooled.rowsPerCell).toBe(125);
       // the default is the choice of least pooled mutual information
       const least = Math.min(...tables.choices.map(c => c.pooledMutualInformation));
       expect(tables.choices.find(c => c.column === tables.conditioning)!.pooledMutualInformation).toBe(least);
@@ -197,6 +200,7 @@ describe('DetailModel', () => {
       }
       expect(tables.conditioning).toBe(other);
       expect(tables.chosenBy).toBe('user');
+      expect(tables.defaultConditioning).toBe(first);
       expect(tables.levels.every(level => level.level!.column === other)).toBe(true);
       expect(tables.levels.every(level => level.rowColumn !== other && level.columnColumn !== other)).toBe(true);
       detail.setConditioning('not a member');

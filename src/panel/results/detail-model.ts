@@ -49,6 +49,8 @@ export interface IDetailTable {
   /** counts[i][j]: rows with X in bin i and Y in bin j. */
   counts: number[][];
   total: number;
+  /** Rows per cell of the table (below 5, the patterns may be noise: Cochran's rule of thumb). */
+  rowsPerCell: number;
   /** The level of the conditioning column these rows share, for a conditional table. */
   level?: { column: string; label: string };
   /** Mutual information of X and Y within this table, in the result's units. */
@@ -79,6 +81,8 @@ export interface ITripletTables {
   conditioning: string;
   /** Whether it is the default (least pooled mutual information) or the user's pick. */
   chosenBy: 'default' | 'user';
+  /** The default conditioning column: the other two share the least mutual information pooled over it. */
+  defaultConditioning: string;
   /** The three choices, in the multiplet's order. */
   choices: IConditioningChoice[];
   /** The pair pooled over every level. */
@@ -267,6 +271,7 @@ export class DetailModel {
       kind: 'triplet',
       conditioning: names[z],
       chosenBy: this._conditioning === null ? 'default' : 'user',
+      defaultConditioning: names[best],
       choices,
       pooled: this._detailTable(pooled, codes, x, y),
       levels,
@@ -294,6 +299,7 @@ export class DetailModel {
         Array.from(table.counts.subarray(i * table.columnLevels, (i + 1) * table.columnLevels))
       ),
       total: table.total,
+      rowsPerCell: table.total / (table.rowLevels * table.columnLevels),
       ...(level ? { level } : {}),
       mutualInformation: fromNats(tableMutualInformation(table, result.estimator), result.units),
       overRepresented:
