@@ -180,6 +180,7 @@ export class DetailView extends Panel {
       `Their mutual information from these counts is ${formatValue(table.mutualInformation)} ${detail.units}: ` +
       'counts spread evenly over the table mean none, counts piled on a few cells mean much.';
     this._setCaution([table]);
+    this._tablesChart.plotNode.style.height = `${DetailView.TABLE_HEIGHT}px`;
     this._tablesChart.setFigure(colors => Private.heatmaps([table], colors));
     this._setTextTables([table]);
   }
@@ -230,7 +231,7 @@ export class DetailView extends Panel {
     const rowsOfPanels = Math.ceil(tables.levels.length / DetailView.PANELS_PER_ROW);
     this._tablesChart.plotNode.style.height = `${DetailView.TABLE_HEIGHT * rowsOfPanels}px`;
     this._tablesChart.setFigure(colors => Private.heatmaps(tables.levels, colors, DetailView.TABLE_HEIGHT * rowsOfPanels));
-    this._setTextTables([...tables.levels, tables.pooled]);
+    this._setTextTables([...tables.levels, tables.pooled], tables.conditioning);
   }
 
   private _showSubMultiplets(detail: IMultipletDetail, subs: ISubMultiplets): void {
@@ -271,10 +272,11 @@ export class DetailView extends Panel {
     }
   }
 
-  private _setTextTables(tables: IDetailTable[]): void {
+  /** The tables as HTML tables; a table without a level is pooled over `pooledOver`, when given. */
+  private _setTextTables(tables: IDetailTable[], pooledOver?: string): void {
     const node = this._textTables.node;
     const summary = textElement('summary', 'pd-Detail-textSummary', tables.length === 1 ? 'Counts as a table' : 'Counts as tables');
-    node.replaceChildren(summary, ...tables.map(Private.textTable));
+    node.replaceChildren(summary, ...tables.map(table => Private.textTable(table, pooledOver)));
   }
 
   private readonly _model: DetailModel;
@@ -344,9 +346,13 @@ namespace Private {
   }
 
   /** A contingency table as an HTML table: caption, column labels, a row per bin, row totals. */
-  export function textTable(table: IDetailTable): HTMLTableElement {
+  export function textTable(table: IDetailTable, pooledOver?: string): HTMLTableElement {
     const node = textElement('table', 'pd-Table pd-Detail-table');
-    const where = table.level ? `, where ${table.level.column} = ${table.level.label}` : '';
+    const where = table.level
+      ? `, where ${table.level.column} = ${table.level.label}`
+      : pooledOver !== undefined
+        ? `, pooled over every level of ${pooledOver}`
+        : '';
     node.append(
       textElement('caption', 'pd-Detail-caption', `${table.rowColumn} (rows) by ${table.columnColumn} (columns)${where}: ${plural(table.total, 'row')}`)
     );
