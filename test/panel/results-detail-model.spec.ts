@@ -109,13 +109,26 @@ describe('DetailModel', () => {
     });
 
     it('should list the evidence columns when statistics ran', () => {
-      const { results, detail, result } = show(planted(0, 200).columns, { maxOrder: 3, statistics: { surrogates: 19, seed: 3 } });
+      const { results, detail, result } = show(planted(0, 200).columns, { maxOrder: 3, statistics: { surrogates: 19, bootstrap: 10, seed: 3 } });
       const index = rowOf(results, ['valve', 'flow', 'alarm']);
       results.selectMultiplet(index);
+      const row = result.multiplets[index];
       const evidence = new Map(detail.detail!.evidence.map(m => [m.key, m]));
-      expect(evidence.get('p_value')!.value).toBe(result.multiplets[index].p_value);
-      expect(evidence.get('q_value')!.value).toBe(result.multiplets[index].q_value);
+      expect(evidence.get('p_value')!.value).toBe(row.p_value);
+      expect(evidence.get('q_value')!.value).toBe(row.q_value);
       expect(evidence.get('null_mean')!.unit).toBe('bits');
+      // a bootstrap interval is one entry, its two ends together
+      expect(row.ci_low).toEqual(expect.any(Number));
+      expect(evidence.get('ci_low')).toMatchObject({ value: row.ci_low, high: row.ci_high, unit: 'bits' });
+      expect(evidence.has('ci_high')).toBe(false);
+      // every evidence field the row carries is listed, as itself or as an interval's end
+      const listed = new Set(detail.detail!.evidence.flatMap(m => [m.key, ...(m.high !== undefined ? [m.key.replace('_low', '_high')] : [])]));
+      const measures = new Set(detail.detail!.measures.map(m => m.key));
+      for (const key of Object.keys(row)) {
+        if (key !== 'columns' && key !== 'order') {
+          expect(listed.has(key as never) || measures.has(key as never)).toBe(true);
+        }
+      }
     });
 
     it('should count the joint table of a pair with the bin labels of both columns', () => {
