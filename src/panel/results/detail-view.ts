@@ -152,6 +152,7 @@ export class DetailView extends Panel {
     this._flip.replaceChildren();
     this._caution.textContent = '';
     this._caution.hidden = true;
+    this._explain.hidden = true;
     if (detail === null) {
       this._subject.textContent =
         'Select a row of the synergy or redundancy table (click it, or move with the arrow keys) to see its measures and what makes it synergistic or redundant.';
@@ -172,13 +173,14 @@ export class DetailView extends Panel {
     if (subs !== null) {
       this._showSubMultiplets(detail, subs);
     }
+    this._explain.hidden = this._explain.textContent === '';
   }
 
   private _showPair(detail: IMultipletDetail, table: IDetailTable): void {
     this._explain.textContent =
       `Rows of each pair of bins of ${table.rowColumn} (down) and ${table.columnColumn} (across). ` +
       `Their mutual information from these counts is ${formatValue(table.mutualInformation)} ${detail.units}: ` +
-      'counts spread evenly over the table mean none, counts piled on a few cells mean much.';
+      'counts in proportion to the row and column totals (independence) mean none, counts piled on a few cells mean much.';
     this._setCaution([table]);
     this._tablesChart.plotNode.style.height = `${DetailView.TABLE_HEIGHT}px`;
     this._tablesChart.setFigure(colors => Private.heatmaps([table], colors));
