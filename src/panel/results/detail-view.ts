@@ -441,14 +441,15 @@ namespace Private {
         zmax,
         xaxis: `x${suffix}`,
         yaxis: `y${suffix}`,
+        // neutral ink, not the synergy or redundancy colour: counts have no sign
         colorscale: [
           [0, colors.background],
-          [1, colors.accent]
+          [1, colors.text]
         ],
         showscale: n === 0,
         colorbar: { title: { text: 'rows' }, thickness: 10, tickfont: { color: colors.muted } },
+        // no text colour: plotly picks one that contrasts with each cell
         texttemplate: '%{z}',
-        textfont: { color: colors.text },
         xgap: 1,
         ygap: 1,
         hovertemplate: '%{customdata}: %{z} rows<extra></extra>'
