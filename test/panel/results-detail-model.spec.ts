@@ -199,6 +199,38 @@ describe('DetailModel', () => {
       }
       expect(tables.levels[0].total + tables.levels[1].total).toBe(tables.pooled.total);
       expect(tables.pooled.mutualInformation).toBeLessThan(0.05);
+      // I(X;Y|Z) − I(X;Y) = −I(X;Y;Z): the row's co-information (plug-in, the same counts)
+      expect(tables.pooled.mutualInformation - tables.conditionalMutualInformation).toBeCloseTo(result.multiplets[rowOf(results, detail.detail!.columns)].co_information, 12);
+    });
+
+    it('should not call the tables of a redundant pair and a noise column a flip', () => {
+      // humidity_b copies humidity_a: the diagonal of their quartile table in every level of the
+      // noise, so the most over-represented cell may move among diagonal cells by chance, but
+      // conditioning adds about nothing: no flip.
+      const { results, detail } = show(planted().columns, { maxOrder: 3 });
+      results.selectMultiplet(rowOf(results, ['humidity_a', 'humidity_b', 'noise']));
+      detail.setConditioning('noise');
+      const tables = detail.detail!.tables!;
+      if (tables.kind !== 'triplet') {
+        throw new Error('expected a triplet');
+      }
+      expect(tables.levels).toHaveLength(4);
+      // the over-represented cell does move (seed 5), and conditioning adds a little by chance
+      expect(new Set(tables.levels.map(level => `${level.overRepresented!.rowLabel}|${level.overRepresented!.columnLabel}`)).size).toBeGreaterThan(1);
+      expect(tables.conditionalMutualInformation).toBeGreaterThan(tables.pooled.mutualInformation);
+      expect(tables.flips).toBe(false);
+      // the parity triplet conditioned on any of its columns flips
+      results.selectMultiplet(rowOf(results, ['valve', 'flow', 'alarm']));
+      for (const column of ['valve', 'flow', 'alarm']) {
+        detail.setConditioning(column);
+        expect((detail.detail!.tables as { flips: boolean }).flips).toBe(true);
+      }
+    });
+
+    it('should put the flip threshold at the chi-square mean plus three standard deviations', () => {
+      // 2 × 2 tables over 2 levels: df = 1, threshold 1 + 3·√2; 4 × 4 over 4 levels: df = 27, 27 + 3·√54.
+      expect(DetailModel.flipThreshold(2, 2, 2)).toBeCloseTo(1 + 3 * Math.SQRT2, 14);
+      expect(DetailModel.flipThreshold(4, 4, 4)).toBeCloseTo(27 + 3 * Math.sqrt(54), 14);
     });
 
     it('should take the user\'s conditioning column and go back to the default', () => {

@@ -89,7 +89,13 @@ export interface ITripletTables {
   pooled: IDetailTable;
   /** One table per level of the conditioning column, in code order. */
   levels: IDetailTable[];
-  /** Whether the over-represented cell moves between the occupied levels (the flip of XOR-like synergy). */
+  /** Mutual information of the pair within the levels, averaged with the levels' shares of rows: I(X;Y|Z). */
+  conditionalMutualInformation: number;
+  /**
+   * Whether the tables flip, the mark of XOR-like synergy: the over-represented cell moves between
+   * the occupied levels, and the pair shares more within the levels than pooled by more than
+   * chance alone gives in tables this size (see {@link DetailModel.flipThreshold}).
+   */
   flips: boolean;
 }
 
@@ -261,12 +267,16 @@ export class DetailModel {
     const [x, y] = [0, 1, 2].filter(c => c !== z);
     const pooled = contingencyTable(codes.codes[x], codes.bins[x], codes.codes[y], codes.bins[y]);
     const zLabels = binLabels(codes.binnings[z]);
-    const levels = conditionalTables(codes.codes[x], codes.bins[x], codes.codes[y], codes.bins[y], codes.codes[z], codes.bins[z]).map(
-      (table, level) => this._detailTable(table, codes, x, y, { column: names[z], label: zLabels[level] })
-    );
+    const raw = conditionalTables(codes.codes[x], codes.bins[x], codes.codes[y], codes.bins[y], codes.codes[z], codes.bins[z]);
+    const levels = raw.map((table, level) => this._detailTable(table, codes, x, y, { column: names[z], label: zLabels[level] }));
     const cells = new Set(
       levels.filter(level => level.overRepresented !== null).map(level => `${level.overRepresented!.rowLabel}\u0000${level.overRepresented!.columnLabel}`)
     );
+    // the flip's size from plug-in values, whatever the run's estimator: the rule of thumb is for them
+    const pooledPlugin = tableMutualInformation(pooled, 'plugin');
+    const conditionalPlugin = raw.reduce((sum, table) => sum + (table.total / pooled.total) * tableMutualInformation(table, 'plugin'), 0);
+    const conditional = levels.reduce((sum, level) => sum + (level.total / pooled.total) * level.mutualInformation, 0);
+    const gap = 2 * pooled.total * (conditionalPlugin - pooledPlugin);
     return {
       kind: 'triplet',
       conditioning: names[z],
@@ -275,7 +285,8 @@ export class DetailModel {
       choices,
       pooled: this._detailTable(pooled, codes, x, y),
       levels,
-      flips: cells.size > 1
+      conditionalMutualInformation: conditional,
+      flips: cells.size > 1 && gap > DetailModel.flipThreshold(codes.bins[x], codes.bins[y], codes.bins[z])
     };
   }
 
@@ -466,6 +477,18 @@ export namespace DetailModel {
 
   /** Largest multiplet whose sub-multiplets are listed (2^k − k − 1 of them). */
   export const MAX_SUB_ORDER = 12;
+
+  /**
+   * The least 2N·(I(X;Y|Z) − I(X;Y)), plug-in and in nats, that counts as a flip. 2N times a
+   * plug-in mutual information is the G statistic, close to chi-square with (r−1)(c−1) degrees
+   * of freedom under independence (Wilks 1938); the gain from conditioning on a column of l
+   * levels that changes nothing then has about (r−1)(c−1)(l−1) degrees of freedom. A rule of
+   * thumb, not a test: that mean plus three of its standard deviations, √(2·df).
+   */
+  export function flipThreshold(rows: number, columns: number, levels: number): number {
+    const df = (rows - 1) * (columns - 1) * (levels - 1);
+    return df + 3 * Math.sqrt(2 * df);
+  }
 }
 
 namespace Private {

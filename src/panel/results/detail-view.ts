@@ -223,10 +223,11 @@ export class DetailView extends Panel {
     const verdict = textElement(
       'p',
       tables.flips ? 'pd-Detail-verdict jp-mod-flips' : 'pd-Detail-verdict',
-      tables.flips
-        ? `The tables flip: the most over-represented cell moves from level to level, while pooled over ${tables.conditioning} the pair shares ` +
-            `${formatValue(tables.pooled.mutualInformation)} ${units}.`
-        : `The tables do not flip: the same cell is the most over-represented in every level (pooled, the pair shares ${formatValue(tables.pooled.mutualInformation)} ${units}).`
+      (tables.flips
+        ? 'The tables flip: the most over-represented cell moves from level to level, and within the levels the pair shares more than pooled, '
+        : 'The tables do not flip: the most over-represented cell stays put, or within the levels the pair shares little more than pooled, ') +
+        `${formatValue(tables.conditionalMutualInformation)} ${units} on average against ${formatValue(tables.pooled.mutualInformation)} ${units} ` +
+        `(a flip needs more than chance alone gives in tables this size, by a chi-square rule of thumb; the row’s evidence, when tested, says more).`
     );
     this._flip.replaceChildren(verdict, list);
     this._setCaution([...tables.levels, tables.pooled]);
