@@ -60,6 +60,7 @@ export class DetailView extends Panel {
     this._reason = textElement('p', 'pd-Detail-reason');
     this._picker.append(pickerLabel, this._select);
     this._flip = textElement('div', 'pd-Detail-flip');
+    this._flip.setAttribute('role', 'group');
     this._flip.setAttribute('aria-label', 'What each conditional table shows');
     top.node.append(
       heading,
