@@ -206,6 +206,23 @@ test('should show the planted triplet in the detail view: its measures and condi
   await second.press('ArrowUp');
   await expect(first).toHaveAttribute('aria-selected', 'true');
   await expect(detail.locator('.pd-Detail-subject')).toHaveText(`${(await first.locator('.pd-ResultsTable-name').allTextContents()).join(', ')} (order 3)`);
+  // a pair: the humidity sensors' joint table, one heat map, most rows on the diagonal of their quartiles
+  await results().locator('.pd-ResultsTable-redundancy tbody tr.pd-ResultsTable-row').first().click();
+  await expect(detail.locator('.pd-Detail-subtitle', { hasText: 'Joint contingency table' })).toBeVisible();
+  await expect(detail.locator('.pd-Plot g.hm')).toHaveCount(1);
+  await expect(tables).toHaveCount(1);
+  const joint = await counts(0);
+  const all = joint.flat().reduce((x, y) => x + y, 0);
+  expect(joint.reduce((sum, row, i) => sum + row[i], 0) / all).toBeGreaterThan(0.9);
+  // a multiplet of order 4: its eleven sub-multiplets by order, charted and listed
+  const order = results().locator('.pd-Results-filterSelect');
+  await order.selectOption('4');
+  await results().locator('.pd-ResultsTable tbody tr.pd-ResultsTable-row').first().click();
+  await expect(detail.locator('.pd-Detail-subject')).toContainText('(order 4)');
+  await expect(detail.locator('.pd-Detail-orderTitle')).toHaveText([/^Order 2: 6 sub-multiplets/, /^Order 3: 4 sub-multiplets/, /^Order 4: 1 sub-multiplet$/]);
+  await expect(detail.locator('.pd-Detail-sub')).toHaveCount(11);
+  await expect(detail.locator('.pd-Plot .scatterlayer .point')).toHaveCount(11);
+  await order.selectOption('');
 });
 
 test('should filter the tables from a histogram bar', async () => {
