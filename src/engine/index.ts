@@ -19,6 +19,8 @@ export {
   parseBinSpec
 } from './binning';
 export type { IBinOptions, IBinnedColumn, IPreparedCodes } from './binning';
+export { binLabels, conditionalTables, contingencyTable, overRepresentedCell, tableMutualInformation } from './contingency';
+export type { IContingencyTable, IOverRepresentedCell } from './contingency';
 export { optimalKMeans1D } from './kmeans1d';
 export type { IKMeansPartition } from './kmeans1d';
 export {

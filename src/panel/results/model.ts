@@ -10,7 +10,7 @@ import { binIndexByEdges } from '../../engine/binning';
 import { chainFromNats, latticeOfResult, latticeSource } from '../../engine/chains';
 import { chainAlong, extremalChains } from '../../engine/measures';
 import type { IEntropySource } from '../../engine/measures';
-import type { IAnalysisResult, MissingPolicy } from '../../engine/types';
+import type { ColumnView, IAnalysisResult, IAnalyzeOptions, MissingPolicy } from '../../engine/types';
 import type { IAnalysisState, IRunCompleted } from '../analysis/types';
 import { orderHistogram } from '../../engine/histogram';
 import type { IOrderHistogram } from '../../record/types';
@@ -40,6 +40,19 @@ export interface IResultsContext {
   histograms?: IOrderHistogram[];
   /** Set for a view restored from the notebook's record: what it shows and what it cannot. */
   restored?: boolean;
+  /**
+   * The columns the run read and the options it ran with, when the page has them (a live run):
+   * the multiplet detail rebuilds the binned codes from them for its contingency tables.
+   */
+  data?: IResultsData;
+}
+
+/** The data of a live run, as the multiplet detail needs it. */
+export interface IResultsData {
+  /** The fetched columns (at least the selected ones). */
+  columns: readonly ColumnView[];
+  /** The engine options of the run (columns, binning specs, estimator, missing-value policy). */
+  options: IAnalyzeOptions;
 }
 
 /** One order histogram of co-information, with which rows fall in which bar. */
@@ -340,7 +353,13 @@ export class ResultsModel {
     const show = (_sender: IAnalysisState, run: IRunCompleted | null): void => {
       if (run) {
         const sample = run.frame.sampled ? { rows: run.frame.rows, originalRows: run.frame.originalRows, seed: run.frame.seed } : undefined;
-        this.setResult(run.result, { frame: run.frame.name, recordId: run.analysisId, missing: run.options.missing, sample });
+        this.setResult(run.result, {
+          frame: run.frame.name,
+          recordId: run.analysisId,
+          missing: run.options.missing,
+          sample,
+          ...(run.frame.columns ? { data: { columns: run.frame.columns, options: run.options } } : {})
+        });
       } else {
         this.clear();
       }
