@@ -222,6 +222,8 @@ test('should show the planted triplet in the detail view: its measures and condi
   await expect(detail.locator('.pd-Detail-orderTitle')).toHaveText([/^Order 2: 6 sub-multiplets/, /^Order 3: 4 sub-multiplets/, /^Order 4: 1 sub-multiplet$/]);
   await expect(detail.locator('.pd-Detail-sub')).toHaveCount(11);
   await expect(detail.locator('.pd-Plot .scatterlayer .point')).toHaveCount(11);
+  // the conditioning picker is a triplet's: off a triplet it is not on show
+  await expect(picker).toBeHidden();
   await order.selectOption('');
 });
 
@@ -243,6 +245,8 @@ test('should keep dark-theme screenshots of the whole window', async () => {
   await page.screenshot({ path: path.join(ARTIFACTS, 'main-area-dark-1920x1080.png') });
   await results().locator('.pd-Results-filters').evaluate(node => node.scrollIntoView({ block: 'start' }));
   await page.screenshot({ path: path.join(ARTIFACTS, 'main-area-dark-tables-1920x1080.png') });
+  await results().locator('.pd-Detail').evaluate(node => node.scrollIntoView({ block: 'start' }));
+  await page.screenshot({ path: path.join(ARTIFACTS, 'main-area-dark-detail-1920x1080.png') });
   await page.setViewportSize({ width: 1440, height: 900 });
   await execute(page, 'apputils:change-theme', { theme: 'JupyterLab Light' });
   await expect(page.locator('body')).toHaveAttribute('data-jp-theme-light', 'true');
