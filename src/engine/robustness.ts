@@ -153,7 +153,11 @@ export function robustnessRun(
   const runs = [Private.coinformations(columns, plain)];
   for (const variant of variants) {
     const options: IAnalyzeOptions = { ...plain, ...variant.options };
-    if (variant.options.binsByColumn) {
+    if (variant.options.bins !== undefined) {
+      // `bins` re-bins every numeric column: the base's per-column specs give way to it (a base
+      // recorded column by column then runs the same variant as the base it was recorded from).
+      options.binsByColumn = { ...(variant.options.binsByColumn ?? {}) };
+    } else if (variant.options.binsByColumn) {
       options.binsByColumn = { ...(plain.binsByColumn ?? {}), ...variant.options.binsByColumn };
     }
     try {
@@ -240,7 +244,8 @@ const DISCRETE_ESTIMATORS: readonly EstimatorName[] = ['plugin', 'miller-madow',
 
 /**
  * Parse a variant's text: settings joined by ';', each KEY=VALUE with KEY one of `bins` (every
- * numeric column), `bin.COLUMN` (one column), `estimator`, `missing`. The text is the label.
+ * numeric column, replacing the base's per-column specs too), `bin.COLUMN` (one column, over the
+ * base's binning), `estimator`, `missing`. The text is the label.
  * Errors are usage errors naming the variant and the setting at fault (an unknown binning
  * rule or estimator is named with the valid ones).
  */
