@@ -353,11 +353,9 @@ export function defaultVariants(columns: ColumnView[], base: IAnalyzeOptions): s
   }
   const variants: string[] = [];
   if (binned.length > 0) {
-    // `bins=` would lose to the base's own per-column specs (they override it), hence the test.
-    const uniform =
-      Object.keys(base.binsByColumn ?? {}).length === 0 &&
-      binned.length === prepared.binnings.length &&
-      binned.every(column => column.count === binned[0].count);
+    // `bins=` re-bins every numeric column (the base's per-column specs give way to it): one
+    // setting says it when every selected column is binned and gets the same spec.
+    const uniform = binned.length === prepared.binnings.length && binned.every(column => column.count === binned[0].count);
     const neighbour = (rule: (count: number) => string | null): void => {
       const specs = binned.map(column => rule(column.count));
       if (specs.some(spec => spec === null) || specs.every((spec, i) => spec === binned[i].spec)) {

@@ -317,3 +317,14 @@ describe('robustnessRun verdicts', () => {
     expect(first.overlap_synergy).toBeGreaterThanOrEqual(2);
   });
 });
+
+describe('defaultVariants on a base spelt out column by column', () => {
+  it('should give the same variants as the uniform base, and robustnessRun the same values', () => {
+    const columns = table(200);
+    const spelt: IAnalyzeOptions = { binsByColumn: Object.fromEntries(['a', 'b', 'c', 'd', 'e'].map(name => [name, 'quantile:4'])), maxOrder: 3 };
+    expect(defaultVariants(columns, spelt)).toEqual(DEFAULT_VARIANTS);
+    const variants = DEFAULT_VARIANTS.slice(0, 3).map(parseVariantSpec);
+    const uniform = robustnessRun(columns, { bins: 'quantile:4', maxOrder: 3 }, variants);
+    expect(robustnessRun(columns, spelt, variants).multiplets).toEqual(uniform.multiplets);
+  });
+});
