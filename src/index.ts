@@ -16,6 +16,7 @@ import { polyadicIcon } from './icons';
 import { followNotebooks, followSettings, PanelModel, PolyadicPanel } from './panel';
 import { followAnalysis } from './panel/analysis/tracker';
 import { ResultsDocuments } from './panel/results/document';
+import { robustnessExtras } from './panel/robustness';
 import { isRecordId } from './record/ids';
 import { recordCompletedRuns } from './panel/records/connect';
 import { followRestores } from './panel/records/restore';
@@ -47,11 +48,16 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
     const { commands, shell } = app;
     const engine = new EnginePool({ createWorker: createEngineWorker });
     const model = new PanelModel({ engine });
-    const documents = new ResultsDocuments({
+    const documents: ResultsDocuments = new ResultsDocuments({
       shell,
       analysis: model.analysis,
       records: model.records,
-      currentNotebook: () => notebooks?.currentWidget ?? null
+      currentNotebook: () => notebooks?.currentWidget ?? null,
+      extras: robustnessExtras({
+        engine,
+        runOf: id => documents.runOf(id),
+        record: (run, result) => model.records.recordRobustness(run, result)
+      })
     });
     const panel = new PolyadicPanel({
       model,
