@@ -259,7 +259,9 @@ export function parseVariantSpec(spec: string): IRobustnessVariant {
     fail('a setting is empty');
   }
   for (const setting of settings) {
-    const at = setting.indexOf('=');
+    // No value holds '=' (binning specs, estimators and policies never do), so the last one
+    // splits: a column named with '=' still goes in a bin.COLUMN key.
+    const at = setting.lastIndexOf('=');
     if (at <= 0 || at === setting.length - 1) {
       fail(`'${setting}' is not KEY=VALUE`);
     }

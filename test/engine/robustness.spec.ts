@@ -253,6 +253,11 @@ describe('parseVariantList', () => {
     expectPolyadic(() => parseVariantList('bins=quantile:3\nbins=octile:3'), 'usage', /^Line 2: Variant 'bins=octile:3'/, /"octile" is not a binning method/);
     expectPolyadic(() => parseVariantList('estimator=guess'), 'usage', /the estimator 'guess' is unknown; use one of plugin, miller-madow/);
     expectPolyadic(() => parseVariantList('order=2'), 'usage', /'order' is not a setting a variant may change/);
+    // a column named with '=' (and markup) still goes in a bin.COLUMN key
+    expect(parseVariantSpec('bin.<img src=x onerror=alert(1)>=quantile:3;estimator=plugin').options).toEqual({
+      binsByColumn: { '<img src=x onerror=alert(1)>': 'quantile:3' },
+      estimator: 'plugin'
+    });
   });
 });
 
