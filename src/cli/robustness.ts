@@ -251,9 +251,10 @@ namespace Private {
     const rows = result.multiplets.map(row => [
       row.columns.join(COLUMN_SEPARATOR),
       row.order,
-      ...row.values.map(value => String(value)),
-      ...row.ranks.map(rank => String(rank)),
-      String(row.same_sign)
+      // numbers go in as numbers: papaparse's formula escaping would mark a negative one as text
+      ...row.values,
+      ...row.ranks,
+      row.same_sign
     ]);
     return Papa.unparse({ fields, data: rows }, { quotes: false, escapeFormulae: true, newline: '\n', header: true }) + '\n';
   }

@@ -62,6 +62,8 @@ json.dump([float(kendalltau(a, b).statistic) for a, b in itertools.combinations(
     expect(lines[0]).toBe('columns,order,co_information[base],co_information[estimator=miller-madow],rank[base],rank[estimator=miller-madow],same_sign');
     expect(lines).toHaveLength(1 + 4);
     expect(lines[1].startsWith('a|b|c,3,')).toBe(true);
+    // the most negative co-information is written as a number, not escaped as a formula
+    expect(lines[1].split(',')[2]).toMatch(/^-\d/);
   });
 
   it('should refuse a bad variant in one line naming it', () => {

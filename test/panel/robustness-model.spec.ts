@@ -155,7 +155,11 @@ describe('RobustnessModel', () => {
       expect(lines).toContain('# variant 1: bins=quantile:3');
       const header = lines.find(line => !line.startsWith('#'));
       expect(header).toBe('columns,table,co_information[base],rank[base],rank[bins=quantile:3],rank[estimator=plugin],same_sign,robust,verdict');
-      expect(lines.filter(line => line !== '' && !line.startsWith('#'))).toHaveLength(1 + model.rows.length);
+      const body = lines.filter(line => line !== '' && !line.startsWith('#'));
+      expect(body).toHaveLength(1 + model.rows.length);
+      // a negative co-information is written as a number, not escaped as a formula
+      expect(body[1].split(',')[2]).toBe(String(model.rows[0].baseValue));
+      expect(model.rows[0].baseValue).toBeLessThan(0);
       expect(model.fileName).toBe('polyadic-greenhouse-pd-robustmodel04-robustness');
       model.dispose();
     });

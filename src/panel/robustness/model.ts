@@ -307,9 +307,10 @@ export class RobustnessModel implements IDisposable {
     const data = this.rows.map(row => [
       row.columns.join(COLUMN_SEPARATOR),
       row.table,
-      String(row.baseValue),
-      ...row.ranks.map(rank => String(rank)),
-      String(row.sameSign),
+      // numbers go in as numbers: papaparse's formula escaping would mark a negative one as text
+      row.baseValue,
+      ...row.ranks,
+      row.sameSign,
       String(row.robust),
       row.verdict
     ]);
