@@ -4,7 +4,7 @@
  * the variants with its CSV export, the agreement between variants, and a rank chart (one line
  * per followed multiplet across the variants). Every name and value goes in as text.
  */
-import { Widget } from '@lumino/widgets';
+import { Panel, Widget } from '@lumino/widgets';
 import type * as PlotlyModule from 'plotly.js-dist-min';
 
 import { ChartView, plotlyText, type IChartColors, type IFigure } from '../charts/chart';
@@ -13,7 +13,7 @@ import { formatValue } from '../results/format';
 import type { IRobustnessLine, RobustnessModel } from './model';
 
 /** The section widget. */
-export class RobustnessSection extends Widget {
+export class RobustnessSection extends Panel {
   /** Create the section over `options.model` (the section disposes the model with itself). */
   constructor(options: RobustnessSection.IOptions) {
     super();
@@ -89,9 +89,12 @@ export class RobustnessSection extends Widget {
 
     const form = textElement('div', 'pd-Robustness-form');
     form.append(textLabel, this._text, controls);
-    this.node.append(heading, this._intro, form, this._status, this._caution, this._tableHost, this._export, this._agreement);
-    this._chartHost = textElement('div', 'pd-Robustness-chart');
-    this.node.append(this._chartHost);
+    const body = new Widget();
+    body.addClass('pd-Robustness-body');
+    body.node.append(heading, this._intro, form, this._status, this._caution, this._tableHost, this._export, this._agreement);
+    this.addWidget(body);
+    this._chart.addClass('pd-Robustness-chart');
+    this.addWidget(this._chart);
     this._model.changed.connect(this._render, this);
     this._render();
   }
@@ -101,27 +104,14 @@ export class RobustnessSection extends Widget {
     return this._model;
   }
 
-  /** Dispose the chart and the model. */
+  /** Dispose the section (the chart with it) and the model. */
   dispose(): void {
     if (this.isDisposed) {
       return;
     }
     this._model.changed.disconnect(this._render, this);
-    this._chart.dispose();
     this._model.dispose();
     super.dispose();
-  }
-
-  protected onAfterAttach(): void {
-    if (!this._chart.isAttached) {
-      Widget.attach(this._chart, this._chartHost);
-    }
-  }
-
-  protected onBeforeDetach(): void {
-    if (this._chart.isAttached) {
-      Widget.detach(this._chart);
-    }
   }
 
   private _render(): void {
@@ -154,7 +144,7 @@ export class RobustnessSection extends Widget {
     this._renderAgreement();
     this._export.hidden = model.result === null;
     this._caution.hidden = model.result === null;
-    this._chartHost.hidden = model.result === null;
+    this._chart.setHidden(model.result === null);
     if (model.result !== null) {
       const lines = model.lines;
       const labels = model.variantLabels;
@@ -261,7 +251,6 @@ export class RobustnessSection extends Widget {
   private readonly _export: HTMLButtonElement;
   private readonly _agreement: HTMLDivElement;
   private readonly _chart: ChartView;
-  private readonly _chartHost: HTMLDivElement;
 }
 
 /** The statics of {@link RobustnessSection}. */
