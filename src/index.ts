@@ -18,6 +18,7 @@ import { followAnalysis } from './panel/analysis/tracker';
 import { ResultsDocuments } from './panel/results/document';
 import { robustnessExtras } from './panel/robustness';
 import { isRecordId } from './record/ids';
+import { findAnalysis } from './record/store';
 import { recordCompletedRuns } from './panel/records/connect';
 import { followRestores } from './panel/records/restore';
 import { followRecords } from './panel/records/tracker';
@@ -56,6 +57,7 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
       extras: robustnessExtras({
         engine,
         runOf: id => documents.runOf(id),
+        recordOf: id => (model.records.state ? (findAnalysis(model.records.state, id) ?? null) : null),
         record: (run, result) => model.records.recordRobustness(run, result)
       })
     });

@@ -181,6 +181,36 @@ describe('RobustnessModel', () => {
     });
   });
 
+  describe('#setRecorded', () => {
+    it('should show the check a restored view\'s record keeps, and not over a live run', async () => {
+      const metadata = metadataOf();
+      const records = new RecordsModel();
+      records.setNotebook({ path: 'a.ipynb', metadata });
+      const run = runOf('pd-robustmodel09');
+      await records.recordRun(run);
+      const result = robustnessRun(columns, { ...run.options, statistics: undefined }, parseVariantList('bins=quantile:3\nestimator=plugin'), 2);
+      expect(await records.recordRobustness(run, result)).toBeNull();
+      const analysis = records.state!.analyses[0];
+      const model = new RobustnessModel({ engine: new HeldEngine() });
+      model.setRecorded(analysis);
+      expect(model.state).toBe('unavailable');
+      expect(model.hasTable).toBe(true);
+      expect(model.fromRecord).toBe(true);
+      expect(model.variantLabels).toEqual(['base', 'bins=quantile:3', 'estimator=plugin']);
+      expect(model.rows.map(row => [row.columns, row.ranks, row.verdict])).toEqual(result.verdicts.map(v => [v.columns, v.ranks, v.verdict]));
+      expect(model.agreement.map(pair => pair.overlap_synergy)).toEqual(result.agreement.map(pair => pair.overlap_synergy));
+      expect(model.summaryText).toMatch(/^As recorded: \d+ of \d+ followed multiplets robust across 2 variants\.$/);
+      expect(model.ruleText).toContain('top 2 of its table');
+      expect(model.csv(new Date('2031-03-02T09:00:00Z'))).toContain('# table: robustness (as recorded)');
+      // a live run wins over the record
+      model.setRun(run);
+      model.setRecorded(analysis);
+      expect(model.hasTable).toBe(false);
+      model.dispose();
+      records.dispose();
+    });
+  });
+
   describe('recording', () => {
     it('should write the block into the analysis of the run, valid, for verify to re-derive', async () => {
       const metadata = metadataOf();

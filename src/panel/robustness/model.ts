@@ -9,6 +9,7 @@ import Papa from 'papaparse';
 
 import { isPolyadicError, PolyadicError } from '../../engine/errors';
 import {
+  BASE_LABEL,
   DEFAULT_ROBUSTNESS_TOP,
   defaultVariants,
   IRobustnessAgreement,
@@ -22,7 +23,10 @@ import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
 import { COLUMN_SEPARATOR } from '../../results-format';
 import { isRunCancelled } from '../../worker/pool';
 import type { IRunCompleted } from '../analysis/types';
-import { exportFileName, provenanceEntries, provenanceLines, type ProvenanceEntry } from '../results/export';
+import { formatCount } from '../../engine/text';
+import type { IAnalysisRecord } from '../../record/types';
+import { exportFileName, type IExportSource, provenanceEntries, provenanceLines, type ProvenanceEntry } from '../results/export';
+import { resultFromRecord } from '../results/from-record';
 
 /** What the section needs of the engine pool. */
 export interface IRobustnessEngine {
@@ -117,11 +121,7 @@ export class RobustnessModel implements IDisposable {
 
   /** The verdict rule, in the words the section shows. */
   get ruleText(): string {
-    return (
-      `A multiplet holds under a variant when it keeps the base sign and stays in that variant's top ${this._top} ` +
-      `of its table. Robust: same sign under every variant and in the top ${this._top} under at least ` +
-      `${Math.round(ROBUST_TOP_SHARE * 100)} % of them.`
-    );
+    return Private.ruleText(this._shown?.top ?? this._top);
   }
 
   /** Show `run` (or none): the defaults are rebuilt for it and any earlier result is dropped. */
@@ -133,6 +133,7 @@ export class RobustnessModel implements IDisposable {
     this._ticket++;
     this._run = run;
     this._result = null;
+    this._shown = null;
     this._error = null;
     this._recordNote = null;
     const columns = run === null ? null : Private.selectedColumns(run);
@@ -228,6 +229,7 @@ export class RobustnessModel implements IDisposable {
       return;
     }
     this._result = result;
+    this._shown = Private.shownOfRun(run, result);
     this._state = 'done';
     this._changed.emit();
     if (this._record) {
@@ -246,23 +248,45 @@ export class RobustnessModel implements IDisposable {
     }
   }
 
-  /** Labels of the variants of the result, the base first. */
+  /**
+   * Show the robustness block a recorded analysis holds (a view restored from the record has no
+   * live run); ignored while a run of this session is shown. Null or a record without a block
+   * shows nothing.
+   */
+  setRecorded(analysis: IAnalysisRecord | null): void {
+    if (this._run !== null) {
+      return;
+    }
+    const shown = analysis?.robustness ? Private.shownOfRecord(analysis) : null;
+    if (shown?.recordId !== this._shown?.recordId || (shown === null) !== (this._shown === null)) {
+      this._shown = shown;
+      this._changed.emit();
+    }
+  }
+
+  /** Whether a table is shown: a completed check of this session, or one the record keeps. */
+  get hasTable(): boolean {
+    return this._shown !== null;
+  }
+
+  /** Whether the table shown comes from the record (not from a check of this session). */
+  get fromRecord(): boolean {
+    return this._shown?.recorded ?? false;
+  }
+
+  /** Units of the values shown. */
+  get units(): string {
+    return this._shown?.units ?? '';
+  }
+
+  /** Labels of the variants shown, the base first. */
   get variantLabels(): string[] {
-    return this._result?.variants.map(variant => variant.label) ?? [];
+    return this._shown?.labels ?? [];
   }
 
   /** The table: the base's top N of each table (synergy first), in the engine's order. */
   get rows(): IRobustnessTableRow[] {
-    return (this._result?.verdicts ?? []).map(verdict => ({
-      multiplet: verdict.columns.join(', '),
-      columns: verdict.columns,
-      table: verdict.table,
-      baseValue: verdict.values[0],
-      ranks: verdict.ranks,
-      sameSign: verdict.same_sign,
-      robust: verdict.robust,
-      verdict: verdict.verdict
-    }));
+    return this._shown?.rows ?? [];
   }
 
   /** The figure's lines: one per followed multiplet, its rank under each variant. */
@@ -270,20 +294,23 @@ export class RobustnessModel implements IDisposable {
     return this.rows.map(row => ({ multiplet: row.multiplet, table: row.table, robust: row.robust, ranks: row.ranks }));
   }
 
-  /** Rank agreement between every two variants. */
+  /** Rank agreement between every two variants shown. */
   get agreement(): IRobustnessAgreement[] {
-    return this._result?.agreement ?? [];
+    return this._shown?.agreement ?? [];
   }
 
-  /** How many followed multiplets are robust, of how many, in words; null without a result. */
+  /** How many followed multiplets are robust, of how many, in words; null without a table. */
   get summaryText(): string | null {
-    const rows = this.rows;
-    if (this._result === null) {
+    const shown = this._shown;
+    if (shown === null) {
       return null;
     }
-    const robust = rows.filter(row => row.robust).length;
-    const variants = this._result.variants.length - 1;
-    return `${robust} of ${rows.length} followed multiplets robust across ${variants} variant${variants === 1 ? '' : 's'} (${this._result.multiplet_count} multiplets compared).`;
+    const robust = shown.rows.filter(row => row.robust).length;
+    const variants = shown.labels.length - 1;
+    return (
+      `${shown.recorded ? 'As recorded: ' : ''}${robust} of ${shown.rows.length} followed multiplets robust across ` +
+      `${variants} variant${variants === 1 ? '' : 's'}${shown.compared}.`
+    );
   }
 
   /**
@@ -291,20 +318,19 @@ export class RobustnessModel implements IDisposable {
    * multiplet (columns, table, base co-information, rank per variant, same-sign share, verdict).
    */
   csv(exported: Date = new Date()): string | null {
-    const result = this._result;
-    const run = this._run;
-    if (result === null || run === null) {
+    const shown = this._shown;
+    if (shown === null) {
       return null;
     }
-    const labels = this.variantLabels;
+    const labels = shown.labels;
     const entries: ProvenanceEntry[] = [
-      ...provenanceEntries({ result: run.result, frame: run.frame.name, recordId: run.analysisId, missing: run.options.missing }, exported),
-      ['table', `robustness: the base's top ${result.top} of each table across ${labels.length - 1} variants`],
-      ['rule', this.ruleText],
+      ...provenanceEntries(shown.source, exported),
+      ['table', `robustness${shown.recorded ? ' (as recorded)' : ''}: the base's top ${shown.top} of each table across ${labels.length - 1} variants`],
+      ['rule', Private.ruleText(shown.top)],
       ...labels.slice(1).map((label, i): ProvenanceEntry => [`variant ${i + 1}`, label])
     ];
     const fields = ['columns', 'table', `co_information[base]`, ...labels.map(label => `rank[${label}]`), 'same_sign', 'robust', 'verdict'];
-    const data = this.rows.map(row => [
+    const data = shown.rows.map(row => [
       row.columns.join(COLUMN_SEPARATOR),
       row.table,
       // numbers go in as numbers: papaparse's formula escaping would mark a negative one as text
@@ -320,7 +346,8 @@ export class RobustnessModel implements IDisposable {
 
   /** File name (no extension) of the exports. */
   get fileName(): string {
-    return exportFileName({ frame: this._run?.frame.name, recordId: this._run?.analysisId }, 'robustness');
+    const source = this._shown?.source ?? { frame: this._run?.frame.name, recordId: this._run?.analysisId };
+    return exportFileName(source, 'robustness');
   }
 
   get isDisposed(): boolean {
@@ -355,6 +382,7 @@ export class RobustnessModel implements IDisposable {
   private _text = '';
   private _top = DEFAULT_ROBUSTNESS_TOP;
   private _result: IRobustnessResult | null = null;
+  private _shown: Private.IShown | null = null;
   private _error: PolyadicError | null = null;
   private _recordNote: string | null = null;
   private _ticket = 0;
@@ -374,6 +402,85 @@ export namespace RobustnessModel {
 }
 
 namespace Private {
+  /** What the table, the figure and the CSV show: a check of this session or a recorded one. */
+  export interface IShown {
+    labels: string[];
+    rows: IRobustnessTableRow[];
+    agreement: IRobustnessAgreement[];
+    top: number;
+    units: string;
+    /** ' (N multiplets compared)' for a live check, '' for a recorded one. */
+    compared: string;
+    recorded: boolean;
+    recordId: string;
+    source: IExportSource;
+  }
+
+  /** The verdict rule in the section's words, for N. */
+  export function ruleText(top: number): string {
+    return (
+      `A multiplet holds under a variant when it keeps the base sign and stays in that variant's top ${top} ` +
+      `of its table. Robust: same sign under every variant and in the top ${top} under at least ` +
+      `${Math.round(ROBUST_TOP_SHARE * 100)} % of them.`
+    );
+  }
+
+  /** A table row of a verdict (live or recorded; a recorded null value is NaN). */
+  function rowOf(verdict: {
+    columns: string[];
+    table: RobustnessTable;
+    values: (number | null)[];
+    ranks: number[];
+    same_sign: number;
+    robust: boolean;
+    verdict: string;
+  }): IRobustnessTableRow {
+    return {
+      multiplet: verdict.columns.join(', '),
+      columns: verdict.columns,
+      table: verdict.table,
+      baseValue: verdict.values[0] ?? NaN,
+      ranks: verdict.ranks,
+      sameSign: verdict.same_sign,
+      robust: verdict.robust,
+      verdict: verdict.verdict
+    };
+  }
+
+  /** What a completed check of this session shows. */
+  export function shownOfRun(run: IRunCompleted, result: IRobustnessResult): IShown {
+    return {
+      labels: result.variants.map(variant => variant.label),
+      rows: result.verdicts.map(rowOf),
+      agreement: result.agreement,
+      top: result.top,
+      units: result.units,
+      compared: ` (${formatCount(result.multiplet_count)} multiplets compared)`,
+      recorded: false,
+      recordId: run.analysisId,
+      source: { result: run.result, frame: run.frame.name, recordId: run.analysisId, missing: run.options.missing }
+    };
+  }
+
+  /** What the robustness block of a recorded analysis shows. */
+  export function shownOfRecord(analysis: IAnalysisRecord): IShown | null {
+    const block = analysis.robustness;
+    if (!block) {
+      return null;
+    }
+    return {
+      labels: [BASE_LABEL, ...block.settings.variants],
+      rows: block.results.verdicts.map(rowOf),
+      agreement: block.results.agreement.map(pair => ({ ...pair, kendall_tau: pair.kendall_tau ?? NaN })),
+      top: block.settings.top,
+      units: analysis.units,
+      compared: '',
+      recorded: true,
+      recordId: analysis.id,
+      source: { result: resultFromRecord(analysis), frame: analysis.source.frame, recordId: analysis.id, missing: analysis.missing }
+    };
+  }
+
   /** The selected columns the run read, in order, or null when it did not keep them. */
   export function selectedColumns(run: IRunCompleted): ColumnView[] | null {
     const fetched = run.frame.columns;

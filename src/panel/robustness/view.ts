@@ -142,10 +142,10 @@ export class RobustnessSection extends Panel {
         : [model.summaryText, model.recordNote].filter(Boolean).join(' ');
     this._renderTable();
     this._renderAgreement();
-    this._export.hidden = model.result === null;
-    this._caution.hidden = model.result === null;
-    this._chart.setHidden(model.result === null);
-    if (model.result !== null) {
+    this._export.hidden = !model.hasTable;
+    this._caution.hidden = !model.hasTable;
+    this._chart.setHidden(!model.hasTable);
+    if (model.hasTable) {
       const lines = model.lines;
       const labels = model.variantLabels;
       this._chart.setFigure(colors => Private.figure(lines, labels, colors));
@@ -155,14 +155,14 @@ export class RobustnessSection extends Panel {
   private _renderTable(): void {
     const model = this._model;
     this._tableHost.replaceChildren();
-    if (model.result === null) {
+    if (!model.hasTable) {
       return;
     }
     const labels = model.variantLabels;
     const table = textElement('table', 'pd-Robustness-table');
     table.setAttribute('aria-label', 'Robustness of the top multiplets');
     const head = table.createTHead().insertRow();
-    const headers = ['Multiplet', 'Table', `Base value (${model.result.units})`, ...labels.map((_, i) => (i === 0 ? 'Rank: base' : `Rank: V${i}`)), 'Same sign', 'Verdict'];
+    const headers = ['Multiplet', 'Table', `Base value (${model.units})`, ...labels.map((_, i) => (i === 0 ? 'Rank: base' : `Rank: V${i}`)), 'Same sign', 'Verdict'];
     headers.forEach((text, i) => {
       const cell = textElement('th', 'pd-Robustness-head', text);
       cell.scope = 'col';
@@ -199,7 +199,7 @@ export class RobustnessSection extends Panel {
   private _renderAgreement(): void {
     const pairs = this._model.agreement;
     this._agreement.replaceChildren();
-    if (pairs.length === 0 || this._model.result === null) {
+    if (pairs.length === 0 || !this._model.hasTable) {
       return;
     }
     const labels = this._model.variantLabels;
