@@ -238,7 +238,11 @@ namespace Private {
     return Number(value);
   }
 
-  /** One row per multiplet: columns, order, then co-information and rank per variant, then same_sign. */
+  /**
+   * One row per multiplet: columns, order, then co-information and rank per variant, then
+   * same_sign, and for a multiplet of the base's top N the table it is followed in, whether it
+   * is robust and the verdict (empty for the others).
+   */
   export function csv(result: IRobustnessResult): string {
     const labels = result.variants.map(variant => variant.label);
     const fields = [
@@ -246,16 +250,27 @@ namespace Private {
       'order',
       ...labels.map(label => `co_information[${label}]`),
       ...labels.map(label => `rank[${label}]`),
-      'same_sign'
+      'same_sign',
+      'table',
+      'robust',
+      'verdict'
     ];
-    const rows = result.multiplets.map(row => [
-      row.columns.join(COLUMN_SEPARATOR),
-      row.order,
-      // numbers go in as numbers: papaparse's formula escaping would mark a negative one as text
-      ...row.values,
-      ...row.ranks,
-      row.same_sign
-    ]);
+    const verdicts = new Map(result.verdicts.map(verdict => [verdict.columns.join(COLUMN_SEPARATOR), verdict]));
+    const rows = result.multiplets.map(row => {
+      const key = row.columns.join(COLUMN_SEPARATOR);
+      const verdict = verdicts.get(key);
+      return [
+        key,
+        row.order,
+        // numbers go in as numbers: papaparse's formula escaping would mark a negative one as text
+        ...row.values,
+        ...row.ranks,
+        row.same_sign,
+        verdict?.table ?? '',
+        verdict === undefined ? '' : String(verdict.robust),
+        verdict?.verdict ?? ''
+      ];
+    });
     return Papa.unparse({ fields, data: rows }, { quotes: false, escapeFormulae: true, newline: '\n', header: true }) + '\n';
   }
 }
