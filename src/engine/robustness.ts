@@ -482,12 +482,41 @@ export function kendallTau(x: ArrayLike<number>, y: ArrayLike<number>): number {
 }
 
 namespace Private {
-  /** Indices of the `count` most negative (or most positive) values; ties by index. */
+  /**
+   * Indices of the `count` most negative (or most positive) values, most extreme first; ties by
+   * index. A short list is kept by insertion in one pass (O(m·count) at worst, about O(m) on
+   * unsorted values), a long one by sorting; NaN values come last.
+   */
   export function extreme(values: ArrayLike<number>, count: number, end: RobustnessTable): number[] {
     const sign = end === 'synergy' ? 1 : -1;
-    return Array.from({ length: values.length }, (_, j) => j)
-      .sort((p, q) => sign * (values[p] - values[q]) || p - q)
-      .slice(0, count);
+    const key = (j: number): number => {
+      const value = sign * values[j];
+      return Number.isNaN(value) ? Infinity : value;
+    };
+    const m = values.length;
+    const size = Math.min(count, m);
+    if (size > 64) {
+      return Array.from({ length: m }, (_, j) => j)
+        .sort((p, q) => key(p) - key(q) || p - q)
+        .slice(0, size);
+    }
+    const kept: number[] = [];
+    for (let j = 0; j < m; j++) {
+      const k = key(j);
+      // a later index with an equal key ranks after: reject it when the list is full
+      if (kept.length === size && !(k < key(kept[size - 1]))) {
+        continue;
+      }
+      let at = kept.length === size ? size - 1 : kept.length;
+      while (at > 0 && k < key(kept[at - 1])) {
+        at--;
+      }
+      if (kept.length === size) {
+        kept.pop();
+      }
+      kept.splice(at, 0, j);
+    }
+    return kept;
   }
 
   /** Whether multiplet j is among the `count` most extreme of `values` at `end` (ties by walk order, as {@link extreme}). */

@@ -333,3 +333,24 @@ describe('defaultVariants on a base spelt out column by column', () => {
     expect(robustnessRun(columns, spelt, variants).multiplets).toEqual(uniform.multiplets);
   });
 });
+
+describe('overlapOfTops on long vectors', () => {
+  it('should equal the overlap of fully sorted lists (ties by index), short and long lists alike', () => {
+    let state = 5;
+    const next = (): number => {
+      state = (state * 48271) % 2147483647;
+      return state / 2147483647;
+    };
+    const a = Array.from({ length: 3000 }, () => Math.round(next() * 200) / 10);
+    const b = a.map(v => v + Math.round(next() * 40) / 10);
+    const sorted = (x: number[], sign: number, size: number): number[] =>
+      x.map((_, j) => j).sort((p, q) => sign * (x[p] - x[q]) || p - q).slice(0, size);
+    for (const size of [1, 10, 64, 65, 500]) {
+      const shared = (sign: number): number => {
+        const first = new Set(sorted(a, sign, size));
+        return sorted(b, sign, size).filter(j => first.has(j)).length;
+      };
+      expect(overlapOfTops(a, b, size)).toEqual({ synergy: shared(1), redundancy: shared(-1) });
+    }
+  });
+});
