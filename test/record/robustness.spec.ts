@@ -15,6 +15,7 @@ import { fingerprintColumns } from '../../src/record/fingerprint';
 import { recordFromResult } from '../../src/record/recordFromResult';
 import { robustnessBlockOf, robustnessRerunOf, withRobustness } from '../../src/record/robustness';
 import type { IAnalysisRecord } from '../../src/record/types';
+import { markdownSummary } from '../../src/record/markdown';
 import { validateAnalysis } from '../../src/record/validate';
 import { captureStreams, clone, greenhouseTable, notebookWith, recordOf, tempFolder, toCsv } from './helpers';
 
@@ -88,6 +89,19 @@ describe('withRobustness', () => {
     const unknown = clone(checked) as unknown as { robustness: { settings: Record<string, unknown> } };
     unknown.robustness.settings.seed = 1;
     expect(validateAnalysis(unknown).ok).toBe(false);
+  });
+});
+
+describe('markdownSummary with a robustness block', () => {
+  it('should add the verdicts after the tables, names escaped, and nothing without a block', () => {
+    const text = markdownSummary(checked);
+    const variants = checked.robustness?.settings.variants.length ?? 0;
+    expect(text).toContain(`Robustness across ${variants} variants (bin\\.flow\\_l\\_min\\=quantile\\:3\\;`);
+    expect(text).toContain(' · estimator\\=plugin · ');
+    expect(text).toContain('| multiplet | table | verdict |');
+    const first = checked.robustness!.results.verdicts[0];
+    expect(text).toContain(`| ${first.columns.map(name => name.replace(/_/g, '\\_')).join(', ')} | ${first.table} | `);
+    expect(markdownSummary(plain)).not.toContain('Robustness across');
   });
 });
 
