@@ -5,7 +5,6 @@
 import { Token } from '@lumino/coreutils';
 import type { Widget } from '@lumino/widgets';
 
-import type { EstimatorName, MissingPolicy, Units } from './engine/types';
 import type { PanelModel } from './panel/model';
 
 /** The npm name of the extension; prefix of every plugin and token id. */
@@ -30,37 +29,8 @@ export namespace CommandIDs {
 /** Category of Polyadic's commands in the command palette. */
 export const PALETTE_CATEGORY = 'Polyadic';
 
-/** Which highest order an analysis uses when the user does not choose one. */
-export type MaxOrderRule = 'auto' | 'all' | 'fixed';
-
-/**
- * The user settings of schema/settings/plugin.json, as the settings registry returns them
- * (defaults already merged). The defaults live in the schema only.
- */
-export interface IPolyadicSettings {
-  /** Largest number of rows taken from a dataframe. */
-  rowCap: number;
-  /** Largest number of multiplets one analysis may compute. */
-  multipletCap: number;
-  /** Entropy estimator. */
-  estimator: EstimatorName;
-  /** Units of every information value. */
-  units: Units;
-  /** Missing-value policy across the selected columns. */
-  missing: MissingPolicy;
-  /** Binning spec for numeric columns, e.g. `auto` or `quantile:4`. */
-  numericBinning: string;
-  /** How the highest order is chosen. */
-  maxOrderRule: MaxOrderRule;
-  /** Highest order when `maxOrderRule` is `fixed`. */
-  fixedMaxOrder: number;
-  /** Surrogate datasets per significance test; 0 turns the test off. */
-  surrogates: number;
-  /** Seed of the surrogate and bootstrap random streams. */
-  seed: number;
-  /** False discovery rate at which a multiplet is reported as significant. */
-  alpha: number;
-}
+// The settings' types live in ./settings (the models import them without importing the tokens).
+export type { IPolyadicSettings, MaxOrderRule } from './settings';
 
 /** The Polyadic side panel, for plugins that add sections to it or react to it. */
 export interface IPolyadicPanel {

@@ -28,6 +28,7 @@ import {
   unexpectedReply,
   UNTYPED_MESSAGE
 } from './texts';
+import { errorMessage } from '../engine/errors';
 
 /** The type of a request the front end sends. */
 export type RequestType = FrontEndRequest['type'];
@@ -273,6 +274,6 @@ namespace Private {
 
   /** The text of a thrown value. */
   export function errorText(error: unknown): string {
-    return error instanceof Error ? error.message : String(error);
+    return errorMessage(error);
   }
 }

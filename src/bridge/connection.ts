@@ -37,6 +37,7 @@ import {
   STARTING,
   STILL_CONNECTING
 } from './texts';
+import { errorMessage } from '../engine/errors';
 
 /** Where the bridge stands with the notebook's kernel. */
 export type BridgeState = 'no-kernel' | 'not-python' | 'starting' | 'missing-package' | 'ready' | 'error';
@@ -418,6 +419,6 @@ namespace Private {
 
   /** The text of a thrown value. */
   export function errorText(error: unknown): string {
-    return error instanceof Error ? error.message : String(error);
+    return errorMessage(error);
   }
 }

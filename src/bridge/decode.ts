@@ -8,7 +8,7 @@
  */
 import * as arrow from 'apache-arrow';
 
-import { isPolyadicError } from '../engine/errors';
+import { errorMessage, isPolyadicError } from '../engine/errors';
 import { columnsFromArrow } from '../engine/table';
 import { formatCount, plural } from '../engine/text';
 import type { ColumnView, ICategoricalColumn } from '../engine/types';
@@ -369,6 +369,6 @@ namespace Private {
 
   /** The text of a thrown value. */
   export function errorText(error: unknown): string {
-    return error instanceof Error ? error.message : String(error);
+    return errorMessage(error);
   }
 }

@@ -9,7 +9,7 @@ import { INotebookTracker, NotebookActions, NotebookPanel } from '@jupyterlab/no
 import type { CommandRegistry } from '@lumino/commands';
 import { IDisposable } from '@lumino/disposable';
 
-import { isPolyadicError } from '../engine/errors';
+import { errorMessage } from '../engine/errors';
 import { showCellSource } from '../record/ids';
 import { createAnalysisRendererFactory, type IRecordNotebook } from './renderer';
 
@@ -76,7 +76,7 @@ export function setupAnalysisCells(options: IAnalysisCellsOptions): IDisposable 
       try {
         insertAnalysisCell(panel, id);
       } catch (error) {
-        Notification.error(isPolyadicError(error) || error instanceof Error ? error.message : String(error));
+        Notification.error(errorMessage(error));
       }
     }
   });

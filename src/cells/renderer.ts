@@ -27,7 +27,10 @@ import {
 } from '../record/markdown';
 import type { IMetadataAccess } from '../record/store';
 import { ANALYSIS_MIME_TYPE, type IAnalysisRecord, type IMultipletSummary, type IOrderHistogram } from '../record/types';
+import { ChartView } from '../panel/charts/chart';
+import { histogramFigure } from '../panel/charts/histogram';
 import { textElement } from '../panel/dom';
+import { exportFileName } from '../panel/results/export';
 import { lookupAnalysisCell } from './lookup';
 
 /** Multiplets per table in a analysis cell. */
@@ -70,10 +73,16 @@ export class AnalysisCellRenderer extends Widget implements IRenderMime.IRendere
     }
     this._notebook?.metadataChanged.disconnect(this._draw, this);
     this._notebook = null;
+    this._disposeCharts();
     super.dispose();
   }
 
+  protected onAfterAttach(): void {
+    this._attachCharts();
+  }
+
   private _draw(): void {
+    this._disposeCharts();
     const found = lookupAnalysisCell(this._payload, this._notebook?.metadata ?? null);
     if (found.kind === 'message') {
       const message = textElement('p', `pd-AnalysisCell-message jp-mod-${found.level}`, found.text);
@@ -81,8 +90,30 @@ export class AnalysisCellRenderer extends Widget implements IRenderMime.IRendere
       this.node.replaceChildren(message);
       return;
     }
-    this.node.replaceChildren(...Private.analysis(found.analysis));
+    this.node.replaceChildren(...Private.analysis(found.analysis, this._charts));
+    this._attachCharts();
   }
+
+  /** Charts are widgets of their own, attached into their places once this output is in the page. */
+  private _attachCharts(): void {
+    if (!this.isAttached) {
+      return;
+    }
+    for (const { chart, host } of this._charts) {
+      if (!chart.isAttached && host.isConnected) {
+        Widget.attach(chart, host);
+      }
+    }
+  }
+
+  private _disposeCharts(): void {
+    for (const { chart } of this._charts) {
+      chart.dispose();
+    }
+    this._charts = [];
+  }
+
+  private _charts: Private.IPlacedChart[] = [];
 
   private readonly _resolve: () => IRecordNotebook | null;
   private _notebook: IRecordNotebook | null = null;
@@ -101,10 +132,14 @@ export function createAnalysisRendererFactory(resolve: () => IRecordNotebook | n
 }
 
 namespace Private {
-  const SVG = 'http://www.w3.org/2000/svg';
+  /** A chart and the element it goes into. */
+  export interface IPlacedChart {
+    chart: ChartView;
+    host: HTMLElement;
+  }
 
-  /** The parts of a drawn analysis. */
-  export function analysis(record: IAnalysisRecord): HTMLElement[] {
+  /** The parts of a drawn analysis; its charts are added to `charts`, to be attached into their hosts. */
+  export function analysis(record: IAnalysisRecord, charts: IPlacedChart[]): HTMLElement[] {
     const head = textElement('div', 'pd-AnalysisCell-head');
     head.append(
       textElement('h3', 'pd-AnalysisCell-title', record.label),
@@ -141,7 +176,7 @@ namespace Private {
       row.setAttribute('role', 'group');
       row.setAttribute('aria-label', 'Order histograms of co-information');
       for (const histogram of histograms) {
-        row.append(orderHistogram(histogram, record.units, bands.get(histogram.order)));
+        row.append(orderHistogram(record, histogram, bands.get(histogram.order), charts));
       }
       parts.push(row);
     } else {
@@ -165,77 +200,40 @@ namespace Private {
   type NullBand = NonNullable<IAnalysisRecord['summary']['evidence']>['null_bands'][number];
 
   /**
-   * One order's histogram as bars over the recorded edges, with the range and the zero line,
-   * and the order's null band (surrogate 2.5–97.5 %) shaded behind the bars when recorded.
+   * One order's histogram (the chart module's figure, as in the results view: the same
+   * colours, log counts, the order's null band shaded when recorded), with PNG and SVG export.
    */
-  function orderHistogram(histogram: IOrderHistogram, units: string, band: NullBand | undefined): HTMLElement {
+  function orderHistogram(record: IAnalysisRecord, histogram: IOrderHistogram, band: NullBand | undefined, charts: IPlacedChart[]): HTMLElement {
     const figure = textElement('figure', 'pd-AnalysisCell-histogram');
-    const width = 220;
-    const height = 80;
+    const units = record.units;
     const { edges, counts } = histogram;
     const low = edges[0];
     const high = edges[edges.length - 1];
-    const span = high - low || 1;
-    const most = Math.max(1, ...counts);
-    const x = (value: number): number => ((value - low) / span) * width;
-    const svg = document.createElementNS(SVG, 'svg');
-    svg.setAttribute('viewBox', `0 0 ${width} ${height}`);
-    svg.setAttribute('class', 'pd-AnalysisCell-plot');
-    svg.setAttribute('role', 'img');
     const total = counts.reduce((sum, count) => sum + count, 0);
-    svg.setAttribute(
-      'aria-label',
-      `Order ${histogram.order}: ${plural(total, 'multiplet')}, co-information from ${formatValue(low)} to ${formatValue(high)} ${units}` +
-        (band ? `; null band ${nullBandText(band)}` : '')
-    );
-    if (band) {
-      // clamped to the drawn range: a band wider than the data still shows where it covers
-      const from = x(Math.max(low, Math.min(high, band.low)));
-      const to = x(Math.max(low, Math.min(high, band.high)));
-      const shade = document.createElementNS(SVG, 'rect');
-      shade.setAttribute('x', String(from));
-      shade.setAttribute('width', String(Math.max(1, to - from)));
-      shade.setAttribute('y', '0');
-      shade.setAttribute('height', String(height));
-      shade.setAttribute('class', 'pd-AnalysisCell-band');
-      const tip = document.createElementNS(SVG, 'title');
-      tip.textContent = `Null band (2.5–97.5 % of surrogates): ${nullBandText(band)} ${units}`;
-      shade.append(tip);
-      svg.append(shade);
-    }
-    counts.forEach((count, i) => {
-      if (count === 0) {
-        return;
-      }
-      const bar = document.createElementNS(SVG, 'rect');
-      const left = x(edges[i]);
-      const barHeight = (count / most) * (height - 4);
-      bar.setAttribute('x', String(left));
-      bar.setAttribute('width', String(Math.max(1, x(edges[i + 1]) - left - 1)));
-      bar.setAttribute('y', String(height - barHeight));
-      bar.setAttribute('height', String(barHeight));
-      bar.setAttribute('class', edges[i + 1] <= 0 ? 'pd-AnalysisCell-bar jp-mod-synergy' : 'pd-AnalysisCell-bar');
-      const tip = document.createElementNS(SVG, 'title');
-      tip.textContent = `${plural(count, 'multiplet')} in [${formatValue(edges[i])}, ${formatValue(edges[i + 1])}]`;
-      bar.append(tip);
-      svg.append(bar);
+    const chart = new ChartView({
+      label:
+        `Order ${histogram.order} histogram: ${plural(total, 'multiplet')}, co-information from ${formatValue(low)} to ` +
+        `${formatValue(high)} ${units}` +
+        (band ? `; null band ${nullBandText(band)}` : ''),
+      filename: `polyadic-order-${histogram.order}-histogram`,
+      height: 150,
+      exportAs: () => ({
+        title: `${record.label}: order ${histogram.order} histogram of co-information (${plural(total, 'multiplet')})`,
+        subtitle: `${record.source.frame} · record ${record.id} · ${formatCount(record.summary.rows_used)} rows · ${record.estimator} · ${units}`,
+        xTitle: `co-information (${units}): < 0 synergy-dominated, > 0 redundancy-dominated`,
+        yTitle: 'multiplets',
+        filename: exportFileName({ frame: record.source.frame, recordId: record.id }, `order-${histogram.order}-histogram`)
+      })
     });
-    if (low < 0 && high > 0) {
-      const zero = document.createElementNS(SVG, 'line');
-      zero.setAttribute('x1', String(x(0)));
-      zero.setAttribute('x2', String(x(0)));
-      zero.setAttribute('y1', '0');
-      zero.setAttribute('y2', String(height));
-      zero.setAttribute('class', 'pd-AnalysisCell-zero');
-      svg.append(zero);
-    }
-    const axis = textElement('div', 'pd-AnalysisCell-axis');
-    axis.append(textElement('span', '', formatValue(low)), textElement('span', '', `${formatValue(high)} ${units}`));
+    chart.addClass('pd-AnalysisCell-plot');
+    chart.setFigure(colors => histogramFigure({ edges, counts, band: band ?? null }, colors, { formatEdge: formatValue }));
+    const host = textElement('div', 'pd-AnalysisCell-chart');
+    charts.push({ chart, host });
     const caption = textElement('figcaption', 'pd-AnalysisCell-caption', `Order ${histogram.order} · ${plural(total, 'multiplet')}`);
     if (band) {
       caption.append(textElement('span', 'pd-AnalysisCell-bandText', `null band ${nullBandText(band)} ${units}`));
     }
-    figure.append(svg, axis, caption);
+    figure.append(host, caption);
     return figure;
   }
 

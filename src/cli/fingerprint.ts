@@ -8,7 +8,7 @@
 
 import { parseArgs } from 'util';
 
-import { isPolyadicError, PolyadicError } from '../engine/errors';
+import { errorMessage, isPolyadicError, PolyadicError } from '../engine/errors';
 import { fingerprintColumns } from '../record/fingerprint';
 import { EXIT, ICliStreams } from './core';
 import { readDataFile } from './readers';
@@ -63,7 +63,7 @@ export async function runFingerprint(args: string[], io: ICliStreams): Promise<n
       io.stderr.write(`polyadic: ${error.message.replace(/[\u0000-\u001f\u007f-\u009f]/g, ' ')}\n`);
       return EXIT.usage;
     }
-    io.stderr.write(`polyadic: internal error: ${error instanceof Error ? error.message : String(error)}\n`);
+    io.stderr.write(`polyadic: internal error: ${errorMessage(error)}\n`);
     return EXIT.internal;
   }
 }

@@ -14,10 +14,11 @@ import { analyze } from '../engine/analyze';
 import { MAX_SEED, STATISTICS_TAILS, type IStatisticsOptions, type StatisticsTail } from '../engine/statistics/options';
 import { EnginePool } from '../worker/pool';
 import { BIN_SPEC_FORMS, parseBinSpec } from '../engine/binning';
+import { GREEDY_CHAINS } from '../engine/chains';
 import { ESTIMATORS } from '../engine/estimators';
-import { isPolyadicError, PolyadicError } from '../engine/errors';
+import { errorMessage, isPolyadicError, PolyadicError } from '../engine/errors';
 import { unknownColumn } from '../engine/table';
-import type { EstimatorName, IAnalysisResult, IAnalyzeOptions, MissingPolicy, Units } from '../engine/types';
+import type { ChainRequest, EstimatorName, IAnalysisResult, IAnalyzeOptions, MissingPolicy, Units } from '../engine/types';
 import { EXIT, ICliStreams, oneLine } from './core';
 import { runFingerprint } from './fingerprint';
 import { formatResult, OUTPUT_FORMATS, OutputFormat } from './output';
@@ -75,6 +76,13 @@ Options:
                         multiplets of order 2 and above
   --threads N           worker threads (default: all cores); results are identical
                         for any number
+  --chain a,b,c         add a conditioning chain along that ordering of columns (two
+                        up to the maximum order) to the JSON as 'chains': the
+                        co-information of each prefix from the pair on ('values') and
+                        what each further column adds ('steps', the chain rule's
+                        -I(prefix | column)); greedy-synergy grows from the most
+                        synergistic triplet, greedy-redundancy from the most redundant
+                        pair, up to the maximum order; repeat for several
 
 Evidence against chance (all off by default; the same seed gives the same bits):
   --surrogates N        independence surrogates: each column shuffled on its own, the
@@ -166,7 +174,7 @@ export function reportError(error: unknown, streams: ICliStreams, source?: IData
     streams.stderr.write(`polyadic: ${oneLine(message)}\n`);
     return EXIT.usage;
   }
-  const message = error instanceof Error ? error.message : String(error);
+  const message = errorMessage(error);
   streams.stderr.write(
     `polyadic: internal error: ${oneLine(message)}\n` +
       'polyadic: this is a bug in Polyadic; please report it with the command you ran, ' +
@@ -196,6 +204,7 @@ namespace Private {
         maxOrder?: number;
         top?: number;
         threads?: number;
+        chains: ChainRequest[];
         statistics: IStatisticsOptions;
         format: OutputFormat;
         out?: string;
@@ -240,6 +249,7 @@ namespace Private {
           'max-order': { type: 'string' },
           top: { type: 'string' },
           threads: { type: 'string' },
+          chain: { type: 'string', multiple: true },
           surrogates: { type: 'string' },
           bootstrap: { type: 'string' },
           seed: { type: 'string' },
@@ -287,10 +297,17 @@ namespace Private {
     const format = values.format === undefined
       ? out && path.extname(out).toLowerCase() === '.csv' ? 'csv' : 'json'
       : choice('--format', values.format, CHOICES.format);
+    const chains = (values.chain ?? []).map(chainOption);
+    if (chains.length > 0 && format === 'csv') {
+      throw new PolyadicError('usage', "--chain adds a 'chains' array to the JSON output; CSV holds one row per multiplet, so use --format json.", {
+        option: '--chain'
+      });
+    }
     return {
       kind: 'analyze',
       data,
       columns,
+      chains,
       bins: values.bins === undefined ? undefined : binSpec('--bins', values.bins),
       binsByColumn,
       missing: values.missing === undefined ? undefined : choice('--missing', values.missing, CHOICES.missing),
@@ -334,6 +351,7 @@ namespace Private {
     if (command.units !== undefined) options.units = command.units;
     if (command.maxOrder !== undefined) options.maxOrder = command.maxOrder;
     if (command.top !== undefined) options.top = command.top;
+    if (command.chains.length > 0) options.chains = command.chains;
     if (Object.keys(command.statistics).length > 0) options.statistics = command.statistics;
     return options;
   }
@@ -404,6 +422,21 @@ namespace Private {
   }
 
   /** `--columns a,b,c` as a list: no empty name, no name twice. */
+  /** One --chain: a greedy growth by name, or an ordering of column names joined by ','. */
+  function chainOption(text: string): ChainRequest {
+    if ((GREEDY_CHAINS as readonly string[]).includes(text)) {
+      return text as (typeof GREEDY_CHAINS)[number];
+    }
+    const names = text.split(',');
+    if (names.some(name => name === '')) {
+      throw new PolyadicError('usage', `--chain '${text}' has an empty column name; give column names joined by ',' or ${GREEDY_CHAINS.join(' or ')}.`, {
+        option: '--chain',
+        value: text
+      });
+    }
+    return names;
+  }
+
   function columnList(text: string): string[] {
     const names = text.split(',');
     names.forEach((name, index) => {
@@ -473,7 +506,7 @@ namespace Private {
 
   /** The first sentence of node's argument-parser message, in our lower-case style. */
   function firstSentence(error: unknown): string {
-    const message = error instanceof Error ? error.message : String(error);
+    const message = errorMessage(error);
     const sentence = message.split(/\.\s/)[0].replace(/\.$/, '');
     return sentence.charAt(0).toUpperCase() + sentence.slice(1);
   }

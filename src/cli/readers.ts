@@ -12,7 +12,7 @@ import { parquetMetadata, parquetRead, parquetSchema } from 'hyparquet';
 import type { FileMetaData, ParquetParsers, SchemaTree } from 'hyparquet';
 import Papa from 'papaparse';
 
-import { PolyadicError } from '../engine/errors';
+import { errorMessage, PolyadicError } from '../engine/errors';
 import {
   checkUniqueNames,
   columnFromTextCells,
@@ -159,7 +159,7 @@ export function readArrowBytes(bytes: Uint8Array, label: string, options: IReadO
   try {
     table = arrow.tableFromIPC(bytes);
   } catch (error) {
-    const reason = error instanceof Error ? error.message : String(error);
+    const reason = errorMessage(error);
     if (/compress/i.test(reason)) {
       throw new PolyadicError(
         'input',
@@ -197,7 +197,7 @@ export async function readParquetBytes(
     metadata = parquetMetadata(buffer, { parsers: Private.PARQUET_PARSERS });
     schema = parquetSchema(metadata);
   } catch (error) {
-    throw Private.notFormat(label, 'a Parquet file', error instanceof Error ? error.message : String(error));
+    throw Private.notFormat(label, 'a Parquet file', errorMessage(error));
   }
   const names = schema.children.map(child => child.element.name);
   checkUniqueNames(names);
@@ -224,7 +224,7 @@ export async function readParquetBytes(
       }
     });
   } catch (error) {
-    throw Private.notFormat(label, 'a readable Parquet file', error instanceof Error ? error.message : String(error));
+    throw Private.notFormat(label, 'a readable Parquet file', errorMessage(error));
   }
   const columns = selected.map(name => {
     const parts = chunks.get(name)!.sort((a, b) => a.rowStart - b.rowStart);

@@ -6,6 +6,7 @@
  */
 
 import { applyMissingPolicy, binColumn, IBinnedColumn, IPreparedCodes, parseBinSpec } from './binning';
+import { checkChainRequests, chainsOfLattice, latticeSource } from './chains';
 import { checkEstimator, fromNats } from './estimators';
 import { PolyadicError } from './errors';
 import { prepareCopulaColumns } from './copula/prepare';
@@ -237,6 +238,8 @@ export function analyzeCodes(
   const n = prepared.codes.length;
   const resolved = resolveOptions(options, n);
   const count = checkMultipletCount(n, resolved.maxOrder, resolved.maxMultiplets);
+  // a chain naming a column that is not there fails before the walk, not after it
+  checkChainRequests(options.chains ?? [], prepared.names, resolved.maxOrder);
   const walked =
     lattice ??
     walkLattice({
@@ -321,6 +324,9 @@ export function analyzeCodes(
   };
   if (found && resolved.statistics) {
     result.statistics = Private.report(found, resolved.statistics, units);
+  }
+  if (options.chains && options.chains.length > 0) {
+    result.chains = chainsOfLattice(latticeSource(walked, resolved.estimator), prepared.names, options.chains, units);
   }
   return result;
 }

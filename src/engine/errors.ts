@@ -39,3 +39,8 @@ export class PolyadicError extends Error {
 export function isPolyadicError(value: unknown): value is PolyadicError {
   return value instanceof PolyadicError;
 }
+
+/** The message of anything thrown: an Error's (a PolyadicError's among them) message, else its text. */
+export function errorMessage(error: unknown): string {
+  return error instanceof Error ? error.message : String(error);
+}

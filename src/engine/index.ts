@@ -19,6 +19,8 @@ export {
   parseBinSpec
 } from './binning';
 export type { IBinOptions, IBinnedColumn, IPreparedCodes } from './binning';
+export { binLabels, conditionalTables, contingencyTable, overRepresentedCell, tableMutualInformation } from './contingency';
+export type { IContingencyTable, IOverRepresentedCell } from './contingency';
 export { optimalKMeans1D } from './kmeans1d';
 export type { IKMeansPartition } from './kmeans1d';
 export {
@@ -52,6 +54,7 @@ export type { ILattice, ILatticeInput, ISubtreeResult } from './lattice';
 export { isContinuousEstimator, walkLattice, walkLatticeSubtree } from './walk';
 export { computeCopulaLattice, copulaNormalise, gaussianEntropy, normalQuantile, walkCopulaSubtree } from './copula';
 export { kendallTau, robustnessRun } from './robustness';
+export { chainFromNats, chainsOfLattice, checkChainRequests, GREEDY_CHAINS, latticeOfResult, latticeSource } from './chains';
 export type { IRobustnessAgreement, IRobustnessResult, IRobustnessRow, IRobustnessVariant } from './robustness';
 export {
   chainAlong,

@@ -67,7 +67,7 @@ export type BinMethod =
 
 /**
  * What a spec may name: a binning method, or `auto`, the default rule that picks one per column
- * (`categorical` for a column of few distinct values, else `quantile:4`; see binning.ts).
+ * (`categorical` for a column of few distinct values, else `quantile:4`; see binning/spec.ts).
  */
 export type BinSpecMethod = BinMethod | 'auto';
 
@@ -175,6 +175,26 @@ export interface IAnalyzeOptions {
   top?: number;
   /** Evidence against chance (surrogates, bootstrap, pairwise-preserving null); off by default. */
   statistics?: IStatisticsOptions;
+  /**
+   * Conditioning chains to add to the result (see chains.ts): an ordering of column names (two
+   * up to the maximum order), or `greedy-synergy` / `greedy-redundancy`.
+   */
+  chains?: ChainRequest[];
+}
+
+/** What a chain follows: an ordering of column names, or a greedy growth. */
+export type ChainRequest = readonly string[] | 'greedy-synergy' | 'greedy-redundancy';
+
+/** One conditioning chain in a run's units (see chains.ts). */
+export interface IChainResult {
+  /** `ordering` for a given ordering, else the greedy growth it is. */
+  kind: 'ordering' | 'greedy-synergy' | 'greedy-redundancy';
+  /** Column names in chain order (at least two). */
+  columns: string[];
+  /** Co-information of each prefix from the pair on: values[i] holds the first i + 2 columns. */
+  values: number[];
+  /** What each column after the pair adds: steps[i] = values[i + 1] − values[i]. */
+  steps: number[];
 }
 
 /** The result of one analysis; field names are the CLI's JSON fields. */
@@ -192,6 +212,8 @@ export interface IAnalysisResult {
   inadequate_count?: number;
   /** What the evidence was computed with and over; absent when no statistics were asked for. */
   statistics?: IStatisticsReport;
+  /** The conditioning chains asked for, in the order asked; absent when none were. */
+  chains?: IChainResult[];
   warnings: string[];
 }
 

@@ -4,6 +4,7 @@
  * code reads after a check.
  */
 
+import type { IOrderHistogram } from '../engine/histogram';
 import type { StatisticsTail } from '../engine/statistics/options';
 import type { BinMethod, EstimatorName, IMultipletRow, IStatisticsReport, MissingPolicy, Units } from '../engine/types';
 import type { CoreMultipletField } from '../results-format';
@@ -110,12 +111,8 @@ export interface IMultipletSummary extends MultipletEvidence {
   o_information: number;
 }
 
-/** Order histogram of co-information for one order. */
-export interface IOrderHistogram {
-  order: number;
-  edges: number[];
-  counts: number[];
-}
+/** Order histogram of co-information for one order (the engine's, engine/histogram.ts). */
+export type { IOrderHistogram };
 
 /** The results of an analysis in brief. */
 export interface IResultSummary {

@@ -9,6 +9,7 @@ import * as arrow from 'apache-arrow';
 import Papa from 'papaparse';
 
 import type { IAnalysisResult, IMultipletRow } from '../../src/engine/types';
+import { ResultsModel } from '../../src/panel/results/model';
 import { buildCli, csv, expectOneLineFailure, fixtureFolder, IRun, ROOT, runCli } from './helpers';
 
 let bundle: string;
@@ -322,6 +323,59 @@ describe('polyadic analyze', () => {
       const result = parseResult(analyze(path.join(folder, 'n.csv')));
       expect(result.rows).toBe(40);
       expect(result.rows_used).toBe(39);
+    });
+  });
+
+  describe('#chains', () => {
+    it('should add the chain of an ordering: the prefixes’ co-information from the run’s multiplets, and the steps', () => {
+      const folder = fixtureFolder({ 'm.csv': mixedCsv() });
+      const file = path.join(folder, 'm.csv');
+      const result = parseResult(analyze(file, '--chain', 'soil,air,fan,leaf', '--chain', 'light,leaf'));
+      expect(result.chains!.map(chain => chain.columns)).toEqual([
+        ['soil', 'air', 'fan', 'leaf'],
+        ['light', 'leaf']
+      ]);
+      const [chain] = result.chains!;
+      expect(chain.kind).toBe('ordering');
+      expect(chain.values).toHaveLength(3);
+      chain.values.forEach((value, i) => {
+        expect(value).toBeCloseTo(multiplet(result, ...chain.columns.slice(0, i + 2)).co_information, 12);
+      });
+      expect(chain.steps).toEqual(chain.values.slice(1).map((value, i) => expect.closeTo(value - chain.values[i], 12)));
+      // the same chain as the results view draws from the same result
+      const model = new ResultsModel();
+      model.setResult({ ...result, chains: undefined });
+      const store = model.store!;
+      const index = Array.from({ length: store.size }, (_v, i) => i).find(i => [...store.namesOf(i)].sort().join() === 'air,fan,leaf,soil');
+      model.selectMultiplet(index!, ['soil', 'air', 'fan', 'leaf']);
+      expect(model.chain!.values).toEqual(chain.values.map(v => expect.closeTo(v, 12)));
+      expect(model.chain!.steps).toEqual(chain.steps.map(v => expect.closeTo(v, 12)));
+      model.dispose();
+    });
+
+    it('should grow the greedy chains from the XOR triplet and give the same bits on one and two threads', () => {
+      const folder = fixtureFolder({ 'x.csv': xorCsv() });
+      const file = path.join(folder, 'x.csv');
+      const args = ['--bins', 'categorical', '--chain', 'greedy-synergy', '--chain', 'greedy-redundancy', '--chain', 'C,A,B'];
+      const one = parseResult(analyze(file, ...args, '--threads', '1'));
+      const two = parseResult(analyze(file, ...args, '--threads', '2'));
+      expect(two.chains).toEqual(one.chains);
+      const [synergy, redundancy, ordering] = one.chains!;
+      expect(synergy.kind).toBe('greedy-synergy');
+      expect([...synergy.columns].sort()).toEqual(['A', 'B', 'C']);
+      // XOR: every pair independent (0 bits), the triplet −1 bit (a fact of the XOR design)
+      expect(synergy.values).toEqual([expect.closeTo(0, 12), expect.closeTo(-1, 12)]);
+      expect(redundancy.kind).toBe('greedy-redundancy');
+      expect(ordering.steps).toEqual([expect.closeTo(-1, 12)]);
+    });
+
+    it('should refuse --chain with CSV output, an unknown column and a chain past the maximum order in one line', () => {
+      const folder = fixtureFolder({ 'x.csv': xorCsv() });
+      const file = path.join(folder, 'x.csv');
+      expect(expectOneLineFailure(analyze(file, '--chain', 'A,B', '--format', 'csv'))).toMatch(/--chain adds a 'chains' array to the JSON output/);
+      expect(expectOneLineFailure(analyze(file, '--chain', 'A,Z'))).toMatch(/names column 'Z', which is not among the analysed columns \(A, B, C\)/);
+      expect(expectOneLineFailure(analyze(file, '--chain', 'A,B,C', '--max-order', '2'))).toMatch(/more than the maximum order 2/);
+      expect(expectOneLineFailure(analyze(file, '--chain', 'A,,B'))).toMatch(/--chain 'A,,B' has an empty column name/);
     });
   });
 

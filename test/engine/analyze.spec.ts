@@ -11,26 +11,9 @@ import {
 import { assembleLattice, walkSubtree } from '../../src/engine/lattice';
 import type { ColumnView, IAnalysisResult } from '../../src/engine/types';
 import { ENGINE_VERSION } from '../../src/engine/version';
-import { categoricalColumn, expectPolyadic, numericColumn } from './helpers';
+import { categoricalColumn, expectPolyadic, numericColumn, xorWithCopies } from './helpers';
 
-/** x, y fair bits; z = x xor y; c1, c2 copies of a fourth bit w: all 16 combinations of x, y, w twice. */
-function plantedColumns(): ColumnView[] {
-  const x: number[] = [];
-  const y: number[] = [];
-  const w: number[] = [];
-  for (let r = 0; r < 16; r++) {
-    x.push(r & 1);
-    y.push((r >> 1) & 1);
-    w.push((r >> 2) & 1);
-  }
-  return [
-    numericColumn('x', x),
-    numericColumn('y', y),
-    numericColumn('z', x.map((v, i) => v ^ y[i])),
-    numericColumn('c1', w),
-    numericColumn('c2', w)
-  ];
-}
+const plantedColumns = xorWithCopies;
 
 function row(result: IAnalysisResult, ...names: string[]) {
   return result.multiplets.find(m => m.columns.join(',') === names.join(','));

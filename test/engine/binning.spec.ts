@@ -1,5 +1,5 @@
 /**
- * Binning (src/engine/binning.ts) on cases small enough to check by hand; the arithmetic is in
+ * Binning (src/engine/binning/) on cases small enough to check by hand; the arithmetic is in
  * the comments. Rules follow numpy's `histogram_bin_edges` (numpy/lib/_histograms_impl.py); the
  * same rules against numpy itself, computed at test time, are in binning-numpy.spec.ts.
  */

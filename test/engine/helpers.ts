@@ -5,7 +5,7 @@
 import fc from 'fast-check';
 
 import { PolyadicError } from '../../src/engine/errors';
-import type { ICategoricalColumn, INumericColumn } from '../../src/engine/types';
+import type { ColumnView, ICategoricalColumn, INumericColumn } from '../../src/engine/types';
 
 /** A float64 (or, with `dtype`, any) numeric column from plain numbers; NaN is missing. */
 export function numericColumn(name: string, values: ArrayLike<number>, dtype = 'float64'): INumericColumn {
@@ -29,6 +29,25 @@ export function categoricalColumn(name: string, labels: (string | null)[]): ICat
     codes[i] = code;
   });
   return { kind: 'categorical', name, dtype: 'string', codes, categories, missing: null };
+}
+
+/** x, y fair bits; z = x xor y; c1, c2 copies of a fourth bit w: all 16 combinations of x, y, w twice. */
+export function xorWithCopies(): ColumnView[] {
+  const x: number[] = [];
+  const y: number[] = [];
+  const w: number[] = [];
+  for (let r = 0; r < 16; r++) {
+    x.push(r & 1);
+    y.push((r >> 1) & 1);
+    w.push((r >> 2) & 1);
+  }
+  return [
+    numericColumn('x', x),
+    numericColumn('y', y),
+    numericColumn('z', x.map((v, i) => v ^ y[i])),
+    numericColumn('c1', w),
+    numericColumn('c2', w)
+  ];
 }
 
 /** Whether `run` throws a PolyadicError of `kind` whose message matches every pattern. */

@@ -123,6 +123,7 @@ describe('printFigure', () => {
     background: '#111',
     synergy: '#c60',
     redundancy: '#16c',
+    distribution: '#888',
     accent: '#16c',
     font: 'sans-serif'
   };

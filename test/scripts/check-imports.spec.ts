@@ -100,6 +100,13 @@ describe('check-imports', () => {
     ]);
   });
 
+  it('should find no import circle in the extension’s own src', () => {
+    const root = path.resolve(__dirname, '..', '..');
+    const run = check(path.join(root, 'src'), root);
+    expect(run.stdout).toMatch(/^No import circles in .*src \(\d+ files\)\.\n$/);
+    expect(run.code).toBe(0);
+  });
+
   it('should refuse a folder that does not exist', () => {
     const folder = tree({});
     const run = check(path.join(folder, 'missing'), folder);

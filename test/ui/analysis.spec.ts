@@ -68,7 +68,8 @@ test('should redraw the preview when one column’s binning changes', async ({},
   const figure = panel.locator('.pd-Binning-preview');
   await expect(figure).toHaveAttribute('data-column', 'humidity_a_pct');
   await expect(figure.locator('.pd-Binning-caption').first()).toContainText('→ 4 bins');
-  await expect(figure.locator('.pd-Chart-edge')).toHaveCount(5);
+  // the bin edges as drawn: one line shape of the chart per edge
+  await expect(figure.locator('.pd-Binning-chart .shapelayer path')).toHaveCount(5);
   // Time from the input event to the redrawn preview, measured in the page.
   const latencies: number[] = [];
   for (const spec of ['quantile:8', 'width:6', 'quantile:4']) {
@@ -79,7 +80,7 @@ test('should redraw the preview when one column’s binning changes', async ({},
         return new Promise<number>(resolve => {
           const start = performance.now();
           const observer = new MutationObserver(() => {
-            if (target.querySelector('.pd-Chart') && target.textContent!.includes(`: ${spec} →`)) {
+            if (target.querySelector('.pd-Binning-chart .main-svg') && target.textContent!.includes(`: ${spec} →`)) {
               observer.disconnect();
               resolve(performance.now() - start);
             }
@@ -95,7 +96,7 @@ test('should redraw the preview when one column’s binning changes', async ({},
   console.log(`preview latency ms: ${latencies.map(ms => ms.toFixed(1)).join(', ')}`);
   await input.fill('quantile:8');
   await expect(figure.locator('.pd-Binning-caption').first()).toContainText('→ 8 bins');
-  await expect(figure.locator('.pd-Chart-edge')).toHaveCount(9);
+  await expect(figure.locator('.pd-Binning-chart .shapelayer path')).toHaveCount(9);
   await expect(figure.locator('.pd-Binning-counts tbody tr')).toHaveCount(8);
   await input.fill('quantile:4');
   await expect(figure.locator('.pd-Binning-caption').first()).toContainText('→ 4 bins');
@@ -109,13 +110,20 @@ test('should run with the defaults and report the result', async () => {
 });
 
 test('should keep a dark-theme screenshot of the analysis sections', async ({}, testInfo) => {
+  const lightFill = await polyadicPanel(page)
+    .locator('.pd-Binning-chart .bars .point path')
+    .first()
+    .evaluate(node => getComputedStyle(node).fill);
   await execute(page, 'apputils:change-theme', { theme: 'JupyterLab Dark' });
   await expect(page.locator('body')).toHaveAttribute('data-jp-theme-light', 'false');
-  // The chart's bars take their fill from the theme.
-  const fill = await polyadicPanel(page).locator('.pd-Chart-bar').first().evaluate(node => getComputedStyle(node).fill);
-  const brand = await page.evaluate(() => getComputedStyle(document.body).getPropertyValue('--jp-brand-color2').trim());
-  expect(brand).not.toBe('');
-  expect(fill).not.toBe('');
+  // The preview's bars take the distribution colour of the theme: the chart redraws on the change.
+  const barFill = (): Promise<string> =>
+    polyadicPanel(page)
+      .locator('.pd-Binning-chart .bars .point path')
+      .first()
+      .evaluate(node => getComputedStyle(node).fill);
+  await expect.poll(barFill).not.toBe(lightFill);
+  expect(await barFill()).toMatch(/^rgb/);
   // Room for the analysis sections: the notebook and settings sections shut.
   for (const title of ['Notebook', 'Defaults', 'Records']) {
     const header = sectionTitle(page, title);

@@ -11,19 +11,6 @@ import path from 'node:path';
 import { execute, focusResults, polyadicPanel, resultsView } from './helpers';
 import { ARTIFACTS } from './paths';
 
-/** The part of JupyterLab's application object the test uses (`--expose-app-in-browser`). */
-interface IExposedApp {
-  started: Promise<void>;
-  restored: Promise<void>;
-  commands: { execute(id: string, args?: Record<string, unknown>): Promise<unknown> };
-}
-
-declare global {
-  interface Window {
-    jupyterapp?: IExposedApp;
-  }
-}
-
 /** The planted exclusive-or of demo/generate.py: command, flow meter and alarm (sorted). */
 const TRIPLET = ['flow_l_min', 'leak_alarm', 'valve_command'];
 /** The two humidity sensors in the same air of demo/generate.py (sorted). */

@@ -12,6 +12,8 @@ export interface IExposedApp {
   restored: Promise<void>;
   /** The command registry. */
   commands: { execute(id: string, args?: Record<string, unknown>): Promise<unknown> };
+  /** The server's services. */
+  serviceManager: { sessions: { shutdownAll(): Promise<void> } };
 }
 
 declare global {
@@ -31,6 +33,14 @@ export async function openLab(page: Page, workspace: string): Promise<void> {
     await window.jupyterapp!.started;
     await window.jupyterapp!.restored;
   });
+}
+
+/**
+ * Shut down every kernel session of the server: a later spec that opens the same fixture
+ * notebook then starts from a fresh kernel, as its set-up expects.
+ */
+export async function shutDownKernels(page: Page): Promise<void> {
+  await page.evaluate(() => window.jupyterapp!.serviceManager.sessions.shutdownAll());
 }
 
 /** Run JupyterLab command `id` with `args` in the page and wait for it to finish. */

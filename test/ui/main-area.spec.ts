@@ -2,13 +2,14 @@
  * Browser tests of the results view in the main area, in a real JupyterLab with a real kernel at
  * 1440×900: Run opens the view beside the notebook; the table headers all fit without horizontal
  * scrolling; the planted parity triplet of results.ipynb is the top synergy row and visible in its
- * order's histogram; a row selects its bar and the detail view; the waterfall's steps add up to the
- * multiplet's co-information; a reload restores the view; dark screenshots of the whole window.
+ * order's histogram; a row selects its bar and the detail view, whose conditional tables of the
+ * triplet flip; the waterfall's steps add up to the multiplet's co-information; a reload restores
+ * the view (the detail then says what its tables need); dark screenshots of the whole window.
  */
 import { expect, type Locator, type Page, test } from '@playwright/test';
 import path from 'node:path';
 
-import { execute, openLab, openNotebookAndPanel, polyadicPanel, resultsView, sectionTitle } from './helpers';
+import { execute, openLab, openNotebookAndPanel, polyadicPanel, resultsView, sectionTitle, shutDownKernels } from './helpers';
 import { ARTIFACTS } from './paths';
 
 test.describe.configure({ mode: 'serial' });
@@ -37,6 +38,8 @@ test.beforeAll(async ({ browser }) => {
 });
 
 test.afterAll(async () => {
+  // results.spec opens the same notebook and expects a kernel without its frames
+  await shutDownKernels(page);
   await page.close();
 });
 
@@ -148,6 +151,80 @@ test('should draw the chain as a waterfall whose steps add up to the co-informat
   await expect(chain.locator('.pd-Chain-message')).toContainText('most redundant pair');
 });
 
+test('should show the planted triplet in the detail view: its measures and conditional tables that flip', async () => {
+  const first = results().locator('.pd-ResultsTable-synergy tbody tr.pd-ResultsTable-row').first();
+  await first.click();
+  const value = Number(await first.locator('.pd-ResultsTable-cell.pd-mod-co_information').getAttribute('data-value'));
+  const detail = results().getByRole('region', { name: 'Multiplet detail', exact: true });
+  await expect(detail.getByRole('heading', { name: 'Multiplet detail', exact: true })).toBeVisible();
+  await expect(detail.locator('.pd-Detail-subject')).toContainText('(order 3)');
+  for (const name of TRIPLET) {
+    await expect(detail.locator('.pd-Detail-subject')).toContainText(name);
+  }
+  // every measure, labelled, with units; the co-information is the row's
+  for (const label of ['Co-information', 'O-information', 'Total correlation', 'Dual total correlation', 'S-information', 'Joint entropy', 'Adequacy']) {
+    await expect(detail.locator('.pd-Detail-term', { hasText: new RegExp(`^${label}$`) })).toBeVisible();
+  }
+  const coinformation = detail.locator('.pd-Detail-value[data-key="co_information"]');
+  expect(Number(await coinformation.getAttribute('data-value'))).toBe(value);
+  await expect(coinformation).toHaveText(/ bits$/);
+  // the tables within each level of the default conditioning column, and why it is the default
+  const picker = detail.getByRole('combobox', { name: 'Condition on', exact: true });
+  await expect(picker).toBeVisible();
+  const conditioning = await picker.inputValue();
+  expect(TRIPLET).toContain(conditioning);
+  await expect(detail.locator('.pd-Detail-reason')).toContainText(`Conditioned on ${conditioning} by default`);
+  await expect(detail.locator('.pd-Detail-level')).toHaveCount(2);
+  await expect(detail.locator('.pd-Detail-verdict')).toContainText('The tables flip');
+  await expect(detail.locator('.pd-Plot g.hm')).toHaveCount(2);
+  // the counts as text: two levels and the pooled table; parity flips the diagonal between levels
+  await detail.locator('.pd-Detail-textSummary').click();
+  const tables = detail.locator('table.pd-Detail-table');
+  await expect(tables).toHaveCount(3);
+  const counts = async (n: number): Promise<number[][]> =>
+    tables.nth(n).locator('tbody tr').evaluateAll(rows =>
+      rows.map(row => Array.from(row.querySelectorAll('td')).slice(0, -1).map(cell => Number((cell.textContent ?? '').replace(/,/g, ''))))
+    );
+  const [a, b, pooled] = [await counts(0), await counts(1), await counts(2)];
+  const diagonalWins = (t: number[][]): boolean => t[0][0] + t[1][1] > t[0][1] + t[1][0];
+  expect(diagonalWins(a)).not.toBe(diagonalWins(b));
+  expect(a[0][0] + b[0][0]).toBe(pooled[0][0]);
+  expect(pooled.flat().reduce((x, y) => x + y, 0)).toBe(2000);
+  // another conditioning column: the tables split by it, and XOR flips whichever column conditions
+  const other = TRIPLET.find(name => name !== conditioning)!;
+  await picker.selectOption(other);
+  await expect(detail.locator('.pd-Detail-reason')).toContainText(`Conditioned on ${other}, as picked`);
+  await expect(detail.locator('.pd-Detail-level').first()).toContainText(`${other} = `);
+  await expect(detail.locator('.pd-Detail-verdict')).toContainText('The tables flip');
+  // the detail follows the keyboard selection
+  await first.focus();
+  await first.press('ArrowDown');
+  const second = results().locator('.pd-ResultsTable-synergy tbody tr.pd-ResultsTable-row').nth(1);
+  await expect(second).toHaveAttribute('aria-selected', 'true');
+  const names = (await second.locator('.pd-ResultsTable-name').allTextContents()).join(', ');
+  await expect(detail.locator('.pd-Detail-subject')).toContainText(names);
+  await second.press('ArrowUp');
+  await expect(first).toHaveAttribute('aria-selected', 'true');
+  await expect(detail.locator('.pd-Detail-subject')).toHaveText(`${(await first.locator('.pd-ResultsTable-name').allTextContents()).join(', ')} (order 3)`);
+  // a pair: the humidity sensors' joint table, one heat map, most rows on the diagonal of their quartiles
+  await results().locator('.pd-ResultsTable-redundancy tbody tr.pd-ResultsTable-row').first().click();
+  await expect(detail.locator('.pd-Detail-subtitle', { hasText: 'Joint contingency table' })).toBeVisible();
+  await expect(detail.locator('.pd-Plot g.hm')).toHaveCount(1);
+  await expect(tables).toHaveCount(1);
+  const joint = await counts(0);
+  const all = joint.flat().reduce((x, y) => x + y, 0);
+  expect(joint.reduce((sum, row, i) => sum + row[i], 0) / all).toBeGreaterThan(0.9);
+  // a multiplet of order 4: its eleven sub-multiplets by order, charted and listed
+  const order = results().locator('.pd-Results-filterSelect');
+  await order.selectOption('4');
+  await results().locator('.pd-ResultsTable tbody tr.pd-ResultsTable-row').first().click();
+  await expect(detail.locator('.pd-Detail-subject')).toContainText('(order 4)');
+  await expect(detail.locator('.pd-Detail-orderTitle')).toHaveText([/^Order 2: 6 sub-multiplets/, /^Order 3: 4 sub-multiplets/, /^Order 4: 1 sub-multiplet$/]);
+  await expect(detail.locator('.pd-Detail-sub')).toHaveCount(11);
+  await expect(detail.locator('.pd-Plot .scatterlayer .point')).toHaveCount(11);
+  await order.selectOption('');
+});
+
 test('should filter the tables from a histogram bar', async () => {
   const order3 = results().locator('.pd-Histogram').nth(1);
   const picker = order3.locator('.pd-Histogram-pickerSelect');
@@ -194,4 +271,10 @@ test('should restore the view on reload from the notebook’s record', async () 
   await expect(first).toBeVisible({ timeout: 60_000 });
   expect((await first.locator('.pd-ResultsTable-name').allTextContents()).sort()).toEqual(TRIPLET);
   await expect(results().locator('.pd-Histogram')).not.toHaveCount(0);
+  // the restored view has no data: the detail keeps the measures and says what the tables need
+  await first.click();
+  const detail = results().getByRole('region', { name: 'Multiplet detail', exact: true });
+  await expect(detail.locator('.pd-Detail-value[data-key="co_information"]')).toBeVisible();
+  await expect(detail.locator('.pd-Detail-message')).toContainText('need the data and the run');
+  await expect(detail.locator('table.pd-Detail-table')).toHaveCount(0);
 });

@@ -11,7 +11,7 @@ import type { IFetchedFrame } from '../../bridge/decode';
 import { formatCount, plural, wordFor } from '../../engine/text';
 import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
 import { newRecordId } from '../../record/ids';
-import type { IPolyadicSettings } from '../../tokens';
+import type { IPolyadicSettings } from '../../settings';
 import type { EnginePool, IRunProgress, IRunResult } from '../../worker/pool';
 import type { IColumnPreview } from '../../worker/protocol';
 import { BinningModel } from '../binning/model';
@@ -19,6 +19,7 @@ import { DataModel } from '../data/model';
 import { StatisticsModel } from '../statistics/model';
 import { adequacyOf, EstimatorModel, IAdequacy, type IEstimatorChoices, type IOrderClamp } from '../estimator/model';
 import type { IAnalysisState, IRunCompleted, IRunStatus, RunState } from './types';
+import { errorMessage } from '../../engine/errors';
 
 /** What the model needs of the engine pool (an {@link EnginePool} in the panel). */
 export interface IEngineRunner {
@@ -320,7 +321,7 @@ export class AnalysisModel implements IAnalysisState {
       this._setRun({
         state: cancelled ? 'cancelled' : 'error',
         progress: null,
-        message: error instanceof Error ? error.message : String(error)
+        message: errorMessage(error)
       });
     }
   }
@@ -379,7 +380,7 @@ export class AnalysisModel implements IAnalysisState {
       await bridge.sendResults(completed.analysisId, completed.result.multiplets, { meta });
       this._kernelMessage = null;
     } catch (error) {
-      this._kernelMessage = `The results could not be sent to the kernel: ${error instanceof Error ? error.message : String(error)}`;
+      this._kernelMessage = `The results could not be sent to the kernel: ${errorMessage(error)}`;
     }
     this._changed.emit();
   }

@@ -9,6 +9,7 @@ import { ISignal, Signal } from '@lumino/signaling';
 import { defaultBinSpec, formatBinSpec, parseBinSpec } from '../../engine/binning';
 import type { BinMethod, ColumnView } from '../../engine/types';
 import type { IColumnPreview } from '../../worker/protocol';
+import { errorMessage } from '../../engine/errors';
 
 /** What a column's current spec gave, as its row in the Binning section says. */
 export interface IBinOutcome {
@@ -126,7 +127,7 @@ export class BinningModel {
       parseBinSpec(spec);
       return null;
     } catch (error) {
-      return error instanceof Error ? error.message : String(error);
+      return errorMessage(error);
     }
   }
 
@@ -261,7 +262,7 @@ export class BinningModel {
       if (ticket !== this._ticket || this._isDisposed) {
         return;
       }
-      this._state = { column: name, spec, preview: null, error: error instanceof Error ? error.message : String(error), pending: false };
+      this._state = { column: name, spec, preview: null, error: errorMessage(error), pending: false };
     }
     this._changed.emit();
     void this._fillBins();

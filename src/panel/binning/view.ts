@@ -1,11 +1,16 @@
 /**
  * The Binning section: one spec field per column, "apply to all numeric columns", and the
  * preview of the focused column: its distribution, the bin edges drawn on it and the rows
- * per bin. The chart is plain SVG whose colours are CSS classes over --jp-* variables, so a
- * theme change recolours it without a redraw. Column names and category labels are text.
+ * per bin. The chart is the chart module's (src/panel/charts, as in the results view): theme
+ * colours from the --pd-* tokens, redrawn on a theme change, PNG and SVG export. Column names
+ * and category labels are text.
  */
+import { Widget } from '@lumino/widgets';
+
 import { AUTO_NUMERIC_SPEC } from '../../engine/binning';
 import { formatCount, plural } from '../../engine/text';
+import { ChartView, plotlyText } from '../charts/chart';
+import type { IChartColors, IFigure } from '../charts/chart';
 import { textElement } from '../dom';
 import { SectionView } from '../section';
 import type { IColumnPreview } from '../../worker/protocol';
@@ -49,6 +54,25 @@ export class BinningView extends SectionView<BinningModel> {
     });
     this._preview = textElement('figure', 'pd-Binning-preview');
     this._preview.setAttribute('aria-live', 'polite');
+    // one chart, redrawn for each column and spec (the chart module of the results view)
+    this._chart = new ChartView({
+      label: 'Binning preview',
+      filename: 'polyadic-binning-preview',
+      height: 130,
+      exportAs: () => {
+        const preview = this._drawn;
+        const name = preview?.name ?? 'column';
+        return {
+          title: `Binning of ${name}: ${this.model.preview.spec ?? ''}`,
+          subtitle: preview ? `${formatCount(preview.rows)} rows · ${Private.binsText(preview.binCounts.length, preview.binning.binning.method)}` : '',
+          xTitle: name,
+          yTitle: 'rows',
+          filename: `polyadic-binning-${name.replace(/[^A-Za-z0-9._-]+/g, '_').slice(0, 60)}`
+        };
+      }
+    });
+    this._chart.addClass('pd-Binning-chart');
+    this._chartHost = textElement('div', 'pd-Binning-chartHost');
     this._unused = textElement('p', 'pd-Binning-unused pd-mod-warning');
     this._unused.setAttribute('role', 'status');
     this.node.append(this._datalist, this._unused, this._empty, this._rows, this._apply, this._preview);
@@ -135,14 +159,39 @@ export class BinningView extends SectionView<BinningModel> {
       return;
     }
     this._drawn = preview;
+    const label = Private.chartLabel(preview);
+    this._chart.plotNode.setAttribute('aria-label', label);
+    this._chart.node.dataset.edges = String(preview.binning.binning.edges?.length ?? 0);
     figure.replaceChildren(
       textElement('figcaption', 'pd-Binning-caption', `Preview of ${preview.name}: ${state.spec} → ${Private.binsText(preview.binCounts.length, preview.binning.binning.method)}`),
-      Private.chart(preview),
+      this._chartHost,
       Private.binTable(preview),
       ...preview.warnings.map(warning => textElement('p', 'pd-Binning-warning', warning))
     );
+    this._chart.setFigure(colors => Private.figure(preview, colors));
   }
 
+  /** Attach the preview's chart into its place (a widget of its own inside this section's node). */
+  protected onAfterAttach(): void {
+    if (!this._chart.isAttached) {
+      // attached where the section's node is in the page, then kept in its host, which each
+      // preview puts back in place (a moved node stays the same attached widget)
+      Widget.attach(this._chart, this._preview);
+      this._chartHost.append(this._chart.node);
+    }
+  }
+
+  /** Dispose the chart with the section. */
+  dispose(): void {
+    if (this.isDisposed) {
+      return;
+    }
+    this._chart.dispose();
+    super.dispose();
+  }
+
+  private readonly _chart: ChartView;
+  private readonly _chartHost: HTMLElement;
   private _datalist: HTMLDataListElement;
   private _listId: string;
   private _empty: HTMLElement;
@@ -165,11 +214,6 @@ export namespace BinningView {
 }
 
 namespace Private {
-  const SVG = 'http://www.w3.org/2000/svg';
-  const WIDTH = 300;
-  const HEIGHT = 110;
-  const PAD = 4;
-
   let counter = 0;
 
   /** A fresh number for element ids. */
@@ -203,52 +247,72 @@ namespace Private {
     node.replaceChildren(summary, ...outcome.warnings.map(warning => textElement('p', 'pd-Binning-rowWarning', warning)));
   }
 
-  function svg<K extends keyof SVGElementTagNameMap>(tag: K, attributes: Record<string, string | number>): SVGElementTagNameMap[K] {
-    const node = document.createElementNS(SVG, tag);
-    for (const [name, value] of Object.entries(attributes)) {
-      node.setAttribute(name, String(value));
+  /** What the preview's chart shows, for screen readers. */
+  export function chartLabel(preview: IColumnPreview): string {
+    const distribution = preview.distribution;
+    if (distribution.kind === 'numeric' && Number.isFinite(distribution.low)) {
+      const edges = preview.binning.binning.edges ?? [];
+      return `Distribution of ${preview.name} from ${format(distribution.low)} to ${format(distribution.high)} with ${plural(edges.length, 'bin edge')} drawn as lines`;
     }
-    return node;
+    return `Counts of the ${plural(distribution.counts.length, 'category', 'categories')} of ${preview.name}`;
   }
 
-  /** The distribution as bars, with the bin edges as lines over it (numeric) or one bar per category. */
-  export function chart(preview: IColumnPreview): SVGSVGElement {
-    const root = svg('svg', { class: 'pd-Chart', viewBox: `0 0 ${WIDTH} ${HEIGHT}`, role: 'img', preserveAspectRatio: 'none' });
+  /**
+   * The column's values as bars (fine bins of a numeric column, one bar per category of a
+   * categorical one) in the distribution colour, with the bin edges as lines over them.
+   */
+  export function figure(preview: IColumnPreview, colors: IChartColors): IFigure {
     const distribution = preview.distribution;
-    const counts = distribution.counts;
-    const top = Math.max(1, ...Array.from(counts));
-    const barWidth = (WIDTH - 2 * PAD) / Math.max(1, counts.length);
-    const plotHeight = HEIGHT - 2 * PAD;
-    for (let i = 0; i < counts.length; i++) {
-      const h = (counts[i] / top) * plotHeight;
-      root.append(
-        svg('rect', {
-          class: 'pd-Chart-bar',
-          x: PAD + i * barWidth,
-          y: HEIGHT - PAD - h,
-          width: Math.max(0.5, barWidth - (counts.length > 60 ? 0 : 1)),
-          height: h
-        })
-      );
-    }
-    let label: string;
+    const counts = Array.from(distribution.counts);
+    const layout: Record<string, unknown> = {
+      bargap: distribution.kind === 'numeric' ? 0 : 0.15,
+      margin: { l: 40, r: 6, t: 6, b: 28 },
+      yaxis: { gridcolor: colors.grid, zerolinecolor: colors.grid, color: colors.muted, rangemode: 'tozero' },
+      xaxis: { gridcolor: colors.grid, zerolinecolor: colors.grid, color: colors.muted }
+    };
     if (distribution.kind === 'numeric' && Number.isFinite(distribution.low)) {
-      const { low, high } = distribution;
-      const span = high - low || 1;
-      const edges = preview.binning.binning.edges ?? [];
-      for (const edge of edges) {
-        const x = PAD + ((edge - low) / span) * (WIDTH - 2 * PAD);
-        root.append(svg('line', { class: 'pd-Chart-edge', x1: x, x2: x, y1: PAD, y2: HEIGHT - PAD }));
-      }
-      label = `Distribution of ${preview.name} from ${format(low)} to ${format(high)} with ${plural(edges.length, 'bin edge')} drawn as lines`;
-    } else {
-      label = `Counts of the ${plural(counts.length, 'category', 'categories')} of ${preview.name}`;
+      const edges = Array.from(distribution.edges);
+      const centers = counts.map((_c, i) => (edges[i] + edges[i + 1]) / 2);
+      const widths = counts.map((_c, i) => edges[i + 1] - edges[i]);
+      layout.shapes = (preview.binning.binning.edges ?? []).map(edge => ({
+        type: 'line',
+        xref: 'x',
+        yref: 'paper',
+        x0: edge,
+        x1: edge,
+        y0: 0,
+        y1: 1,
+        line: { color: colors.text, width: 1.5 }
+      }));
+      return {
+        data: [
+          {
+            type: 'bar',
+            x: centers,
+            y: counts,
+            width: widths,
+            customdata: counts.map((_c, i) => [format(edges[i]), format(edges[i + 1])]),
+            hovertemplate: '%{customdata[0]} to %{customdata[1]}<br>%{y} rows<extra></extra>',
+            marker: { color: colors.distribution, line: { width: 0 } }
+          }
+        ] as IFigure['data'],
+        layout: layout as IFigure['layout']
+      };
     }
-    root.setAttribute('aria-label', label);
-    const title = svg('title', {});
-    title.textContent = label;
-    root.prepend(title);
-    return root;
+    const categories = distribution.kind === 'categorical' ? distribution.categories : counts.map((_c, i) => `bin ${i + 1}`);
+    return {
+      data: [
+        {
+          type: 'bar',
+          // category names are data: plotly reads markup in labels, so they go in escaped
+          x: categories.map(name => plotlyText(name)),
+          y: counts,
+          hovertemplate: '%{x}<br>%{y} rows<extra></extra>',
+          marker: { color: colors.distribution, line: { width: 0 } }
+        }
+      ] as IFigure['data'],
+      layout: { ...layout, xaxis: { ...(layout.xaxis as object), type: 'category' } } as IFigure['layout']
+    };
   }
 
   /** Rows per bin, with each bin's range or category. */

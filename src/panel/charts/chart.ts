@@ -10,27 +10,9 @@ import type * as PlotlyModule from 'plotly.js-dist-min';
 
 import { textElement } from '../dom';
 import { type IChartExport, plotlyText, PRINT_SIZE, printColors, printFigure } from './print';
+import type { FigureBuilder, IChartColors } from './types';
 
-/** Theme colours a figure is built with (CSS colour strings). */
-export interface IChartColors {
-  text: string;
-  muted: string;
-  grid: string;
-  background: string;
-  synergy: string;
-  redundancy: string;
-  accent: string;
-  font: string;
-}
-
-/** A figure: traces and layout, as plotly.js takes them. */
-export interface IFigure {
-  data: PlotlyModule.Data[];
-  layout: PlotlyModule.Layout;
-}
-
-/** Builds a figure for the current theme colours. */
-export type FigureBuilder = (colors: IChartColors) => IFigure;
+export type { FigureBuilder, IChartColors, IFigure } from './types';
 
 /** One chart with its export buttons. */
 export class ChartView extends Widget {
@@ -226,6 +208,7 @@ namespace Private {
       background: read('--jp-layout-color1', '#fff'),
       synergy: read('--pd-synergy-color', '#c60'),
       redundancy: read('--pd-redundancy-color', '#16c'),
+      distribution: read('--pd-distribution-color', '#888'),
       accent: read('--jp-brand-color1', '#16c'),
       font: read('--jp-ui-font-family', 'sans-serif')
     };

@@ -3,7 +3,7 @@
  * naming its frame and record, both axis titles, type large enough to read in print, and dark
  * ink on a white ground whatever the theme. Pure: no DOM, no plotly import.
  */
-import type { IChartColors, IFigure } from './chart';
+import type { IChartColors, IFigure } from './types';
 
 /**
  * Text for plotly labels: plotly reads a small HTML-like markup in labels (links, bold,

@@ -11,11 +11,11 @@ import { ISignal, Signal } from '@lumino/signaling';
 
 import type { IBridgeStatus, IListing, KernelBridge } from '../../bridge/connector';
 import type { IFetchedFrame, IFetchProgress } from '../../bridge/decode';
-import { isBridgeError } from '../../bridge/errors';
 import type { ColumnKind, IFrameInfo } from '../../bridge/protocol';
 import { sameColumnData } from '../../engine/table';
 import type { ColumnView } from '../../engine/types';
 import { columnStats, IColumnStats } from './stats';
+import { errorMessage } from '../../engine/errors';
 
 /** One row of the column checklist. */
 export interface IColumnEntry {
@@ -281,7 +281,7 @@ export class DataModel {
       if (ticket !== this._ticket) {
         return;
       }
-      const message = isBridgeError(error) || error instanceof Error ? error.message : String(error);
+      const message = errorMessage(error);
       this._load = { state: 'error', fraction: 0, message };
     }
     this._changed.emit();

@@ -5,7 +5,7 @@
 import { ISignal, Signal } from '@lumino/signaling';
 
 import { formatCount } from '../../engine/text';
-import type { IPolyadicSettings } from '../../tokens';
+import type { IPolyadicSettings } from '../../settings';
 
 /** One setting as the defaults section lists it. */
 export interface IDefaultRow {

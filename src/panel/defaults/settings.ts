@@ -4,7 +4,7 @@
  */
 import { ISettingRegistry } from '@jupyterlab/settingregistry';
 
-import type { IPolyadicSettings } from '../../tokens';
+import type { IPolyadicSettings } from '../../settings';
 import { DefaultsModel } from './model';
 
 /**

@@ -8,7 +8,7 @@ import { ISignal, Signal } from '@lumino/signaling';
 import { ALL_ORDERS_UP_TO, DEFAULT_MAX_ORDER } from '../../engine/analyze';
 import { multipletCount } from '../../engine/multiplets';
 import type { EstimatorName, Units } from '../../engine/types';
-import type { MaxOrderRule } from '../../tokens';
+import type { MaxOrderRule } from '../../settings';
 
 /** The estimators the panel offers, with their labels. */
 export const ESTIMATOR_CHOICES: readonly { value: EstimatorName; label: string }[] = [

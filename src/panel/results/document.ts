@@ -55,7 +55,8 @@ export class ResultsDocument extends MainAreaWidget<ResultsView> {
       frame: run.frame.name,
       recordId: run.analysisId,
       missing: run.options.missing,
-      sample
+      sample,
+      ...(run.frame.columns ? { data: { columns: run.frame.columns, options: run.options } } : {})
     });
   }
 

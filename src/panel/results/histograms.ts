@@ -10,6 +10,7 @@
 import { Panel, Widget } from '@lumino/widgets';
 
 import { ChartView, plotlyText } from '../charts/chart';
+import { histogramFigure } from '../charts/histogram';
 import type { IChartColors, IFigure } from '../charts/chart';
 import { textElement } from '../dom';
 import { plural } from '../../engine/text';
@@ -195,70 +196,15 @@ namespace Private {
    * over a strip of its most extreme multiplets.
    */
   export function figure(histogram: IResultsHistogram, store: MultipletStore, marks: IMarks, colors: IChartColors): IFigure {
-    const { edges, counts } = histogram;
-    const { selected, marked } = marks;
-    const centers = counts.map((_c, i) => (edges[i] + edges[i + 1]) / 2);
-    const widths = counts.map((_c, i) => edges[i + 1] - edges[i]);
-    const low = edges[0];
-    const high = edges[edges.length - 1];
-    const shapes: Record<string, unknown>[] = [];
-    if (low < 0) {
-      shapes.push({
-        type: 'rect',
-        xref: 'x',
-        yref: 'paper',
-        x0: low,
-        x1: Math.min(0, high),
-        y0: 0,
-        y1: 1,
-        fillcolor: colors.synergy,
-        opacity: 0.14,
-        line: { width: 0 },
-        layer: 'below'
-      });
-    }
-    const annotations: Record<string, unknown>[] = [];
-    if (histogram.band) {
-      // the null band: where 95 % of the surrogates' co-information of this order lies
-      shapes.push({
-        type: 'rect',
-        xref: 'x',
-        yref: 'paper',
-        x0: histogram.band.low,
-        x1: histogram.band.high,
-        y0: 0,
-        y1: 1,
-        fillcolor: colors.muted,
-        opacity: 0.28,
-        line: { color: colors.muted, width: 1, dash: 'dash' },
-        layer: 'below'
-      });
-      annotations.push({
-        xref: 'x',
-        yref: 'paper',
-        x: (histogram.band.low + histogram.band.high) / 2,
-        y: 1,
-        yanchor: 'bottom',
-        showarrow: false,
-        text: 'null 95 %',
-        font: { size: 10, color: colors.muted }
-      });
-    }
-    if (low <= 0 && high >= 0) {
-      shapes.push({
-        type: 'line',
-        xref: 'x',
-        yref: 'paper',
-        x0: 0,
-        x1: 0,
-        y0: 0,
-        y1: 1,
-        line: { color: colors.muted, width: 1, dash: 'dot' }
-      });
-    }
-    const maxCount = Math.max(1, ...counts);
     const extremes = histogram.extremes;
     const extremeValues = extremes.map(i => store.co_information[i]);
+    const base = histogramFigure(histogram, colors, {
+      selected: marks.selected,
+      marked: marks.marked,
+      reach: extremeValues,
+      strip: true,
+      formatEdge: formatValue
+    });
     const strip = {
       type: 'scatter',
       mode: 'markers',
@@ -276,23 +222,7 @@ namespace Private {
         }
       }
     };
-    const data: Record<string, unknown>[] = [];
-    const bars = {
-      type: 'bar',
-      x: centers,
-      y: counts,
-      width: widths,
-      customdata: counts.map((_c, i) => [formatValue(edges[i]), formatValue(edges[i + 1])]),
-      hovertemplate: '%{customdata[0]} to %{customdata[1]}<br>%{y} multiplets<extra></extra>',
-      marker: {
-        color: centers.map(c => (c < 0 ? colors.synergy : colors.redundancy)),
-        line: {
-          color: counts.map((_c, i) => (i === marked ? colors.accent : i === selected ? colors.text : colors.background)),
-          width: counts.map((_c, i) => (i === marked ? 3 : i === selected ? 2 : 0.5))
-        }
-      }
-    };
-    data.push(bars, strip);
+    const data: Record<string, unknown>[] = [...(base.data as Record<string, unknown>[]), strip];
     if (marks.row >= 0 && !extremes.includes(marks.row)) {
       // the selected row, when it is not among the extremes, gets its own tick
       data.push({
@@ -305,60 +235,6 @@ namespace Private {
         marker: { symbol: 'line-ns-open', size: 22, line: { width: 3, color: colors.accent } }
       });
     }
-    return {
-      data,
-      layout: {
-        bargap: 0,
-        shapes,
-        annotations,
-        showlegend: false,
-        xaxis: {
-          title: { text: 'co-information' },
-          gridcolor: colors.grid,
-          zerolinecolor: colors.grid,
-          color: colors.muted,
-          range: Private.range(low, high, extremeValues)
-        },
-        yaxis: {
-          title: { text: 'count (log)' },
-          type: 'log',
-          // from half a multiplet up, so a bar of one multiplet has height
-          range: [Math.log10(0.5), Math.log10(maxCount * 1.6)],
-          tickmode: 'array',
-          tickvals: Private.powers(maxCount),
-          ticktext: Private.powers(maxCount).map(v => formatCount(v)),
-          domain: [0.26, 1],
-          gridcolor: colors.grid,
-          zerolinecolor: colors.grid,
-          color: colors.muted
-        },
-        yaxis2: {
-          domain: [0, 0.16],
-          range: [-1, 1],
-          showticklabels: false,
-          showgrid: false,
-          zeroline: false,
-          fixedrange: true
-        },
-        margin: { l: 48, r: 8, t: histogram.band ? 16 : 6, b: 38 }
-      }
-    };
-  }
-
-  /** 1, 10, 100, … up to `max`: the ticks of a log count axis. */
-  export function powers(max: number): number[] {
-    const out = [1];
-    while (out[out.length - 1] * 10 <= max) {
-      out.push(out[out.length - 1] * 10);
-    }
-    return out;
-  }
-
-  /** The x range: the bars, and every extreme tick inside it with a little room. */
-  export function range(low: number, high: number, values: number[]): [number, number] {
-    const lo = Math.min(low, ...values);
-    const hi = Math.max(high, ...values);
-    const pad = (hi - lo || 1) * 0.03;
-    return [lo - pad, hi + pad];
+    return { data: data as IFigure['data'], layout: base.layout };
   }
 }

@@ -7,14 +7,12 @@
 import { ISignal, Signal } from '@lumino/signaling';
 
 import { binIndexByEdges } from '../../engine/binning';
-import { fromNats } from '../../engine/estimators';
-import type { ILattice } from '../../engine/lattice';
+import { chainFromNats, latticeOfResult, latticeSource } from '../../engine/chains';
 import { chainAlong, extremalChains } from '../../engine/measures';
 import type { IEntropySource } from '../../engine/measures';
-import { createIndexing, indexOfColumns } from '../../engine/multiplets';
-import type { IAnalysisResult, MissingPolicy } from '../../engine/types';
+import type { ColumnView, IAnalysisResult, IAnalyzeOptions, MissingPolicy } from '../../engine/types';
 import type { IAnalysisState, IRunCompleted } from '../analysis/types';
-import { orderHistogram } from '../../record/summary';
+import { orderHistogram } from '../../engine/histogram';
 import type { IOrderHistogram } from '../../record/types';
 import type { IExportSource } from './export';
 import { MultipletStore } from './store';
@@ -42,6 +40,19 @@ export interface IResultsContext {
   histograms?: IOrderHistogram[];
   /** Set for a view restored from the notebook's record: what it shows and what it cannot. */
   restored?: boolean;
+  /**
+   * The columns the run read and the options it ran with, when the page has them (a live run):
+   * the multiplet detail rebuilds the binned codes from them for its contingency tables.
+   */
+  data?: IResultsData;
+}
+
+/** The data of a live run, as the multiplet detail needs it. */
+export interface IResultsData {
+  /** The fetched columns (at least the selected ones). */
+  columns: readonly ColumnView[];
+  /** The engine options of the run (columns, binning specs, estimator, missing-value policy). */
+  options: IAnalyzeOptions;
 }
 
 /** One order histogram of co-information, with which rows fall in which bar. */
@@ -342,7 +353,13 @@ export class ResultsModel {
     const show = (_sender: IAnalysisState, run: IRunCompleted | null): void => {
       if (run) {
         const sample = run.frame.sampled ? { rows: run.frame.rows, originalRows: run.frame.originalRows, seed: run.frame.seed } : undefined;
-        this.setResult(run.result, { frame: run.frame.name, recordId: run.analysisId, missing: run.options.missing, sample });
+        this.setResult(run.result, {
+          frame: run.frame.name,
+          recordId: run.analysisId,
+          missing: run.options.missing,
+          sample,
+          ...(run.frame.columns ? { data: { columns: run.frame.columns, options: run.options } } : {})
+        });
       } else {
         this.clear();
       }
@@ -388,10 +405,8 @@ export class ResultsModel {
   }
 
   private _setChain(kind: IChainView['kind'], columns: string[], nats: number[]): void {
-    const units = this._result!.units;
     // the chain's first entry is a single column's entropy; the figure starts at the pair
-    const values = nats.slice(1).map(v => fromNats(v, units));
-    const steps = values.slice(1).map((v, i) => v - values[i]);
+    const { values, steps } = chainFromNats('ordering', columns, nats, this._result!.units);
     this._chain = { kind, columns, values, steps };
     this._chainError = null;
   }
@@ -406,38 +421,11 @@ export class ResultsModel {
       return this._source;
     }
     const result = this._result!;
-    if (!this.complete) {
-      return (
-        'Conditioning chains need every multiplet of the analysis; this result keeps only its ' +
-        'strongest ones. Run again without a top-N limit to see chains.'
-      );
+    const lattice = latticeOfResult(result);
+    if (typeof lattice === 'string') {
+      return lattice;
     }
-    const n = result.columns.length;
-    const indexing = createIndexing(n, Math.min(result.max_order, n));
-    const entropy = new Float64Array(indexing.size);
-    const toNats = result.units === 'bits' ? Math.LN2 : 1;
-    const indexOf = new Map(result.columns.map((column, i) => [column.name, i]));
-    for (const row of result.multiplets) {
-      const index = indexOfColumns(
-        indexing,
-        row.columns.map(name => indexOf.get(name)!)
-      );
-      entropy[index] = row.entropy * toNats;
-    }
-    const lattice: ILattice = {
-      indexing,
-      estimator: result.estimator,
-      rows: result.rows_used,
-      bins: result.columns.map(column => column.bins),
-      entropy,
-      occupied: new Int32Array(indexing.size)
-    };
-    this._source = {
-      codes: result.columns.map(() => new Int32Array(0)),
-      bins: lattice.bins,
-      estimator: result.estimator,
-      lattice
-    };
+    this._source = latticeSource(lattice, result.estimator);
     return this._source;
   }
 

@@ -1,13 +1,15 @@
 /**
  * The results view (the content of a main-area results document, ./document.ts): a summary of
  * the run with its cautions, the order histograms as a grid, the column-name and order filters,
- * the synergy and redundancy tables at full width, and below them what the caller adds (the
- * multiplet detail view) and the conditioning chain of the selected multiplet.
+ * the synergy and redundancy tables at full width, and below them the multiplet detail view of
+ * the selected row, what the caller adds, and the conditioning chain of the selected multiplet.
  */
 import { Panel, Widget } from '@lumino/widgets';
 
 import { textElement } from '../dom';
 import { ChainView } from './chain-view';
+import { DetailModel } from './detail-model';
+import { DetailView } from './detail-view';
 import { formatCount, plural, wordFor } from '../../engine/text';
 import type { IAnalysisResult } from '../../engine/types';
 import { HistogramsView } from './histograms';
@@ -30,8 +32,11 @@ export class ResultsView extends Panel {
     this._synergy = new MultipletTableView({ model: this._model.synergy, onSelect: select, source });
     this._redundancy = new MultipletTableView({ model: this._model.redundancy, onSelect: select, source });
     this._chain = new ChainView({ model: this._model });
+    this._detailModel = new DetailModel({ results: this._model });
+    this._detail = new DetailView({ model: this._detailModel, results: this._model });
     this._below = new Panel();
     this._below.addClass('pd-Results-below');
+    this._below.addWidget(this._detail);
     for (const extra of options.extras ?? []) {
       this._below.addWidget(extra);
     }
@@ -59,6 +64,7 @@ export class ResultsView extends Panel {
       clearTimeout(this._debounce);
     }
     super.dispose();
+    this._detailModel.dispose();
   }
 
   private _buildFilters(): HTMLElement {
@@ -212,6 +218,8 @@ export class ResultsView extends Panel {
   private readonly _synergy: MultipletTableView;
   private readonly _redundancy: MultipletTableView;
   private readonly _chain: ChainView;
+  private readonly _detailModel: DetailModel;
+  private readonly _detail: DetailView;
   private readonly _below: Panel;
   private readonly _tables: Panel;
   private _column!: HTMLInputElement;
@@ -228,7 +236,7 @@ export namespace ResultsView {
   /** Options of a {@link ResultsView}. */
   export interface IOptions {
     model: ResultsModel;
-    /** Widgets shown below the tables, before the chain (the multiplet detail view). */
+    /** Widgets shown below the tables, after the multiplet detail view and before the chain. */
     extras?: Widget[];
   }
 }
