@@ -7,7 +7,7 @@ import type { IDisposable } from '@lumino/disposable';
 import { ISignal, Signal } from '@lumino/signaling';
 import Papa from 'papaparse';
 
-import { isPolyadicError, PolyadicError } from '../../engine/errors';
+import { errorMessage, isPolyadicError, PolyadicError } from '../../engine/errors';
 import {
   BASE_LABEL,
   DEFAULT_ROBUSTNESS_TOP,
@@ -502,6 +502,6 @@ namespace Private {
     if (isPolyadicError(error)) {
       return error;
     }
-    return new PolyadicError('internal', error instanceof Error ? error.message : String(error));
+    return new PolyadicError('internal', errorMessage(error));
   }
 }

@@ -7,7 +7,8 @@
 import { Panel, Widget } from '@lumino/widgets';
 import type * as PlotlyModule from 'plotly.js-dist-min';
 
-import { ChartView, plotlyText, type IChartColors, type IFigure } from '../charts/chart';
+import { ChartView, plotlyText } from '../charts/chart';
+import type { IChartColors, IFigure } from '../charts/types';
 import { textElement, uniqueId } from '../dom';
 import { formatValue } from '../results/format';
 import type { IRobustnessLine, RobustnessModel } from './model';
@@ -71,6 +72,7 @@ export class RobustnessSection extends Panel {
     this._tableHost = textElement('div', 'pd-Robustness-tableHost');
     this._export = textElement('button', 'pd-Robustness-export jp-mod-styled', 'Export CSV');
     this._export.type = 'button';
+    this._export.setAttribute('aria-label', 'Export the robustness table as CSV');
     this._export.addEventListener('click', () => this._download());
     this._agreement = textElement('div', 'pd-Robustness-agreement');
 
