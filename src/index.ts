@@ -16,7 +16,9 @@ import { polyadicIcon } from './icons';
 import { followNotebooks, followSettings, PanelModel, PolyadicPanel } from './panel';
 import { followAnalysis } from './panel/analysis/tracker';
 import { ResultsDocuments } from './panel/results/document';
+import { robustnessExtras } from './panel/robustness';
 import { isRecordId } from './record/ids';
+import { findAnalysis } from './record/store';
 import { recordCompletedRuns } from './panel/records/connect';
 import { followRestores } from './panel/records/restore';
 import { followRecords } from './panel/records/tracker';
@@ -47,11 +49,17 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
     const { commands, shell } = app;
     const engine = new EnginePool({ createWorker: createEngineWorker });
     const model = new PanelModel({ engine });
-    const documents = new ResultsDocuments({
+    const documents: ResultsDocuments = new ResultsDocuments({
       shell,
       analysis: model.analysis,
       records: model.records,
-      currentNotebook: () => notebooks?.currentWidget ?? null
+      currentNotebook: () => notebooks?.currentWidget ?? null,
+      extras: robustnessExtras({
+        engine,
+        runOf: id => documents.runOf(id),
+        recordOf: id => (model.records.state ? (findAnalysis(model.records.state, id) ?? null) : null),
+        record: (run, result) => model.records.recordRobustness(run, result)
+      })
     });
     const panel = new PolyadicPanel({
       model,

@@ -14,17 +14,28 @@ import { parseArgs } from 'util';
 
 import Papa from 'papaparse';
 
-import { parseBinSpec } from '../engine/binning';
-import { ESTIMATORS } from '../engine/estimators';
 import { isPolyadicError, PolyadicError } from '../engine/errors';
-import { IRobustnessResult, IRobustnessVariant, robustnessRun } from '../engine/robustness';
-import type { EstimatorName, IAnalyzeOptions, MissingPolicy, Units } from '../engine/types';
+import { defaultVariants, IRobustnessResult, IRobustnessVariant, parseVariantSpec, robustnessRun } from '../engine/robustness';
+import type { IAnalyzeOptions, Units } from '../engine/types';
 import { COLUMN_SEPARATOR } from '../results-format';
 import { EXIT, ICliStreams, oneLine } from './core';
 import { readDataFile } from './readers';
 
-/** The variants run when none is given: coarser and finer quantile bins, and two bias-corrected estimators. */
-export const DEFAULT_VARIANTS = ['bins=quantile:3', 'bins=quantile:6', 'estimator=miller-madow', 'estimator=shrinkage'];
+/**
+ * The variants run without --variant when the base bins every selected column by quantile:4
+ * (the `auto` rule for continuous columns) with the plug-in estimator. Other bases get
+ * engine/robustness.ts defaultVariants() of their own binning; a test keeps the two in line.
+ */
+export const DEFAULT_VARIANTS = [
+  'bins=quantile:3',
+  'bins=quantile:5',
+  'bins=fd',
+  'bins=kmeans:4',
+  'estimator=miller-madow',
+  'estimator=chao-shen',
+  'estimator=shrinkage',
+  'estimator=gaussian-copula'
+];
 
 /** The text of `polyadic robustness --help`. */
 export const ROBUSTNESS_HELP = `Usage: polyadic robustness DATA [--variant SPEC ...] [options]
@@ -41,7 +52,18 @@ SPEC is one or more settings joined by ';', each KEY=VALUE with KEY one of
   estimator       plugin | miller-madow | chao-shen | shrinkage | gaussian-copula
   missing         drop | category | error
 e.g. --variant 'bins=quantile:8;estimator=miller-madow'. The SPEC is the variant's
-label. Without --variant: ${DEFAULT_VARIANTS.join(', ')}.
+label. Without --variant, the defaults are built from the base: for the numeric
+columns the base bins, quantile with one bin fewer and one more than each
+column's count, fd, and kmeans with the same count (columns kept as categories
+stay so); the other estimators (plugin, miller-madow, chao-shen, shrinkage); and
+gaussian-copula when every selected column is continuous. For a base of
+quantile:4 on continuous columns: ${DEFAULT_VARIANTS.join(', ')}.
+
+Verdicts follow the base's top N multiplets of each table (N = --top, else 10):
+a multiplet holds under a variant when it keeps the base's sign and stays in
+that variant's top N; it is robust when it keeps its sign under every variant
+and stays in the top N under at least 80 % of them. Between every two variants:
+Kendall's tau-b and the overlap of their 10 most negative and 10 most positive.
 
 Options (the base analysis):
   --columns a,b,c  --bins SPEC  --bin COLUMN=SPEC  --missing POLICY
@@ -64,12 +86,17 @@ export async function runRobustness(args: string[], io: ICliStreams): Promise<nu
       return EXIT.done;
     }
     const source = await readDataFile(command.data, { columns: command.base.columns });
-    const result = robustnessRun(source.columns, { ...command.base, columns: undefined }, command.variants, command.top);
+    const base = { ...command.base, columns: undefined };
+    const variants = command.variants ?? defaultVariants(source.columns, base).map(parseVariant);
+    const result = robustnessRun(source.columns, base, variants, command.top);
     for (const warning of result.warnings) {
       io.stderr.write(`polyadic: warning: ${oneLine(warning)}\n`);
     }
     for (const pair of result.agreement) {
-      io.stderr.write(`polyadic: note: Kendall's tau-b ${oneLine(pair.a)} vs ${oneLine(pair.b)}: ${pair.kendall_tau.toFixed(4)} over ${result.multiplet_count} multiplets\n`);
+      io.stderr.write(
+        `polyadic: note: Kendall's tau-b ${oneLine(pair.a)} vs ${oneLine(pair.b)}: ${pair.kendall_tau.toFixed(4)} over ${result.multiplet_count} multiplets; ` +
+          `top ${pair.overlap_of} shared: ${pair.overlap_synergy} most negative, ${pair.overlap_redundancy} most positive\n`
+      );
     }
     const text = command.format === 'json' ? JSON.stringify(result, null, 2) + '\n' : Private.csv(result);
     if (command.out) {
@@ -97,47 +124,20 @@ export async function runRobustness(args: string[], io: ICliStreams): Promise<nu
   }
 }
 
-/** Parse one variant SPEC (see the help); errors name the setting at fault. */
+/** Parse one variant SPEC (see the help; engine/robustness.ts parses it); errors name the setting at fault. */
 export function parseVariant(spec: string): IRobustnessVariant {
-  const options: IRobustnessVariant['options'] = {};
-  const fail = (why: string): never => {
-    throw new PolyadicError('usage', `--variant '${spec}': ${why}; see polyadic robustness --help.`, {
-      option: '--variant',
-      value: spec
-    });
-  };
-  const settings = spec.split(';').map(part => part.trim());
-  if (settings.some(part => part === '')) {
-    fail('a setting is empty');
-  }
-  for (const setting of settings) {
-    const at = setting.indexOf('=');
-    if (at <= 0 || at === setting.length - 1) {
-      fail(`'${setting}' is not KEY=VALUE`);
+  try {
+    return parseVariantSpec(spec);
+  } catch (error) {
+    if (isPolyadicError(error)) {
+      const why = error.message.replace(/^Variant '[\s\S]*?': /, '').replace(/\.$/, '');
+      throw new PolyadicError('usage', `--variant '${spec}': ${why}; see polyadic robustness --help.`, {
+        option: '--variant',
+        value: spec
+      });
     }
-    const key = setting.slice(0, at).trim();
-    const value = setting.slice(at + 1).trim();
-    if (key === 'bins') {
-      Private.checkSpec(value, fail);
-      options.bins = value;
-    } else if (key.startsWith('bin.') && key.length > 4) {
-      Private.checkSpec(value, fail);
-      options.binsByColumn = { ...(options.binsByColumn ?? {}), [key.slice(4)]: value };
-    } else if (key === 'estimator') {
-      if (!(ESTIMATORS as readonly string[]).includes(value)) {
-        fail(`estimator must be one of ${ESTIMATORS.join(', ')}, not '${value}'`);
-      }
-      options.estimator = value as EstimatorName;
-    } else if (key === 'missing') {
-      if (!['drop', 'category', 'error'].includes(value)) {
-        fail(`missing must be drop, category or error, not '${value}'`);
-      }
-      options.missing = value as MissingPolicy;
-    } else {
-      fail(`'${key}' is not a setting a variant may change (bins, bin.COLUMN, estimator, missing)`);
-    }
+    throw error;
   }
-  return { label: spec, options };
 }
 
 namespace Private {
@@ -145,7 +145,8 @@ namespace Private {
   export interface ICommand {
     data: string;
     base: IAnalyzeOptions;
-    variants: IRobustnessVariant[];
+    /** Absent: the engine's defaults for the base. */
+    variants?: IRobustnessVariant[];
     top?: number;
     format: 'json' | 'csv';
     out?: string;
@@ -212,7 +213,7 @@ namespace Private {
       base.units = values.units as Units;
     }
     if (values['max-order'] !== undefined) base.maxOrder = whole('--max-order', values['max-order']);
-    const variants = (values.variant ?? DEFAULT_VARIANTS).map(parseVariant);
+    const variants = values.variant?.map(parseVariant);
     const out = values.out;
     const format =
       values.format === undefined ? (out && path.extname(out).toLowerCase() === '.csv' ? 'csv' : 'json') : values.format;
@@ -237,19 +238,11 @@ namespace Private {
     return Number(value);
   }
 
-  /** Check a binning spec with the engine's parser. */
-  export function checkSpec(spec: string, fail: (why: string) => never): void {
-    try {
-      parseBinSpec(spec);
-    } catch (error) {
-      if (isPolyadicError(error)) {
-        fail(error.message.replace(/\.$/, ''));
-      }
-      throw error;
-    }
-  }
-
-  /** One row per multiplet: columns, order, then co-information and rank per variant, then same_sign. */
+  /**
+   * One row per multiplet: columns, order, then co-information and rank per variant, then
+   * same_sign, and for a multiplet of the base's top N the table it is followed in, whether it
+   * is robust and the verdict (empty for the others).
+   */
   export function csv(result: IRobustnessResult): string {
     const labels = result.variants.map(variant => variant.label);
     const fields = [
@@ -257,15 +250,27 @@ namespace Private {
       'order',
       ...labels.map(label => `co_information[${label}]`),
       ...labels.map(label => `rank[${label}]`),
-      'same_sign'
+      'same_sign',
+      'table',
+      'robust',
+      'verdict'
     ];
-    const rows = result.multiplets.map(row => [
-      row.columns.join(COLUMN_SEPARATOR),
-      row.order,
-      ...row.values.map(value => String(value)),
-      ...row.ranks.map(rank => String(rank)),
-      String(row.same_sign)
-    ]);
+    const verdicts = new Map(result.verdicts.map(verdict => [verdict.columns.join(COLUMN_SEPARATOR), verdict]));
+    const rows = result.multiplets.map(row => {
+      const key = row.columns.join(COLUMN_SEPARATOR);
+      const verdict = verdicts.get(key);
+      return [
+        key,
+        row.order,
+        // numbers go in as numbers: papaparse's formula escaping would mark a negative one as text
+        ...row.values,
+        ...row.ranks,
+        row.same_sign,
+        verdict?.table ?? '',
+        verdict === undefined ? '' : String(verdict.robust),
+        verdict?.verdict ?? ''
+      ];
+    });
     return Papa.unparse({ fields, data: rows }, { quotes: false, escapeFormulae: true, newline: '\n', header: true }) + '\n';
   }
 }

@@ -10,7 +10,9 @@
  * analysis recorded evidence (its `statistics` settings), the evidence is re-run with exactly
  * those settings (same seed, in one thread: the engine's results do not depend on the thread
  * count) and every evidence field a summary multiplet holds is compared, with the scope of the
- * evidence (families, null bands, counts) and the count of inadequate multiplets.
+ * evidence (families, null bands, counts) and the count of inadequate multiplets. When the
+ * analysis recorded a robustness run, it is re-run with the recorded variants and N and every
+ * verdict and agreement value is compared.
  * Values must be identical when the engine version is the recorded one, and within 1e-9
  * (relative above 1) across versions; a null (not computed, or not a finite number) equals
  * only a null.
@@ -29,12 +31,14 @@ import { fromNats } from '../engine/estimators';
 import type { ILattice } from '../engine/lattice';
 import { walkLattice } from '../engine/walk';
 import { coinformationAll, multipletMeasures } from '../engine/measures';
+import { robustnessRun } from '../engine/robustness';
 import { checkMultipletCount, forEachMultiplet } from '../engine/multiplets';
 import type { ColumnView, IAnalysisResult, IColumnBinning, Units } from '../engine/types';
 import { formatCount, plural, wordFor } from '../engine/text';
 import { ENGINE_NAME, ENGINE_VERSION } from '../engine/version';
 import { fingerprintColumns } from '../record/fingerprint';
 import { compareFingerprint, optionsFromRecord, statisticsOptionsFromRecord } from '../record/settings';
+import { robustnessBlockOf, robustnessRerunOf } from '../record/robustness';
 import { readRecords } from '../record/store';
 import { orderHistogram } from '../engine/histogram';
 import { evidenceSummaryOf, multipletSummary, statisticsSettingsOf } from '../record/summary';
@@ -61,7 +65,9 @@ analysis is re-run with the recorded settings, and every recorded value is
 compared: identical under the recorded engine version, within 1e-9 otherwise.
 An analysis that recorded evidence (surrogates, bootstrap, pairwise-preserving
 null) has it re-run with the recorded seed and settings, and every recorded
-p, q, null, interval and band is compared the same way.
+p, q, null, interval and band is compared the same way. An analysis that
+recorded a robustness run has it re-run with the recorded variants and N, and
+every verdict, Kendall's tau and top-10 overlap is compared the same way.
 
 Options:
   --data NAME=PATH      the data file of frame NAME; repeat for several frames
@@ -376,7 +382,22 @@ namespace Private {
     const statistics = statisticsOptionsFromRecord(analysis);
     const result = analyzeCodes(prepared, { ...options, ...(statistics ? { statistics } : {}) }, lattice);
     differences.push(...evidenceDifferences(analysis, result, equal));
+    differences.push(...robustnessDifferences(analysis, columns, equal));
     return differences;
+  }
+
+  /**
+   * The recorded robustness block against a re-run with its settings (the recorded binning as
+   * the base, the recorded variant texts and N): every verdict and agreement value.
+   */
+  function robustnessDifferences(analysis: IAnalysisRecord, columns: ColumnView[], equal: (a: number, b: number) => boolean): string[] {
+    const rerun = robustnessRerunOf(analysis);
+    if (!rerun || !analysis.robustness) {
+      return [];
+    }
+    const result = robustnessRun(columns, rerun.base, rerun.variants, rerun.top);
+    const now = robustnessBlockOf(result);
+    return structureDifferences('robustness', analysis.robustness.results, now.results, equal);
   }
 
   /**
@@ -585,7 +606,8 @@ namespace Private {
     const histograms = (analysis.summary.histograms ?? []).reduce((sum, h) => sum + h.edges.length + h.counts.length, 0);
     const scope = analysis.summary.evidence ? Private.leafCount(analysis.summary.evidence) : 0;
     const inadequate = analysis.summary.inadequate_count !== undefined ? 1 : 0;
-    return 5 * multiplets.length + evidence + edges + histograms + scope + inadequate + 2;
+    const robustness = analysis.robustness ? Private.leafCount(analysis.robustness.results) : 0;
+    return robustness + 5 * multiplets.length + evidence + edges + histograms + scope + inadequate + 2;
   }
 
   /** The number of numbers, strings, booleans and nulls in a JSON value. */

@@ -11,16 +11,29 @@
  *
  * The variants may not change the selection or the maximum order (the multiplets must be the
  * same), nor ask for statistics.
+ *
+ * Verdicts (our rule, no source): the base's top N multiplets of each table (the N most negative
+ * co-informations, the synergy table, and the N most positive, the redundancy table) are each
+ * followed across the variants. Under a variant a multiplet *holds* when its co-information keeps
+ * the base's sign and it is still among that variant's N most extreme of the same table. It is
+ * *robust* when it keeps its sign under every variant and stays in the top N under at least
+ * {@link ROBUST_TOP_SHARE} (80 %) of them; otherwise *not robust*. The verdict text says how many
+ * variants it holds in ("holds in 9 of 10 variants").
+ *
+ * Overlap (for every two variants): how many of the 10 most negative (and of the 10 most positive)
+ * multiplets of one are among the 10 of the other. Ties are broken by the walk's order, so each
+ * list has exactly min(10, multiplets) members.
  */
 
 import { latticeInput, prepareColumns, resolveOptions } from './analyze';
+import { parseBinSpec } from './binning';
 import { averageRanks } from './copula/transform';
 import { isPolyadicError, PolyadicError } from './errors';
-import { fromNats } from './estimators';
+import { checkEstimator, ESTIMATORS, fromNats } from './estimators';
 import { coinformationAll } from './measures';
 import { forEachMultiplet } from './multiplets';
-import type { ColumnView, IAnalyzeOptions } from './types';
-import { walkLattice } from './walk';
+import type { ColumnView, EstimatorName, IAnalyzeOptions, MissingPolicy } from './types';
+import { isContinuousEstimator, walkLattice } from './walk';
 
 /** One variant: a label and the options it changes. */
 export interface IRobustnessVariant {
@@ -40,11 +53,42 @@ export interface IRobustnessRow {
   same_sign: number;
 }
 
-/** Kendall's τ-b between two variants' co-informations. */
+/** Rank agreement between two variants. */
 export interface IRobustnessAgreement {
   a: string;
   b: string;
+  /** Kendall's τ-b between their co-informations over every multiplet of order ≥ 2. */
   kendall_tau: number;
+  /** Shared members of the two variants' {@link OVERLAP_SIZE} most negative multiplets. */
+  overlap_synergy: number;
+  /** Shared members of the two variants' {@link OVERLAP_SIZE} most positive multiplets. */
+  overlap_redundancy: number;
+  /** Members of each list compared: min(OVERLAP_SIZE, multiplets). */
+  overlap_of: number;
+}
+
+/** Which table of the base a followed multiplet comes from. */
+export type RobustnessTable = 'synergy' | 'redundancy';
+
+/** The verdict on one of the base's top multiplets. */
+export interface IRobustnessVerdict {
+  columns: string[];
+  order: number;
+  table: RobustnessTable;
+  /** Co-information per variant (the base first), in the result's units. */
+  values: number[];
+  /** Rank per variant (the base first), 1 = most negative. */
+  ranks: number[];
+  /** Share of the variants (the base not counted) with the base's sign. */
+  same_sign: number;
+  /** Per variant (the base not counted): still among the top N of its table. */
+  in_top: boolean[];
+  /** Variants (the base not counted) under which it holds: same sign and in the top N. */
+  holds: number;
+  /** Same sign under every variant and in the top N under ≥ 80 % of them. */
+  robust: boolean;
+  /** The verdict in plain words, e.g. 'robust: holds in 9 of 10 variants'. */
+  verdict: string;
 }
 
 /** The result of a robustness run. */
@@ -58,11 +102,24 @@ export interface IRobustnessResult {
   /** The rows, most extreme first by the base's co-information when `top` is given, else in the base's order. */
   multiplets: IRobustnessRow[];
   agreement: IRobustnessAgreement[];
+  /** N of the verdicts: the base's top N of each table are followed. */
+  top: number;
+  /** One per followed multiplet: the synergy table's first, most negative first, then the redundancy table's. */
+  verdicts: IRobustnessVerdict[];
   warnings: string[];
 }
 
 /** Label of the base analysis. */
 export const BASE_LABEL = 'base';
+
+/** N of the verdicts when the run is given no `top`. */
+export const DEFAULT_ROBUSTNESS_TOP = 10;
+
+/** Length of the lists whose overlap is reported between two variants. */
+export const OVERLAP_SIZE = 10;
+
+/** Least share of the variants under which a robust multiplet stays in the top N (our choice, no source). */
+export const ROBUST_TOP_SHARE = 0.8;
 
 /**
  * Re-run `base` under each variant. `top` keeps the `top` lowest and `top` highest base
@@ -96,7 +153,11 @@ export function robustnessRun(
   const runs = [Private.coinformations(columns, plain)];
   for (const variant of variants) {
     const options: IAnalyzeOptions = { ...plain, ...variant.options };
-    if (variant.options.binsByColumn) {
+    if (variant.options.bins !== undefined) {
+      // `bins` re-bins every numeric column: the base's per-column specs give way to it (a base
+      // recorded column by column then runs the same variant as the base it was recorded from).
+      options.binsByColumn = { ...(variant.options.binsByColumn ?? {}) };
+    } else if (variant.options.binsByColumn) {
       options.binsByColumn = { ...(plain.binsByColumn ?? {}), ...variant.options.binsByColumn };
     }
     try {
@@ -132,9 +193,20 @@ export function robustnessRun(
   const agreement: IRobustnessAgreement[] = [];
   for (let a = 0; a < values.length; a++) {
     for (let b = a + 1; b < values.length; b++) {
-      agreement.push({ a: labels[a], b: labels[b], kendall_tau: kendallTau(values[a], values[b]) });
+      const size = Math.min(OVERLAP_SIZE, m);
+      const shared = overlapOfTops(values[a], values[b], size);
+      agreement.push({
+        a: labels[a],
+        b: labels[b],
+        kendall_tau: kendallTau(values[a], values[b]),
+        overlap_synergy: shared.synergy,
+        overlap_redundancy: shared.redundancy,
+        overlap_of: size
+      });
     }
   }
+  const followed = top ?? DEFAULT_ROBUSTNESS_TOP;
+  const verdicts = Private.verdicts(rows, values, followed);
   // By order, then in the walk's (lexicographic) order: the sort is stable.
   let table = rows.slice().sort((p, q) => p.order - q.order);
   if (top !== undefined) {
@@ -161,8 +233,173 @@ export function robustnessRun(
     multiplet_count: m,
     multiplets: table,
     agreement,
+    top: followed,
+    verdicts,
     warnings
   };
+}
+
+/** The bias-corrected and plug-in estimators a default variant set swaps in (the copula is added apart). */
+const DISCRETE_ESTIMATORS: readonly EstimatorName[] = ['plugin', 'miller-madow', 'chao-shen', 'shrinkage'];
+
+/**
+ * Parse a variant's text: settings joined by ';', each KEY=VALUE with KEY one of `bins` (every
+ * numeric column, replacing the base's per-column specs too), `bin.COLUMN` (one column, over the
+ * base's binning), `estimator`, `missing`. The text is the label.
+ * Errors are usage errors naming the variant and the setting at fault (an unknown binning
+ * rule or estimator is named with the valid ones).
+ */
+export function parseVariantSpec(spec: string): IRobustnessVariant {
+  const options: IRobustnessVariant['options'] = {};
+  const fail = (why: string): never => {
+    throw new PolyadicError('usage', `Variant '${spec}': ${why}.`, { option: 'variants', value: spec });
+  };
+  const settings = spec.split(';').map(part => part.trim());
+  if (settings.some(part => part === '')) {
+    fail('a setting is empty');
+  }
+  for (const setting of settings) {
+    // No value holds '=' (binning specs, estimators and policies never do), so the last one
+    // splits: a column named with '=' still goes in a bin.COLUMN key.
+    const at = setting.lastIndexOf('=');
+    if (at <= 0 || at === setting.length - 1) {
+      fail(`'${setting}' is not KEY=VALUE`);
+    }
+    const key = setting.slice(0, at).trim();
+    const value = setting.slice(at + 1).trim();
+    if (key === 'bins' || (key.startsWith('bin.') && key.length > 4)) {
+      try {
+        parseBinSpec(value);
+      } catch (error) {
+        if (isPolyadicError(error)) {
+          fail(error.message.replace(/\.$/, ''));
+        }
+        throw error;
+      }
+      if (key === 'bins') {
+        options.bins = value;
+      } else {
+        options.binsByColumn = { ...(options.binsByColumn ?? {}), [key.slice(4)]: value };
+      }
+    } else if (key === 'estimator') {
+      if (!(ESTIMATORS as readonly string[]).includes(value)) {
+        fail(`the estimator '${value}' is unknown; use one of ${ESTIMATORS.join(', ')}`);
+      }
+      options.estimator = value as EstimatorName;
+    } else if (key === 'missing') {
+      if (!['drop', 'category', 'error'].includes(value)) {
+        fail(`missing must be drop, category or error, not '${value}'`);
+      }
+      options.missing = value as MissingPolicy;
+    } else {
+      fail(`'${key}' is not a setting a variant may change (bins, bin.COLUMN, estimator, missing)`);
+    }
+  }
+  return { label: spec, options };
+}
+
+/**
+ * Parse a list of variants, one per line (blank lines and lines starting with '#' skipped);
+ * errors name the line.
+ */
+export function parseVariantList(text: string): IRobustnessVariant[] {
+  const variants: IRobustnessVariant[] = [];
+  text.split(/\r?\n/).forEach((line, i) => {
+    const spec = line.trim();
+    if (spec === '' || spec.startsWith('#')) {
+      return;
+    }
+    try {
+      variants.push(parseVariantSpec(spec));
+    } catch (error) {
+      if (isPolyadicError(error)) {
+        throw new PolyadicError(error.kind, `Line ${i + 1}: ${error.message}`, { ...error.detail, line: i + 1 });
+      }
+      throw error;
+    }
+  });
+  return variants;
+}
+
+/**
+ * The default variant set of an analysis, as variant texts (see {@link parseVariantSpec}), built
+ * from the base's binning of the selected columns:
+ * - binning neighbours of every numeric column the base bins (a column the base keeps as
+ *   categories, e.g. a small-integer column under `auto`, stays so): quantile with one bin fewer
+ *   (when that leaves at least 2) and one more than the column's count under the base,
+ *   Freedman–Diaconis (`fd`), and k-means with the same count; each neighbour changes every such
+ *   column at once and is skipped when it is the base's own binning of all of them;
+ * - the other discrete estimators of plug-in, Miller–Madow, Chao–Shen and shrinkage;
+ * - the Gaussian copula when every selected column is numeric and binned by the base (continuous).
+ * When the base is the Gaussian copula (no binning), the variants are the four discrete
+ * estimators under the default binning. A column whose name holds ';' or '=' cannot be named in a
+ * variant's text; then use a uniform base binning (one `bins=` setting covers it). Errors: those of
+ * the base analysis (unknown column, bad spec).
+ */
+export function defaultVariants(columns: ColumnView[], base: IAnalyzeOptions): string[] {
+  const estimator = checkEstimator(base.estimator ?? 'plugin');
+  if (isContinuousEstimator(estimator)) {
+    return DISCRETE_ESTIMATORS.map(name => `estimator=${name}`);
+  }
+  const prepared = prepareColumns(columns, { ...base, statistics: undefined, top: undefined });
+  const kinds = new Map(columns.map(column => [column.name, column.kind]));
+  const binned: { name: string; spec: string; count: number }[] = [];
+  for (const { name, binning, bins } of prepared.binnings) {
+    if (kinds.get(name) !== 'numeric' || binning.method === 'categorical') {
+      continue;
+    }
+    const parsed = parseBinSpec(binning.spec);
+    // The count the user asked for; a rule without one gives its resulting bins (missing code not counted).
+    const count = parsed.count ?? bins - (binning.missing_code === undefined ? 0 : 1);
+    binned.push({ name, spec: binning.spec === 'auto' ? `${binning.method}:${count}` : binning.spec, count });
+  }
+  const variants: string[] = [];
+  if (binned.length > 0) {
+    // `bins=` re-bins every numeric column (the base's per-column specs give way to it): one
+    // setting says it when every selected column is binned and gets the same spec.
+    const uniform = binned.length === prepared.binnings.length && binned.every(column => column.count === binned[0].count);
+    const neighbour = (rule: (count: number) => string | null): void => {
+      const specs = binned.map(column => rule(column.count));
+      if (specs.some(spec => spec === null) || specs.every((spec, i) => spec === binned[i].spec)) {
+        return;
+      }
+      // One `bins=` when it means the same for every selected column, else one setting per column.
+      variants.push(
+        uniform && specs.every(spec => spec === specs[0])
+          ? `bins=${specs[0]}`
+          : binned.map((column, i) => `bin.${column.name}=${specs[i]}`).join(';')
+      );
+    };
+    neighbour(count => (count - 1 >= 2 ? `quantile:${count - 1}` : null));
+    neighbour(count => `quantile:${count + 1}`);
+    neighbour(() => 'fd');
+    neighbour(count => `kmeans:${count}`);
+  }
+  for (const name of DISCRETE_ESTIMATORS) {
+    if (name !== estimator) {
+      variants.push(`estimator=${name}`);
+    }
+  }
+  if (binned.length === prepared.binnings.length) {
+    variants.push('estimator=gaussian-copula');
+  }
+  return variants;
+}
+
+/**
+ * How many of the `size` most negative (most positive) entries of `a` are among those of `b`,
+ * by index; ties broken by index (the walk's order).
+ */
+export function overlapOfTops(
+  a: ArrayLike<number>,
+  b: ArrayLike<number>,
+  size: number
+): { synergy: number; redundancy: number } {
+  const shared = (end: RobustnessTable): number => {
+    const first = new Set(Private.extreme(a, size, end));
+    return Private.extreme(b, size, end).filter(j => first.has(j)).length;
+  };
+  return { synergy: shared('synergy'), redundancy: shared('redundancy') };
 }
 
 /**
@@ -245,6 +482,92 @@ export function kendallTau(x: ArrayLike<number>, y: ArrayLike<number>): number {
 }
 
 namespace Private {
+  /**
+   * Indices of the `count` most negative (or most positive) values, most extreme first; ties by
+   * index. A short list is kept by insertion in one pass (O(m·count) at worst, about O(m) on
+   * unsorted values), a long one by sorting; NaN values come last.
+   */
+  export function extreme(values: ArrayLike<number>, count: number, end: RobustnessTable): number[] {
+    const sign = end === 'synergy' ? 1 : -1;
+    const key = (j: number): number => {
+      const value = sign * values[j];
+      return Number.isNaN(value) ? Infinity : value;
+    };
+    const m = values.length;
+    const size = Math.min(count, m);
+    if (size > 64) {
+      return Array.from({ length: m }, (_, j) => j)
+        .sort((p, q) => key(p) - key(q) || p - q)
+        .slice(0, size);
+    }
+    const kept: number[] = [];
+    for (let j = 0; j < m; j++) {
+      const k = key(j);
+      // a later index with an equal key ranks after: reject it when the list is full
+      if (kept.length === size && !(k < key(kept[size - 1]))) {
+        continue;
+      }
+      let at = kept.length === size ? size - 1 : kept.length;
+      while (at > 0 && k < key(kept[at - 1])) {
+        at--;
+      }
+      if (kept.length === size) {
+        kept.pop();
+      }
+      kept.splice(at, 0, j);
+    }
+    return kept;
+  }
+
+  /** Whether multiplet j is among the `count` most extreme of `values` at `end` (ties by walk order, as {@link extreme}). */
+  function inTop(values: Float64Array, j: number, count: number, end: RobustnessTable): boolean {
+    let before = 0;
+    for (let i = 0; i < values.length; i++) {
+      const more = end === 'synergy' ? values[i] < values[j] : values[i] > values[j];
+      if (more || (values[i] === values[j] && i < j)) {
+        before++;
+      }
+    }
+    return before < count;
+  }
+
+  /** The verdicts on the base's top `count` of each table (see the file comment for the rule). */
+  export function verdicts(rows: IRobustnessRow[], values: Float64Array[], count: number): IRobustnessVerdict[] {
+    const base = values[0];
+    const variants = values.length - 1;
+    const out: IRobustnessVerdict[] = [];
+    const taken = new Set<number>();
+    for (const table of ['synergy', 'redundancy'] as const) {
+      for (const j of extreme(base, count, table)) {
+        // Only a negative base value belongs in the synergy table, a positive one in the redundancy table.
+        if ((table === 'synergy' && !(base[j] < 0)) || (table === 'redundancy' && !(base[j] > 0)) || taken.has(j)) {
+          continue;
+        }
+        taken.add(j);
+        const row = rows[j];
+        const sign = Math.sign(base[j]);
+        const sameSign = values.slice(1).map(column => Math.sign(column[j]) === sign);
+        const inTopList = values.slice(1).map(column => inTop(column, j, count, table));
+        const holds = sameSign.filter((same, v) => same && inTopList[v]).length;
+        const stays = inTopList.filter(Boolean).length;
+        const robust = sameSign.every(Boolean) && stays >= ROBUST_TOP_SHARE * variants;
+        out.push({
+          columns: row.columns,
+          order: row.order,
+          table,
+          values: row.values,
+          ranks: row.ranks,
+          same_sign: row.same_sign,
+          in_top: inTopList,
+          holds,
+          robust,
+          verdict: `${robust ? 'robust' : 'not robust'}: holds in ${holds} of ${variants} variant${variants === 1 ? '' : 's'}`
+        });
+      }
+    }
+    return out;
+  }
+
   /** One analysis' co-information of every multiplet of order ≥ 2 (result units), in walk order. */
   export interface IRun {
     values: Float64Array;

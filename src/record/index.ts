@@ -11,3 +11,4 @@ export * from './markdown';
 export * from './recordFromResult';
 export * from './settings';
 export * from './store';
+export * from './robustness';

@@ -55,9 +55,36 @@ export function markdownSummary(analysis: IAnalysisRecord): string {
       'Co-information sign (Bell 2003): negative means synergy dominates, positive redundancy.' +
       (analysis.statistics && analysis.statistics.surrogates > 0 ? ` ${surrogateSentence(analysis.statistics)}` : ''),
     '',
-    ...markdownBody(summary)
+    ...markdownBody(summary),
+    ...robustnessLines(analysis)
   ];
   return lines.join('\n') + '\n';
+}
+
+/**
+ * The recorded robustness check, when there is one: a sentence with the variants and the count
+ * of robust multiplets, and a table of the followed multiplets with their verdicts.
+ */
+export function robustnessLines(analysis: IAnalysisRecord): string[] {
+  const block = analysis.robustness;
+  if (!block) {
+    return [];
+  }
+  const verdicts = block.results.verdicts;
+  const robust = verdicts.filter(verdict => verdict.robust).length;
+  const lines = [
+    '',
+    `Robustness across ${plural(block.settings.variants.length, 'variant')} (${block.settings.variants.map(escapeMarkdown).join(' · ')}): ` +
+      `${formatCount(robust)} of ${formatCount(verdicts.length)} followed multiplets robust (the top ${block.settings.top} of each table; ` +
+      `robust = same sign under every variant and in the top ${block.settings.top} under at least 80 % of them).`
+  ];
+  if (verdicts.length > 0) {
+    lines.push('', '| multiplet | table | verdict |', '| --- | --- | --- |');
+    for (const verdict of verdicts) {
+      lines.push(`| ${verdict.columns.map(escapeMarkdown).join(', ')} | ${verdict.table} | ${escapeMarkdown(verdict.verdict)} |`);
+    }
+  }
+  return lines;
 }
 
 /** How the p-values were drawn: "p from 500 surrogates (…), seed 42, two-sided." */

@@ -132,7 +132,14 @@ export const RECORD_SCHEMA = {
           $ref: '#/$defs/statistics',
           description: 'The settings of the evidence against chance; absent when none was computed.'
         },
-        summary: { $ref: '#/$defs/summary', description: 'The results, in brief.' }
+        summary: { $ref: '#/$defs/summary', description: 'The results, in brief.' },
+        robustness: {
+          $ref: '#/$defs/robustness',
+          description:
+            'The robustness run of the analysis: its variants, and how its top multiplets held across them; ' +
+            'absent when none was run. Optional and additive, so version 2 stays: every record without it ' +
+            'is unchanged (a Polyadic from before the block refuses a record holding it, and leaves it untouched).'
+        }
       }
     },
     source: {
@@ -241,6 +248,143 @@ export const RECORD_SCHEMA = {
         },
         missing_code: {
           description: 'The code of missing values under the policy `category`.',
+          type: 'integer',
+          minimum: 0
+        }
+      }
+    },
+    robustness: {
+      description:
+        'The analysis re-run under variants (another binning, estimator or missing-value policy): the settings, ' +
+        'the verdicts on the top multiplets of each table and the agreement between every two variants.',
+      type: 'object',
+      additionalProperties: false,
+      required: ['settings', 'results'],
+      properties: {
+        settings: {
+          description: 'What the run compared.',
+          type: 'object',
+          additionalProperties: false,
+          required: ['variants', 'top'],
+          properties: {
+            variants: {
+              description:
+                "The variants besides the base, each as its text: settings joined by ';', each KEY=VALUE with KEY " +
+                'bins, bin.COLUMN, estimator or missing. The text is the label.',
+              type: 'array',
+              minItems: 1,
+              maxItems: 100,
+              uniqueItems: true,
+              items: { type: 'string', minLength: 1, maxLength: 20000 }
+            },
+            top: {
+              description: 'N: the base top N multiplets of each table are followed across the variants.',
+              type: 'integer',
+              minimum: 1,
+              maximum: 1000
+            }
+          }
+        },
+        results: {
+          description: 'The verdicts and the agreement.',
+          type: 'object',
+          additionalProperties: false,
+          required: ['verdicts', 'agreement'],
+          properties: {
+            verdicts: {
+              description: 'One per followed multiplet: the synergy table first, most negative first, then the redundancy table.',
+              type: 'array',
+              items: { $ref: '#/$defs/robustnessVerdict' }
+            },
+            agreement: {
+              description: 'Rank agreement between every two variants (the base, labelled base, first).',
+              type: 'array',
+              items: { $ref: '#/$defs/robustnessAgreement' }
+            }
+          }
+        }
+      }
+    },
+    robustnessVerdict: {
+      description:
+        'One multiplet across the variants. It holds under a variant when it keeps the base sign and stays in that ' +
+        "variant's top N of its table; robust when it keeps its sign under every variant and stays in the top N under " +
+        'at least 80 % of them.',
+      type: 'object',
+      additionalProperties: false,
+      required: ['columns', 'table', 'values', 'ranks', 'same_sign', 'in_top', 'holds', 'robust', 'verdict'],
+      properties: {
+        columns: {
+          description: 'The multiplet (selected columns).',
+          type: 'array',
+          minItems: 2,
+          items: { $ref: '#/$defs/columnName' }
+        },
+        table: {
+          description: 'The base table it comes from.',
+          enum: ['synergy', 'redundancy']
+        },
+        values: {
+          description: 'Co-information per variant, the base first, in the units of the analysis (null: not a finite number).',
+          type: 'array',
+          items: { type: ['number', 'null'] }
+        },
+        ranks: {
+          description: 'Rank per variant among the multiplets of order 2 and above, the base first; 1 = most negative, ties averaged.',
+          type: 'array',
+          items: { type: 'number' }
+        },
+        same_sign: {
+          description: 'Share of the variants (the base not counted) whose co-information has the base sign.',
+          type: 'number',
+          minimum: 0,
+          maximum: 1
+        },
+        in_top: {
+          description: 'Per variant (the base not counted): whether it stays in the top N of its table.',
+          type: 'array',
+          items: { type: 'boolean' }
+        },
+        holds: {
+          description: 'Variants (the base not counted) under which it keeps its sign and stays in the top N.',
+          type: 'integer',
+          minimum: 0
+        },
+        robust: {
+          description: 'The verdict: same sign under every variant and in the top N under at least 80 % of them.',
+          type: 'boolean'
+        },
+        verdict: {
+          description: "The verdict in plain words, e.g. 'robust: holds in 9 of 10 variants'.",
+          type: 'string',
+          maxLength: 200
+        }
+      }
+    },
+    robustnessAgreement: {
+      description: 'Rank agreement between two variants.',
+      type: 'object',
+      additionalProperties: false,
+      required: ['a', 'b', 'kendall_tau', 'overlap_synergy', 'overlap_redundancy', 'overlap_of'],
+      properties: {
+        a: { description: 'Label of the first variant (base, or its text).', type: 'string', minLength: 1 },
+        b: { description: 'Label of the second variant.', type: 'string', minLength: 1 },
+        kendall_tau: {
+          description: "Kendall's tau-b between their co-informations over every multiplet of order 2 and above (null when undefined).",
+          type: ['number', 'null']
+        },
+        overlap_synergy: {
+          description: 'How many of the first variant\'s most negative multiplets (overlap_of of them) are among the second\'s.',
+          type: 'integer',
+          minimum: 0
+        },
+        overlap_redundancy: {
+          description: 'The same for the most positive multiplets.',
+          type: 'integer',
+          minimum: 0
+        },
+        overlap_of: {
+          description: 'Length of each list compared: 10, or every multiplet when there are fewer; ties broken by the walk order.',
           type: 'integer',
           minimum: 0
         }

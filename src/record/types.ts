@@ -143,6 +143,37 @@ export interface IAnalysisRecord {
   /** Present when the analysis computed evidence against chance. */
   statistics?: IStatisticsSettings;
   summary: IResultSummary;
+  /** Present when a robustness run of the analysis completed. */
+  robustness?: IRobustnessRecord;
+}
+
+/** One followed multiplet of a robustness run, as recorded (non-finite numbers as null). */
+export interface IRobustnessVerdictRecord {
+  columns: string[];
+  table: 'synergy' | 'redundancy';
+  values: (number | null)[];
+  ranks: number[];
+  same_sign: number;
+  in_top: boolean[];
+  holds: number;
+  robust: boolean;
+  verdict: string;
+}
+
+/** Rank agreement between two variants, as recorded (an undefined τ as null). */
+export interface IRobustnessAgreementRecord {
+  a: string;
+  b: string;
+  kendall_tau: number | null;
+  overlap_synergy: number;
+  overlap_redundancy: number;
+  overlap_of: number;
+}
+
+/** The robustness block of an analysis: its settings and results (engine/robustness.ts). */
+export interface IRobustnessRecord {
+  settings: { variants: string[]; top: number };
+  results: { verdicts: IRobustnessVerdictRecord[]; agreement: IRobustnessAgreementRecord[] };
 }
 
 /** A problem found in a record: where (a JSON Pointer into the stored record) and what. */

@@ -291,6 +291,26 @@ namespace Private {
         add(`${path}/order`, `is ${histogram.order}, above max_order (${analysis.max_order}).`);
       }
     });
+    const robustness = analysis.robustness;
+    if (robustness) {
+      const variants = robustness.settings.variants.length;
+      robustness.results.verdicts.forEach((verdict, i) => {
+        const path = `${at}/robustness/results/verdicts/${i}`;
+        const stranger = verdict.columns.find(name => !inSelection.has(name));
+        if (stranger !== undefined) {
+          add(`${path}/columns`, `names '${stranger}', which is not a selected column.`);
+        }
+        for (const [field, length] of [['values', variants + 1], ['ranks', variants + 1], ['in_top', variants]] as const) {
+          if (verdict[field].length !== length) {
+            add(`${path}/${field}`, `has ${verdict[field].length} entries for ${variants} variant(s) (${length} expected).`);
+          }
+        }
+      });
+      const pairs = ((variants + 1) * variants) / 2;
+      if (robustness.results.agreement.length !== pairs) {
+        add(`${at}/robustness/results/agreement`, `has ${robustness.results.agreement.length} entries for ${variants + 1} variants with the base (${pairs} pairs expected).`);
+      }
+    }
     return problems;
   }
 }

@@ -22,6 +22,7 @@ import {
 import { binColumn } from '../engine/binning';
 import type { IPreparedCodes } from '../engine/binning';
 import { PolyadicError } from '../engine/errors';
+import { robustnessRun } from '../engine/robustness';
 import { assembleLattice } from '../engine/lattice';
 import type { ILattice, ILatticeInput, ISubtreeResult } from '../engine/lattice';
 import { checkMultipletCount, createIndexing, DEFAULT_MAX_MULTIPLETS } from '../engine/multiplets';
@@ -276,6 +277,11 @@ export class WorkerHost {
           transfer.add(preview.distribution.edges);
         }
         this._post({ type: 'preview', id: request.id, preview }, transfer.buffers);
+        return;
+      }
+      case 'robustness': {
+        const result = robustnessRun(request.columns, request.base, request.variants, request.top);
+        this._post({ type: 'robustness', id: request.id, result }, []);
         return;
       }
       default:

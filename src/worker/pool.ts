@@ -25,6 +25,7 @@ import {
   ReplicateBlockResult
 } from '../engine/statistics/replicates';
 import type { ColumnView, IAnalysisResult, IAnalyzeOptions } from '../engine/types';
+import type { IRobustnessResult, IRobustnessVariant } from '../engine/robustness';
 import { deserializeError } from './errors';
 import {
   EngineRequest,
@@ -121,7 +122,7 @@ export class EnginePool {
 
   /** Workers started and not terminated, the preview worker included. */
   get liveWorkers(): number {
-    return this._slots.length + (this._previewSlot ? 1 : 0);
+    return this._slots.length + (this._previewSlot ? 1 : 0) + (this._robustnessSlot ? 1 : 0);
   }
 
   /** Whether a run is in progress. */
@@ -240,6 +241,40 @@ export class EnginePool {
   }
 
   /**
+   * Re-run an analysis under variants (engine/robustness.ts) in a worker of its own, so analyses
+   * and previews go on meanwhile; one robustness run at a time (a new one cancels the last).
+   * The columns are copied. Rejects with the engine's error, or a {@link RunCancelled}.
+   */
+  robustness(columns: ColumnView[], base: IAnalyzeOptions, variants: IRobustnessVariant[], top?: number): Promise<IRobustnessResult> {
+    if (this._disposed) {
+      return Promise.reject(new RunCancelled('The engine pool is disposed.'));
+    }
+    this.cancelRobustness();
+    if (!this._robustnessSlot) {
+      this._robustnessSlot = this._startSlot(false);
+      this._robustnessSlot.robustness = true;
+    }
+    const slot = this._robustnessSlot;
+    const packed = columns.map(column => packColumn(column, false));
+    const transfer = new TransferList();
+    packed.forEach(column => addColumn(transfer, column));
+    const id = this._nextId();
+    return new Promise<IRobustnessResult>((resolve, reject) => {
+      this._robustness.set(id, { resolve, reject });
+      this._send(slot, { type: 'robustness', id, protocol: PROTOCOL_VERSION, columns: packed, base, variants, top }, transfer.buffers);
+    });
+  }
+
+  /** Stop the robustness run in progress (its worker is terminated); returns whether one was running. */
+  cancelRobustness(): boolean {
+    const running = this._robustness.size > 0;
+    if (running) {
+      this._dropRobustnessSlot(new RunCancelled('The robustness run was cancelled.'));
+    }
+    return running;
+  }
+
+  /**
    * Cancel the run in progress: the pool's workers are terminated at once (the preview worker
    * stays), the run's promise rejects with a {@link RunCancelled}, and no progress is reported
    * after this. Returns whether a run was cancelled.
@@ -268,6 +303,32 @@ export class EnginePool {
     }
     this._terminate(this._slots.slice());
     this._dropPreviewSlot(new RunCancelled('The engine pool was disposed before the preview was ready.'));
+    this._dropRobustnessSlot(new RunCancelled('The engine pool was disposed during the robustness run.'));
+  }
+
+  private _dropRobustnessSlot(reason: Error): void {
+    if (this._robustnessSlot) {
+      this._robustnessSlot.worker.terminate();
+      this._robustnessSlot = null;
+    }
+    const pending = Array.from(this._robustness.values());
+    this._robustness.clear();
+    pending.forEach(run => run.reject(reason));
+  }
+
+  private _onRobustnessResponse(response: EngineResponse): void {
+    const pending = this._robustness.get(response.id);
+    if (!pending) {
+      return;
+    }
+    this._robustness.delete(response.id);
+    if (response.type === 'robustness') {
+      pending.resolve(response.result);
+    } else if (response.type === 'error') {
+      pending.reject(deserializeError(response.error));
+    } else {
+      pending.reject(new PolyadicError('internal', `The robustness worker answered '${response.type}' to a robustness run.`));
+    }
   }
 
   private _nextId(): number {
@@ -331,6 +392,10 @@ export class EnginePool {
       this._dropPreviewSlot(error);
       return;
     }
+    if (slot.robustness) {
+      this._dropRobustnessSlot(error);
+      return;
+    }
     const run = this._run;
     if (run && run.slots.includes(slot)) {
       this._terminate(run.slots);
@@ -344,6 +409,10 @@ export class EnginePool {
   private _onResponse(slot: Private.ISlot, response: EngineResponse): void {
     if (slot.preview) {
       this._onPreviewResponse(response);
+      return;
+    }
+    if (slot.robustness) {
+      this._onRobustnessResponse(response);
       return;
     }
     const run = this._run;
@@ -678,6 +747,8 @@ export class EnginePool {
   private _slots: Private.ISlot[] = [];
   private _previewSlot: Private.ISlot | null = null;
   private _previews = new Map<number, Private.IPendingPreview>();
+  private _robustnessSlot: Private.ISlot | null = null;
+  private _robustness = new Map<number, Private.IPendingRobustness>();
   private _run: Private.IRun | null = null;
   private _runCount = 0;
   private _requestCount = 0;
@@ -740,6 +811,8 @@ namespace Private {
     holds: number | null;
     /** The preview worker. */
     preview: boolean;
+    /** The worker of robustness runs. */
+    robustness?: boolean;
   }
 
   /** A walk request in flight. */
@@ -753,6 +826,12 @@ namespace Private {
   /** A pending preview. */
   export interface IPendingPreview {
     resolve: (preview: IColumnPreview) => void;
+    reject: (error: Error) => void;
+  }
+
+  /** A robustness run waiting for its answer. */
+  export interface IPendingRobustness {
+    resolve: (result: IRobustnessResult) => void;
     reject: (error: Error) => void;
   }
 

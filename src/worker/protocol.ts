@@ -19,6 +19,8 @@
  * 5. `conclude` (the preparing worker): merge the blocks in block order and compute the evidence
  *    and the result.
  *
+ * `robustness` re-runs one analysis under variants in a worker of its own (not split).
+ *
  * `release` ends a run in a worker (its codes are dropped). Cancelling is not a message: a worker
  * reads its next message only after the current unit, so the pool terminates the workers.
  *
@@ -30,6 +32,7 @@ import type { ISubtreeResult, ILattice, ILatticeInput } from '../engine/lattice'
 import type { IErrorDetail, PolyadicErrorKind } from '../engine/errors';
 import type { IResolvedStatistics } from '../engine/statistics/options';
 import type { IReplicateBlock, IReplicateTargets, ReplicateBlockResult } from '../engine/statistics/replicates';
+import type { IRobustnessResult, IRobustnessVariant } from '../engine/robustness';
 import type { ColumnView, IAnalysisResult, IAnalyzeOptions, IColumnBinning } from '../engine/types';
 
 /** Version of this protocol; a worker bundle answers requests of another version with an error. */
@@ -124,8 +127,18 @@ export interface IPreviewRequest extends IRequestBase {
   resolution?: number;
 }
 
+/** Re-run an analysis under variants and compare (engine/robustness.ts), in one worker. */
+export interface IRobustnessRequest extends IRequestBase {
+  type: 'robustness';
+  columns: ColumnView[];
+  base: IAnalyzeOptions;
+  variants: IRobustnessVariant[];
+  top?: number;
+}
+
 /** Every request a worker understands. */
 export type EngineRequest =
+  | IRobustnessRequest
   | IPrepareRequest
   | IWalkRequest
   | IFinishRequest
@@ -207,6 +220,13 @@ export interface IPreviewResponse {
   preview: IColumnPreview;
 }
 
+/** The answer to `robustness`. */
+export interface IRobustnessResponse {
+  type: 'robustness';
+  id: number;
+  result: IRobustnessResult;
+}
+
 /** A {@link PolyadicError} as a plain value. */
 export interface ISerializedError {
   kind: PolyadicErrorKind;
@@ -232,6 +252,7 @@ export type EngineResponse =
   | IReplicatedResponse
   | IReleasedResponse
   | IPreviewResponse
+  | IRobustnessResponse
   | IErrorResponse;
 
 /**

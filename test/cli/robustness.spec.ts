@@ -59,9 +59,13 @@ json.dump([float(kendalltau(a, b).statistic) for a, b in itertools.combinations(
     const run = runCli(bundle, ['robustness', data, '--variant', 'estimator=miller-madow', '--format', 'csv', '--top', '2']);
     expect(run.code).toBe(0);
     const lines = run.stdout.trim().split('\n');
-    expect(lines[0]).toBe('columns,order,co_information[base],co_information[estimator=miller-madow],rank[base],rank[estimator=miller-madow],same_sign');
+    expect(lines[0]).toBe('columns,order,co_information[base],co_information[estimator=miller-madow],rank[base],rank[estimator=miller-madow],same_sign,table,robust,verdict');
     expect(lines).toHaveLength(1 + 4);
     expect(lines[1].startsWith('a|b|c,3,')).toBe(true);
+    // the most negative co-information is written as a number, not escaped as a formula
+    expect(lines[1].split(',')[2]).toMatch(/^-\d/);
+    // every row of the top-2 table is followed: its table and verdict close the row
+    expect(lines[1]).toMatch(/,synergy,(true|false),(not )?robust: holds in [01] of 1 variant$/);
   });
 
   it('should refuse a bad variant in one line naming it', () => {

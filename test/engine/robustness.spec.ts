@@ -9,7 +9,15 @@ import * as path from 'path';
 
 import { analyze } from '../../src/engine/analyze';
 import { averageRanks } from '../../src/engine/copula/transform';
-import { kendallTau, robustnessRun } from '../../src/engine/robustness';
+import { DEFAULT_VARIANTS } from '../../src/cli/robustness';
+import {
+  defaultVariants,
+  kendallTau,
+  overlapOfTops,
+  parseVariantList,
+  parseVariantSpec,
+  robustnessRun
+} from '../../src/engine/robustness';
 import type { ColumnView, IAnalyzeOptions } from '../../src/engine/types';
 import { categoricalColumn, expectPolyadic, numericColumn } from './helpers';
 
@@ -164,5 +172,185 @@ describe('averageRanks', () => {
 from scipy.stats import rankdata
 json.dump(rankdata(json.load(sys.stdin)).tolist(), sys.stdout)`, x);
     expect(Array.from(averageRanks(x))).toEqual(reference);
+  });
+});
+
+/**
+ * A seeded table for the verdicts: two planted synergistic triplets (c = a + b + noise,
+ * r = p − q + noise), a weaker one (w = s + t + more noise), a relation built on the quartiles
+ * of x and y (z is the parity of their quartile indices, flipped in 20 % of the rows: it shows
+ * under quantile:4 and k-means:4, hardly under 3 or 5 quantiles), and one noise column.
+ */
+function plantedTable(rows = 2000): ColumnView[] {
+  let state = 12345;
+  const uniform = (): number => {
+    // Park–Miller minimal standard generator (Park & Miller 1988, CACM 31:1192).
+    state = (state * 48271) % 2147483647;
+    return state / 2147483647;
+  };
+  const names = ['a', 'b', 'c', 'p', 'q', 'r', 'x', 'y', 'z', 's', 't', 'w', 'e'];
+  const values: Record<string, number[]> = Object.fromEntries(names.map(name => [name, []]));
+  for (let i = 0; i < rows; i++) {
+    for (const name of names) {
+      values[name].push(uniform());
+    }
+    values.c[i] = values.a[i] + values.b[i] + 0.2 * uniform();
+    values.r[i] = values.p[i] - values.q[i] + 0.2 * uniform();
+    values.w[i] = values.s[i] + values.t[i] + 1.5 * uniform();
+    values.z[i] = ((Math.floor(4 * values.x[i]) + Math.floor(4 * values.y[i])) % 2) ^ (uniform() < 0.2 ? 1 : 0);
+  }
+  return names.map(name => numericColumn(name, values[name]));
+}
+
+describe('defaultVariants', () => {
+  it('should give quantile K−1 and K+1, fd, kmeans:K, the other estimators and the copula for continuous columns', () => {
+    expect(defaultVariants(table(), { bins: 'quantile:4' })).toEqual(DEFAULT_VARIANTS);
+    // `auto` bins these continuous columns by quantile:4: the same set (the CLI's constant).
+    expect(defaultVariants(table(), {})).toEqual(DEFAULT_VARIANTS);
+    expect(defaultVariants(table(), { bins: 'quantile:2', estimator: 'shrinkage' })).toEqual([
+      'bins=quantile:3',
+      'bins=fd',
+      'bins=kmeans:2',
+      'estimator=plugin',
+      'estimator=miller-madow',
+      'estimator=chao-shen',
+      'estimator=gaussian-copula'
+    ]);
+  });
+
+  it('should leave categorical columns unchanged and drop the copula when a column is not continuous', () => {
+    const columns = [...table(40), categoricalColumn('fan', Array.from({ length: 40 }, (_, i) => (i % 3 === 0 ? 'on' : 'off')))];
+    const variants = defaultVariants(columns, { bins: 'quantile:4', binsByColumn: { e: 'quantile:6' } });
+    expect(variants[0]).toBe('bin.a=quantile:3;bin.b=quantile:3;bin.c=quantile:3;bin.d=quantile:3;bin.e=quantile:5');
+    expect(variants[1]).toBe('bin.a=quantile:5;bin.b=quantile:5;bin.c=quantile:5;bin.d=quantile:5;bin.e=quantile:7');
+    expect(variants.join(' ')).not.toMatch(/fan/);
+    expect(variants).not.toContain('estimator=gaussian-copula');
+    // The base's own estimator (plug-in) is not a variant.
+    expect(variants).not.toContain('estimator=plugin');
+    expect(variants).toContain('estimator=miller-madow');
+    // Every default is a valid variant text whose label is the text itself.
+    for (const text of variants) {
+      expect(parseVariantSpec(text).label).toBe(text);
+    }
+  });
+
+  it('should offer the discrete estimators when the base is the Gaussian copula', () => {
+    expect(defaultVariants(table(), { estimator: 'gaussian-copula' })).toEqual([
+      'estimator=plugin',
+      'estimator=miller-madow',
+      'estimator=chao-shen',
+      'estimator=shrinkage'
+    ]);
+  });
+});
+
+describe('parseVariantList', () => {
+  it('should read one variant per line and name an unknown rule or estimator with its line', () => {
+    expect(parseVariantList('bins=quantile:3\n\n# a note\nestimator=chao-shen').map(v => v.options)).toEqual([
+      { bins: 'quantile:3' },
+      { estimator: 'chao-shen' }
+    ]);
+    expectPolyadic(() => parseVariantList('bins=quantile:3\nbins=octile:3'), 'usage', /^Line 2: Variant 'bins=octile:3'/, /"octile" is not a binning method/);
+    expectPolyadic(() => parseVariantList('estimator=guess'), 'usage', /the estimator 'guess' is unknown; use one of plugin, miller-madow/);
+    expectPolyadic(() => parseVariantList('order=2'), 'usage', /'order' is not a setting a variant may change/);
+    // a column named with '=' (and markup) still goes in a bin.COLUMN key
+    expect(parseVariantSpec('bin.<img src=x onerror=alert(1)>=quantile:3;estimator=plugin').options).toEqual({
+      binsByColumn: { '<img src=x onerror=alert(1)>': 'quantile:3' },
+      estimator: 'plugin'
+    });
+  });
+});
+
+describe('overlapOfTops', () => {
+  it('should count the shared members of the most negative and most positive lists (checked by hand)', () => {
+    // a's two most negative: indices 0, 1; b's: 1, 3 → 1 shared. Most positive: a 5, 4; b 4, 5 → 2.
+    expect(overlapOfTops([-3, -2, -1, 0, 1, 2], [-1, -3, 0, -2, 2, 1], 2)).toEqual({ synergy: 1, redundancy: 2 });
+    // Ties go by index: a's two most negative are 0, 1 (all tied at 0); b's are 1, 2 → 1 shared.
+    // Most positive: a 3 then 0; b 0 then 1 → 1 shared (index 0).
+    expect(overlapOfTops([0, 0, 0, 1], [1, 0, 0, 0], 2)).toEqual({ synergy: 1, redundancy: 1 });
+  });
+});
+
+describe('robustnessRun verdicts', () => {
+  const columns = plantedTable();
+  const base: IAnalyzeOptions = { maxOrder: 3 };
+  const texts = defaultVariants(columns, base);
+  const run = robustnessRun(columns, base, texts.map(parseVariantSpec), 3);
+  const verdict = (members: string): (typeof run.verdicts)[number] | undefined =>
+    run.verdicts.find(row => row.columns.join() === members);
+
+  it('should follow the base top 3 of each table', () => {
+    expect(texts).toHaveLength(7);
+    expect(run.top).toBe(3);
+    expect(run.verdicts.filter(row => row.table === 'synergy').map(row => row.ranks[0])).toEqual([1, 2, 3]);
+    const positive = run.verdicts.filter(row => row.table === 'redundancy');
+    expect(positive).toHaveLength(3);
+    expect(positive.every(row => row.values[0] > 0)).toBe(true);
+  });
+
+  it('should find the planted synergistic triplets robust under every default variant', () => {
+    for (const members of ['a,b,c', 'p,q,r']) {
+      const row = verdict(members);
+      expect(row?.table).toBe('synergy');
+      expect(row?.in_top).toEqual(Array(7).fill(true));
+      expect(row?.same_sign).toBe(1);
+      expect(row?.robust).toBe(true);
+      expect(row?.verdict).toBe('robust: holds in 7 of 7 variants');
+    }
+  });
+
+  it('should report the quartile-built relation as not robust', () => {
+    const row = verdict('x,y,z');
+    expect(row?.ranks[0]).toBe(3);
+    // It keeps its sign but leaves the top 3 under quantile:3, quantile:5 and fd: 4 of 7 < 80 %.
+    expect(row?.same_sign).toBe(1);
+    expect(row?.in_top).toEqual([false, false, false, true, true, true, true]);
+    expect(row?.robust).toBe(false);
+    expect(row?.verdict).toBe('not robust: holds in 4 of 7 variants');
+  });
+
+  it('should give the overlap of every two variants from their values', () => {
+    expect(run.agreement).toHaveLength((8 * 7) / 2);
+    // Without a top the table holds every multiplet, so the lists can be rebuilt from it.
+    const full = robustnessRun(columns, base, texts.map(parseVariantSpec));
+    const at = (v: number): number[] => full.multiplets.map(row => row.values[v]);
+    expect(full.multiplets).toHaveLength(full.multiplet_count);
+    const first = full.agreement[0];
+    const expected = overlapOfTops(at(0), at(1), 10);
+    expect([first.overlap_synergy, first.overlap_redundancy, first.overlap_of]).toEqual([expected.synergy, expected.redundancy, 10]);
+    // The two planted triplets stay at the synergy end under the first neighbour, so at least 2 shared.
+    expect(first.overlap_synergy).toBeGreaterThanOrEqual(2);
+  });
+});
+
+describe('defaultVariants on a base spelt out column by column', () => {
+  it('should give the same variants as the uniform base, and robustnessRun the same values', () => {
+    const columns = table(200);
+    const spelt: IAnalyzeOptions = { binsByColumn: Object.fromEntries(['a', 'b', 'c', 'd', 'e'].map(name => [name, 'quantile:4'])), maxOrder: 3 };
+    expect(defaultVariants(columns, spelt)).toEqual(DEFAULT_VARIANTS);
+    const variants = DEFAULT_VARIANTS.slice(0, 3).map(parseVariantSpec);
+    const uniform = robustnessRun(columns, { bins: 'quantile:4', maxOrder: 3 }, variants);
+    expect(robustnessRun(columns, spelt, variants).multiplets).toEqual(uniform.multiplets);
+  });
+});
+
+describe('overlapOfTops on long vectors', () => {
+  it('should equal the overlap of fully sorted lists (ties by index), short and long lists alike', () => {
+    let state = 5;
+    const next = (): number => {
+      state = (state * 48271) % 2147483647;
+      return state / 2147483647;
+    };
+    const a = Array.from({ length: 3000 }, () => Math.round(next() * 200) / 10);
+    const b = a.map(v => v + Math.round(next() * 40) / 10);
+    const sorted = (x: number[], sign: number, size: number): number[] =>
+      x.map((_, j) => j).sort((p, q) => sign * (x[p] - x[q]) || p - q).slice(0, size);
+    for (const size of [1, 10, 64, 65, 500]) {
+      const shared = (sign: number): number => {
+        const first = new Set(sorted(a, sign, size));
+        return sorted(b, sign, size).filter(j => first.has(j)).length;
+      };
+      expect(overlapOfTops(a, b, size)).toEqual({ synergy: shared(1), redundancy: shared(-1) });
+    }
   });
 });

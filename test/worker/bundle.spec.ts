@@ -13,6 +13,7 @@ import { Worker } from 'worker_threads';
 import { analyze, latticeInput, prepareColumns } from '../../src/engine/analyze';
 import { PolyadicError } from '../../src/engine/errors';
 import { computeLattice } from '../../src/engine/lattice';
+import { robustnessRun } from '../../src/engine/robustness';
 import type { IAnalyzeOptions } from '../../src/engine/types';
 import { previewColumn } from '../../src/worker/handlers';
 import { EnginePool, IRunProgress, RunCancelled } from '../../src/worker/pool';
@@ -127,6 +128,17 @@ describe('engine worker bundle', () => {
     const error = await pool.analyze(columns, { binsByColumn: { c09: 'fd' } }).catch((e: unknown) => e);
     expect(error).toBeInstanceOf(PolyadicError);
     expect((error as PolyadicError).detail).toMatchObject({ column: 'c09', option: 'binsByColumn' });
+  });
+
+  it('should run a robustness check in a worker thread of its own and carry a bad variant back as a value', async () => {
+    const pool = poolOf(1);
+    const columns = makeColumns(500, 6);
+    const variants = [{ label: 'bins=quantile:3', options: { bins: 'quantile:3' } }];
+    const result = await pool.robustness(columns, { maxOrder: 3 }, variants, 3);
+    expect(plainValue(result)).toEqual(plainValue(robustnessRun(columns, { maxOrder: 3 }, variants, 3)));
+    const error = await pool.robustness(columns, { maxOrder: 3 }, [{ label: 'odd', options: { estimator: 'guess' as never } }]).catch((e: unknown) => e);
+    expect(error).toBeInstanceOf(PolyadicError);
+    expect((error as PolyadicError).message).toMatch(/^Variant 'odd':/);
   });
 
   it('should stop the worker threads mid-walk when a run is cancelled, with no report after', async () => {

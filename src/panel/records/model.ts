@@ -13,6 +13,8 @@ import { formatCount, plural, wordFor } from '../../engine/text';
 import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
 import { fingerprintColumns, type IFingerprint } from '../../record/fingerprint';
 import { recordFromResult } from '../../record/recordFromResult';
+import { withRobustness } from '../../record/robustness';
+import type { IRobustnessResult } from '../../engine/robustness';
 import { compareFingerprint, optionsFromRecord, type IDataComparison } from '../../record/settings';
 import {
   addAnalysis,
@@ -224,10 +226,38 @@ export class RecordsModel {
     }
     // a re-run on the same data answers the data check of the analysis it replaces
     this._checks.delete(analysis.id);
+    this._recordedAs.set(run.analysisId, analysis.id);
     this._selectedId = analysis.id;
     this._error = null;
     this._changed.emit();
     return analysis;
+  }
+
+  /**
+   * Add the robustness block of a completed check to the analysis recorded for `run` (replacing
+   * any earlier block). Resolves to null when recorded, else why not (also in {@link error}).
+   */
+  async recordRobustness(run: IRunCompleted, result: IRobustnessResult): Promise<string | null> {
+    const notebook = this._notebook;
+    if (notebook === null) {
+      this._fail('No notebook is open, so the robustness check was not recorded.');
+      return this._error;
+    }
+    const id = this._recordedAs.get(run.analysisId) ?? run.analysisId;
+    const analysis = this._state === null ? undefined : findAnalysis(this._state, id);
+    if (analysis === undefined) {
+      this._fail(`The robustness check was not recorded: analysis '${id}' is not in this notebook's record.`);
+      return this._error;
+    }
+    try {
+      this._state = replaceAnalysis(notebook.metadata, withRobustness(analysis, result));
+    } catch (error) {
+      this._fail(`The robustness check was not recorded: ${Private.messageOf(error)}`);
+      return this._error;
+    }
+    this._error = null;
+    this._changed.emit();
+    return null;
   }
 
   /** Rename an analysis. Returns whether it was renamed (else see {@link error}). */
@@ -346,6 +376,8 @@ export class RecordsModel {
   private _state: IRecordState | null = null;
   private _selectedId: string | null = null;
   private _checks = new Map<string, IDataCheck>();
+  /** Record id each run of this session was recorded under (a repeated run keeps the old id). */
+  private _recordedAs = new Map<string, string>();
   private _fingerprinted: { run: IRunCompleted; fingerprint: Promise<IFingerprint> } | null = null;
   private _error: string | null = null;
   private _isDisposed = false;

@@ -145,6 +145,11 @@ export class ResultsDocuments implements IDisposable {
     return doc;
   }
 
+  /** This session's latest completed run of an analysis (one of the last few kept), or null. */
+  runOf(analysisId: string): IRunCompleted | null {
+    return this._runs.get(analysisId) ?? null;
+  }
+
   /** Bring the view of the latest run to the front; false when there has been none. */
   showLatest(): boolean {
     const latest = this._options.analysis.latest;

@@ -107,8 +107,12 @@ export function provenanceCsv(
   }
   // The adequacy goes where the CLI's CSV puts it (right after the measures, before any statistics).
   const body = multipletsCsv(list.map((row, i) => ({ ...row, [ADEQUACY_COLUMN]: adequacy[i] })));
-  const lines = entries.map(([key, value]) => `# ${key}: ${Private.oneLine(value)}`);
-  return lines.join('\n') + (lines.length ? '\n' : '') + body;
+  return provenanceLines(entries) + body;
+}
+
+/** The comment lines `# key: value` of `entries`, each ending in a newline; values on one line each. */
+export function provenanceLines(entries: readonly ProvenanceEntry[]): string {
+  return entries.map(([key, value]) => `# ${key}: ${Private.oneLine(value)}\n`).join('');
 }
 
 /** One line of text that names an export's frame and record, for a chart's subtitle. */
