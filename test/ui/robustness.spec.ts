@@ -134,7 +134,7 @@ test('should draw the rank chart with one line per followed multiplet and export
 
 test('should export the table as CSV with its provenance and one rank column per variant', async () => {
   const downloadEvent = page.waitForEvent('download');
-  await section().getByRole('button', { name: 'Export CSV' }).click();
+  await section().getByRole('button', { name: 'Export the robustness table as CSV', exact: true }).click();
   const download = await downloadEvent;
   expect(download.suggestedFilename()).toMatch(/^polyadic-robust_frame-pd-[0-9a-z]{8,32}-robustness\.csv$/);
   const all = readFileSync(await download.path(), 'utf8').split('\n');
@@ -149,6 +149,8 @@ test('should export the table as CSV with its provenance and one rank column per
 });
 
 test('should save the robustness block and verify it from the data', async () => {
+  // the clicks above left the focus in the results view: back to the notebook, then save it
+  await page.locator('.lm-DockPanel-tabBar .lm-TabBar-tab', { hasText: NOTEBOOK }).click();
   await execute(page, 'docmanager:save');
   await expect(page.locator('.lm-DockPanel-tabBar .lm-TabBar-tab.jp-mod-dirty', { hasText: NOTEBOOK })).toHaveCount(0);
   const notebook = (await serverFile(NOTEBOOK, 'json')) as { metadata: { polyadic: { analyses: { id: string; robustness?: { settings: { top: number; variants: string[] } } }[] } } };
