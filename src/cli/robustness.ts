@@ -59,10 +59,12 @@ stay so); the other estimators (plugin, miller-madow, chao-shen, shrinkage); and
 gaussian-copula when every selected column is continuous. For a base of
 quantile:4 on continuous columns: ${DEFAULT_VARIANTS.join(', ')}.
 
-Verdicts follow the base's top N multiplets of each table (N = --top, else 10):
-a multiplet holds under a variant when it keeps the base's sign and stays in
-that variant's top N; it is robust when it keeps its sign under every variant
-and stays in the top N under at least 80 % of them. Between every two variants:
+Verdicts follow the top N multiplets of each table (N = --top, else 10) under the
+base and under every variant (those only a variant ranks that high say "not in
+the base's top N"): a multiplet holds under a variant when it has its table's
+sign and stays in that variant's top N; it is robust when the base and every
+variant give it that sign and it stays in the top N under at least 80 % of the
+variants. Between every two variants:
 Kendall's tau-b and the overlap of their 10 most negative and 10 most positive.
 
 Options (the base analysis):
@@ -240,8 +242,8 @@ namespace Private {
 
   /**
    * One row per multiplet: columns, order, then co-information and rank per variant, then
-   * same_sign, and for a multiplet of the base's top N the table it is followed in, whether it
-   * is robust and the verdict (empty for the others).
+   * same_sign, and for a followed multiplet (the top N of a table under the base or a variant)
+   * the table it is followed in, whether it is robust and the verdict (empty for the others).
    */
   export function csv(result: IRobustnessResult): string {
     const labels = result.variants.map(variant => variant.label);

@@ -12,13 +12,16 @@
  * The variants may not change the selection or the maximum order (the multiplets must be the
  * same), nor ask for statistics.
  *
- * Verdicts (our rule, no source): the base's top N multiplets of each table (the N most negative
- * co-informations, the synergy table, and the N most positive, the redundancy table) are each
- * followed across the variants. Under a variant a multiplet *holds* when its co-information keeps
- * the base's sign and it is still among that variant's N most extreme of the same table. It is
- * *robust* when it keeps its sign under every variant and stays in the top N under at least
- * {@link ROBUST_TOP_SHARE} (80 %) of them; otherwise *not robust*. The verdict text says how many
- * variants it holds in ("holds in 9 of 10 variants").
+ * Verdicts (our rule, no source): the union of the top N multiplets of each table (the N most
+ * negative co-informations, the synergy table, and the N most positive, the redundancy table)
+ * under the base and under every variant is followed across the variants: the base's first,
+ * then those only a variant ranks that high (marked: not in the base's top N). A multiplet's
+ * sign of reference is its table's (negative for synergy, positive for redundancy). Under a
+ * variant it *holds* when its co-information has that sign and it is among that variant's N most
+ * extreme of the table. It is *robust* when the base and every variant give it that sign and it
+ * stays in the top N under at least {@link ROBUST_TOP_SHARE} (80 %) of the variants; otherwise
+ * *not robust*. The verdict text says how many variants it holds in ("holds in 9 of 10
+ * variants"), and "(not in the base's top N)" for a multiplet a variant brought in.
  *
  * Overlap (for every two variants): how many of the 10 most negative (and of the 10 most positive)
  * multiplets of one are among the 10 of the other. Ties are broken by the walk's order, so each
@@ -70,7 +73,7 @@ export interface IRobustnessAgreement {
 /** Which table of the base a followed multiplet comes from. */
 export type RobustnessTable = 'synergy' | 'redundancy';
 
-/** The verdict on one of the base's top multiplets. */
+/** The verdict on one followed multiplet (of the top N of a table under the base or a variant). */
 export interface IRobustnessVerdict {
   columns: string[];
   order: number;
@@ -79,9 +82,11 @@ export interface IRobustnessVerdict {
   values: number[];
   /** Rank per variant (the base first), 1 = most negative. */
   ranks: number[];
-  /** Share of the variants (the base not counted) with the base's sign. */
+  /** Share of the variants (the base not counted) with its table's sign (the base's sign for the base's top N). */
   same_sign: number;
-  /** Per variant (the base not counted): still among the top N of its table. */
+  /** Whether it is among the base's top N of its table (false: a variant brought it in). */
+  in_base_top: boolean;
+  /** Per variant (the base not counted): among the top N of its table. */
   in_top: boolean[];
   /** Variants (the base not counted) under which it holds: same sign and in the top N. */
   holds: number;
@@ -102,9 +107,12 @@ export interface IRobustnessResult {
   /** The rows, most extreme first by the base's co-information when `top` is given, else in the base's order. */
   multiplets: IRobustnessRow[];
   agreement: IRobustnessAgreement[];
-  /** N of the verdicts: the base's top N of each table are followed. */
+  /** N of the verdicts: the top N of each table, under the base or any variant, are followed. */
   top: number;
-  /** One per followed multiplet: the synergy table's first, most negative first, then the redundancy table's. */
+  /**
+   * One per followed multiplet: the base's top N (the synergy table's first, most negative first,
+   * then the redundancy table's), then those a variant's top N adds, variant by variant.
+   */
   verdicts: IRobustnessVerdict[];
   warnings: string[];
 }
@@ -531,41 +539,61 @@ namespace Private {
     return before < count;
   }
 
-  /** The verdicts on the base's top `count` of each table (see the file comment for the rule). */
+  /**
+   * The verdicts on the top `count` of each table under the base and under each variant (see the
+   * file comment for the rule).
+   */
   export function verdicts(rows: IRobustnessRow[], values: Float64Array[], count: number): IRobustnessVerdict[] {
-    const base = values[0];
     const variants = values.length - 1;
     const out: IRobustnessVerdict[] = [];
     const taken = new Set<number>();
-    for (const table of ['synergy', 'redundancy'] as const) {
-      for (const j of extreme(base, count, table)) {
-        // Only a negative base value belongs in the synergy table, a positive one in the redundancy table.
-        if ((table === 'synergy' && !(base[j] < 0)) || (table === 'redundancy' && !(base[j] > 0)) || taken.has(j)) {
-          continue;
+    // the base's top N first, then what each variant's top N adds
+    values.forEach((column, v) => {
+      for (const table of ['synergy', 'redundancy'] as const) {
+        for (const j of extreme(column, count, table)) {
+          // only a negative value belongs in the synergy table, a positive one in the redundancy table
+          if ((table === 'synergy' && !(column[j] < 0)) || (table === 'redundancy' && !(column[j] > 0)) || taken.has(j)) {
+            continue;
+          }
+          taken.add(j);
+          out.push(verdictOf(rows[j], j, table, v === 0, values, count, variants));
         }
-        taken.add(j);
-        const row = rows[j];
-        const sign = Math.sign(base[j]);
-        const sameSign = values.slice(1).map(column => Math.sign(column[j]) === sign);
-        const inTopList = values.slice(1).map(column => inTop(column, j, count, table));
-        const holds = sameSign.filter((same, v) => same && inTopList[v]).length;
-        const stays = inTopList.filter(Boolean).length;
-        const robust = sameSign.every(Boolean) && stays >= ROBUST_TOP_SHARE * variants;
-        out.push({
-          columns: row.columns,
-          order: row.order,
-          table,
-          values: row.values,
-          ranks: row.ranks,
-          same_sign: row.same_sign,
-          in_top: inTopList,
-          holds,
-          robust,
-          verdict: `${robust ? 'robust' : 'not robust'}: holds in ${holds} of ${variants} variant${variants === 1 ? '' : 's'}`
-        });
       }
-    }
+    });
     return out;
+  }
+
+  /** The verdict on multiplet j followed in `table`. */
+  function verdictOf(
+    row: IRobustnessRow,
+    j: number,
+    table: RobustnessTable,
+    inBaseTop: boolean,
+    values: Float64Array[],
+    count: number,
+    variants: number
+  ): IRobustnessVerdict {
+    const sign = table === 'synergy' ? -1 : 1;
+    const sameSign = values.slice(1).map(column => Math.sign(column[j]) === sign);
+    const inTopList = values.slice(1).map(column => inTop(column, j, count, table));
+    const holds = sameSign.filter((same, v) => same && inTopList[v]).length;
+    const stays = inTopList.filter(Boolean).length;
+    const robust = Math.sign(values[0][j]) === sign && sameSign.every(Boolean) && stays >= ROBUST_TOP_SHARE * variants;
+    return {
+      columns: row.columns,
+      order: row.order,
+      table,
+      values: row.values,
+      ranks: row.ranks,
+      same_sign: variants === 0 ? 1 : sameSign.filter(Boolean).length / variants,
+      in_base_top: inBaseTop,
+      in_top: inTopList,
+      holds,
+      robust,
+      verdict:
+        `${robust ? 'robust' : 'not robust'}: holds in ${holds} of ${variants} variant${variants === 1 ? '' : 's'}` +
+        (inBaseTop ? '' : ` (not in the base's top ${count})`)
+    };
   }
 
   /** One analysis' co-information of every multiplet of order ≥ 2 (result units), in walk order. */

@@ -75,8 +75,8 @@ export function robustnessLines(analysis: IAnalysisRecord): string[] {
   const lines = [
     '',
     `Robustness across ${plural(block.settings.variants.length, 'variant')} (${block.settings.variants.map(escapeMarkdown).join(' · ')}): ` +
-      `${formatCount(robust)} of ${formatCount(verdicts.length)} followed multiplets robust (the top ${block.settings.top} of each table; ` +
-      `robust = same sign under every variant and in the top ${block.settings.top} under at least 80 % of them).`
+      `${formatCount(robust)} of ${formatCount(verdicts.length)} followed multiplets robust (the top ${block.settings.top} of each table under the base or any variant; ` +
+      `robust = the table's sign under the base and every variant, and in the top ${block.settings.top} under at least 80 % of the variants).`
   ];
   if (verdicts.length > 0) {
     lines.push('', '| multiplet | table | verdict |', '| --- | --- | --- |');

@@ -30,6 +30,7 @@ export function robustnessBlockOf(result: IRobustnessResult): IRobustnessRecord 
         values: verdict.values.map(finite),
         ranks: [...verdict.ranks],
         same_sign: verdict.same_sign,
+        in_base_top: verdict.in_base_top,
         in_top: [...verdict.in_top],
         holds: verdict.holds,
         robust: verdict.robust,

@@ -307,12 +307,13 @@ export const RECORD_SCHEMA = {
     },
     robustnessVerdict: {
       description:
-        'One multiplet across the variants. It holds under a variant when it keeps the base sign and stays in that ' +
-        "variant's top N of its table; robust when it keeps its sign under every variant and stays in the top N under " +
-        'at least 80 % of them.',
+        'One multiplet of the top N of a table under the base or a variant, followed across the variants. It holds ' +
+        "under a variant when it has its table's sign (negative: synergy, positive: redundancy) and stays in that " +
+        "variant's top N of the table; robust when the base and every variant give it that sign and it stays in the " +
+        'top N under at least 80 % of the variants.',
       type: 'object',
       additionalProperties: false,
-      required: ['columns', 'table', 'values', 'ranks', 'same_sign', 'in_top', 'holds', 'robust', 'verdict'],
+      required: ['columns', 'table', 'values', 'ranks', 'same_sign', 'in_base_top', 'in_top', 'holds', 'robust', 'verdict'],
       properties: {
         columns: {
           description: 'The multiplet (selected columns).',
@@ -321,7 +322,7 @@ export const RECORD_SCHEMA = {
           items: { $ref: '#/$defs/columnName' }
         },
         table: {
-          description: 'The base table it comes from.',
+          description: 'The table it is followed in.',
           enum: ['synergy', 'redundancy']
         },
         values: {
@@ -335,10 +336,14 @@ export const RECORD_SCHEMA = {
           items: { type: 'number' }
         },
         same_sign: {
-          description: 'Share of the variants (the base not counted) whose co-information has the base sign.',
+          description: "Share of the variants (the base not counted) whose co-information has the table's sign.",
           type: 'number',
           minimum: 0,
           maximum: 1
+        },
+        in_base_top: {
+          description: "Whether it is among the base's top N of its table (false: a variant's top N brought it in).",
+          type: 'boolean'
         },
         in_top: {
           description: 'Per variant (the base not counted): whether it stays in the top N of its table.',
@@ -346,12 +351,12 @@ export const RECORD_SCHEMA = {
           items: { type: 'boolean' }
         },
         holds: {
-          description: 'Variants (the base not counted) under which it keeps its sign and stays in the top N.',
+          description: "Variants (the base not counted) under which it has its table's sign and stays in the top N.",
           type: 'integer',
           minimum: 0
         },
         robust: {
-          description: 'The verdict: same sign under every variant and in the top N under at least 80 % of them.',
+          description: "The verdict: the table's sign under the base and every variant, and in the top N under at least 80 % of the variants.",
           type: 'boolean'
         },
         verdict: {

@@ -154,6 +154,7 @@ export interface IRobustnessVerdictRecord {
   values: (number | null)[];
   ranks: number[];
   same_sign: number;
+  in_base_top: boolean;
   in_top: boolean[];
   holds: number;
   robust: boolean;

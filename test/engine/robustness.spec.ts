@@ -279,13 +279,36 @@ describe('robustnessRun verdicts', () => {
   const verdict = (members: string): (typeof run.verdicts)[number] | undefined =>
     run.verdicts.find(row => row.columns.join() === members);
 
-  it('should follow the base top 3 of each table', () => {
+  it('should follow the base top 3 of each table first, then what each variant’s top 3 adds', () => {
     expect(texts).toHaveLength(7);
     expect(run.top).toBe(3);
-    expect(run.verdicts.filter(row => row.table === 'synergy').map(row => row.ranks[0])).toEqual([1, 2, 3]);
-    const positive = run.verdicts.filter(row => row.table === 'redundancy');
+    const fromBase = run.verdicts.filter(row => row.in_base_top);
+    expect(fromBase.filter(row => row.table === 'synergy').map(row => row.ranks[0])).toEqual([1, 2, 3]);
+    const positive = fromBase.filter(row => row.table === 'redundancy');
     expect(positive).toHaveLength(3);
     expect(positive.every(row => row.values[0] > 0)).toBe(true);
+    // the base's six come first
+    expect(run.verdicts.slice(0, 6).every(row => row.in_base_top)).toBe(true);
+    // with every multiplet in its table (no top), the followed ones are exactly the union over the
+    // base and the variants of each one's 10 most negative and 10 most positive
+    const whole = robustnessRun(columns, base, texts.map(parseVariantSpec));
+    expect(whole.multiplets).toHaveLength(whole.multiplet_count);
+    const keys = whole.verdicts.map(row => row.columns.join());
+    expect(new Set(keys).size).toBe(keys.length);
+    const union = new Set<string>();
+    for (let v = 0; v < whole.variants.length; v++) {
+      const byValue = whole.multiplets.slice().sort((p, q) => p.values[v] - q.values[v]);
+      for (const row of [...byValue.slice(0, 10).filter(r => r.values[v] < 0), ...byValue.slice(-10).filter(r => r.values[v] > 0)]) {
+        union.add(row.columns.join());
+      }
+    }
+    expect(new Set(keys)).toEqual(union);
+    expect(whole.verdicts.some(row => !row.in_base_top)).toBe(true);
+    // one a variant brought in says so, and its sign of reference is its table's
+    for (const row of run.verdicts.filter(r => !r.in_base_top)) {
+      expect(row.verdict).toMatch(/ \(not in the base's top 3\)$/);
+      expect(row.in_top.some(Boolean)).toBe(true);
+    }
   });
 
   it('should find the planted synergistic triplets robust under every default variant', () => {

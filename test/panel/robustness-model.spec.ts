@@ -140,9 +140,10 @@ describe('RobustnessModel', () => {
       expect(model.state).toBe('done');
       const direct = robustnessRun(columns, { ...run.options, statistics: undefined }, parseVariantList('bins=quantile:3\nestimator=plugin'), 3);
       expect(model.variantLabels).toEqual(['base', 'bins=quantile:3', 'estimator=plugin']);
-      expect(model.rows.map(row => [row.multiplet, row.baseValue, row.ranks, row.sameSign, row.verdict])).toEqual(
-        direct.verdicts.map(v => [v.columns.join(', '), v.values[0], v.ranks, v.same_sign, v.verdict])
+      expect(model.rows.map(row => [row.multiplet, row.baseValue, row.ranks, row.sameSign, row.inBaseTop, row.verdict])).toEqual(
+        direct.verdicts.map(v => [v.columns.join(', '), v.values[0], v.ranks, v.same_sign, v.in_base_top, v.verdict])
       );
+      expect(model.lines.map(line => line.inBaseTop)).toEqual(direct.verdicts.map(v => v.in_base_top));
       // the planted exclusive-or of the helper's table leads the synergy side and holds
       const top = model.rows[0];
       expect([...top.columns].sort()).toEqual(['flow_l_min', 'leak_alarm', 'valve_command']);
@@ -200,7 +201,7 @@ describe('RobustnessModel', () => {
       expect(model.rows.map(row => [row.columns, row.ranks, row.verdict])).toEqual(result.verdicts.map(v => [v.columns, v.ranks, v.verdict]));
       expect(model.agreement.map(pair => pair.overlap_synergy)).toEqual(result.agreement.map(pair => pair.overlap_synergy));
       expect(model.summaryText).toMatch(/^As recorded: \d+ of \d+ followed multiplets robust across 2 variants\.$/);
-      expect(model.ruleText).toContain('top 2 of its table');
+      expect(model.ruleText).toContain('the top 2 of each table under the base or any variant');
       expect(model.csv(new Date('2031-03-02T09:00:00Z'))).toContain('# table: robustness (as recorded)');
       // a live run wins over the record
       model.setRun(run);

@@ -63,7 +63,8 @@ describe('robustnessBlockOf', () => {
     for (const verdict of block?.results.verdicts ?? []) {
       expect(verdict.values).toHaveLength(variants + 1);
       expect(verdict.in_top).toHaveLength(variants);
-      expect(verdict.verdict).toMatch(new RegExp(`^(robust|not robust): holds in \\d+ of ${variants} variants$`));
+      expect(verdict.verdict).toMatch(new RegExp(`^(robust|not robust): holds in \\d+ of ${variants} variants( \\(not in the base's top 5\\))?$`));
+      expect(verdict.verdict.endsWith("(not in the base's top 5)")).toBe(!verdict.in_base_top);
     }
   });
 

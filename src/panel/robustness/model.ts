@@ -37,7 +37,7 @@ export interface IRobustnessEngine {
 /** Where the section stands. */
 export type RobustnessState = 'unavailable' | 'idle' | 'running' | 'done' | 'error';
 
-/** One row of the robustness table: a multiplet of the base's top N, across the variants. */
+/** One row of the robustness table: a followed multiplet (of a top N under the base or a variant), across the variants. */
 export interface IRobustnessTableRow {
   /** The multiplet's columns, joined by ', ' for reading (the CSV joins them as the CLI does). */
   multiplet: string;
@@ -47,8 +47,10 @@ export interface IRobustnessTableRow {
   baseValue: number;
   /** Rank under each variant, the base first (1 = most negative). */
   ranks: number[];
-  /** Share of the variants with the base's sign. */
+  /** Share of the variants with its table's sign. */
   sameSign: number;
+  /** Among the base's top N of its table (false: a variant's top N brought it in). */
+  inBaseTop: boolean;
   robust: boolean;
   verdict: string;
 }
@@ -58,6 +60,8 @@ export interface IRobustnessLine {
   multiplet: string;
   table: RobustnessTable;
   robust: boolean;
+  /** Among the base's top N (drawn in front; the others a variant brought in, faint behind). */
+  inBaseTop: boolean;
   /** Rank per variant, the base first. */
   ranks: number[];
 }
@@ -99,7 +103,7 @@ export class RobustnessModel implements IDisposable {
     return this._defaults;
   }
 
-  /** N: the base's top N of each table are followed. */
+  /** N: the top N of each table, under the base or any variant, are followed. */
   get top(): number {
     return this._top;
   }
@@ -284,14 +288,14 @@ export class RobustnessModel implements IDisposable {
     return this._shown?.labels ?? [];
   }
 
-  /** The table: the base's top N of each table (synergy first), in the engine's order. */
+  /** The table: the followed multiplets (the base's top N of each table first), in the engine's order. */
   get rows(): IRobustnessTableRow[] {
     return this._shown?.rows ?? [];
   }
 
   /** The figure's lines: one per followed multiplet, its rank under each variant. */
   get lines(): IRobustnessLine[] {
-    return this.rows.map(row => ({ multiplet: row.multiplet, table: row.table, robust: row.robust, ranks: row.ranks }));
+    return this.rows.map(row => ({ multiplet: row.multiplet, table: row.table, robust: row.robust, inBaseTop: row.inBaseTop, ranks: row.ranks }));
   }
 
   /** Rank agreement between every two variants shown. */
@@ -325,7 +329,7 @@ export class RobustnessModel implements IDisposable {
     const labels = shown.labels;
     const entries: ProvenanceEntry[] = [
       ...provenanceEntries(shown.source, exported),
-      ['table', `robustness${shown.recorded ? ' (as recorded)' : ''}: the base's top ${shown.top} of each table across ${labels.length - 1} variants`],
+      ['table', `robustness${shown.recorded ? ' (as recorded)' : ''}: the top ${shown.top} of each table under the base or any variant, across ${labels.length - 1} variants`],
       ['rule', Private.ruleText(shown.top)],
       ...labels.slice(1).map((label, i): ProvenanceEntry => [`variant ${i + 1}`, label])
     ];
@@ -419,9 +423,9 @@ namespace Private {
   /** The verdict rule in the section's words, for N. */
   export function ruleText(top: number): string {
     return (
-      `A multiplet holds under a variant when it keeps the base sign and stays in that variant's top ${top} ` +
-      `of its table. Robust: same sign under every variant and in the top ${top} under at least ` +
-      `${Math.round(ROBUST_TOP_SHARE * 100)} % of them.`
+      `Followed: the top ${top} of each table under the base or any variant. A multiplet holds under a variant ` +
+      `when it has its table's sign and stays in that variant's top ${top}. Robust: that sign under the base and ` +
+      `every variant, and in the top ${top} under at least ${Math.round(ROBUST_TOP_SHARE * 100)} % of the variants.`
     );
   }
 
@@ -432,6 +436,7 @@ namespace Private {
     values: (number | null)[];
     ranks: number[];
     same_sign: number;
+    in_base_top: boolean;
     robust: boolean;
     verdict: string;
   }): IRobustnessTableRow {
@@ -442,6 +447,7 @@ namespace Private {
       baseValue: verdict.values[0] ?? NaN,
       ranks: verdict.ranks,
       sameSign: verdict.same_sign,
+      inBaseTop: verdict.in_base_top,
       robust: verdict.robust,
       verdict: verdict.verdict
     };

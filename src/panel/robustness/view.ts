@@ -1,7 +1,7 @@
 /**
  * The robustness section of a results view: the variant list (text, one per line, the defaults
- * prefilled), N, the "Check robustness" button, the table of the base's top multiplets across
- * the variants with its CSV export, the agreement between variants, and a rank chart (one line
+ * prefilled), N, the "Check robustness" button, the table of the followed multiplets (the top
+ * N of each table under the base or any variant) across the variants with its CSV export, the agreement between variants, and a rank chart (one line
  * per followed multiplet across the variants). Every name and value goes in as text.
  */
 import { Panel, Widget } from '@lumino/widgets';
@@ -267,11 +267,14 @@ namespace Private {
   /**
    * The rank chart: variants along x (base first), rank down y (1, the most negative, at the
    * top), one line per followed multiplet in its table's colour; a robust one solid, one that
-   * is not robust dashed. Names go to plotly escaped (plotlyText).
+   * is not robust dashed; the base's top N in front, those only a variant ranks that high thin
+   * and faint behind them. Names go to plotly escaped (plotlyText).
    */
   export function figure(lines: IRobustnessLine[], labels: string[], colors: IChartColors): IFigure {
     const x = labels.map((_, i) => (i === 0 ? 'base' : `V${i}`));
-    const data: PlotlyModule.Data[] = lines.map(line => ({
+    // plotly draws later traces on top: the variants' additions first
+    const ordered = [...lines.filter(line => !line.inBaseTop), ...lines.filter(line => line.inBaseTop)];
+    const data: PlotlyModule.Data[] = ordered.map(line => ({
       type: 'scatter',
       mode: 'lines+markers',
       x,
@@ -279,8 +282,13 @@ namespace Private {
       name: plotlyText(line.multiplet),
       text: labels.map(label => plotlyText(`${line.multiplet} · ${label}`)),
       hovertemplate: '%{text}<br>rank %{y}<extra></extra>',
-      line: { color: line.table === 'synergy' ? colors.synergy : colors.redundancy, width: 1.5, dash: line.robust ? 'solid' : 'dash' },
-      marker: { size: 5 }
+      line: {
+        color: line.table === 'synergy' ? colors.synergy : colors.redundancy,
+        width: line.inBaseTop ? 2 : 1,
+        dash: line.robust ? 'solid' : 'dash'
+      },
+      opacity: line.inBaseTop ? 1 : 0.3,
+      marker: { size: line.inBaseTop ? 5 : 3 }
     }));
     return {
       data,
