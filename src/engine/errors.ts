@@ -44,3 +44,17 @@ export function isPolyadicError(value: unknown): value is PolyadicError {
 export function errorMessage(error: unknown): string {
   return error instanceof Error ? error.message : String(error);
 }
+
+/**
+ * Whether a thrown value is a cancellation, a run or a fetch stopped on request: the worker
+ * pool's RunCancelled (`kind: 'cancelled'`) or the bridge's BridgeError of reason 'cancelled'.
+ * The one test views use to tell a cancellation from a failure (read structurally, so the
+ * engine imports neither the pool nor the bridge).
+ */
+export function isCancellation(error: unknown): boolean {
+  if (!(error instanceof Error)) {
+    return false;
+  }
+  const marked = error as { kind?: unknown; reason?: unknown };
+  return marked.kind === 'cancelled' || (error.name === 'BridgeError' && marked.reason === 'cancelled');
+}

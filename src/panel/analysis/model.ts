@@ -8,6 +8,7 @@ import type { JSONObject } from '@lumino/coreutils';
 import { ISignal, Signal } from '@lumino/signaling';
 
 import type { IFetchedFrame } from '../../bridge/decode';
+import { errorMessage, isCancellation } from '../../engine/errors';
 import { formatCount, plural, wordFor } from '../../engine/text';
 import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
 import { newRecordId } from '../../record/ids';
@@ -19,7 +20,6 @@ import { DataModel } from '../data/model';
 import { StatisticsModel } from '../statistics/model';
 import { adequacyOf, EstimatorModel, IAdequacy, type IEstimatorChoices, type IOrderClamp } from '../estimator/model';
 import type { IAnalysisState, IRunCompleted, IRunStatus, RunState } from './types';
-import { errorMessage } from '../../engine/errors';
 
 /** What the model needs of the engine pool (an {@link EnginePool} in the panel). */
 export interface IEngineRunner {
@@ -317,9 +317,8 @@ export class AnalysisModel implements IAnalysisState {
       if (ticket !== this._ticket) {
         return;
       }
-      const cancelled = (error as { kind?: unknown } | null)?.kind === 'cancelled';
       this._setRun({
-        state: cancelled ? 'cancelled' : 'error',
+        state: isCancellation(error) ? 'cancelled' : 'error',
         progress: null,
         message: errorMessage(error)
       });

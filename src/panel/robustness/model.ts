@@ -7,7 +7,7 @@ import type { IDisposable } from '@lumino/disposable';
 import { ISignal, Signal } from '@lumino/signaling';
 import Papa from 'papaparse';
 
-import { errorMessage, isPolyadicError, PolyadicError } from '../../engine/errors';
+import { errorMessage, isCancellation, isPolyadicError, PolyadicError } from '../../engine/errors';
 import {
   BASE_LABEL,
   DEFAULT_ROBUSTNESS_TOP,
@@ -21,7 +21,6 @@ import {
 } from '../../engine/robustness';
 import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
 import { COLUMN_SEPARATOR } from '../../results-format';
-import { isRunCancelled } from '../../worker/pool';
 import type { IRunCompleted } from '../analysis/types';
 import { formatCount } from '../../engine/text';
 import type { IAnalysisRecord } from '../../record/types';
@@ -220,7 +219,7 @@ export class RobustnessModel implements IDisposable {
       result = await this._engine.robustness(columns, Private.baseOf(run), variants, this._top);
     } catch (error) {
       if (ticket === this._ticket) {
-        if (isRunCancelled(error)) {
+        if (isCancellation(error)) {
           this._state = 'idle';
           this._changed.emit();
         } else {
