@@ -13,10 +13,9 @@ import type { IRenderMime } from '@jupyterlab/rendermime-interfaces';
 import type { ISignal } from '@lumino/signaling';
 import { Widget } from '@lumino/widgets';
 
-import { formatCount, plural } from '../engine/text';
+import { formatCount, formatValue, plural } from '../engine/text';
 import {
   formatProbability,
-  formatValue,
   INADEQUATE_MARK,
   inadequateLine,
   isInadequate,

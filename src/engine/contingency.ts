@@ -9,6 +9,7 @@ import { entropyOfCounts } from './estimators';
 import { PolyadicError } from './errors';
 import { MISSING_CATEGORY } from './binning';
 import type { EstimatorName, IColumnBinning } from './types';
+import { formatDataValue } from './text';
 
 /** The joint counts of two coded columns, X down the rows and Y across. */
 export interface IContingencyTable {
@@ -210,8 +211,6 @@ namespace Private {
     }
   }
 
-  /** A bin edge in at most four significant digits. */
-  export function edge(value: number): string {
-    return Number.isInteger(value) ? String(value) : Number(value.toPrecision(4)).toString();
-  }
+  /** A bin edge, as every data value is shown. */
+  export const edge = formatDataValue;
 }

@@ -1,7 +1,10 @@
 /**
  * Numbers and counted nouns in the text people read: engine messages, the CLI, the panel and
- * the analysis cells all go through these two helpers, so every count has grouped digits and
- * every noun agrees with its count.
+ * the analysis cells all go through these helpers, so every count has grouped digits, every
+ * noun agrees with its count, every information value reads alike (formatValue) and every data
+ * value such as a bin edge reads alike (formatDataValue). The one exception is the Markdown
+ * fallback of a record (record/markdown.ts), whose tables keep fixed decimals that the kernel's
+ * Python side writes to the same bytes.
  */
 
 /** Fixed locale, so "1,099,511,627,775" reads the same in every browser, in Node and in tests. */
@@ -26,4 +29,22 @@ export function plural(count: number | bigint, singular: string, pluralForm = `$
 /** One word made to agree with `count`: `wordFor(n, 'has', 'have')`, `wordFor(n, 'multiplet')`. */
 export function wordFor(count: number | bigint, singular: string, pluralForm = `${singular}s`): string {
   return count === 1 || count === 1n ? singular : pluralForm;
+}
+
+/** An information value with 4 significant digits, a true minus sign, and − 0 shown as 0. */
+export function formatValue(value: number): string {
+  if (!Number.isFinite(value)) {
+    return String(value);
+  }
+  if (value === 0 || Math.abs(value) < 5e-13) {
+    return '0';
+  }
+  const abs = Math.abs(value);
+  const text = abs >= 1e4 || abs < 1e-3 ? abs.toExponential(3) : abs.toPrecision(4);
+  return (value < 0 ? '\u2212' : '') + text;
+}
+
+/** A data value (a bin edge, a column's range): whole numbers as they are, others in 4 significant digits. */
+export function formatDataValue(value: number): string {
+  return Number.isInteger(value) ? String(value) : Number(value.toPrecision(4)).toString();
 }

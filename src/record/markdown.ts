@@ -10,7 +10,7 @@
  */
 
 import { formatCount, plural, wordFor } from '../engine/text';
-import { formatValue as formatSignificant } from '../panel/results/format';
+import { formatValue as formatSignificant } from '../engine/text';
 import type { IAnalysisRecord, IMultipletSummary, IResultSummary } from './types';
 
 /** Decimals of the values in the tables. */

@@ -5,7 +5,7 @@
 import { analyze } from '../../src/engine/analyze';
 import { binColumn } from '../../src/engine/binning';
 import { checkMultipletCount } from '../../src/engine/multiplets';
-import { formatCount, plural, wordFor } from '../../src/engine/text';
+import { formatCount, formatDataValue, formatValue, plural, wordFor } from '../../src/engine/text';
 import { expectPolyadic, numericColumn } from './helpers';
 
 describe('text', () => {
@@ -18,6 +18,26 @@ describe('text', () => {
       expect(formatCount(0)).toBe('0');
       expect(formatCount(-12345)).toBe('-12,345');
       expect(formatCount(Number.POSITIVE_INFINITY)).toBe('Infinity');
+    });
+  });
+
+  describe('#formatValue', () => {
+    it('should give information values 4 significant digits, a true minus and an exponent far from 1', () => {
+      expect(formatValue(-0.78361)).toBe('\u22120.7836');
+      expect(formatValue(1.5)).toBe('1.500');
+      expect(formatValue(0.000123456)).toBe('1.235e-4');
+      expect(formatValue(-0)).toBe('0');
+      expect(formatValue(3e-14)).toBe('0');
+      expect(formatValue(Number.NaN)).toBe('NaN');
+    });
+  });
+
+  describe('#formatDataValue', () => {
+    it('should keep whole numbers whole and give others 4 significant digits', () => {
+      expect(formatDataValue(10000)).toBe('10000');
+      expect(formatDataValue(22.53819)).toBe('22.54');
+      expect(formatDataValue(-1.25)).toBe('-1.25');
+      expect(formatDataValue(0.000123456)).toBe('0.0001235');
     });
   });
 

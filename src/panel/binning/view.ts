@@ -8,7 +8,7 @@
 import { Widget } from '@lumino/widgets';
 
 import { AUTO_NUMERIC_SPEC } from '../../engine/binning';
-import { formatCount, plural } from '../../engine/text';
+import { formatCount, formatDataValue, plural } from '../../engine/text';
 import { ChartView, plotlyText } from '../charts/chart';
 import type { IChartColors, IFigure } from '../charts/chart';
 import { textElement } from '../dom';
@@ -351,8 +351,6 @@ namespace Private {
     return table;
   }
 
-  /** A number in at most four significant digits. */
-  function format(value: number): string {
-    return Number.isInteger(value) ? String(value) : Number(value.toPrecision(4)).toString();
-  }
+  /** A data value, as every view shows one. */
+  const format = formatDataValue;
 }

@@ -6,7 +6,7 @@
  * multiplet keeps its height beside bars of thousands), ticks at the powers of ten.
  * The results view adds its strip of extreme multiplets under the bars (`strip`).
  */
-import { formatCount } from '../../engine/text';
+import { formatCount, formatValue } from '../../engine/text';
 import type { IChartColors, IFigure } from './types';
 
 /** What a histogram figure draws. */
@@ -37,7 +37,7 @@ export function histogramFigure(histogram: IHistogramInput, colors: IChartColors
   const { edges, counts } = histogram;
   const selected = options.selected ?? -1;
   const marked = options.marked ?? -1;
-  const formatEdge = options.formatEdge ?? ((value: number) => String(Number(value.toPrecision(4))));
+  const formatEdge = options.formatEdge ?? formatValue;
   const centers = counts.map((_c, i) => (edges[i] + edges[i + 1]) / 2);
   const widths = counts.map((_c, i) => edges[i + 1] - edges[i]);
   const low = edges[0];
