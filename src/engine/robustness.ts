@@ -90,7 +90,7 @@ export interface IRobustnessVerdict {
   in_top: boolean[];
   /** Variants (the base not counted) under which it holds: same sign and in the top N. */
   holds: number;
-  /** Same sign under every variant and in the top N under ≥ 80 % of them. */
+  /** Its table's sign under the base and every variant, and in the top N under ≥ 80 % of the variants. */
   robust: boolean;
   /** The verdict in plain words, e.g. 'robust: holds in 9 of 10 variants'. */
   verdict: string;
