@@ -52,7 +52,7 @@ export class DataView extends SectionView<DataModel> {
     } else if (ready && model.frame === null) {
       this._message.textContent = 'Pick a dataframe to see its columns.';
     } else if (load.state === 'error') {
-      this._message.textContent = load.message ?? 'The dataframe could not be loaded.';
+      this._message.textContent = load.error?.message ?? 'The dataframe could not be loaded.';
     } else if (load.state === 'loading') {
       this._message.textContent = 'Loading the columns…';
     } else {
@@ -135,6 +135,27 @@ export class DataView extends SectionView<DataModel> {
     }
     for (const [name, box] of this._boxes) {
       box.checked = this.model.isSelected(name);
+    }
+    this._markFault();
+  }
+
+  /** Mark the row of the column at fault (the model's fault names it), with the error's message. */
+  private _markFault(): void {
+    const fault = this.model.fault;
+    const column = fault === null ? null : fault.detail.column;
+    for (const [name, box] of this._boxes) {
+      const row = box.closest('tr');
+      if (row === null) {
+        continue;
+      }
+      const atFault = name === column;
+      row.classList.toggle('pd-mod-fault', atFault);
+      row.querySelector('.pd-Data-fault')?.remove();
+      if (atFault && fault !== null) {
+        const note = textElement('span', 'pd-Badge pd-mod-error pd-Data-fault', 'at fault');
+        note.title = fault.message;
+        row.querySelector('.pd-Data-name')?.append(' ', note);
+      }
     }
   }
 

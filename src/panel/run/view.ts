@@ -85,7 +85,7 @@ export class RunView extends Widget {
     } else if (run.state === 'cancelled') {
       this._line.textContent = 'Cancelled. Nothing was computed; press Run to start again.';
     } else if (run.state === 'error') {
-      this._line.textContent = run.message ?? 'The analysis failed.';
+      this._line.textContent = run.error?.message ?? 'The analysis failed.';
     } else if (running) {
       this._line.textContent = 'Running. The notebook stays usable meanwhile.';
     } else {
