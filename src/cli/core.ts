@@ -2,6 +2,8 @@
  * What every command of the CLI shares: where it writes, its exit codes, how it prints a
  * message that quotes untrusted text, and how it reports a failure.
  */
+import { parseArgs, type ParseArgsConfig } from 'util';
+
 import { errorMessage, isPolyadicError, PolyadicError } from '../engine/errors';
 
 /** Where a command writes: process.stdout/stderr, or a capture in tests. */
@@ -70,7 +72,40 @@ export function firstSentence(error: unknown): string {
   return errorMessage(error).split(/\.\s/)[0].replace(/\.$/, '');
 }
 
-/** A command line the argument parser refused, as a usage error that points at the command's help. */
-export function argumentError(error: unknown, command: string): PolyadicError {
-  return new PolyadicError('usage', `${firstSentence(error)}; see polyadic ${command} --help.`);
+/**
+ * A command line the argument parser refused, as a usage error that points at the command's
+ * help (`command` null: the top-level help).
+ */
+export function argumentError(error: unknown, command: string | null): PolyadicError {
+  const sentence = firstSentence(error);
+  const help = command === null ? 'polyadic --help' : `polyadic ${command} --help`;
+  return new PolyadicError('usage', `${sentence.charAt(0).toUpperCase()}${sentence.slice(1)}; see ${help}.`);
+}
+
+/** The options of a command's argument parser. */
+export type CommandOptions = NonNullable<ParseArgsConfig['options']>;
+
+/** The options of the analysis itself, shared by `analyze` and `robustness`. */
+export const ANALYSIS_OPTIONS = {
+  columns: { type: 'string' },
+  bins: { type: 'string' },
+  bin: { type: 'string', multiple: true },
+  missing: { type: 'string' },
+  estimator: { type: 'string' },
+  units: { type: 'string' },
+  'max-order': { type: 'string' }
+} as const satisfies CommandOptions;
+
+/** What {@link parseCommandLine} gives: node's parse of the options `O`, positionals allowed. */
+export type ParsedCommandLine<O extends CommandOptions> = ReturnType<
+  typeof parseArgs<{ args: string[]; options: O; strict: true; allowPositionals: true }>
+>;
+
+/** Parse a command's arguments strictly (positionals allowed); a refusal points at the command's help. */
+export function parseCommandLine<O extends CommandOptions>(args: string[], options: O, command: string | null): ParsedCommandLine<O> {
+  try {
+    return parseArgs({ args, options, strict: true as const, allowPositionals: true as const });
+  } catch (error) {
+    throw argumentError(error, command);
+  }
 }

@@ -6,11 +6,10 @@
  * Exit codes: 0 done; 2 bad input or usage; 1 internal error.
  */
 
-import { parseArgs } from 'util';
 
 import { PolyadicError } from '../engine/errors';
 import { fingerprintColumns } from '../record/fingerprint';
-import { argumentError, EXIT, ICliStreams, reportFailure } from './core';
+import { EXIT, ICliStreams, parseCommandLine, reportFailure } from './core';
 import { readDataFile } from './readers';
 
 /** The text of `polyadic fingerprint --help`. */
@@ -28,17 +27,7 @@ Options:
 /** Run `polyadic fingerprint` on its arguments (after the word `fingerprint`). */
 export async function runFingerprint(args: string[], io: ICliStreams): Promise<number> {
   try {
-    let parsed;
-    try {
-      parsed = parseArgs({
-        args,
-        strict: true,
-        allowPositionals: true,
-        options: { columns: { type: 'string' }, help: { type: 'boolean', short: 'h' } }
-      });
-    } catch (error) {
-      throw argumentError(error, 'fingerprint');
-    }
+    const parsed = parseCommandLine(args, { columns: { type: 'string' }, help: { type: 'boolean', short: 'h' } }, 'fingerprint');
     if (parsed.values.help) {
       io.stdout.write(FINGERPRINT_HELP);
       return EXIT.done;

@@ -8,7 +8,6 @@
 
 import { existsSync, promises as fs, readFileSync } from 'fs';
 import * as path from 'path';
-import { parseArgs } from 'util';
 
 import { analyze } from '../engine/analyze';
 import { MAX_SEED, STATISTICS_TAILS, type IStatisticsOptions, type StatisticsTail } from '../engine/statistics/options';
@@ -19,7 +18,7 @@ import { ESTIMATORS } from '../engine/estimators';
 import { isPolyadicError, PolyadicError } from '../engine/errors';
 import { unknownColumn } from '../engine/table';
 import type { ChainRequest, EstimatorName, IAnalysisResult, IAnalyzeOptions, MissingPolicy, Units } from '../engine/types';
-import { EXIT, firstSentence, ICliStreams, oneLine, reportFailure } from './core';
+import { ANALYSIS_OPTIONS, EXIT, ICliStreams, oneLine, parseCommandLine, reportFailure } from './core';
 import { runFingerprint } from './fingerprint';
 import { formatResult, OUTPUT_FORMATS, OutputFormat } from './output';
 import { readDataFile, type IDataSource } from './readers';
@@ -215,40 +214,28 @@ namespace Private {
 
   /** Parse argv strictly; usage errors name the option or value at fault. */
   export function parseCommand(argv: string[]): Command {
-    let parsed;
-    try {
-      parsed = parseArgs({
-        args: argv,
-        strict: true,
-        allowPositionals: true,
-        options: {
-          columns: { type: 'string' },
-          bins: { type: 'string' },
-          bin: { type: 'string', multiple: true },
-          missing: { type: 'string' },
-          estimator: { type: 'string' },
-          units: { type: 'string' },
-          'max-order': { type: 'string' },
-          top: { type: 'string' },
-          threads: { type: 'string' },
-          chain: { type: 'string', multiple: true },
-          surrogates: { type: 'string' },
-          bootstrap: { type: 'string' },
-          seed: { type: 'string' },
-          tail: { type: 'string' },
-          alpha: { type: 'string' },
-          'beyond-pairs': { type: 'string' },
-          'fit-draws': { type: 'string' },
-          sharpen: { type: 'string' },
-          format: { type: 'string' },
-          out: { type: 'string' },
-          help: { type: 'boolean', short: 'h' },
-          version: { type: 'boolean', short: 'V' }
-        }
-      });
-    } catch (error) {
-      throw new PolyadicError('usage', `${capitalFirstSentence(error)}; see polyadic --help.`, {});
-    }
+    const parsed = parseCommandLine(
+      argv,
+      {
+        ...ANALYSIS_OPTIONS,
+        top: { type: 'string' },
+        threads: { type: 'string' },
+        chain: { type: 'string', multiple: true },
+        surrogates: { type: 'string' },
+        bootstrap: { type: 'string' },
+        seed: { type: 'string' },
+        tail: { type: 'string' },
+        alpha: { type: 'string' },
+        'beyond-pairs': { type: 'string' },
+        'fit-draws': { type: 'string' },
+        sharpen: { type: 'string' },
+        format: { type: 'string' },
+        out: { type: 'string' },
+        help: { type: 'boolean', short: 'h' },
+        version: { type: 'boolean', short: 'V' }
+      },
+      null
+    );
     const { values, positionals } = parsed;
     if (values.help) {
       return { kind: 'help' };
@@ -484,12 +471,6 @@ namespace Private {
       });
     }
     return Number(value);
-  }
-
-  /** The first sentence of node's argument-parser message, in our lower-case style. */
-  function capitalFirstSentence(error: unknown): string {
-    const sentence = firstSentence(error);
-    return sentence.charAt(0).toUpperCase() + sentence.slice(1);
   }
 
   /** Write the output file, reporting a path that cannot be written as a usage error. */

@@ -10,7 +10,6 @@
 
 import { promises as fs } from 'fs';
 import * as path from 'path';
-import { parseArgs } from 'util';
 
 import Papa from 'papaparse';
 
@@ -18,7 +17,7 @@ import { isPolyadicError, PolyadicError } from '../engine/errors';
 import { defaultVariants, IRobustnessResult, IRobustnessVariant, parseVariantSpec, robustnessRun } from '../engine/robustness';
 import type { IAnalyzeOptions, Units } from '../engine/types';
 import { COLUMN_SEPARATOR } from '../results-format';
-import { argumentError, EXIT, ICliStreams, oneLine, reportFailure } from './core';
+import { ANALYSIS_OPTIONS, EXIT, ICliStreams, oneLine, parseCommandLine, reportFailure } from './core';
 import { readDataFile } from './readers';
 
 /**
@@ -148,30 +147,18 @@ namespace Private {
 
   /** Parse the arguments strictly. */
   export function parseCommand(args: string[]): ICommand | 'help' {
-    let parsed;
-    try {
-      parsed = parseArgs({
-        args,
-        strict: true,
-        allowPositionals: true,
-        options: {
-          columns: { type: 'string' },
-          bins: { type: 'string' },
-          bin: { type: 'string', multiple: true },
-          missing: { type: 'string' },
-          estimator: { type: 'string' },
-          units: { type: 'string' },
-          'max-order': { type: 'string' },
-          variant: { type: 'string', multiple: true },
-          top: { type: 'string' },
-          format: { type: 'string' },
-          out: { type: 'string' },
-          help: { type: 'boolean', short: 'h' }
-        }
-      });
-    } catch (error) {
-      throw argumentError(error, 'robustness');
-    }
+    const parsed = parseCommandLine(
+      args,
+      {
+        ...ANALYSIS_OPTIONS,
+        variant: { type: 'string', multiple: true },
+        top: { type: 'string' },
+        format: { type: 'string' },
+        out: { type: 'string' },
+        help: { type: 'boolean', short: 'h' }
+      },
+      'robustness'
+    );
     const { values, positionals } = parsed;
     if (values.help) {
       return 'help';

@@ -23,7 +23,6 @@
  */
 
 import { promises as fs } from 'fs';
-import { parseArgs } from 'util';
 
 import { analyzeCodes, latticeInput, prepareColumns } from '../engine/analyze';
 import { errorMessage, isPolyadicError, PolyadicError } from '../engine/errors';
@@ -44,7 +43,7 @@ import { orderHistogram } from '../engine/histogram';
 import { evidenceSummaryOf, multipletSummary, statisticsSettingsOf } from '../record/summary';
 import type { IAnalysisRecord, IMultipletSummary } from '../record/types';
 import { EVIDENCE_FIELDS } from '../results-format';
-import { argumentError, EXIT, ICliStreams, oneLine, reportFailure } from './core';
+import { EXIT, ICliStreams, oneLine, parseCommandLine, reportFailure } from './core';
 import { readDataFile, type IDataSource } from './readers';
 
 /** The exit codes of verify (core.ts's, under verify's names). */
@@ -143,20 +142,7 @@ namespace Private {
 
   /** Parse the arguments strictly; usage errors name the option or value at fault. */
   export function parseCommand(args: string[]): ICommand | 'help' {
-    let parsed;
-    try {
-      parsed = parseArgs({
-        args,
-        strict: true,
-        allowPositionals: true,
-        options: {
-          data: { type: 'string', multiple: true },
-          help: { type: 'boolean', short: 'h' }
-        }
-      });
-    } catch (error) {
-      throw argumentError(error, 'verify');
-    }
+    const parsed = parseCommandLine(args, { data: { type: 'string', multiple: true }, help: { type: 'boolean', short: 'h' } }, 'verify');
     if (parsed.values.help) {
       return 'help';
     }
