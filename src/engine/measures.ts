@@ -270,19 +270,7 @@ export function coinformationOf(source: IEntropySource, columns: ArrayLike<numbe
   if (set.length > 24) {
     throw new PolyadicError('limit', `Co-information of ${set.length} columns sums 2^${set.length} entropies; at most 24.`);
   }
-  let sum = 0;
-  const subset: number[] = [];
-  for (let pick = 1; pick < 1 << set.length; pick++) {
-    subset.length = 0;
-    for (let i = 0; i < set.length; i++) {
-      if (pick & (1 << i)) {
-        subset.push(set[i]);
-      }
-    }
-    const h = jointEntropy(source, subset);
-    sum += subset.length % 2 === 1 ? h : -h;
-  }
-  return sum;
+  return Private.alternatingSum(set, subset => jointEntropy(source, subset));
 }
 
 /**
@@ -297,19 +285,7 @@ export function conditionalCoinformation(
   const set = Private.normalise(source, columns);
   const Z = Private.asArray(given);
   const hz = jointEntropy(source, Z);
-  let sum = 0;
-  const subset: number[] = [];
-  for (let pick = 1; pick < 1 << set.length; pick++) {
-    subset.length = 0;
-    for (let i = 0; i < set.length; i++) {
-      if (pick & (1 << i)) {
-        subset.push(set[i]);
-      }
-    }
-    const h = jointEntropy(source, [...subset, ...Z]) - hz;
-    sum += subset.length % 2 === 1 ? h : -h;
-  }
-  return sum;
+  return Private.alternatingSum(set, subset => jointEntropy(source, [...subset, ...Z]) - hz);
 }
 
 /** A conditioning chain: an ordering of columns and I(X1), I(X1;X2), I(X1;X2;X3), … in nats. */
@@ -418,6 +394,26 @@ export function extremalChains(
 }
 
 namespace Private {
+  /**
+   * Σ over the non-empty subsets T of `set` of (−1)^{|T|+1} f(T), subsets in the order of their
+   * bit masks (the summation order, and so the bits, of every co-information).
+   */
+  export function alternatingSum(set: readonly number[], f: (subset: number[]) => number): number {
+    let sum = 0;
+    const subset: number[] = [];
+    for (let pick = 1; pick < 1 << set.length; pick++) {
+      subset.length = 0;
+      for (let i = 0; i < set.length; i++) {
+        if (pick & (1 << i)) {
+          subset.push(set[i]);
+        }
+      }
+      const h = f(subset);
+      sum += subset.length % 2 === 1 ? h : -h;
+    }
+    return sum;
+  }
+
   /** Entropies computed from codes, per source. */
   export const MEMO = new WeakMap<IEntropySource, Map<string, number>>();
 

@@ -5,6 +5,7 @@
  */
 
 import type { IOrderHistogram } from '../engine/histogram';
+import type { IRobustnessVerdict } from '../engine/robustness';
 import type { StatisticsTail } from '../engine/statistics/options';
 import type { BinMethod, EstimatorName, IMultipletRow, IStatisticsReport, MissingPolicy, Units } from '../engine/types';
 import type { CoreMultipletField } from '../results-format';
@@ -101,15 +102,9 @@ export interface IEvidenceSummary {
 }
 
 /** One multiplet of the summary, in the units of the analysis. */
-export interface IMultipletSummary extends MultipletEvidence {
-  columns: string[];
-  order: number;
-  entropy: number;
-  co_information: number;
-  total_correlation: number;
-  dual_total_correlation: number;
-  o_information: number;
-}
+export interface IMultipletSummary
+  extends MultipletEvidence,
+    Pick<IMultipletRow, 'columns' | 'order' | 'entropy' | 'co_information' | 'total_correlation' | 'dual_total_correlation' | 'o_information'> {}
 
 /** Order histogram of co-information for one order (the engine's, engine/histogram.ts). */
 export type { IOrderHistogram };
@@ -148,17 +143,8 @@ export interface IAnalysisRecord {
 }
 
 /** One followed multiplet of a robustness run, as recorded (non-finite numbers as null). */
-export interface IRobustnessVerdictRecord {
-  columns: string[];
-  table: 'synergy' | 'redundancy';
+export interface IRobustnessVerdictRecord extends Omit<IRobustnessVerdict, 'values' | 'order'> {
   values: (number | null)[];
-  ranks: number[];
-  same_sign: number;
-  in_base_top: boolean;
-  in_top: boolean[];
-  holds: number;
-  robust: boolean;
-  verdict: string;
 }
 
 /** Rank agreement between two variants, as recorded (an undefined τ as null). */
