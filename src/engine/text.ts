@@ -44,6 +44,30 @@ export function formatValue(value: number): string {
   return (value < 0 ? '\u2212' : '') + text;
 }
 
+/**
+ * A value with a fixed number of decimals (JavaScript's toFixed), −0 written as 0, and `minus`
+ * before negatives (a true minus sign by default). The Markdown fallback's tables use 4 decimals,
+ * so their columns align in plain text (polyadic/show.py writes the same).
+ */
+export function formatFixed(value: number, decimals: number, minus = '\u2212'): string {
+  if (!Number.isFinite(value)) {
+    return String(value);
+  }
+  const text = (value === 0 ? 0 : value).toFixed(decimals);
+  return text.startsWith('-') ? `${minus}${text.slice(1)}` : text;
+}
+
+/** Adequacy (rows per possible joint cell): two significant digits below 10, whole numbers above. */
+export function formatAdequacy(value: number): string {
+  if (!Number.isFinite(value)) {
+    return String(value);
+  }
+  if (value >= 10) {
+    return formatCount(Math.round(value));
+  }
+  return value.toPrecision(2);
+}
+
 /** A data value (a bin edge, a column's range): whole numbers as they are, others in 4 significant digits. */
 export function formatDataValue(value: number): string {
   return Number.isInteger(value) ? String(value) : Number(value.toPrecision(4)).toString();

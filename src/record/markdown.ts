@@ -9,7 +9,7 @@
  * ({@link markdownBody}) is written the same, character for character, by polyadic/show.py.
  */
 
-import { formatCount, plural, wordFor } from '../engine/text';
+import { formatCount, formatFixed, plural, wordFor } from '../engine/text';
 import { formatValue as formatSignificant } from '../engine/text';
 import type { IAnalysisRecord, IMultipletSummary, IResultSummary } from './types';
 
@@ -33,8 +33,7 @@ export function escapeMarkdown(text: string): string {
 
 /** A value with {@link MARKDOWN_DECIMALS} decimals and a true minus sign for negatives. */
 export function formatValue(value: number): string {
-  const text = value.toFixed(MARKDOWN_DECIMALS);
-  return text.startsWith('-') ? `−${text.slice(1)}` : text;
+  return formatFixed(value, MARKDOWN_DECIMALS);
 }
 
 /** The mark after the names of a multiplet whose adequacy is below 1. */

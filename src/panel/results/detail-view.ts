@@ -12,7 +12,7 @@ import { Panel, Widget } from '@lumino/widgets';
 import { ChartView, plotlyText } from '../charts/chart';
 import type { IChartColors, IFigure } from '../charts/chart';
 import { textElement, uniqueId } from '../dom';
-import { plural } from '../../engine/text';
+import { formatFixed, plural } from '../../engine/text';
 import type { DetailModel, IDetailMeasure, IDetailTable, IMultipletDetail, ISubMultiplets, ITripletTables } from './detail-model';
 import { exportFileName, provenanceLine } from './export';
 import { formatAdequacy, formatCount, formatValue } from './format';
@@ -216,7 +216,7 @@ export class DetailView extends Panel {
           ? `${level.level!.column} = ${level.level!.label}: no rows.`
           : `${level.level!.column} = ${level.level!.label} (${plural(level.total, 'row')}): mutual information ${formatValue(level.mutualInformation)} ${units}; ` +
             `most over-represented ${level.rowColumn} ${cell.rowLabel} with ${level.columnColumn} ${cell.columnLabel}, ` +
-            `${plural(cell.count, 'row')}, ${cell.ratio.toFixed(2)}\u00d7 independence.`;
+            `${plural(cell.count, 'row')}, ${formatFixed(cell.ratio, 2)}\u00d7 independence.`;
       return textElement('li', 'pd-Detail-level', text);
     });
     const list = textElement('ul', 'pd-Detail-levels');

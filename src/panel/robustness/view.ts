@@ -10,7 +10,7 @@ import type * as PlotlyModule from 'plotly.js-dist-min';
 import { ChartView, plotlyText } from '../charts/chart';
 import type { IChartColors, IFigure } from '../charts/types';
 import { textElement, uniqueId } from '../dom';
-import { formatValue } from '../results/format';
+import { formatFixed, formatValue } from '../../engine/text';
 import type { IRobustnessLine, RobustnessModel } from './model';
 
 /** The section widget. */
@@ -182,7 +182,7 @@ export class RobustnessSection extends Panel {
         row.multiplet,
         row.table,
         formatValue(row.baseValue),
-        ...row.ranks.map(rank => (Number.isInteger(rank) ? String(rank) : rank.toFixed(1))),
+        ...row.ranks.map(rank => (Number.isInteger(rank) ? String(rank) : formatFixed(rank, 1))),
         `${Math.round(row.sameSign * 100)} %`,
         row.verdict
       ];
@@ -212,7 +212,8 @@ export class RobustnessSection extends Panel {
     const title = textElement('p', 'pd-Robustness-agreementTitle', "Rank agreement: Kendall's tau-b over every multiplet; shared members of the 10 most negative and the 10 most positive");
     const list = textElement('ul', 'pd-Robustness-pairs');
     for (const pair of pairs) {
-      const tau = Number.isFinite(pair.kendall_tau) ? pair.kendall_tau.toFixed(3) : 'undefined';
+      // a plain hyphen, as the CLI's note and CSV write it
+      const tau = Number.isFinite(pair.kendall_tau) ? formatFixed(pair.kendall_tau, 3, '-') : 'undefined';
       list.append(
         textElement(
           'li',

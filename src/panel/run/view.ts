@@ -4,7 +4,7 @@
  */
 import { Widget } from '@lumino/widgets';
 
-import { plural } from '../../engine/text';
+import { formatFixed, plural } from '../../engine/text';
 import type { AnalysisModel } from '../analysis/model';
 import { textElement } from '../dom';
 
@@ -124,7 +124,7 @@ namespace Private {
   export function duration(ms: number): string {
     const seconds = ms / 1000;
     if (seconds < 10) {
-      return `${seconds.toFixed(1)} s`;
+      return `${formatFixed(seconds, 1)} s`;
     }
     if (seconds < 60) {
       return `${Math.round(seconds)} s`;
