@@ -5,30 +5,13 @@
 
 import Papa from 'papaparse';
 
-import type { IMultipletRow } from './engine/types';
+import { type IMultipletRow, MULTIPLET_MEASURES, type MultipletMeasure } from './engine/types';
 
 /** The fields every multiplet row carries. */
-export type CoreMultipletField =
-  | 'columns'
-  | 'order'
-  | 'entropy'
-  | 'co_information'
-  | 'total_correlation'
-  | 'dual_total_correlation'
-  | 'o_information'
-  | 's_information';
+export type CoreMultipletField = 'columns' | 'order' | MultipletMeasure;
 
 /** The CSV columns every table has: the core fields of IMultipletRow, in their declared order. */
-export const MULTIPLET_FIELDS: readonly CoreMultipletField[] = [
-  'columns',
-  'order',
-  'entropy',
-  'co_information',
-  'total_correlation',
-  'dual_total_correlation',
-  'o_information',
-  's_information'
-];
+export const MULTIPLET_FIELDS: readonly CoreMultipletField[] = ['columns', 'order', ...MULTIPLET_MEASURES];
 
 /**
  * Fields a row may carry after the core ones (adequacy and the statistics), in the order the

@@ -106,6 +106,19 @@ export interface IColumnBinning {
   };
 }
 
+/** The six measures of a multiplet, in the order rows, CSV columns and bootstrap replicates list them. */
+export const MULTIPLET_MEASURES = [
+  'entropy',
+  'co_information',
+  'total_correlation',
+  'dual_total_correlation',
+  'o_information',
+  's_information'
+] as const;
+
+/** One of {@link MULTIPLET_MEASURES}. */
+export type MultipletMeasure = (typeof MULTIPLET_MEASURES)[number];
+
 /** The multiplet measures of one multiplet, as reported. */
 export interface IMultipletRow {
   columns: string[];

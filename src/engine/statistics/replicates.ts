@@ -23,6 +23,7 @@ import type { ILatticeInput } from '../lattice';
 import { coinformationAll, computeMeasures, multipletMeasures } from '../measures';
 import { membersOfIndex } from '../multiplets';
 import { walkLattice } from '../walk';
+import { MULTIPLET_MEASURES } from '../types';
 import type { IResolvedStatistics } from './options';
 
 /** Which replicates a block holds. */
@@ -44,14 +45,7 @@ export const MAX_BLOCKS = 32;
 export const NULL_BAND_VALUES = 2 ** 21;
 
 /** The six measures a bootstrap resample records per multiplet, in this order. */
-export const BOOTSTRAP_MEASURES = [
-  'entropy',
-  'co_information',
-  'total_correlation',
-  'dual_total_correlation',
-  'o_information',
-  's_information'
-] as const;
+export const BOOTSTRAP_MEASURES = MULTIPLET_MEASURES;
 
 /** What a run's replicates compare against and record. */
 export interface IReplicateTargets {
