@@ -54,7 +54,7 @@ endef
 help:
 	@echo "make demo         set up everything, then open JupyterLab on demo/greenhouse.ipynb"
 	@echo "make test         set up everything, build, run jest + pytest + browser tests"
-	@echo "make install      virtual environment, Python and npm packages, Chromium check"
+	@echo "make install      virtual environment, Python and npm packages, Chromium and Java checks"
 	@echo "make build        TypeScript, CLI bundle and the JupyterLab extension (development mode)"
 	@echo "make test-js      jest only          make test-py   pytest only"
 	@echo "make test-ui      browser tests only (screenshots in $(ARTIFACTS)/ui/)"
@@ -115,8 +115,24 @@ chromium:
 	fi
 	@"$(CHROMIUM)" --version 2>/dev/null | head -n 1
 
+# A Java runtime for the Spark tests in local mode (PySpark starts a JVM): Debian's
+# openjdk-17-jre-headless, installed with apt-get when no `java` is on the PATH.
+.PHONY: java
+java:
+	@if ! command -v java >/dev/null 2>&1; then \
+	  if [ "$$(id -u)" = 0 ]; then SUDO=; \
+	  elif command -v sudo >/dev/null 2>&1 && sudo -n true 2>/dev/null; then SUDO=sudo; \
+	  else echo "error: no Java runtime for the Spark tests: install it with 'sudo apt-get install openjdk-17-jre-headless'" >&2; exit 1; fi; \
+	  command -v apt-get >/dev/null 2>&1 || { \
+	    echo "error: no Java runtime for the Spark tests, and apt-get is not available to install openjdk-17-jre-headless" >&2; exit 1; }; \
+	  echo "--- apt-get install openjdk-17-jre-headless"; \
+	  $$SUDO apt-get update -qq && $$SUDO apt-get install -y -qq --no-install-recommends openjdk-17-jre-headless >/dev/null || { \
+	    echo "error: apt-get could not install openjdk-17-jre-headless (see the messages above)" >&2; exit 1; }; \
+	fi
+	@java -version 2>&1 | head -n 1
+
 .PHONY: install install-demo
-install: $(PY_TEST_STAMP) $(NPM_STAMP) chromium
+install: $(PY_TEST_STAMP) $(NPM_STAMP) chromium java
 install-demo: $(PY_DEMO_STAMP) $(NPM_STAMP)
 
 # ---------------------------------------------------------------------------------------------
