@@ -114,11 +114,7 @@ export function applyMissingPolicy(columns: IBinnedColumn[], policy: MissingPoli
         }
         return out;
       });
-      warnings.push(
-        `${formatCount(rows - rowsUsed)} of ${plural(rows, 'row')} ${wordFor(rows - rowsUsed, 'has', 'have')} a ` +
-          `missing value in a selected column and ${wordFor(rows - rowsUsed, 'was', 'were')} left out ` +
-          `(missing-value policy 'drop'); ${plural(rowsUsed, 'row')} ${wordFor(rowsUsed, 'remains', 'remain')}.`
-      );
+      warnings.push(droppedRowsWarning(rows, rowsUsed));
       return { names, codes, bins, binnings, rows, rowsUsed, rowIndex, warnings };
     }
     default:
@@ -128,4 +124,13 @@ export function applyMissingPolicy(columns: IBinnedColumn[], policy: MissingPoli
         { option: 'missing', value: String(policy) }
       );
   }
+}
+
+/** What the policy `drop` says when it left rows out. */
+export function droppedRowsWarning(rows: number, rowsUsed: number): string {
+  return (
+    `${formatCount(rows - rowsUsed)} of ${plural(rows, 'row')} ${wordFor(rows - rowsUsed, 'has', 'have')} a ` +
+    `missing value in a selected column and ${wordFor(rows - rowsUsed, 'was', 'were')} left out ` +
+    `(missing-value policy 'drop'); ${plural(rowsUsed, 'row')} ${wordFor(rowsUsed, 'remains', 'remain')}.`
+  );
 }

@@ -1,0 +1,146 @@
+/**
+ * The DuckDB path against the in-memory engine on the same Parquet file, with real DuckDB (the
+ * Node binding package.json pins): DuckDB writes the file from seeded data, then
+ * `analyze --via duckdb` must give the same binning (edges, categories, bin counts), the same
+ * row counts and warnings, and the same multiplets as reading the file into memory.
+ */
+import { promises as fs } from 'fs';
+import * as os from 'os';
+import * as path from 'path';
+
+import { DuckDBInstance } from '@duckdb/node-api';
+import { unsafeUniformIntDistribution, xoroshiro128plus } from 'pure-rand';
+
+import { analyzeViaDuckDB } from '../../src/cli/duckdb';
+import { readDataFile } from '../../src/cli/readers';
+import { analyze } from '../../src/engine/analyze';
+import type { IAnalysisResult, IAnalyzeOptions } from '../../src/engine/types';
+
+let dir = '';
+let file = '';
+
+/** Seeded columns: a float with NaN and nulls, small integers, a skewed float, text with nulls, booleans, int32. */
+async function writeFixture(target: string, rows: number): Promise<void> {
+  const rng = xoroshiro128plus(14);
+  const draw = (n: number): number => unsafeUniformIntDistribution(0, n - 1, rng);
+  const lines = ['a,b,c,d,e,f'];
+  for (let i = 0; i < rows; i++) {
+    const u = (draw(1_000_000) + 0.5) / 1_000_000;
+    const a = draw(40) === 0 ? '' : draw(60) === 0 ? 'NaN' : String(Math.tan(Math.PI * (u - 0.5)) / 7 + draw(3));
+    const b = String(draw(5));
+    const c = String(-Math.log((draw(999_999) + 1) / 1_000_000) * 3.7);
+    const d = draw(30) === 0 ? '' : ['ä', 'z', 'B', 'x'][draw(4)];
+    const e = draw(5) < 2 ? 'true' : 'false';
+    const f = String(draw(2000) - 1000);
+    lines.push([a, b, c, d, e, f].join(','));
+  }
+  const csv = path.join(dir, 'fixture.csv');
+  await fs.writeFile(csv, lines.join('\n') + '\n');
+  const instance = await DuckDBInstance.create(':memory:');
+  const connection = await instance.connect();
+  await connection.run(
+    `COPY (SELECT * FROM read_csv('${csv}', header = true, nullstr = '', columns = {'a': 'DOUBLE', 'b': 'BIGINT', ` +
+      `'c': 'DOUBLE', 'd': 'VARCHAR', 'e': 'BOOLEAN', 'f': 'INTEGER'})) TO '${target}' (FORMAT parquet)`
+  );
+  connection.closeSync();
+  instance.closeSync();
+}
+
+beforeAll(async () => {
+  dir = await fs.mkdtemp(path.join(os.tmpdir(), 'polyadic-duckdb-'));
+  file = path.join(dir, 'fixture.parquet');
+  await writeFixture(file, 2500);
+});
+
+afterAll(async () => {
+  await fs.rm(dir, { recursive: true, force: true });
+});
+
+async function both(options: IAnalyzeOptions): Promise<[IAnalysisResult, IAnalysisResult]> {
+  const source = await readDataFile(file, { columns: options.columns });
+  const inMemory = analyze(source.columns, options);
+  const names = options.columns ?? source.names;
+  const viaDuckDB = (await analyzeViaDuckDB(file, { ...options, columns: names })).result;
+  return [inMemory, viaDuckDB];
+}
+
+/**
+ * Same result: binnings, counts, warnings and multiplets exactly; the information values within
+ * 1e-12 (relative): the walk sums n·ln n over blocks in the order it meets them, which differs
+ * between the file's rows and the distinct rows in the last bits (see the closing report).
+ */
+function expectSame(inMemory: IAnalysisResult, viaDuckDB: IAnalysisResult): void {
+  expect(viaDuckDB.columns).toEqual(inMemory.columns);
+  expect(viaDuckDB.rows).toBe(inMemory.rows);
+  expect(viaDuckDB.rows_used).toBe(inMemory.rows_used);
+  expect(viaDuckDB.warnings).toEqual(inMemory.warnings);
+  expect(viaDuckDB.multiplet_count).toBe(inMemory.multiplet_count);
+  expect(viaDuckDB.multiplets.map(m => m.columns)).toEqual(inMemory.multiplets.map(m => m.columns));
+  inMemory.multiplets.forEach((row, i) => {
+    const other = viaDuckDB.multiplets[i];
+    for (const key of ['entropy', 'co_information', 'total_correlation', 'dual_total_correlation', 'o_information'] as const) {
+      expect(Math.abs(other[key] - row[key])).toBeLessThanOrEqual(1e-12 * Math.max(1, Math.abs(row[key])));
+    }
+    expect(other.adequacy).toBe(row.adequacy);
+  });
+}
+
+describe('analyzeViaDuckDB', () => {
+  const specs = ['auto', 'width:7', 'quantile:5', 'fd', 'scott', 'sturges', 'rice', 'sqrt', 'doane', 'kmeans:3', 'categorical'];
+  for (const bins of specs) {
+    it(`should bin and count as the in-memory engine under ${bins}`, async () => {
+      const columns = bins === 'categorical' ? ['b', 'd', 'e', 'f'] : undefined;
+      expectSame(...(await both({ bins, columns })));
+    });
+  }
+
+  it('should give the same edges under user edges and per-column specs', async () => {
+    expectSame(...(await both({ columns: ['b', 'c', 'f'], binsByColumn: { c: 'edges:0,1.5,3,100', f: 'quantile:3' } })));
+  });
+
+  for (const missing of ['drop', 'category'] as const) {
+    it(`should apply the missing-value policy ${missing} to weighted rows`, async () => {
+      const [inMemory, viaDuckDB] = await both({ missing, estimator: 'miller-madow' });
+      // the fixture has missing values, so drop leaves rows out and category keeps them all
+      expect(inMemory.rows_used < inMemory.rows).toBe(missing === 'drop');
+      expectSame(inMemory, viaDuckDB);
+    });
+  }
+
+  it('should name the same row under the policy error', async () => {
+    const source = await readDataFile(file);
+    expect(() => analyze(source.columns, { missing: 'error' })).toThrow(/row \d+/);
+    let message = '';
+    try {
+      analyze(source.columns, { missing: 'error' });
+    } catch (error) {
+      message = (error as Error).message;
+    }
+    await expect(analyzeViaDuckDB(file, { missing: 'error', columns: source.names })).rejects.toThrow(message);
+  });
+
+  it('should give the same order-limited run under every count estimator', async () => {
+    for (const estimator of ['plugin', 'chao-shen', 'shrinkage'] as const) {
+      expectSame(...(await both({ maxOrder: 2, estimator, bins: 'quantile:4' })));
+    }
+  });
+
+  it('should refuse a value outside user edges as the in-memory engine does', async () => {
+    const options: IAnalyzeOptions = { columns: ['c'], bins: 'edges:0,1,2' };
+    const source = await readDataFile(file, { columns: ['c'] });
+    expect(() => analyze(source.columns, options)).toThrow(/outside the edges/);
+    let message = '';
+    try {
+      analyze(source.columns, options);
+    } catch (error) {
+      message = (error as Error).message;
+    }
+    await expect(analyzeViaDuckDB(file, options)).rejects.toThrow(message);
+  });
+
+  it('should refuse what needs the rows, and files that are not Parquet', async () => {
+    await expect(analyzeViaDuckDB(file, { statistics: { surrogates: 10 } })).rejects.toThrow(/--surrogates is not available/);
+    await expect(analyzeViaDuckDB(file, { estimator: 'gaussian-copula' })).rejects.toThrow(/Gaussian-copula/);
+    await expect(analyzeViaDuckDB(path.join(dir, 'fixture.csv'), {})).rejects.toThrow(/reads Parquet files/);
+  });
+});
