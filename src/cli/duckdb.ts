@@ -28,7 +28,7 @@ import { AUTO_MAX_LEVELS } from '../engine/binning/spec';
 import { compareCodePoints, refuseAllMissing } from '../engine/binning/shared';
 import type { IBinnedColumn } from '../engine/binning/types';
 import { StreamingNumpySum } from '../engine/aggregate/stream-sum';
-import { applyWeightedMissingPolicy, expandWeighted, IWeightedCodes } from '../engine/aggregate/weighted';
+import { applyWeightedMissingPolicy, IWeightedCodes } from '../engine/aggregate/weighted';
 import { analyzeCodes } from '../engine/analyze';
 import { errorMessage, PolyadicError } from '../engine/errors';
 import { cubeRounded } from '../engine/floatmath';
@@ -164,8 +164,7 @@ export async function analyzeViaDuckDB(
   }
   const aggregate = await aggregateWithDuckDB(filePath, options);
   const prepared = aggregate.prepared;
-  // Until the walk takes weights, each distinct row is repeated as often as its count.
-  const result = analyzeCodes(expandWeighted(prepared), options);
+  const result = analyzeCodes(prepared, options);
   const note =
     `DuckDB ${aggregate.engineVersion} binned ${formatCount(prepared.rows)} rows into ` +
     `${formatCount(prepared.weights.length)} distinct binned rows.`;

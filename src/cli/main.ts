@@ -80,8 +80,9 @@ Options:
                         for any number
   --via duckdb          read a .parquet file with DuckDB (npm package @duckdb/node-api),
                         which bins every column with the same edges and counts the
-                        distinct binned rows, so the rows never enter this process;
-                        the JSON is the same as without --via. Numbers, booleans and
+                        distinct binned rows, which the walk takes with their counts:
+                        the rows never enter this process, and the JSON is the same
+                        as without --via, bit for bit. Numbers, booleans and
                         text only; at most ${formatCount(MAX_DISTINCT_ROWS)} distinct binned rows and
                         ${formatCount(MAX_SQL_BINS)} bins per column; no --surrogates, --bootstrap,
                         --beyond-pairs or gaussian-copula (they need the rows)

@@ -64,25 +64,11 @@ async function both(options: IAnalyzeOptions): Promise<[IAnalysisResult, IAnalys
   return [inMemory, viaDuckDB];
 }
 
-/**
- * Same result: binnings, counts, warnings and multiplets exactly; the information values within
- * 1e-12 (relative): the walk sums n·ln n over blocks in the order it meets them, which differs
- * between the file's rows and the distinct rows in the last bits (see the closing report).
- */
+/** The same JSON, bit for bit: binnings, counts, warnings and every information value. */
 function expectSame(inMemory: IAnalysisResult, viaDuckDB: IAnalysisResult): void {
   expect(viaDuckDB.columns).toEqual(inMemory.columns);
-  expect(viaDuckDB.rows).toBe(inMemory.rows);
-  expect(viaDuckDB.rows_used).toBe(inMemory.rows_used);
-  expect(viaDuckDB.warnings).toEqual(inMemory.warnings);
-  expect(viaDuckDB.multiplet_count).toBe(inMemory.multiplet_count);
-  expect(viaDuckDB.multiplets.map(m => m.columns)).toEqual(inMemory.multiplets.map(m => m.columns));
-  inMemory.multiplets.forEach((row, i) => {
-    const other = viaDuckDB.multiplets[i];
-    for (const key of ['entropy', 'co_information', 'total_correlation', 'dual_total_correlation', 'o_information'] as const) {
-      expect(Math.abs(other[key] - row[key])).toBeLessThanOrEqual(1e-12 * Math.max(1, Math.abs(row[key])));
-    }
-    expect(other.adequacy).toBe(row.adequacy);
-  });
+  expect(viaDuckDB.multiplets.length).toBeGreaterThan(0);
+  expect(JSON.stringify(viaDuckDB)).toBe(JSON.stringify(inMemory));
 }
 
 describe('analyzeViaDuckDB', () => {

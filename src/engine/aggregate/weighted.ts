@@ -7,12 +7,10 @@
 
 import { applyMissingPolicy, IBinnedColumn, IPreparedCodes } from '../binning';
 import { droppedRowsWarning } from '../binning/missing';
-import { PolyadicError } from '../errors';
 import type { MissingPolicy } from '../types';
 
-/** Prepared codes over distinct rows, with the number of input rows behind each. */
+/** Prepared codes over distinct rows, with the number of input rows behind each (see IPreparedCodes.weights). */
 export interface IWeightedCodes extends IPreparedCodes {
-  /** Input rows per distinct row (all ≥ 1); `rowsUsed` is their sum. */
   weights: Int32Array;
 }
 
@@ -49,28 +47,4 @@ export function applyWeightedMissingPolicy(
     weights: kept,
     warnings: [droppedRowsWarning(rows, rowsUsed)]
   };
-}
-
-/**
- * Plain prepared codes, one row per input row, from weighted distinct rows: each distinct row
- * repeated as often as its weight, in distinct-row order. The entropies do not depend on the row
- * order. For walks that take no weights; the memory is that of the codes of every kept row.
- */
-export function expandWeighted(weighted: IWeightedCodes): IPreparedCodes {
-  const { weights } = weighted;
-  const total = weighted.rowsUsed;
-  if (!Number.isSafeInteger(total) || total > 2 ** 31 - 1) {
-    throw new PolyadicError('limit', `${total} rows are too many to expand for a walk without weights.`);
-  }
-  const codes = weighted.codes.map(source => {
-    const out = new Int32Array(total);
-    let at = 0;
-    for (let i = 0; i < source.length; i++) {
-      out.fill(source[i], at, at + weights[i]);
-      at += weights[i];
-    }
-    return out;
-  });
-  const { weights: _weights, ...plain } = weighted;
-  return { ...plain, codes };
 }
