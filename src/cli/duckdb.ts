@@ -10,6 +10,11 @@
  * `quantile_disc` gives order statistics, each checked by counting, and numpy's interpolation is
  * ours); a value's bin is numpy's rule evaluated in SQL on IEEE doubles, with the edges written as
  * the shortest decimal that reads back as the same double.
+ *
+ * Past the cap on distinct rows, an order-limited run counts each multiplet on its own instead:
+ * `GROUP BY … GROUPING SETS`, one set per multiplet and a batch of sets per query, gives every
+ * multiplet's occupied cells' counts, and the engine's CellCountLattice makes the same lattice
+ * as the walk from them. A full lattice needs the joint of every column, so it stops at the cap.
  */
 
 import * as path from 'path';
@@ -27,9 +32,13 @@ import {
 import { AUTO_MAX_LEVELS } from '../engine/binning/spec';
 import { compareCodePoints, refuseAllMissing } from '../engine/binning/shared';
 import type { IBinnedColumn } from '../engine/binning/types';
+import { CellCountLattice, IMultipletToCount } from '../engine/aggregate/cells';
 import { StreamingNumpySum } from '../engine/aggregate/stream-sum';
 import { applyWeightedMissingPolicy, IWeightedCodes } from '../engine/aggregate/weighted';
-import { analyzeCodes } from '../engine/analyze';
+import { analyzeCodes, IResolvedOptions, resolveOptions } from '../engine/analyze';
+import { applyMissingPolicy } from '../engine/binning';
+import { droppedRowsWarning, nothingLeftError } from '../engine/binning/missing';
+import type { ILattice } from '../engine/lattice';
 import { errorMessage, PolyadicError } from '../engine/errors';
 import { cubeRounded } from '../engine/floatmath';
 import { unknownColumn } from '../engine/table';
@@ -45,12 +54,34 @@ export const DUCKDB_PACKAGE = '@duckdb/node-api@1.5.6-r.1';
  */
 export const MAX_DISTINCT_ROWS = 5_000_000;
 
+/**
+ * Grouping sets (multiplets) per query when the fallback counts each multiplet on its own (our
+ * choice: each query is one scan of the file, and DuckDB keeps one hash table per set).
+ */
+export const GROUPING_SETS_PER_QUERY = 64;
+
+/** Limits of the DuckDB path (tests lower them to reach the fallback on a small file). */
+export interface IDuckDBLimits {
+  /** Default {@link MAX_DISTINCT_ROWS}. */
+  maxDistinctRows?: number;
+  /** Default {@link GROUPING_SETS_PER_QUERY}. */
+  setsPerQuery?: number;
+}
+
 /** Most edges of one column binned in SQL (a nested CASE of that many comparisons). */
 export const MAX_SQL_BINS = 4096;
 
-/** What the DuckDB path hands over: the weighted distinct rows and what the file held. */
+/**
+ * What the DuckDB path hands over: the weighted distinct rows and what the file held; past the
+ * cap, for an order-limited run, the lattice counted multiplet by multiplet instead (the
+ * prepared codes then have no rows, only the binnings, counts and warnings).
+ */
 export interface IDuckDBAggregate {
   prepared: IWeightedCodes;
+  /** The lattice from `GROUPING SETS` when the distinct rows passed the cap, else null. */
+  lattice: ILattice | null;
+  /** Queries the fallback ran (0 without it). */
+  queries: number;
   /** Every column name of the file, in file order. */
   names: string[];
   /** DuckDB's version, e.g. 'v1.5.6'. */
@@ -79,7 +110,12 @@ export async function loadDuckDB(): Promise<DuckDBModule> {
  * Bin and aggregate the selected columns of a Parquet file in DuckDB (see the file comment).
  * Options as for `analyze`; errors name the column, row, spec or limit at fault.
  */
-export async function aggregateWithDuckDB(filePath: string, options: IAnalyzeOptions): Promise<IDuckDBAggregate> {
+export async function aggregateWithDuckDB(
+  filePath: string,
+  options: IAnalyzeOptions,
+  limits: IDuckDBLimits = {}
+): Promise<IDuckDBAggregate> {
+  const maxDistinctRows = limits.maxDistinctRows ?? MAX_DISTINCT_ROWS;
   Private.checkParquet(filePath);
   const duckdb = await loadDuckDB();
   const instance = await duckdb.DuckDBInstance.create(':memory:');
@@ -105,11 +141,26 @@ export async function aggregateWithDuckDB(filePath: string, options: IAnalyzeOpt
       const type = schema[names.indexOf(name)].type;
       columns.push(await Private.planColumn(connection, source, name, type, rows, options));
     }
-    const grouped = await Private.groupRows(connection, source, columns);
+    const engineVersion = duckdb.version();
+    const grouped = await Private.groupRows(connection, source, columns, maxDistinctRows);
+    if (grouped === null) {
+      const resolved = resolveOptions(options, columns.length);
+      if (resolved.maxOrder >= columns.length) {
+        throw new PolyadicError(
+          'limit',
+          `The selected columns have more than ${formatCount(maxDistinctRows)} distinct binned rows, above what the ` +
+            'DuckDB path hands to the walk, and a full lattice needs them all; select fewer columns, use fewer bins, ' +
+            'or limit the order with --max-order (each multiplet is then counted in DuckDB on its own).',
+          { option: '--via', value: 'duckdb' }
+        );
+      }
+      const counted = await Private.countEachMultiplet(connection, source, columns, rows, missing, resolved, limits);
+      return { ...counted, names, engineVersion };
+    }
     const binned = Private.binnedColumns(columns, grouped);
     const prepared = applyWeightedMissingPolicy(binned, grouped.weights, missing);
     prepared.warnings = [...binned.flatMap(column => column.warnings), ...prepared.warnings];
-    return { prepared, names, engineVersion: duckdb.version() };
+    return { prepared, lattice: null, queries: 0, names, engineVersion };
   } finally {
     connection.closeSync();
     instance.closeSync();
@@ -136,7 +187,8 @@ export async function duckdbColumnNames(filePath: string): Promise<string[]> {
  */
 export async function analyzeViaDuckDB(
   filePath: string,
-  options: IAnalyzeOptions
+  options: IAnalyzeOptions,
+  limits: IDuckDBLimits = {}
 ): Promise<{ result: IAnalysisResult; note: string }> {
   if (options.estimator === 'gaussian-copula') {
     throw new PolyadicError(
@@ -162,12 +214,18 @@ export async function analyzeViaDuckDB(
       );
     }
   }
-  const aggregate = await aggregateWithDuckDB(filePath, options);
+  const aggregate = await aggregateWithDuckDB(filePath, options, limits);
   const prepared = aggregate.prepared;
-  const result = analyzeCodes(prepared, options);
+  const result = analyzeCodes(prepared, options, aggregate.lattice ?? undefined);
   const note =
-    `DuckDB ${aggregate.engineVersion} binned ${formatCount(prepared.rows)} rows into ` +
-    `${formatCount(prepared.weights.length)} distinct binned rows.`;
+    aggregate.lattice === null
+      ? `DuckDB ${aggregate.engineVersion} binned ${formatCount(prepared.rows)} rows into ` +
+        `${formatCount(prepared.weights.length)} distinct binned rows.`
+      : `DuckDB ${aggregate.engineVersion} binned ${formatCount(prepared.rows)} rows; they have more than ` +
+        `${formatCount(limits.maxDistinctRows ?? MAX_DISTINCT_ROWS)} distinct binned rows, so each of the ` +
+        `${formatCount(aggregate.lattice.indexing.size - 1)} multiplets up to order ${aggregate.lattice.indexing.maxOrder} ` +
+        `was counted in DuckDB on its own (GROUP BY … GROUPING SETS, ${formatCount(aggregate.queries)} ` +
+        `${aggregate.queries === 1 ? 'query' : 'queries'}, each a scan of the file) instead of by the walk; the values are the same.`;
   return { result, note };
 }
 
@@ -523,8 +581,9 @@ namespace Private {
   export async function groupRows(
     connection: Connection,
     source: string,
-    columns: IColumnPlan[]
-  ): Promise<{ keys: unknown[][]; weights: Int32Array }> {
+    columns: IColumnPlan[],
+    maxDistinctRows: number
+  ): Promise<{ keys: unknown[][]; weights: Int32Array } | null> {
     const selects = columns.map((column, i) => `${column.expression} AS c${i}`).join(', ');
     const groups = columns.map((_column, i) => `c${i}`).join(', ');
     const result = await connection.stream(`SELECT ${selects}, count(*) AS n FROM ${source} GROUP BY ${groups}`);
@@ -544,13 +603,8 @@ namespace Private {
       for (const n of data[columns.length]) {
         weights.push(Number(n));
       }
-      if (weights.length > MAX_DISTINCT_ROWS) {
-        throw new PolyadicError(
-          'limit',
-          `The selected columns have more than ${formatCount(MAX_DISTINCT_ROWS)} distinct binned rows, above what the ` +
-            'DuckDB path hands to the walk; select fewer columns or use fewer bins.',
-          { option: '--via', value: 'duckdb' }
-        );
+      if (weights.length > maxDistinctRows) {
+        return null;
       }
     }
     return { keys, weights: Int32Array.from(weights) };
@@ -659,6 +713,111 @@ namespace Private {
       columns: columns.map(column => ({ ...column, codes: Int32Array.from(keep, i => column.codes[i]) })),
       weights: Int32Array.from(merged)
     };
+  }
+
+  /**
+   * The fallback past the cap (see the file comment): each column's binning and warnings from
+   * its own `GROUP BY`, the missing-value policy from the columns' counts (`drop` counts the
+   * complete rows in SQL), then every multiplet's cell counts by `GROUPING SETS`, a batch of
+   * sets per query.
+   */
+  export async function countEachMultiplet(
+    connection: Connection,
+    source: string,
+    columns: IColumnPlan[],
+    rows: number,
+    missing: MissingPolicy,
+    resolved: IResolvedOptions,
+    limits: IDuckDBLimits
+  ): Promise<{ prepared: IWeightedCodes; lattice: ILattice; queries: number }> {
+    const binned: IBinnedColumn[] = [];
+    for (const column of columns) {
+      const marginal = await groupRows(connection, source, [column], Number.MAX_SAFE_INTEGER);
+      binned.push(binnedColumns([column], marginal as { keys: unknown[][]; weights: Int32Array })[0]);
+    }
+    // The policy on columns without rows: it reads only their counts (and `drop` is done in SQL).
+    const shape = applyMissingPolicy(
+      binned.map(column => ({ ...column, codes: new Int32Array(0), missingCount: missing === 'drop' ? 0 : column.missingCount })),
+      missing
+    );
+    const complete = columns.map((_column, i) => `c${i} IS NOT NULL`).join(' AND ');
+    const selects = columns.map((column, i) => `${column.expression} AS c${i}`).join(', ');
+    const binnedRows = `(SELECT ${selects} FROM ${source})` + (missing === 'drop' ? ` WHERE ${complete}` : '');
+    const warnings = binned.flatMap(column => column.warnings);
+    let rowsUsed = rows;
+    if (missing === 'drop' && columns.some(column => column.missingCount > 0)) {
+      rowsUsed = Number((await one(connection, `SELECT count(*) FROM ${binnedRows}`))[0]);
+      if (rowsUsed === 0) {
+        throw nothingLeftError(rows, columns);
+      }
+      warnings.push(droppedRowsWarning(rows, rowsUsed));
+    }
+    const lattice = new CellCountLattice(shape.bins, rowsUsed, resolved.maxOrder, resolved.estimator);
+    const multiplets = lattice.multiplets();
+    const perQuery = limits.setsPerQuery ?? GROUPING_SETS_PER_QUERY;
+    let queries = 0;
+    for (let start = 0; start < multiplets.length; start += perQuery) {
+      await countBatch(connection, binnedRows, multiplets.slice(start, start + perQuery), lattice);
+      queries++;
+    }
+    const prepared: IWeightedCodes = {
+      names: shape.names,
+      codes: columns.map(() => new Int32Array(0)),
+      bins: shape.bins,
+      binnings: shape.binnings,
+      rows,
+      rowsUsed,
+      rowIndex: null,
+      warnings,
+      weights: new Int32Array(0)
+    };
+    return { prepared, lattice: lattice.result(), queries };
+  }
+
+  /**
+   * One query of the fallback: the occupied cells' counts of each multiplet in `batch`, told
+   * apart by GROUPING() over the batch's columns (a bit set, highest first, for each column a
+   * set leaves out).
+   */
+  async function countBatch(
+    connection: Connection,
+    binnedRows: string,
+    batch: IMultipletToCount[],
+    lattice: CellCountLattice
+  ): Promise<void> {
+    const used = [...new Set(batch.flatMap(multiplet => multiplet.members))].sort((a, b) => a - b);
+    const maskOf = (members: number[]): string => {
+      let mask = 0n;
+      used.forEach((column, p) => {
+        if (!members.includes(column)) {
+          mask |= 1n << BigInt(used.length - 1 - p);
+        }
+      });
+      return String(mask);
+    };
+    const sets = batch.map(multiplet => `(${multiplet.members.map(c => `c${c}`).join(', ')})`).join(', ');
+    const result = await connection.stream(
+      `SELECT GROUPING(${used.map(c => `c${c}`).join(', ')}) AS g, count(*) AS n FROM ${binnedRows} ` +
+        `GROUP BY GROUPING SETS (${sets})`
+    );
+    const counts = new Map<string, number[]>(batch.map(multiplet => [maskOf(multiplet.members), []]));
+    for (;;) {
+      const chunk = await result.fetchChunk();
+      if (!chunk || chunk.rowCount === 0) {
+        break;
+      }
+      const [g, n] = chunk.getColumns();
+      for (let i = 0; i < g.length; i++) {
+        const cells = counts.get(String(g[i]));
+        if (cells === undefined) {
+          throw new PolyadicError('internal', `DuckDB gave the grouping ${String(g[i])}, which no multiplet of the batch has.`);
+        }
+        cells.push(Number(n[i]));
+      }
+    }
+    for (const multiplet of batch) {
+      lattice.record(multiplet, counts.get(maskOf(multiplet.members)) as number[]);
+    }
   }
 
   /** The first row of a query (an empty array when `optional` and there is none). */

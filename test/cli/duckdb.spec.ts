@@ -11,10 +11,13 @@ import * as path from 'path';
 import { DuckDBInstance } from '@duckdb/node-api';
 import { unsafeUniformIntDistribution, xoroshiro128plus } from 'pure-rand';
 
-import { analyzeViaDuckDB } from '../../src/cli/duckdb';
+import { analyzeViaDuckDB, IDuckDBLimits } from '../../src/cli/duckdb';
 import { readDataFile } from '../../src/cli/readers';
 import { analyze } from '../../src/engine/analyze';
 import type { IAnalysisResult, IAnalyzeOptions } from '../../src/engine/types';
+
+// Real DuckDB on a shared, loaded machine: a query can take seconds.
+jest.setTimeout(120_000);
 
 let dir = '';
 let file = '';
@@ -56,11 +59,11 @@ afterAll(async () => {
   await fs.rm(dir, { recursive: true, force: true });
 });
 
-async function both(options: IAnalyzeOptions): Promise<[IAnalysisResult, IAnalysisResult]> {
+async function both(options: IAnalyzeOptions, limits: IDuckDBLimits = {}): Promise<[IAnalysisResult, IAnalysisResult]> {
   const source = await readDataFile(file, { columns: options.columns });
   const inMemory = analyze(source.columns, options);
   const names = options.columns ?? source.names;
-  const viaDuckDB = (await analyzeViaDuckDB(file, { ...options, columns: names })).result;
+  const viaDuckDB = (await analyzeViaDuckDB(file, { ...options, columns: names }, limits)).result;
   return [inMemory, viaDuckDB];
 }
 
@@ -128,5 +131,54 @@ describe('analyzeViaDuckDB', () => {
     await expect(analyzeViaDuckDB(file, { statistics: { surrogates: 10 } })).rejects.toThrow(/--surrogates is not available/);
     await expect(analyzeViaDuckDB(file, { estimator: 'gaussian-copula' })).rejects.toThrow(/Gaussian-copula/);
     await expect(analyzeViaDuckDB(path.join(dir, 'fixture.csv'), {})).rejects.toThrow(/reads Parquet files/);
+  });
+
+  describe('past the cap on distinct rows', () => {
+    // the fixture's 2,500 rows have far more than 50 distinct binned rows under every spec here
+    const limits: IDuckDBLimits = { maxDistinctRows: 50, setsPerQuery: 4 };
+
+    it('should count each multiplet by GROUPING SETS and say so, with the same JSON', async () => {
+      const options: IAnalyzeOptions = { maxOrder: 3, bins: 'quantile:4', columns: ['a', 'b', 'c', 'd', 'e', 'f'] };
+      const run = await analyzeViaDuckDB(file, options, limits);
+      expect(run.note).toMatch(/more than 50 distinct binned rows, so each of the 41 multiplets up to order 3 was counted/);
+      // 6 + 15 + 20 multiplets, 4 sets a query
+      expect(run.note).toMatch(/GROUPING SETS, 11 queries/);
+      const source = await readDataFile(file);
+      expect(JSON.stringify(run.result)).toBe(JSON.stringify(analyze(source.columns, options)));
+    });
+
+    for (const estimator of ['plugin', 'miller-madow', 'chao-shen', 'shrinkage'] as const) {
+      for (const missing of ['drop', 'category'] as const) {
+        it(`should give the same JSON under ${estimator} and ${missing}`, async () => {
+          const [inMemory, viaDuckDB] = await both({ maxOrder: 2, estimator, missing, bins: 'sturges' }, limits);
+          expect(inMemory.rows_used < inMemory.rows).toBe(missing === 'drop');
+          expectSame(inMemory, viaDuckDB);
+        });
+      }
+    }
+
+    it('should give the same JSON for categorical columns and per-column specs', async () => {
+      expectSame(
+        ...(await both({ maxOrder: 3, columns: ['b', 'd', 'e', 'f', 'c'], binsByColumn: { f: 'categorical', c: 'width:9' } }, limits))
+      );
+    });
+
+    it('should name the same row under the policy error', async () => {
+      const source = await readDataFile(file);
+      let message = '';
+      try {
+        analyze(source.columns, { missing: 'error', maxOrder: 2 });
+      } catch (error) {
+        message = (error as Error).message;
+      }
+      expect(message).toMatch(/row \d+/);
+      await expect(analyzeViaDuckDB(file, { missing: 'error', maxOrder: 2, columns: source.names }, limits)).rejects.toThrow(message);
+    });
+
+    it('should stop a full lattice at the cap and say how to go on', async () => {
+      await expect(analyzeViaDuckDB(file, { columns: ['a', 'c', 'f'] }, limits)).rejects.toThrow(
+        /more than 50 distinct binned rows.*a full lattice needs them all.*--max-order/
+      );
+    });
   });
 });

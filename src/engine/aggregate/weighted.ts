@@ -6,7 +6,7 @@
  */
 
 import { applyMissingPolicy, IBinnedColumn, IPreparedCodes } from '../binning';
-import { droppedRowsWarning } from '../binning/missing';
+import { droppedRowsWarning, nothingLeftError } from '../binning/missing';
 import type { MissingPolicy } from '../types';
 
 /** Prepared codes over distinct rows, with the number of input rows behind each (see IPreparedCodes.weights). */
@@ -28,6 +28,10 @@ export function applyWeightedMissingPolicy(
   for (let i = 0; i < weights.length; i++) {
     rows += weights[i];
   }
+  if (policy === 'drop' && weights.length > 0 && !Private.anyComplete(columns)) {
+    // the message counts the input's rows, not the distinct ones
+    throw nothingLeftError(rows, columns);
+  }
   const prepared = applyMissingPolicy(columns, policy);
   if (prepared.rowIndex === null) {
     return { ...prepared, rows, rowsUsed: rows, weights };
@@ -47,4 +51,17 @@ export function applyWeightedMissingPolicy(
     weights: kept,
     warnings: [droppedRowsWarning(rows, rowsUsed)]
   };
+}
+
+namespace Private {
+  /** Whether some distinct row has a code in every column. */
+  export function anyComplete(columns: IBinnedColumn[]): boolean {
+    const rows = columns.length ? columns[0].codes.length : 0;
+    for (let i = 0; i < rows; i++) {
+      if (columns.every(column => column.codes[i] >= 0)) {
+        return true;
+      }
+    }
+    return false;
+  }
 }
