@@ -7,7 +7,8 @@
 import { unsafeUniformIntDistribution, xoroshiro128plus } from 'pure-rand';
 
 import { analyzeCodes, latticeInput } from '../../src/engine/analyze';
-import type { IPreparedCodes } from '../../src/engine/binning';
+import { applyWeightedMissingPolicy } from '../../src/engine/aggregate/weighted';
+import type { IBinnedColumn, IPreparedCodes } from '../../src/engine/binning';
 import { entropyOfCounts } from '../../src/engine/estimators';
 import { assembleLattice, computeLattice, ILattice, ILatticeInput, ISubtreeResult, jointEntropyOfCodes } from '../../src/engine/lattice';
 import { createIndexing, indexOfColumns } from '../../src/engine/multiplets';
@@ -220,5 +221,35 @@ describe('weighted walk', () => {
       );
       expectPolyadic(() => analyzeCodes(weighted, { maxOrder: 3, estimator: 'gaussian-copula' }), 'usage', /Gaussian-copula/);
     });
+  });
+});
+
+describe('applyWeightedMissingPolicy', () => {
+  /** A binned column over distinct rows (−1 = missing). */
+  function column(name: string, codes: number[], missingCount: number): IBinnedColumn {
+    return {
+      name,
+      codes: Int32Array.from(codes),
+      bins: 2,
+      binning: { name, bins: 2, binning: { method: 'width', spec: 'width:2', edges: [0, 0.5, 1] } },
+      missingCount,
+      firstMissingRow: 0,
+      warnings: []
+    };
+  }
+
+  it('should count the input rows, not the distinct ones, when drop leaves no row', () => {
+    // 3 distinct rows standing for 7 + 5 + 1 = 13 input rows, each missing in x or y
+    const columns = [column('x', [-1, 0, 1], 7), column('y', [1, -1, -1], 6)];
+    expect(() => applyWeightedMissingPolicy(columns, Int32Array.from([7, 5, 1]), 'drop')).toThrow(
+      /^Every one of the 13 rows has a missing value in at least one selected column \('x', 'y'\)/
+    );
+  });
+
+  it('should keep the weights of the complete rows under drop', () => {
+    const columns = [column('x', [-1, 0, 1], 7), column('y', [1, 0, -1], 1)];
+    const prepared = applyWeightedMissingPolicy(columns, Int32Array.from([7, 5, 1]), 'drop');
+    expect(Array.from(prepared.weights)).toEqual([5]);
+    expect([prepared.rows, prepared.rowsUsed]).toEqual([13, 5]);
   });
 });
