@@ -24,6 +24,8 @@ await build({
   target: 'node18',
   // hyparquet's package picks its Node entry under the 'node' condition
   conditions: ['node'],
+  // DuckDB's binding holds a native library: loaded from node_modules at run time (--via duckdb)
+  external: ['@duckdb/node-api'],
   banner: { js: '#!/usr/bin/env node' },
   define: { POLYADIC_VERSION: JSON.stringify(version) },
   sourcemap: false,

@@ -17,8 +17,10 @@ import { GREEDY_CHAINS } from '../engine/chains';
 import { ESTIMATORS } from '../engine/estimators';
 import { isPolyadicError, PolyadicError } from '../engine/errors';
 import { unknownColumn } from '../engine/table';
+import { formatCount } from '../engine/text';
 import type { ChainRequest, EstimatorName, IAnalysisResult, IAnalyzeOptions, MissingPolicy, Units } from '../engine/types';
 import { ANALYSIS_OPTIONS, EXIT, ICliStreams, oneLine, parseCommandLine, reportFailure } from './core';
+import { analyzeViaDuckDB, duckdbColumnNames, MAX_DISTINCT_ROWS, MAX_SQL_BINS } from './duckdb';
 import { runFingerprint } from './fingerprint';
 import { formatResult, OUTPUT_FORMATS, OutputFormat } from './output';
 import { readDataFile, type IDataSource } from './readers';
@@ -75,6 +77,14 @@ Options:
                         multiplets of order 2 and above
   --threads N           worker threads (default: all cores); results are identical
                         for any number
+  --via duckdb          read a .parquet file with DuckDB (npm package @duckdb/node-api),
+                        which bins every column with the same edges and counts the
+                        distinct binned rows, which the walk takes with their counts:
+                        the rows never enter this process, and the JSON is the same
+                        as without --via, bit for bit. Numbers, booleans and
+                        text only; at most ${formatCount(MAX_DISTINCT_ROWS)} distinct binned rows and
+                        ${formatCount(MAX_SQL_BINS)} bins per column; no --surrogates, --bootstrap,
+                        --beyond-pairs or gaussian-copula (they need the rows)
   --chain a,b,c         add a conditioning chain along that ordering of columns (two
                         up to the maximum order) to the JSON as 'chains': the
                         co-information of each prefix from the pair on ('values') and
@@ -138,9 +148,18 @@ export async function main(argv: string[], streams: ICliStreams = process): Prom
       streams.stdout.write(`polyadic ${Private.packageVersion()}\n`);
       return EXIT.done;
     }
-    source = await readDataFile(command.data, { columns: command.columns });
-    const options = Private.analyzeOptions(command, source);
-    const result = await Private.run(source, options, command.threads);
+    let result: IAnalysisResult;
+    if (command.via === 'duckdb') {
+      const names = await duckdbColumnNames(command.data);
+      const options = Private.analyzeOptions(command, command.columns ?? names, names);
+      const run = await analyzeViaDuckDB(command.data, { ...options, columns: command.columns ?? names });
+      result = run.result;
+      streams.stderr.write(`polyadic: note: ${oneLine(run.note)}\n`);
+    } else {
+      source = await readDataFile(command.data, { columns: command.columns });
+      const options = Private.analyzeOptions(command, source.columns.map(column => column.name), source.names);
+      result = await Private.run(source, options, command.threads);
+    }
     for (const warning of result.warnings) {
       streams.stderr.write(`polyadic: warning: ${oneLine(warning)}\n`);
     }
@@ -185,6 +204,7 @@ namespace Private {
         maxOrder?: number;
         top?: number;
         threads?: number;
+        via?: 'duckdb';
         chains: ChainRequest[];
         statistics: IStatisticsOptions;
         format: OutputFormat;
@@ -220,6 +240,7 @@ namespace Private {
         ...ANALYSIS_OPTIONS,
         top: { type: 'string' },
         threads: { type: 'string' },
+        via: { type: 'string' },
         chain: { type: 'string', multiple: true },
         surrogates: { type: 'string' },
         bootstrap: { type: 'string' },
@@ -286,6 +307,7 @@ namespace Private {
       maxOrder: values['max-order'] === undefined ? undefined : positiveInteger('--max-order', values['max-order']),
       top: values.top === undefined ? undefined : positiveInteger('--top', values.top),
       threads: values.threads === undefined ? undefined : positiveInteger('--threads', values.threads),
+      via: values.via === undefined ? undefined : choice('--via', values.via, ['duckdb'] as const),
       statistics: statisticsOptions(values),
       format,
       out
@@ -293,13 +315,16 @@ namespace Private {
   }
 
   /** Engine options from a command, with --bin columns checked against the selection. */
-  export function analyzeOptions(command: Extract<Command, { kind: 'analyze' }>, source: IDataSource): IAnalyzeOptions {
-    const selected = source.columns.map(column => column.name);
+  export function analyzeOptions(
+    command: Extract<Command, { kind: 'analyze' }>,
+    selected: string[],
+    names: string[]
+  ): IAnalyzeOptions {
     const binsByColumn: Record<string, string> = {};
     for (const [column, spec] of command.binsByColumn) {
       if (!selected.includes(column)) {
-        if (!source.names.includes(column)) {
-          throw unknownColumn(column, source.names);
+        if (!names.includes(column)) {
+          throw unknownColumn(column, names);
         }
         throw new PolyadicError(
           'usage',

@@ -214,9 +214,11 @@ export function resolveOptions(options: IAnalyzeOptions, columnCount: number): I
 /** The lattice input of prepared codes under the options (what a worker pool splits). */
 export function latticeInput(prepared: IPreparedCodes, options: IAnalyzeOptions = {}): ILatticeInput {
   const resolved = resolveOptions(options, prepared.codes.length);
+  Private.checkWeighted(prepared, resolved.estimator, resolved.statistics !== null);
   return {
     codes: prepared.codes,
     bins: prepared.bins,
+    ...(prepared.weights ? { weights: prepared.weights } : {}),
     maxOrder: resolved.maxOrder,
     estimator: resolved.estimator,
     maxMultiplets: resolved.maxMultiplets
@@ -238,17 +240,10 @@ export function analyzeCodes(
   const n = prepared.codes.length;
   const resolved = resolveOptions(options, n);
   const count = checkMultipletCount(n, resolved.maxOrder, resolved.maxMultiplets);
+  Private.checkWeighted(prepared, resolved.estimator, resolved.statistics !== null);
   // a chain naming a column that is not there fails before the walk, not after it
   checkChainRequests(options.chains ?? [], prepared.names, resolved.maxOrder);
-  const walked =
-    lattice ??
-    walkLattice({
-      codes: prepared.codes,
-      bins: prepared.bins,
-      maxOrder: resolved.maxOrder,
-      estimator: resolved.estimator,
-      maxMultiplets: resolved.maxMultiplets
-    });
+  const walked = lattice ?? walkLattice(latticeInput(prepared, options));
   if (walked.indexing.maxOrder !== resolved.maxOrder || walked.indexing.columnCount !== n) {
     throw new PolyadicError('internal', 'The lattice given does not match the selection and maximum order.');
   }
@@ -491,6 +486,35 @@ function checkMissing(policy: MissingPolicy | undefined): MissingPolicy {
 }
 
 namespace Private {
+  /**
+   * Weighted rows (an aggregated source's distinct rows with counts) give the count estimators'
+   * lattice exactly; what needs the rows one by one is refused with the reason.
+   */
+  export function checkWeighted(prepared: IPreparedCodes, estimator: EstimatorName, statistics: boolean): void {
+    if (!prepared.weights) {
+      return;
+    }
+    if (prepared.weights.length !== (prepared.codes[0]?.length ?? 0)) {
+      throw new PolyadicError('internal', `${prepared.weights.length} row weights for ${prepared.codes[0]?.length ?? 0} rows.`);
+    }
+    if (isContinuousEstimator(estimator)) {
+      throw new PolyadicError(
+        'usage',
+        'The Gaussian-copula estimator works from each row\'s values, and this source gives distinct binned rows with ' +
+          'their counts. Choose a count estimator (plugin, miller-madow, chao-shen or shrinkage).',
+        { option: 'estimator', value: estimator }
+      );
+    }
+    if (statistics) {
+      throw new PolyadicError(
+        'usage',
+        'Surrogates and bootstrap replicates resample the rows one by one, and this source gives distinct rows with ' +
+          'their counts, so statistics are not available on it. Run without statistics.',
+        { option: 'statistics' }
+      );
+    }
+  }
+
   /** The `count` lowest and `count` highest co-informations among multiplets of order ≥ `least`. */
   export function extremeOfOrder(lattice: ILattice, coinformation: Float64Array, count: number, least: number): number[] {
     const candidates: number[] = [];

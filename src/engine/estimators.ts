@@ -68,6 +68,69 @@ export function countLogCountTable(maxCount: number): Float64Array {
   return table;
 }
 
+/** Largest cell count (and row count) whose Σ n·ln n {@link countLogCountParts} sums exactly. */
+export const MAX_COUNT = 2 ** 31 - 1;
+
+/*
+ * Σ n·ln n summed exactly, so that it does not depend on the order of the cells (a table and
+ * its distinct rows with weights, or the same rows in another order, meet the cells in another
+ * order). Each term t = n·ln n (n ≥ 2, so 1.38 < t < 2^36 for n ≤ MAX_COUNT, and t is a multiple
+ * of 2^-52) is cut into three parts on fixed grids: hi a multiple of 2^-17, mid of 2^-35 below
+ * 2^-17, lo of 2^-52 below 2^-35. Each part's running sum stays an integer multiple of its grid
+ * below 2^53 grid steps (hi: Σ t ≤ N ln N < 2^36; mid: at most 2^31 terms below 2^-17; lo: at
+ * most 2^31 terms below 2^-35), so every addition is exact, in any order; the three sums are
+ * joined once, by {@link joinParts}. (Fixed-grid splitting for exact sums: common practice, as
+ * in Demmel & Hida 2003, "Accurate and efficient floating point summation", SIAM J. Sci. Comput.)
+ */
+const HI_GRID = 2 ** 17;
+const MID_GRID = 2 ** 35;
+
+/** The three exact parts of n·ln n (0 for n ≤ 1) into `into` at `at`, `at + 1`, `at + 2`. */
+export function countLogCountPartsOf(n: number, into: Float64Array, at: number): void {
+  if (n <= 1) {
+    into[at] = 0;
+    into[at + 1] = 0;
+    into[at + 2] = 0;
+    return;
+  }
+  const t = n * ln(n);
+  const hi = Math.floor(t * HI_GRID) / HI_GRID;
+  const rest = t - hi;
+  const mid = Math.floor(rest * MID_GRID) / MID_GRID;
+  into[at] = hi;
+  into[at + 1] = mid;
+  into[at + 2] = rest - mid;
+}
+
+/** The parts of n·ln n for n = 0 … maxCount, three per count (hi, mid, lo), interleaved. */
+export function countLogCountParts(maxCount: number): Float64Array {
+  const parts = new Float64Array(3 * (maxCount + 1));
+  for (let n = 2; n <= maxCount; n++) {
+    countLogCountPartsOf(n, parts, 3 * n);
+  }
+  return parts;
+}
+
+/** Σ n·ln n from the sums of its three parts. */
+export function joinParts(hi: number, mid: number, lo: number): number {
+  return hi + (mid + lo);
+}
+
+/** Σ n·ln n over counts (zeros and ones add 0), independent of their order. */
+export function sumCountLogCount(counts: ArrayLike<number>, length: number = counts.length): number {
+  const part = new Float64Array(3);
+  let hi = 0;
+  let mid = 0;
+  let lo = 0;
+  for (let i = 0; i < length; i++) {
+    countLogCountPartsOf(counts[i], part, 0);
+    hi += part[0];
+    mid += part[1];
+    lo += part[2];
+  }
+  return joinParts(hi, mid, lo);
+}
+
 /**
  * Entropy in nats from a summary (and, for Chao–Shen and shrinkage, the counts).
  *
@@ -114,7 +177,6 @@ export function entropyOfCounts(
   const occupiedCounts: number[] = [];
   let total = 0;
   let singletons = 0;
-  let sum = 0;
   for (let i = 0; i < counts.length; i++) {
     const n = counts[i];
     if (n > 0) {
@@ -122,11 +184,10 @@ export function entropyOfCounts(
       total += n;
       if (n === 1) {
         singletons++;
-      } else {
-        sum += n * ln(n);
       }
     }
   }
+  const sum = sumCountLogCount(occupiedCounts);
   const summary: ICountSummary = {
     total,
     occupied: occupiedCounts.length,
@@ -154,6 +215,46 @@ function requireCells(estimator: EstimatorName, cells: ICountCells | undefined):
   return cells;
 }
 
+/**
+ * The counts of the cells as (count, number of cells with it) runs in increasing count: sums
+ * over the cells taken in this order do not depend on the order in which the cells were met.
+ * Returns the number of runs; `Private.values` and `Private.multiplicity` hold them.
+ */
+function countRuns(cells: ICountCells): number {
+  const length = cells.length;
+  const sorted = Private.scratch(length);
+  const counts = cells.counts;
+  for (let i = 0; i < length; i++) {
+    sorted[i] = counts[i];
+  }
+  const view = sorted.subarray(0, length);
+  view.sort();
+  const values = Private.values;
+  const multiplicity = Private.multiplicity;
+  let runs = 0;
+  let ones = cells.extraSingletons;
+  let i = 0;
+  while (i < length && view[i] <= 1) {
+    ones += view[i] === 1 ? 1 : 0;
+    i++;
+  }
+  if (ones > 0) {
+    values[runs] = 1;
+    multiplicity[runs++] = ones;
+  }
+  while (i < length) {
+    const value = view[i];
+    let j = i + 1;
+    while (j < length && view[j] === value) {
+      j++;
+    }
+    values[runs] = value;
+    multiplicity[runs++] = j - i;
+    i = j;
+  }
+  return runs;
+}
+
 function chaoShenNats(summary: ICountSummary, cells: ICountCells): number {
   const N = summary.total;
   const f1 = summary.singletons === N ? N - 1 : summary.singletons;
@@ -167,13 +268,11 @@ function chaoShenNats(summary: ICountSummary, cells: ICountCells): number {
     const unseen = -expm1(N * log1p(-p));
     return (-p * ln(p)) / unseen;
   };
+  const runs = countRuns(cells);
+  const { values, multiplicity } = Private;
   let H = 0;
-  const counts = cells.counts;
-  for (let i = 0; i < cells.length; i++) {
-    H += term(counts[i]);
-  }
-  if (cells.extraSingletons > 0) {
-    H += cells.extraSingletons * term(1);
+  for (let r = 0; r < runs; r++) {
+    H += multiplicity[r] * term(values[r]);
   }
   return H;
 }
@@ -183,18 +282,14 @@ function shrinkageNats(summary: ICountSummary, cells: ICountCells): number {
   const P = summary.possibleCells;
   const K = summary.occupied;
   const target = 1 / P;
-  const counts = cells.counts;
+  const runs = countRuns(cells);
+  const { values, multiplicity } = Private;
   let sumSquares = 0;
   let misfit = 0;
-  for (let i = 0; i < cells.length; i++) {
-    const u = counts[i] / N;
-    sumSquares += u * u;
-    misfit += (target - u) * (target - u);
-  }
-  if (cells.extraSingletons > 0) {
-    const u = 1 / N;
-    sumSquares += cells.extraSingletons * u * u;
-    misfit += cells.extraSingletons * (target - u) * (target - u);
+  for (let r = 0; r < runs; r++) {
+    const u = values[r] / N;
+    sumSquares += multiplicity[r] * u * u;
+    misfit += multiplicity[r] * (target - u) * (target - u);
   }
   misfit += (P - K) * target * target;
   let lambda: number;
@@ -209,14 +304,29 @@ function shrinkageNats(summary: ICountSummary, cells: ICountCells): number {
     return theta > 0 ? -theta * ln(theta) : 0;
   };
   let H = 0;
-  for (let i = 0; i < cells.length; i++) {
-    H += shrunk(counts[i] / N);
-  }
-  if (cells.extraSingletons > 0) {
-    H += cells.extraSingletons * shrunk(1 / N);
+  for (let r = 0; r < runs; r++) {
+    H += multiplicity[r] * shrunk(values[r] / N);
   }
   if (P > K) {
     H += (P - K) * shrunk(0);
   }
   return H;
+}
+
+namespace Private {
+  let sorted = new Int32Array(1024);
+  /** Runs of {@link countRuns}: distinct counts and how many cells have each. */
+  export let values = new Float64Array(1025);
+  export let multiplicity = new Float64Array(1025);
+
+  /** A scratch array for `length` counts (and the run arrays as long, plus one). */
+  export function scratch(length: number): Int32Array {
+    if (sorted.length < length) {
+      const size = Math.max(length, 2 * sorted.length);
+      sorted = new Int32Array(size);
+      values = new Float64Array(size + 1);
+      multiplicity = new Float64Array(size + 1);
+    }
+    return sorted;
+  }
 }

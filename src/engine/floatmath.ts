@@ -135,23 +135,35 @@ export function linspace(start: number, stop: number, count: number): number[] {
  * otherwise.
  */
 export function quantileSorted(sorted: ArrayLike<number>, q: number): number {
-  const n = sorted.length;
+  return quantileAt(sorted.length, q, rank => sorted[rank]);
+}
+
+/**
+ * The ranks (0-based, ascending order) that `numpy.quantile(x, q)` reads of n sorted values:
+ * the floor of the virtual index and the next one (see {@link quantileSorted}).
+ */
+export function quantileRanks(n: number, q: number): [number, number] {
   const virtual = (n - 1) * q;
-  let below: number;
-  let above: number;
   if (virtual >= n - 1) {
-    below = n - 1;
-    above = n - 1;
-  } else if (virtual < 0) {
-    below = 0;
-    above = 0;
-  } else {
-    below = Math.floor(virtual);
-    above = below + 1;
+    return [n - 1, n - 1];
   }
+  if (virtual < 0) {
+    return [0, 0];
+  }
+  const below = Math.floor(virtual);
+  return [below, below + 1];
+}
+
+/**
+ * {@link quantileSorted} over n values known only by rank: `valueAt(rank)` is the rank-th
+ * smallest (an order statistic an engine such as DuckDB computed exactly).
+ */
+export function quantileAt(n: number, q: number, valueAt: (rank: number) => number): number {
+  const [below, above] = quantileRanks(n, q);
+  const virtual = (n - 1) * q;
   const gamma = virtual - Math.floor(virtual);
-  const a = sorted[below];
-  const b = sorted[above];
+  const a = valueAt(below);
+  const b = valueAt(above);
   const diff = b - a;
   return gamma >= 0.5 ? b - diff * (1 - gamma) : a + diff * gamma;
 }

@@ -9,12 +9,28 @@
  * only counted; when every row is alone, every superset in the node's subtree has the same
  * partition and is filled without walking.
  *
+ * Rows may carry weights (a table's distinct joint rows with their counts): a cell's count is
+ * then the sum of its rows' weights, and a row alone in its cell keeps its weight w in every
+ * superset, so it is dropped just the same and its cell counted as one of count w. Σ n·ln n and
+ * the estimators' sums over cells do not depend on the order of the cells, so a table and its
+ * weighted distinct rows, in any order, give the same entropies bit for bit.
+ *
  * The subtree of multiplets whose smallest column is r ({@link walkSubtree}) depends on nothing
  * outside it, so a pool of workers can split the walk by first column and
  * {@link assembleLattice} puts the pieces together bit for bit as one walk would.
  */
 
-import { entropyNats, ICountCells, ICountSummary, needsCounts, countLogCountTable } from './estimators';
+import {
+  countLogCountParts,
+  countLogCountPartsOf,
+  entropyNats,
+  ICountCells,
+  ICountSummary,
+  joinParts,
+  MAX_COUNT,
+  needsCounts,
+  sumCountLogCount
+} from './estimators';
 import { PolyadicError } from './errors';
 import {
   checkMultipletCount,
@@ -35,6 +51,11 @@ export interface ILatticeInput {
   codes: Int32Array[];
   /** Number of codes of each column (possible cells are their products). */
   bins: number[];
+  /**
+   * The count of each row (absent: every row once), each ≥ 1, their sum at most 2^31 − 1: the
+   * rows are then distinct joint rows of a larger table, which gives the same lattice.
+   */
+  weights?: Int32Array;
   /** Largest order to compute (clamped to the number of columns). */
   maxOrder: number;
   estimator: EstimatorName;
@@ -49,7 +70,7 @@ export interface ILatticeInput {
 export interface ILattice {
   indexing: IMultipletIndexing;
   estimator: EstimatorName;
-  /** Rows counted. */
+  /** Rows counted (with weights: their sum). */
   rows: number;
   /** Code counts of the columns. */
   bins: number[];
@@ -123,7 +144,7 @@ function checkSubtree(prepared: IPrepared, root: number, slices: [number, number
 /** Put subtree results (one per first column, any order) into one lattice. */
 export function assembleLattice(input: ILatticeInput, parts: ISubtreeResult[]): ILattice {
   const n = input.codes.length;
-  const rows = n ? input.codes[0].length : 0;
+  const rows = input.weights ? Private.totalWeight(input.weights) : n ? input.codes[0].length : 0;
   const indexing = createIndexing(n, Math.min(input.maxOrder, n));
   const entropy = new Float64Array(indexing.size);
   const occupied = new Int32Array(indexing.size);
@@ -166,12 +187,13 @@ export function assembleLattice(input: ILatticeInput, parts: ISubtreeResult[]): 
   return { indexing, estimator: input.estimator, rows, bins: input.bins.slice(), entropy, occupied };
 }
 
-/** Joint entropy in nats of one multiplet computed directly from the codes (no lattice). */
+/** Joint entropy in nats of one multiplet computed directly from the codes (no lattice), rows weighted when `weights` is given. */
 export function jointEntropyOfCodes(
   codes: Int32Array[],
   bins: number[],
   columns: ArrayLike<number>,
-  estimator: EstimatorName
+  estimator: EstimatorName,
+  weights?: Int32Array
 ): { entropy: number; occupied: number } {
   const rows = codes.length ? codes[0].length : 0;
   let labels = new Int32Array(rows);
@@ -196,23 +218,23 @@ export function jointEntropyOfCodes(
     distinct = slot.size;
   }
   const counts = new Int32Array(distinct);
+  let total = 0;
   for (let i = 0; i < rows; i++) {
-    counts[labels[i]]++;
+    const weight = weights ? weights[i] : 1;
+    counts[labels[i]] += weight;
+    total += weight;
   }
-  const table = countLogCountTable(rows);
-  let sum = 0;
   let singletons = 0;
   for (let b = 0; b < distinct; b++) {
-    sum += table[counts[b]];
     if (counts[b] === 1) {
       singletons++;
     }
   }
   const summary: ICountSummary = {
-    total: rows,
+    total,
     occupied: distinct,
     singletons,
-    sumCountLogCount: sum,
+    sumCountLogCount: sumCountLogCount(counts, distinct),
     possibleCells: possible
   };
   return {
@@ -228,7 +250,12 @@ type CodeArray = Uint8Array | Uint16Array | Int32Array;
 interface IPrepared {
   n: number;
   m: number;
+  /** Rows walked (with weights: distinct rows). */
   rows: number;
+  /** Weight of each row, or null (every row once). */
+  weights: Int32Array | null;
+  /** Rows counted: the sum of the weights, else `rows`. */
+  total: number;
   indexing: IMultipletIndexing;
   /**
    * Codes with unused codes squeezed out (the walk's label arithmetic stays small), in the
@@ -261,6 +288,11 @@ function prepareInput(input: ILatticeInput): IPrepared {
   }
   const m = Math.min(input.maxOrder, n);
   checkMultipletCount(n, m, input.maxMultiplets ?? DEFAULT_MAX_MULTIPLETS);
+  const weights = input.weights ?? null;
+  if (weights !== null && weights.length !== rows) {
+    throw new PolyadicError('internal', `${weights.length} row weights for ${rows} rows.`);
+  }
+  const total = weights !== null ? Private.totalWeight(weights) : rows;
   const wide: Int32Array[] = [];
   const used: number[] = [];
   for (let c = 0; c < n; c++) {
@@ -302,6 +334,8 @@ function prepareInput(input: ILatticeInput): IPrepared {
     n,
     m,
     rows,
+    weights,
+    total,
     indexing: createIndexing(n, m),
     dense,
     used,
@@ -339,13 +373,18 @@ function relabelByMap(
   return slot.size;
 }
 
-/** Σ n·ln n over the first `blocks` counts. */
-function sumCountLogCount(counts: Int32Array, blocks: number, table: Float64Array): number {
-  let sum = 0;
+/** Σ n·ln n over the first `blocks` counts (≤ the table's largest count), exactly (see countLogCountParts). */
+function sumByParts(counts: Int32Array, blocks: number, parts: Float64Array): number {
+  let hi = 0;
+  let mid = 0;
+  let lo = 0;
   for (let b = 0; b < blocks; b++) {
-    sum += table[counts[b]];
+    const at = 3 * counts[b];
+    hi += parts[at];
+    mid += parts[at + 1];
+    lo += parts[at + 2];
   }
-  return sum;
+  return joinParts(hi, mid, lo);
 }
 
 /** Number of counts equal to 1 among the first `blocks`. */
@@ -612,9 +651,11 @@ function scanKeys(
   remap: Int32Array | null,
   keeps: Uint8Array
 ): number {
-  const { countLogCount, single } = tables;
+  const { parts, single } = tables;
   let singletons = 0;
-  let sum = 0;
+  let hi = 0;
+  let mid = 0;
+  let lo = 0;
   let next = 0;
   for (let t = 0; t < met; t++) {
     const key = touched[t];
@@ -624,7 +665,10 @@ function scanKeys(
       counts[t] = count;
     }
     singletons += single[count];
-    sum += countLogCount[count];
+    const at = 3 * count;
+    hi += parts[at];
+    mid += parts[at + 1];
+    lo += parts[at + 2];
     if (remap !== null) {
       const keep = keeps[count];
       remap[key] = keep * (next + 1) - 1;
@@ -633,14 +677,14 @@ function scanKeys(
   }
   stats[0] = met;
   stats[1] = singletons;
-  stats[2] = sum;
+  stats[2] = joinParts(hi, mid, lo);
   return next;
 }
 
 /** Lookup tables indexed by a cell count 0 … rows. */
 interface ICountTables {
-  /** n·ln n (0 for n ≤ 1). */
-  countLogCount: Float64Array;
+  /** The three exact parts of n·ln n (0 for n ≤ 1) at 3n, 3n + 1, 3n + 2 (see countLogCountParts). */
+  parts: Float64Array;
   /** 1 when n ≥ 1. */
   occupied: Uint8Array;
   /** 1 when n = 1. */
@@ -658,7 +702,7 @@ function countTables(rows: number): ICountTables {
   if (rows >= 1) {
     single[1] = 1;
   }
-  return { countLogCount: countLogCountTable(rows), occupied, single, shared };
+  return { parts: countLogCountParts(rows), occupied, single, shared };
 }
 
 namespace Private {
@@ -672,12 +716,39 @@ namespace Private {
   /** Largest key range tallied through a table; larger ones use a Map. */
   const TABLE_LIMIT = 1 << 22;
 
+  /** Weighted rows: counts up to at least this (and the rows) have their n·ln n parts in a table. */
+  const WEIGHT_TABLE = 1 << 16;
+
+  /** The sum of row weights, checked (each ≥ 1, the sum at most MAX_COUNT). */
+  export function totalWeight(weights: Int32Array): number {
+    let total = 0;
+    for (let i = 0; i < weights.length; i++) {
+      const w = weights[i];
+      if (!(w >= 1)) {
+        throw new PolyadicError('internal', `Row ${i} has weight ${w}; every weight must be ≥ 1.`);
+      }
+      total += w;
+    }
+    if (total > MAX_COUNT) {
+      throw new PolyadicError('usage', `The rows' weights add up to ${total}, more than the ${MAX_COUNT} rows the walk counts.`);
+    }
+    return total;
+  }
+
   /** The depth-first walk with its scratch buffers, allocated once per walker. */
   export class Walker {
     constructor(prepared: IPrepared) {
       this._p = prepared;
       const rows = prepared.rows;
-      this._tables = countTables(rows);
+      const weighted = prepared.weights !== null;
+      this._tables = countTables(weighted ? 0 : rows);
+      if (weighted) {
+        this._partsMax = Math.min(prepared.total, Math.max(rows, WEIGHT_TABLE));
+        this._weightParts = countLogCountParts(this._partsMax);
+        this._members = new Int32Array(rows + 1);
+        this._dropStack = new Int32Array(rows + 1);
+        this._fillCounts = new Int32Array(rows + 1);
+      }
       this._scratchLabel = new Int32Array(rows);
       this._counts = new Int32Array(rows + 1);
       this._remap = new Int32Array(rows + 1);
@@ -690,7 +761,8 @@ namespace Private {
       this._active.push(all);
       this._labels.push(new Int32Array(rows));
       this._cells = { counts: this._counts, length: 0, extraSingletons: 0 };
-      this._summary = { total: rows, occupied: 0, singletons: 0, sumCountLogCount: 0, possibleCells: 1 };
+      this._summary = { total: prepared.total, occupied: 0, singletons: 0, sumCountLogCount: 0, possibleCells: 1 };
+      this._fillCells = { counts: this._fillCounts, length: 0, extraSingletons: 0 };
       this._needsCounts = needsCounts(prepared.estimator);
     }
 
@@ -736,6 +808,11 @@ namespace Private {
       this._labelCount[0] = this._p.rows > 0 ? 1 : 0;
       this._dropped[0] = 0;
       this._possible[0] = 1;
+      this._droppedSingles[0] = 0;
+      this._droppedHi[0] = 0;
+      this._droppedMid[0] = 0;
+      this._droppedLo[0] = 0;
+      this._dropLength[0] = 0;
     }
 
     private _check(size: number, what: string): void {
@@ -763,6 +840,9 @@ namespace Private {
      */
     private _count(level: number, column: number, record: boolean): Below {
       const p = this._p;
+      if (p.weights !== null) {
+        return this._countWeighted(level, column, record, p.weights);
+      }
       const parent = level - 1;
       const parentActive = this._active[parent];
       const parentLabels = this._labels[parent];
@@ -799,7 +879,7 @@ namespace Private {
         const blocks = relabelByMap(parentActive, parentLabels, parentCount, p.dense[column], K, this._scratchLabel, counts);
         stats[0] = blocks;
         stats[1] = countSingletons(counts, blocks);
-        stats[2] = sumCountLogCount(counts, blocks, this._tables.countLogCount);
+        stats[2] = sumByParts(counts, blocks, this._tables.parts);
       }
       const blocks = stats[0];
       const singletons = stats[1];
@@ -835,6 +915,175 @@ namespace Private {
       return Below.walk;
     }
 
+    /**
+     * {@link _count} for weighted rows: a cell's count is the sum of its rows' weights, and the
+     * rows that stay active below the node are those of cells with two or more rows; a cell of
+     * one row (count w) is dropped and counted as such in every superset (its count goes to the
+     * drop stack when the estimator reads counts).
+     */
+    private _countWeighted(level: number, column: number, record: boolean, weights: Int32Array): Below {
+      const p = this._p;
+      const parent = level - 1;
+      const parentActive = this._active[parent];
+      const parentLabels = this._labels[parent];
+      const parentCount = this._activeCount[parent];
+      const K = p.used[column];
+      const code = p.dense[column];
+      const range = this._labelCount[parent] * K;
+      const possible = this._possible[parent] * p.bins[column];
+      this._possible[level] = possible;
+      const descend = level < p.m && column < p.n - 1;
+      const childLabel = this._scratchLabel;
+      const counts = this._counts;
+      const members = this._members;
+      let blocks = 0;
+      if (range <= TABLE_LIMIT) {
+        // slot[key] holds the key's label + 1 (0: not met yet)
+        const slot = this._tallyTable(range);
+        const touched = this._touched;
+        for (let q = 0; q < parentCount; q++) {
+          const row = parentActive[q];
+          const key = parentLabels[q] * K + code[row];
+          let label = slot[key] - 1;
+          if (label < 0) {
+            label = blocks++;
+            slot[key] = blocks;
+            touched[label] = key;
+          }
+          childLabel[q] = label;
+          counts[label] += weights[row];
+          members[label]++;
+        }
+        for (let b = 0; b < blocks; b++) {
+          slot[touched[b]] = 0;
+        }
+      } else {
+        const slot = new Map<number, number>();
+        for (let q = 0; q < parentCount; q++) {
+          const row = parentActive[q];
+          const key = parentLabels[q] * K + code[row];
+          let label = slot.get(key);
+          if (label === undefined) {
+            label = blocks++;
+            slot.set(key, label);
+          }
+          childLabel[q] = label;
+          counts[label] += weights[row];
+          members[label]++;
+        }
+      }
+      // One scan of the cells: the node's sums, and which cells stay below it.
+      const parts = this._weightParts;
+      const partsMax = this._partsMax;
+      const one = this._oneParts;
+      const least = p.dropSingletons ? 2 : 1;
+      const remap = this._remap;
+      const stack = this._dropStack;
+      const stackBase = this._dropLength[parent];
+      let stackTop = stackBase;
+      let singletons = 0;
+      let hi = 0;
+      let mid = 0;
+      let lo = 0;
+      let oneRow = 0;
+      let alone = 0;
+      let aloneSingles = 0;
+      let aloneHi = 0;
+      let aloneMid = 0;
+      let aloneLo = 0;
+      let next = 0;
+      for (let b = 0; b < blocks; b++) {
+        const count = counts[b];
+        let partHi: number;
+        let partMid: number;
+        let partLo: number;
+        if (count <= partsMax) {
+          partHi = parts[3 * count];
+          partMid = parts[3 * count + 1];
+          partLo = parts[3 * count + 2];
+        } else {
+          countLogCountPartsOf(count, one, 0);
+          partHi = one[0];
+          partMid = one[1];
+          partLo = one[2];
+        }
+        const single = count === 1 ? 1 : 0;
+        singletons += single;
+        hi += partHi;
+        mid += partMid;
+        lo += partLo;
+        oneRow += members[b] === 1 ? 1 : 0;
+        if (members[b] >= least) {
+          remap[b] = next++;
+        } else {
+          remap[b] = -1;
+          alone++;
+          aloneSingles += single;
+          aloneHi += partHi;
+          aloneMid += partMid;
+          aloneLo += partLo;
+          stack[stackTop++] = count;
+        }
+        members[b] = 0;
+      }
+      const occupied = blocks + this._dropped[parent];
+      const allSingles = singletons + this._droppedSingles[parent];
+      const sum = joinParts(hi + this._droppedHi[parent], mid + this._droppedMid[parent], lo + this._droppedLo[parent]);
+      // the multiset of counts (active cells, then the cells dropped above), for estimators that read it
+      let cellCount = blocks;
+      if (this._needsCounts) {
+        for (let d = 0; d < stackBase; d++) {
+          counts[cellCount++] = stack[d];
+        }
+      }
+      if (record) {
+        this._recordWeighted(occupied, allSingles, sum, possible, cellCount);
+      }
+      // every cell has one row: each superset in the subtree has the same cells
+      const fill = descend && p.fillDistinct && oneRow === blocks;
+      if (fill) {
+        this._fillOccupied = occupied;
+        this._fillSingles = allSingles;
+        this._fillSum = sum;
+        if (this._needsCounts) {
+          this._fillCounts.set(counts.subarray(0, cellCount));
+        }
+        this._fillCells.length = cellCount;
+      }
+      counts.fill(0, 0, cellCount);
+      if (!descend) {
+        return Below.none;
+      }
+      if (fill) {
+        return Below.fill;
+      }
+      const active = this._level(level);
+      this._activeCount[level] = keepMapped(parentActive, parentCount, childLabel, remap, active, this._labels[level]);
+      this._labelCount[level] = next;
+      this._dropped[level] = this._dropped[parent] + alone;
+      this._droppedSingles[level] = this._droppedSingles[parent] + aloneSingles;
+      this._droppedHi[level] = this._droppedHi[parent] + aloneHi;
+      this._droppedMid[level] = this._droppedMid[parent] + aloneMid;
+      this._droppedLo[level] = this._droppedLo[parent] + aloneLo;
+      this._dropLength[level] = this._needsCounts ? stackTop : 0;
+      return Below.walk;
+    }
+
+    /** {@link _record} for weighted rows: the counts (for the estimators that read them) are the first `cellCount` of `_counts`. */
+    private _recordWeighted(occupied: number, singletons: number, sum: number, possible: number, cellCount: number): void {
+      const summary = this._summary;
+      summary.occupied = occupied;
+      summary.singletons = singletons;
+      summary.sumCountLogCount = sum;
+      summary.possibleCells = possible;
+      const cells = this._cells;
+      cells.length = cellCount;
+      cells.extraSingletons = 0;
+      const position = this._position++;
+      this._entropy[position] = entropyNats(this._p.estimator, summary, cells);
+      this._occupied[position] = occupied;
+    }
+
     /** Estimate the entropy of the node just counted and write it at the next position. */
     private _record(blocks: number, dropped: number, singletons: number, sum: number, possible: number): void {
       const summary = this._summary;
@@ -858,14 +1107,23 @@ namespace Private {
      */
     private _fillDistinct(level: number, column: number, only?: number): void {
       const p = this._p;
-      const rows = p.rows;
       const summary = this._summary;
-      const cells = this._cells;
-      summary.occupied = rows;
-      summary.singletons = rows;
-      summary.sumCountLogCount = 0;
-      cells.length = 0;
-      cells.extraSingletons = rows;
+      let cells = this._cells;
+      let rows = p.rows;
+      if (p.weights === null) {
+        summary.occupied = rows;
+        summary.singletons = rows;
+        summary.sumCountLogCount = 0;
+        cells.length = 0;
+        cells.extraSingletons = rows;
+      } else {
+        // the cells of the node, as _countWeighted left them
+        rows = this._fillOccupied;
+        summary.occupied = rows;
+        summary.singletons = this._fillSingles;
+        summary.sumCountLogCount = this._fillSum;
+        cells = this._fillCells;
+      }
       if (p.estimator !== 'shrinkage') {
         summary.possibleCells = this._possible[level];
         const value = entropyNats(p.estimator, summary, needsCounts(p.estimator) ? cells : undefined);
@@ -924,6 +1182,26 @@ namespace Private {
 
     private _p: IPrepared;
     private _tables: ICountTables;
+    /** Weighted rows: parts of n·ln n up to _partsMax (larger counts are computed), scratch for one. */
+    private _weightParts: Float64Array = new Float64Array(0);
+    private _partsMax = 0;
+    private _oneParts = new Float64Array(3);
+    /** Weighted rows: rows per cell of the node being counted. */
+    private _members = new Int32Array(0);
+    /** Weighted rows, estimators that read counts: counts of the cells dropped above each level (a stack). */
+    private _dropStack = new Int32Array(0);
+    private _dropLength: number[] = [];
+    /** Weighted rows: cells of one row dropped above each level (_dropped counts them), of count 1, and the parts of their Σ n·ln n. */
+    private _droppedSingles: number[] = [];
+    private _droppedHi: number[] = [];
+    private _droppedMid: number[] = [];
+    private _droppedLo: number[] = [];
+    /** Weighted rows: the cells of a node whose subtree is filled. */
+    private _fillOccupied = 0;
+    private _fillSingles = 0;
+    private _fillSum = 0;
+    private _fillCounts = new Int32Array(0);
+    private _fillCells: ICountCells;
     private _scratchLabel: Int32Array;
     private _counts: Int32Array;
     private _byKey = new Int32Array(0);

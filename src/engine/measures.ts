@@ -206,6 +206,8 @@ export interface IEntropySource {
   codes: Int32Array[];
   bins: number[];
   estimator: EstimatorName;
+  /** The count of each row (absent: every row once). */
+  weights?: Int32Array;
   lattice?: ILattice;
 }
 
@@ -227,7 +229,7 @@ export function jointEntropy(source: IEntropySource, columns: ArrayLike<number>)
   const key = set.join(',');
   let value = memo.get(key);
   if (value === undefined) {
-    value = jointEntropyOfCodes(source.codes, source.bins, set, source.estimator).entropy;
+    value = jointEntropyOfCodes(source.codes, source.bins, set, source.estimator, source.weights).entropy;
     memo.set(key, value);
   }
   return value;

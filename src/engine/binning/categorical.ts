@@ -6,8 +6,8 @@ import type { ICategoricalColumn, IBinSpec } from '../types';
 import { compareCodePoints, emptyResult, refuseAllMissing } from './shared';
 import type { IBinnedColumn } from './types';
 
-export function binCategorical(column: ICategoricalColumn, spec: IBinSpec, specText: string): IBinnedColumn {
-  const rows = column.codes.length;
+/** Refuse a numeric spec on a categorical column (one that is not `categorical`). */
+export function checkCategoricalSpec(column: { name: string; dtype: string }, spec: IBinSpec, specText: string): void {
   if (spec.method !== 'categorical') {
     throw new PolyadicError(
       'usage',
@@ -16,6 +16,11 @@ export function binCategorical(column: ICategoricalColumn, spec: IBinSpec, specT
       { column: column.name, option: 'bins', value: specText }
     );
   }
+}
+
+export function binCategorical(column: ICategoricalColumn, spec: IBinSpec, specText: string): IBinnedColumn {
+  const rows = column.codes.length;
+  checkCategoricalSpec(column, spec, specText);
   const source = column.codes;
   const missing = column.missing;
   const categories = column.categories;

@@ -36,18 +36,33 @@ export function binColumn(
 
 /** Warn about a constant column and an identifier-like categorical column. */
 function addOccupancyWarnings(column: ColumnView, result: IBinnedColumn): void {
-  const occupied = occupiedCodes(result.codes, result.bins);
-  const present = result.codes.length - result.missingCount;
-  const categorical = result.binning.binning.method === 'categorical';
+  const warning = occupancyWarning(
+    column.name,
+    result.binning.binning.method === 'categorical',
+    occupiedCodes(result.codes, result.bins),
+    result.codes.length - result.missingCount
+  );
+  if (warning) {
+    result.warnings.push(warning);
+  }
+}
+
+/**
+ * The warning about a constant column (one occupied code) or an identifier-like categorical
+ * column (each of its `present` values occurs once), or null.
+ */
+export function occupancyWarning(name: string, categorical: boolean, occupied: number, present: number): string | null {
   if (occupied === 1) {
-    result.warnings.push(
-      `Column '${column.name}' takes a single value${categorical ? '' : ' after binning'}: ` +
-        'its entropy is 0 and it adds nothing to any multiplet.'
-    );
-  } else if (categorical && present >= 2 && occupied === present) {
-    result.warnings.push(
-      `Column '${column.name}' looks like an identifier: each of its ${plural(present, 'value')} occurs ` +
-        'once, so it determines every row and every multiplet containing it has the largest entropy.'
+    return (
+      `Column '${name}' takes a single value${categorical ? '' : ' after binning'}: ` +
+      'its entropy is 0 and it adds nothing to any multiplet.'
     );
   }
+  if (categorical && present >= 2 && occupied === present) {
+    return (
+      `Column '${name}' looks like an identifier: each of its ${plural(present, 'value')} occurs ` +
+      'once, so it determines every row and every multiplet containing it has the largest entropy.'
+    );
+  }
+  return null;
 }

@@ -93,13 +93,7 @@ export function applyMissingPolicy(columns: IBinnedColumn[], policy: MissingPoli
         rowsUsed += keep[i];
       }
       if (rowsUsed === 0) {
-        throw new PolyadicError(
-          'input',
-          `Every one of the ${formatCount(rows)} rows has a missing value in at least one selected column ` +
-            `(${columns.filter(c => c.missingCount > 0).map(c => `'${c.name}'`).join(', ')}), so the ` +
-            "missing-value policy 'drop' leaves no row. Select fewer columns or use 'category'.",
-          { option: 'missing' }
-        );
+        throw nothingLeftError(rows, columns);
       }
       const rowIndex = new Int32Array(rowsUsed);
       for (let i = 0, j = 0; i < rows; i++) {
@@ -114,11 +108,7 @@ export function applyMissingPolicy(columns: IBinnedColumn[], policy: MissingPoli
         }
         return out;
       });
-      warnings.push(
-        `${formatCount(rows - rowsUsed)} of ${plural(rows, 'row')} ${wordFor(rows - rowsUsed, 'has', 'have')} a ` +
-          `missing value in a selected column and ${wordFor(rows - rowsUsed, 'was', 'were')} left out ` +
-          `(missing-value policy 'drop'); ${plural(rowsUsed, 'row')} ${wordFor(rowsUsed, 'remains', 'remain')}.`
-      );
+      warnings.push(droppedRowsWarning(rows, rowsUsed));
       return { names, codes, bins, binnings, rows, rowsUsed, rowIndex, warnings };
     }
     default:
@@ -128,4 +118,27 @@ export function applyMissingPolicy(columns: IBinnedColumn[], policy: MissingPoli
         { option: 'missing', value: String(policy) }
       );
   }
+}
+
+/**
+ * The error of the policy `drop` when every one of `rows` input rows has a missing value in a
+ * selected column (`rows` counts the input's rows, also when the columns hold distinct rows).
+ */
+export function nothingLeftError(rows: number, columns: { name: string; missingCount: number }[]): PolyadicError {
+  return new PolyadicError(
+    'input',
+    `Every one of the ${formatCount(rows)} rows has a missing value in at least one selected column ` +
+      `(${columns.filter(c => c.missingCount > 0).map(c => `'${c.name}'`).join(', ')}), so the ` +
+      "missing-value policy 'drop' leaves no row. Select fewer columns or use 'category'.",
+    { option: 'missing' }
+  );
+}
+
+/** What the policy `drop` says when it left rows out. */
+export function droppedRowsWarning(rows: number, rowsUsed: number): string {
+  return (
+    `${formatCount(rows - rowsUsed)} of ${plural(rows, 'row')} ${wordFor(rows - rowsUsed, 'has', 'have')} a ` +
+    `missing value in a selected column and ${wordFor(rows - rowsUsed, 'was', 'were')} left out ` +
+    `(missing-value policy 'drop'); ${plural(rowsUsed, 'row')} ${wordFor(rowsUsed, 'remains', 'remain')}.`
+  );
 }

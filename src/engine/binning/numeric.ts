@@ -11,7 +11,8 @@ import {
   numpyMean,
   numpyStd,
   powRounded,
-  quantileSorted
+  quantileAt,
+  quantileRanks
 } from '../floatmath';
 import { optimalKMeans1D } from '../kmeans1d';
 import { formatCount, plural } from '../text';
@@ -48,7 +49,7 @@ export function binIndexByEdges(edges: ArrayLike<number>, x: number): number {
 }
 
 /** The non-missing values of a numeric column, in row order. */
-interface IPresent {
+export interface IPresent {
   /** Row of each value. */
   rows: Int32Array;
   values: Float64Array;
@@ -111,20 +112,261 @@ export function presentValues(column: INumericColumn): IPresent {
   };
 }
 
-/** Refuse ±Inf under a numeric method, naming the first such row. */
-function refuseInfinite(column: ColumnView, present: IPresent, specText: string): void {
-  const values = present.values;
-  for (let i = 0; i < values.length; i++) {
-    if (!Number.isFinite(values[i])) {
-      throw new PolyadicError(
-        'input',
-        `Column '${column.name}' has ${values[i] > 0 ? '+' : '-'}Inf at row ${present.rows[i]}; ` +
-          `the binning ${specText} needs finite numbers. Replace or drop such values, or use ` +
-          "'categorical'.",
-        { column: column.name, row: present.rows[i], value: String(values[i]) }
-      );
+/**
+ * What the numeric binning reads of a column's non-missing values, whether they sit in memory
+ * ({@link summarizeValues}) or in an engine that scans them (src/engine/aggregate): counts and
+ * extremes, plus order statistics, numpy's standard deviation and skewness, and the distinct
+ * values, each asked for only when the spec needs it ({@link summaryNeeds}).
+ */
+export interface INumericSummary {
+  /** Non-missing values. */
+  count: number;
+  missingCount: number;
+  firstMissingRow: number;
+  /** numpy would see an integer dtype (the width rules then use a width of at least 1). */
+  integer: boolean;
+  /** A 64-bit integer beyond ±2^53 was rounded. */
+  rounded: boolean;
+  /** Distinct values, counted up to {@link AUTO_MAX_LEVELS} + 1. */
+  levels: number;
+  /** The first ±Inf in row order, or null. */
+  infinite: { row: number; value: number } | null;
+  min: number;
+  max: number;
+  /** The rank-th smallest value (0-based). */
+  orderStatistic(rank: number): number;
+  /** `numpy.std(x)` in numpy's order of sums. */
+  std(): number;
+  /** Doane's g1: `numpy.mean(((x − mean) / sigma) ** 3)`, cubes correctly rounded. */
+  skewness(sigma: number): number;
+  /** The distinct values, ascending (−0 and 0 as one), and how many rows hold each. */
+  distinct(): { values: Float64Array; counts: Float64Array };
+}
+
+/** What a spec needs of a summary beyond its counts and extremes. */
+export interface ISummaryNeeds {
+  /** Order statistics by rank (0-based, ascending, no repeats). */
+  ranks: number[];
+  std: boolean;
+  skewness: boolean;
+  distinct: boolean;
+}
+
+/** The method a spec applies to a numeric column with that many distinct values (`auto` resolved). */
+export function appliedSpec(given: IBinSpec, levels: number): IAppliedSpec {
+  if (given.method !== 'auto') {
+    return { ...given, method: given.method };
+  }
+  return levels <= AUTO_MAX_LEVELS ? { method: 'categorical' } : AUTO_NUMERIC;
+}
+
+/**
+ * What binning a numeric column of `count` non-missing values (`levels` of them distinct, see
+ * {@link INumericSummary}) by a spec reads beyond counts and extremes.
+ */
+export function summaryNeeds(given: IBinSpec, count: number, levels: number): ISummaryNeeds {
+  const spec = appliedSpec(given, levels);
+  const ranks = new Set<number>();
+  const needs: ISummaryNeeds = { ranks: [], std: false, skewness: false, distinct: false };
+  switch (spec.method) {
+    case 'categorical':
+    case 'kmeans':
+      needs.distinct = true;
+      break;
+    case 'quantile':
+      for (const q of linspace(0, 1, (spec.count ?? 4) + 1)) {
+        quantileRanks(count, q).forEach(rank => ranks.add(rank));
+      }
+      break;
+    case 'fd':
+      for (const q of [0.75, 0.25]) {
+        quantileRanks(count, q).forEach(rank => ranks.add(rank));
+      }
+      break;
+    case 'scott':
+      needs.std = true;
+      break;
+    case 'doane':
+      needs.std = count > 2;
+      needs.skewness = count > 2;
+      break;
+    default:
+      break;
+  }
+  needs.ranks = [...ranks].sort((a, b) => a - b);
+  return needs;
+}
+
+/** The summary of values in memory (row `rows[i]` holds `values[i]`). */
+export function summarizeValues(present: IPresent): INumericSummary {
+  const x = present.values;
+  let min = x[0];
+  let max = x[0];
+  let infinite: { row: number; value: number } | null = null;
+  for (let i = 0; i < x.length; i++) {
+    const v = x[i];
+    if (v < min) {
+      min = v;
+    } else if (v > max) {
+      max = v;
+    }
+    if (infinite === null && !Number.isFinite(v)) {
+      infinite = { row: present.rows[i], value: v };
     }
   }
+  let sorted: Float64Array | null = null;
+  const ascending = (): Float64Array => (sorted ??= Float64Array.from(x).sort());
+  return {
+    count: x.length,
+    missingCount: present.missingCount,
+    firstMissingRow: present.firstMissingRow,
+    integer: present.integer,
+    rounded: present.rounded,
+    levels: countLevels(x, AUTO_MAX_LEVELS),
+    infinite,
+    min,
+    max,
+    orderStatistic: rank => ascending()[rank],
+    std: () => numpyStd(x, present.integer).std,
+    skewness: sigma => {
+      const { deviations } = numpyStd(x, present.integer);
+      for (let i = 0; i < deviations.length; i++) {
+        deviations[i] = cubeRounded(deviations[i] / sigma);
+      }
+      return numpyMean(deviations);
+    },
+    distinct: () => {
+      const values = ascending();
+      const distinct: number[] = [];
+      const counts: number[] = [];
+      for (let i = 0; i < values.length; i++) {
+        // −0 and 0 are one value.
+        if (i > 0 && values[i] === values[i - 1]) {
+          counts[counts.length - 1]++;
+        } else {
+          distinct.push(values[i]);
+          counts.push(1);
+        }
+      }
+      return { values: Float64Array.from(distinct), counts: Float64Array.from(counts) };
+    }
+  };
+}
+
+/**
+ * How a numeric column is binned, decided from its summary alone: categories (its distinct
+ * values), equal-width edges over [first, last], or other edges; with the warnings that do not
+ * depend on the row assignment. The in-memory binning and the aggregated sources share it, so
+ * their edges are the same bits.
+ */
+export type NumericPlan = {
+  /** The method applied. */
+  method: BinMethod;
+  /** The spec as messages name it (under `auto`, with the method it chose). */
+  specText: string;
+  levels: number;
+  warnings: string[];
+} & (
+  | { kind: 'categorical'; values: Float64Array; categories: string[] }
+  | { kind: 'uniform'; edges: number[]; first: number; last: number }
+  | { kind: 'edges'; edges: number[] }
+);
+
+/** Plan the binning of a numeric column (see {@link NumericPlan}); errors as {@link binNumeric}'s. */
+export function planNumeric(
+  column: { name: string; dtype: string },
+  given: IBinSpec,
+  specText: string,
+  maxBins: number,
+  summary: INumericSummary
+): NumericPlan {
+  const levels = summary.levels;
+  const discrete = levels <= AUTO_MAX_LEVELS;
+  if (given.method === 'auto') {
+    specText = `auto (${discrete ? 'categorical' : AUTO_NUMERIC_SPEC})`;
+  }
+  const spec = appliedSpec(given, levels);
+  const warnings: string[] = [];
+  if (summary.rounded) {
+    warnings.push(
+      `Column '${column.name}' has integers beyond ±2^53; they were rounded to the nearest ` +
+        'float64 before binning, so nearby values may share a bin.'
+    );
+  }
+  const base = { method: spec.method, specText, levels, warnings };
+  if (spec.method === 'categorical') {
+    const values = summary.distinct().values;
+    const bool = column.dtype === 'bool';
+    const categories = Array.from(values, value =>
+      bool ? (value === 0 ? 'false' : 'true') : Object.is(value, -0) ? '0' : String(value)
+    );
+    return { ...base, kind: 'categorical', values, categories };
+  }
+  if (summary.infinite) {
+    const { row, value } = summary.infinite;
+    throw new PolyadicError(
+      'input',
+      `Column '${column.name}' has ${value > 0 ? '+' : '-'}Inf at row ${row}; ` +
+        `the binning ${specText} needs finite numbers. Replace or drop such values, or use ` +
+        "'categorical'.",
+      { column: column.name, row, value: String(value) }
+    );
+  }
+  switch (spec.method) {
+    case 'width':
+    case 'fd':
+    case 'scott':
+    case 'sturges':
+    case 'rice':
+    case 'sqrt':
+    case 'doane':
+      return { ...base, kind: 'uniform', ...uniformEdges(column, summary, spec, specText, maxBins) };
+    case 'quantile': {
+      const edges = quantileEdgesOf(summary, spec.count ?? 4);
+      // A constant column gets one warning, from addOccupancyWarnings, not a second about ties;
+      // a column of few values gets the warning about merged values instead.
+      if (edges.length - 1 < (spec.count ?? 4) && edges[0] !== edges[edges.length - 1] && !discrete) {
+        warnings.push(
+          `Column '${column.name}': ${specText} gave ${plural(edges.length - 1, 'bin')} instead of ` +
+            `${formatCount(spec.count ?? 4)}, because tied values made some quantiles coincide ` +
+            '(duplicate edges dropped).'
+        );
+      }
+      return { ...base, kind: 'edges', edges };
+    }
+    case 'kmeans':
+      return { ...base, kind: 'edges', edges: kmeansEdges(column, summary, spec.count ?? 1, specText, warnings) };
+    case 'edges': {
+      const edges = (spec.edges ?? []).slice();
+      if (edges.length < 2) {
+        throw new PolyadicError('usage', `Binning spec "${specText}" needs at least two edges.`, {
+          option: 'bins',
+          value: specText
+        });
+      }
+      return { ...base, kind: 'edges', edges };
+    }
+    default:
+      throw new PolyadicError('usage', `Unknown binning method '${String(spec.method)}'.`, {
+        option: 'bins',
+        value: specText
+      });
+  }
+}
+
+/**
+ * The warning when a spec merges the values of a column of few distinct values into fewer bins
+ * (`occupied` bins hold a row), or null.
+ */
+export function mergedLevelsWarning(name: string, plan: NumericPlan, occupied: number): string | null {
+  if (plan.kind === 'categorical' || plan.levels > AUTO_MAX_LEVELS || occupied >= plan.levels) {
+    return null;
+  }
+  return (
+    `Column '${name}' has only ${plural(plan.levels, 'distinct value')}, and ${plan.specText} merges ` +
+    `them into ${plural(occupied, 'bin')}, so differences between the merged values are lost; ` +
+    "'auto' or 'categorical' keeps each value as its own category."
+  );
 }
 
 export function binNumeric(
@@ -138,87 +380,33 @@ export function binNumeric(
   if (present.values.length === 0) {
     refuseAllMissing(column, rows);
   }
-  const levels = countLevels(present.values, AUTO_MAX_LEVELS);
-  const discrete = levels <= AUTO_MAX_LEVELS;
+  const plan = planNumeric(column, given, specText, maxBins, summarizeValues(present));
   // The record keeps the spec as given (`auto`); messages name the method it chose too.
-  const recorded = specText;
-  if (given.method === 'auto') {
-    specText = `auto (${discrete ? 'categorical' : AUTO_NUMERIC_SPEC})`;
-  }
-  const spec: IAppliedSpec =
-    given.method !== 'auto' ? { ...given, method: given.method } : discrete ? { method: 'categorical' } : AUTO_NUMERIC;
-  const result = emptyResult(column, rows, spec.method, recorded, present.missingCount, present.firstMissingRow);
-  if (present.rounded) {
-    result.warnings.push(
-      `Column '${column.name}' has integers beyond ±2^53; they were rounded to the nearest ` +
-        'float64 before binning, so nearby values may share a bin.'
-    );
-  }
-  if (spec.method === 'categorical') {
-    categoricalNumbers(column, present, result);
+  const result = emptyResult(column, rows, plan.method, specText, present.missingCount, present.firstMissingRow);
+  result.warnings.push(...plan.warnings);
+  const x = present.values;
+  if (plan.kind === 'categorical') {
+    const codeOf = new Map<number, number>();
+    plan.values.forEach((value, code) => codeOf.set(value, code));
+    for (let i = 0; i < x.length; i++) {
+      result.codes[present.rows[i]] = codeOf.get(x[i]) as number;
+    }
+    result.bins = plan.values.length;
+    result.binning.bins = result.bins;
+    result.binning.binning.categories = plan.categories;
     return result;
   }
-  refuseInfinite(column, present, specText);
-  const x = present.values;
-  let edges: number[];
-  switch (spec.method) {
-    case 'width':
-    case 'fd':
-    case 'scott':
-    case 'sturges':
-    case 'rice':
-    case 'sqrt':
-    case 'doane': {
-      const uniform = uniformEdges(column, x, present.integer, spec, specText, maxBins);
-      edges = uniform.edges;
-      assignUniform(x, present.rows, uniform.first, uniform.last, edges, result.codes);
-      break;
-    }
-    case 'quantile':
-      edges = quantileEdges(x, spec.count ?? 4);
-      // A constant column gets one warning, from addOccupancyWarnings, not a second about ties;
-      // a column of few values gets the warning about merged values below instead.
-      if (edges.length - 1 < (spec.count ?? 4) && edges[0] !== edges[edges.length - 1] && !discrete) {
-        result.warnings.push(
-          `Column '${column.name}': ${specText} gave ${plural(edges.length - 1, 'bin')} instead of ` +
-            `${formatCount(spec.count ?? 4)}, because tied values made some quantiles coincide ` +
-            '(duplicate edges dropped).'
-        );
-      }
-      assignByEdges(column, x, present.rows, edges, specText, result.codes);
-      break;
-    case 'kmeans':
-      edges = kmeansEdges(column, x, spec.count ?? 1, specText, result.warnings);
-      assignByEdges(column, x, present.rows, edges, specText, result.codes);
-      break;
-    case 'edges':
-      edges = (spec.edges ?? []).slice();
-      if (edges.length < 2) {
-        throw new PolyadicError('usage', `Binning spec "${specText}" needs at least two edges.`, {
-          option: 'bins',
-          value: specText
-        });
-      }
-      assignByEdges(column, x, present.rows, edges, specText, result.codes);
-      break;
-    default:
-      throw new PolyadicError('usage', `Unknown binning method '${String(spec.method)}'.`, {
-        option: 'bins',
-        value: specText
-      });
+  if (plan.kind === 'uniform') {
+    assignUniform(x, present.rows, plan.first, plan.last, plan.edges, result.codes);
+  } else {
+    assignByEdges(column, x, present.rows, plan.edges, plan.specText, result.codes);
   }
-  result.bins = edges.length - 1;
+  result.bins = plan.edges.length - 1;
   result.binning.bins = result.bins;
-  result.binning.binning.edges = edges;
-  if (discrete) {
-    const occupied = occupiedCodes(result.codes, result.bins);
-    if (occupied < levels) {
-      result.warnings.push(
-        `Column '${column.name}' has only ${plural(levels, 'distinct value')}, and ${specText} merges ` +
-          `them into ${plural(occupied, 'bin')}, so differences between the merged values are lost; ` +
-          "'auto' or 'categorical' keeps each value as its own category."
-      );
-    }
+  result.binning.binning.edges = plan.edges;
+  const merged = mergedLevelsWarning(column.name, plan, occupiedCodes(result.codes, result.bins));
+  if (merged) {
+    result.warnings.push(merged);
   }
   return result;
 }
@@ -233,54 +421,19 @@ export function countLevels(values: Float64Array, limit: number): number {
   return seen.size;
 }
 
-/** One code per distinct number, in increasing order; labels as JS prints the number. */
-function categoricalNumbers(column: INumericColumn, present: IPresent, result: IBinnedColumn): void {
-  const sorted = Float64Array.from(present.values).sort();
-  const distinct: number[] = [];
-  for (let i = 0; i < sorted.length; i++) {
-    // −0 and 0 are one value.
-    if (i === 0 || sorted[i] !== sorted[i - 1]) {
-      distinct.push(sorted[i]);
-    }
-  }
-  const codeOf = new Map<number, number>();
-  distinct.forEach((value, code) => codeOf.set(value, code));
-  const codes = result.codes;
-  const x = present.values;
-  for (let i = 0; i < x.length; i++) {
-    codes[present.rows[i]] = codeOf.get(x[i]) as number;
-  }
-  const bool = column.dtype === 'bool';
-  result.bins = distinct.length;
-  result.binning.bins = distinct.length;
-  result.binning.binning.categories = distinct.map(value =>
-    bool ? (value === 0 ? 'false' : 'true') : Object.is(value, -0) ? '0' : String(value)
-  );
-}
-
 /**
  * Edges of `numpy.histogram_bin_edges` for `width:K` and the rules: the data range (widened
  * by ±0.5 when constant), the bin count from the rule's width (`ceil(range / width)`, 1 when
  * the width is 0, width at least 1 for integer data), and `linspace` over the range.
  */
 function uniformEdges(
-  column: ColumnView,
-  x: Float64Array,
-  integer: boolean,
+  column: { name: string },
+  summary: INumericSummary,
   spec: IAppliedSpec,
   specText: string,
   maxBins: number
 ): { edges: number[]; first: number; last: number } {
-  let min = x[0];
-  let max = x[0];
-  for (let i = 1; i < x.length; i++) {
-    const v = x[i];
-    if (v < min) {
-      min = v;
-    } else if (v > max) {
-      max = v;
-    }
-  }
+  const { min, max, integer } = summary;
   let first = min;
   let last = max;
   if (first === last) {
@@ -291,7 +444,7 @@ function uniformEdges(
   if (spec.method === 'width') {
     count = spec.count ?? 10;
   } else {
-    let width = ruleWidth(spec.method, x, max - min, integer);
+    let width = ruleWidth(spec.method, summary, max - min);
     if (width) {
       if (integer && width < 1) {
         width = 1;
@@ -324,8 +477,8 @@ function uniformEdges(
 }
 
 /** Bin width of a rule, as numpy's `_hist_bin_*` functions compute it. */
-function ruleWidth(method: BinMethod, x: Float64Array, ptp: number, integer: boolean): number {
-  const n = x.length;
+function ruleWidth(method: BinMethod, summary: INumericSummary, ptp: number): number {
+  const n = summary.count;
   switch (method) {
     case 'sqrt':
       return ptp / Math.sqrt(n);
@@ -333,27 +486,22 @@ function ruleWidth(method: BinMethod, x: Float64Array, ptp: number, integer: boo
       return ptp / (log2Rounded(n) + 1.0);
     case 'rice':
       return ptp / (2.0 * powRounded(n, 1.0 / 3));
-    case 'scott': {
-      const { std } = numpyStd(x, integer);
-      return powRounded((24.0 * Math.sqrt(Math.PI)) / n, 1.0 / 3.0) * std;
-    }
+    case 'scott':
+      return powRounded((24.0 * Math.sqrt(Math.PI)) / n, 1.0 / 3.0) * summary.std();
     case 'doane': {
       if (n > 2) {
         const sg1 = Math.sqrt((6.0 * (n - 2)) / ((n + 1.0) * (n + 3)));
-        const { std: sigma, deviations } = numpyStd(x, integer);
+        const sigma = summary.std();
         if (sigma > 0.0) {
-          for (let i = 0; i < n; i++) {
-            deviations[i] = cubeRounded(deviations[i] / sigma);
-          }
-          const g1 = numpyMean(deviations);
+          const g1 = summary.skewness(sigma);
           return ptp / (1.0 + log2Rounded(n) + log2Rounded(1.0 + Math.abs(g1) / sg1));
         }
       }
       return 0.0;
     }
     case 'fd': {
-      const sorted = Float64Array.from(x).sort();
-      const iqr = quantileSorted(sorted, 0.75) - quantileSorted(sorted, 0.25);
+      const at = (rank: number): number => summary.orderStatistic(rank);
+      const iqr = quantileAt(n, 0.75, at) - quantileAt(n, 0.25, at);
       return 2.0 * iqr * powRounded(n, -1.0 / 3.0);
     }
     default:
@@ -421,8 +569,17 @@ function assignByEdges(
  */
 export function quantileEdges(x: Float64Array, count: number): number[] {
   const sorted = Float64Array.from(x).sort();
+  return quantileEdgesAt(sorted.length, count, rank => sorted[rank]);
+}
+
+/** {@link quantileEdges} of a summary's order statistics. */
+function quantileEdgesOf(summary: INumericSummary, count: number): number[] {
+  return quantileEdgesAt(summary.count, count, rank => summary.orderStatistic(rank));
+}
+
+function quantileEdgesAt(n: number, count: number, valueAt: (rank: number) => number): number[] {
   const qs = linspace(0, 1, count + 1);
-  const raw = Float64Array.from(qs.map(q => quantileSorted(sorted, q))).sort();
+  const raw = Float64Array.from(qs.map(q => quantileAt(n, q, valueAt))).sort();
   const edges: number[] = [];
   for (let i = 0; i < raw.length; i++) {
     if (i === 0 || raw[i] !== raw[i - 1]) {
@@ -440,23 +597,13 @@ export function quantileEdges(x: Float64Array, count: number): number[] {
  * clusters, the maximum. Fewer distinct values than K reduce K, with a warning.
  */
 function kmeansEdges(
-  column: ColumnView,
-  x: Float64Array,
+  column: { name: string },
+  summary: INumericSummary,
   count: number,
   specText: string,
   warnings: string[]
 ): number[] {
-  const sorted = Float64Array.from(x).sort();
-  const distinct: number[] = [];
-  const weights: number[] = [];
-  for (let i = 0; i < sorted.length; i++) {
-    if (i > 0 && sorted[i] === sorted[i - 1]) {
-      weights[weights.length - 1]++;
-    } else {
-      distinct.push(sorted[i]);
-      weights.push(1);
-    }
-  }
+  const { values: distinct, counts: weights } = summary.distinct();
   let k = count;
   if (distinct.length < k) {
     k = distinct.length;
@@ -465,8 +612,8 @@ function kmeansEdges(
         `made ${plural(k, 'cluster')}.`
     );
   }
-  const values = Float64Array.from(distinct);
-  const { starts } = optimalKMeans1D(values, Float64Array.from(weights), k);
+  const values = distinct;
+  const { starts } = optimalKMeans1D(values, weights, k);
   const edges = [values[0]];
   for (let c = 1; c < k; c++) {
     const below = values[starts[c] - 1];

@@ -33,6 +33,12 @@ export interface IPreparedCodes {
   /** Number of codes per column. */
   bins: number[];
   binnings: IColumnBinning[];
+  /**
+   * The count of each row when the rows are the distinct joint rows of a larger table (an
+   * aggregated source; each ≥ 1); absent: every row once. `rows` and `rowsUsed` then count the
+   * table's rows (the sum of the weights), not the distinct ones.
+   */
+  weights?: Int32Array;
   /** Rows of the input. */
   rows: number;
   /** Rows kept. */

@@ -16,7 +16,7 @@
 import { unsafeUniformIntDistribution, xoroshiro128plus } from 'pure-rand';
 
 import { CopulaSubsetEntropies } from '../copula/subsets';
-import { countLogCountTable, entropyNats, ICountSummary, needsCounts } from '../estimators';
+import { countLogCountParts, entropyNats, ICountSummary, joinParts, needsCounts } from '../estimators';
 import { popcount } from '../measures';
 import type { EstimatorName } from '../types';
 import { tieTolerance } from './replicates';
@@ -139,7 +139,7 @@ namespace Private {
       rows: number
     ) {
       this._k = _bins.length;
-      this._table = countLogCountTable(rows);
+      this._parts = countLogCountParts(rows);
       this._rows = rows;
       this._keys = new Float64Array(rows);
       let widest = 1;
@@ -189,7 +189,6 @@ namespace Private {
             touched[cells++] = key;
           }
         }
-        // Cells in order of first appearance, as the lattice walk sums them.
         for (let t = 0; t < cells; t++) {
           counts[t] = flat[touched[t]];
           flat[touched[t]] = 0;
@@ -203,13 +202,20 @@ namespace Private {
           counts[cells++] = count;
         });
       }
-      let sum = 0;
+      // Σ n·ln n summed exactly (in any order of the cells), as the lattice walk sums it
+      const parts = this._parts;
+      let hi = 0;
+      let mid = 0;
+      let lo = 0;
       let singletons = 0;
       for (let t = 0; t < cells; t++) {
         const n = counts[t];
-        sum += this._table[n];
+        hi += parts[3 * n];
+        mid += parts[3 * n + 1];
+        lo += parts[3 * n + 2];
         singletons += n === 1 ? 1 : 0;
       }
+      const sum = joinParts(hi, mid, lo);
       const summary: ICountSummary = {
         total: rows,
         occupied: cells,
@@ -226,7 +232,7 @@ namespace Private {
 
     private _k: number;
     private _rows: number;
-    private _table: Float64Array;
+    private _parts: Float64Array;
     private _keys: Float64Array;
     private _flat: Int32Array | null;
     private _entropy: Float64Array;
