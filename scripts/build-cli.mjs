@@ -25,7 +25,7 @@ await build({
   // hyparquet's package picks its Node entry under the 'node' condition
   conditions: ['node'],
   // DuckDB's binding holds a native library: loaded from node_modules at run time (--via duckdb)
-  external: ['@duckdb/node-api'],
+  external: ['@duckdb/node-api', '@duckdb/node-bindings'],
   banner: { js: '#!/usr/bin/env node' },
   define: { POLYADIC_VERSION: JSON.stringify(version) },
   sourcemap: false,
