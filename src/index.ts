@@ -147,10 +147,10 @@ const recordsPlugin: JupyterFrontEndPlugin<void> = {
     notebooks: INotebookTracker,
     palette: ICommandPalette | null
   ): void => {
-    const records = panel.model.records;
+    const { analysis, records } = panel.model;
     const follower = followRecords(notebooks, records);
-    const recorder = recordCompletedRuns(panel.model.analysis, records);
-    const restores = followRestores(panel.model.analysis, records);
+    const recorder = recordCompletedRuns(analysis, records);
+    const restores = followRestores(analysis, records);
     const cells = setupAnalysisCells({ commands: app.commands, notebooks, chosenId: () => records.selectedId });
     records.changed.connect(() => app.commands.notifyCommandChanged(INSERT_ANALYSIS_CELL));
     palette?.addItem({ command: INSERT_ANALYSIS_CELL, category: PALETTE_CATEGORY });

@@ -6,9 +6,10 @@ import { AnalysisModel, IEngineRunner } from './analysis/model';
 import { DefaultsModel } from './defaults/model';
 import { RecordsModel } from './records/model';
 import { SourceModel } from './source/model';
+import type { IPolyadicPanel } from '../tokens';
 
 /** State of the Polyadic side panel. */
-export class PanelModel {
+export class PanelModel implements IPolyadicPanel.IModel {
   /** Create the model; `options.engine` runs the analyses and previews. */
   constructor(options: PanelModel.IOptions) {
     this.analysis = new AnalysisModel({ engine: options.engine, recordIdFor: run => this.records.rerunOf(run) });

@@ -13,13 +13,14 @@ import { formatCount, plural, wordFor } from '../../engine/text';
 import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
 import { newRecordId } from '../../record/ids';
 import type { IPolyadicSettings } from '../../settings';
+import type { IPolyadicPanel } from '../../tokens';
 import type { EnginePool, IRunProgress, IRunResult } from '../../worker/pool';
 import type { IColumnPreview } from '../../worker/protocol';
 import { BinningModel } from '../binning/model';
 import { DataModel } from '../data/model';
 import { StatisticsModel } from '../statistics/model';
 import { adequacyOf, EstimatorModel, IAdequacy, type IEstimatorChoices, type IOrderClamp } from '../estimator/model';
-import type { IAnalysisState, IRunCompleted, IRunStatus, RunState } from './types';
+import type { IRunCompleted, IRunStatus, RunState } from './types';
 
 /** What the model needs of the engine pool (an {@link EnginePool} in the panel). */
 export interface IEngineRunner {
@@ -29,7 +30,7 @@ export interface IEngineRunner {
 }
 
 /** The state of one analysis in the panel. */
-export class AnalysisModel implements IAnalysisState {
+export class AnalysisModel implements IPolyadicPanel.IAnalysis {
   /** Create the model over an engine runner. */
   constructor(options: AnalysisModel.IOptions) {
     this._engine = options.engine;

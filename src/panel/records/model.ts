@@ -10,12 +10,11 @@ import { ISignal, Signal } from '@lumino/signaling';
 
 import { isPolyadicError } from '../../engine/errors';
 import { formatCount, plural, wordFor } from '../../engine/text';
-import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
 import { fingerprintColumns, type IFingerprint } from '../../record/fingerprint';
 import { recordFromResult } from '../../record/recordFromResult';
 import { withRobustness } from '../../record/robustness';
 import type { IRobustnessResult } from '../../engine/robustness';
-import { compareFingerprint, optionsFromRecord, type IDataComparison } from '../../record/settings';
+import { compareFingerprint, optionsFromRecord } from '../../record/settings';
 import {
   addAnalysis,
   deleteAnalysis,
@@ -27,59 +26,15 @@ import {
   type IMetadataAccess,
   type IRecordState
 } from '../../record/store';
-import type { IAnalysisRecord, ISampleInfo, IStatisticsSettings } from '../../record/types';
+import type { IAnalysisRecord, ISampleInfo } from '../../record/types';
+import type { IPolyadicPanel } from '../../tokens';
 import type { IRunCompleted } from '../analysis/types';
+import type { IDataCheck, IRecordsNotebook, IRestoreRequest, IRunFrame } from './types';
 
-/** The notebook whose record the section shows. */
-export interface IRecordsNotebook {
-  /** Path relative to the server root; tells one notebook from another. */
-  path: string;
-  /** Its metadata, as far as the record needs it. */
-  metadata: IMetadataAccess;
-}
-
-/** The rows an analysis read, as the bridge fetched them. */
-export interface IRunFrame {
-  /** Dataframe name in the kernel. */
-  name: string;
-  /** The columns the engine read, in the order it read them. */
-  columns: readonly ColumnView[];
-  /** Rows received. */
-  rows: number;
-  /** Rows of the frame in the kernel. */
-  originalRows: number;
-  /** Whether the rows are a seeded sample of the frame. */
-  sampled: boolean;
-  /** Seed of the sample. */
-  seed: number;
-}
-
-/** A request to put a recorded analysis' settings back into the analysis section. */
-export interface IRestoreRequest {
-  /** The recorded analysis. */
-  analysis: IAnalysisRecord;
-  /** Dataframe the analysis read. */
-  frame: string;
-  /** Engine options that re-run it exactly. */
-  options: IAnalyzeOptions;
-  /** Its statistics settings, or null when it computed no evidence. */
-  statistics: IStatisticsSettings | null;
-}
-
-/** How the data the panel fetched compares with the chosen analysis. */
-export interface IDataCheck {
-  /** Id of the analysis compared. */
-  id: string;
-  /** `same`, `changed`, or `not-comparable` (a different sample or missing columns). */
-  status: 'same' | 'changed' | 'not-comparable';
-  /** A sentence for the banner. */
-  message: string;
-  /** Column-level detail of a comparison that was made. */
-  comparison: IDataComparison | null;
-}
+export type { IDataCheck, IRecordsNotebook, IRestoreRequest, IRunFrame } from './types';
 
 /** Holds the followed notebook's record and signals every change of it. */
-export class RecordsModel {
+export class RecordsModel implements IPolyadicPanel.IRecords {
   /** Emitted after the record, the choice, the data check or the last error changed. */
   get changed(): ISignal<this, void> {
     return this._changed;

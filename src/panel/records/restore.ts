@@ -4,37 +4,13 @@
  * Written against the few members of the analysis model it uses, so it depends on no more.
  */
 import type { IDisposable } from '@lumino/disposable';
-import type { ISignal } from '@lumino/signaling';
 
 import { wordFor } from '../../engine/text';
-import type { EstimatorName, Units } from '../../engine/types';
-import type { IStatisticsSettings } from '../../record/types';
-import type { IRestoreRequest, IRunFrame, RecordsModel } from './model';
+import type { IPolyadicPanel } from '../../tokens';
+import type { IRestoreRequest, IRunFrame } from './types';
 
 /** The members of the analysis model a restore uses. */
-export interface IRestoreTarget {
-  data: {
-    readonly changed: ISignal<unknown, void>;
-    readonly frame: string | null;
-    readonly frames: readonly { name: string }[];
-    readonly columns: readonly { name: string }[];
-    readonly fetched: IRunFrame | null;
-    pick(name: string | null): Promise<void>;
-    setSelected(name: string, selected: boolean): void;
-    isSelected(name: string): boolean;
-  };
-  binning: {
-    specOf(name: string): string | undefined;
-    setSpec(name: string, spec: string): void;
-  };
-  estimator: {
-    estimator: EstimatorName;
-    units: Units;
-    maxOrder: number | null;
-  };
-  /** The Statistics section; absent in targets without one. */
-  statistics?: { restore(settings: IStatisticsSettings | null): void };
-}
+export type IRestoreTarget = Pick<IPolyadicPanel.IAnalysis, 'data' | 'binning' | 'estimator' | 'statistics'>;
 
 /**
  * Restore the request's frame, selection, binning specs, estimator, units, maximum order and
@@ -84,10 +60,10 @@ export async function restoreSettings(target: IRestoreTarget, request: IRestoreR
  * request sets the sections, and every frame the Dataframe section loads is checked against the
  * chosen analysis (the "data changed" banner).
  */
-export function followRestores(target: IRestoreTarget, records: RecordsModel): IDisposable {
+export function followRestores(target: IRestoreTarget, records: IPolyadicPanel.IRecords): IDisposable {
   let disposed = false;
   let lastChecked: IRunFrame | null = null;
-  const onRestore = (_: RecordsModel, request: IRestoreRequest): void => {
+  const onRestore = (_: IPolyadicPanel.IRecords, request: IRestoreRequest): void => {
     void restoreSettings(target, request).then(problem => {
       if (!disposed) {
         records.setNotice(problem);
