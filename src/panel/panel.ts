@@ -23,7 +23,7 @@ import { StatisticsView } from './statistics/view';
 export class PolyadicPanel extends SidePanel {
   /** Create the panel and its sections for `options.model`. */
   constructor(options: PolyadicPanel.IOptions) {
-    const form = new FoldForm();
+    const form = new FoldForm({ translator: options.translator });
     super({ content: form });
     this.form = form;
     this.id = PolyadicPanel.ID;
