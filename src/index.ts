@@ -58,6 +58,7 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
       analysis: model.analysis,
       records: model.records,
       currentNotebook: () => notebooks?.currentWidget ?? null,
+      translator: translator ?? undefined,
       extras: robustnessExtras({
         engine,
         runOf: id => documents.runOf(id),
