@@ -63,7 +63,8 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
         engine,
         runOf: id => documents.runOf(id),
         recordOf: id => (model.records.state ? (findAnalysis(model.records.state, id) ?? null) : null),
-        record: (run, result) => model.records.recordRobustness(run, result)
+        record: (run, result) => model.records.recordRobustness(run, result),
+        translator: translator ?? undefined
       })
     });
     const panel = new PolyadicPanel({

@@ -96,7 +96,7 @@ export function setupAnalysisCells(options: IAnalysisCellsOptions): IDisposable 
         metadataChanged: model.metadataChanged
       };
     };
-    panel.content.rendermime.addFactory(createAnalysisRendererFactory(resolve));
+    panel.content.rendermime.addFactory(createAnalysisRendererFactory(resolve, options.translator));
     // As JupyterLab's own notebook toolbar buttons: a click does not take the focus from the
     // notebook, so the keys that follow (Shift+Enter) go to the notebook, not to the button.
     const button = new CommandToolbarButton({ commands, id: INSERT_ANALYSIS_CELL, label: trans.__('Polyadic cell'), noFocusOnClick: true });
