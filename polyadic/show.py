@@ -26,7 +26,7 @@ from typing import Any, Mapping, Sequence
 
 #: MIME type of a analysis cell's output.
 MIME_TYPE = "application/vnd.polyadic.analysis+json"
-#: The record id pattern (schema/record.schema.json, ``$defs/recordId``).
+#: The record id pattern (src/record/record.schema.json, ``$defs/recordId``).
 RECORD_ID_PATTERN = r"^pd-[0-9a-z]{8,32}$"
 #: Multiplets per table in the Markdown fallback when taken from the results store.
 FALLBACK_SIZE = 10

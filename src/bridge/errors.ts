@@ -2,6 +2,7 @@
  * Errors of the front-end side of the bridge: values the panel shows as plain text (never as
  * HTML: messages can quote frame and column names, which come from the user's kernel).
  */
+import { PolyadicError, PolyadicErrorKind } from '../engine/errors';
 import type { IBridgeErrorDetail } from './protocol';
 
 /**
@@ -32,15 +33,34 @@ export type BridgeFailure =
   | 'usage'
   | 'disposed';
 
-/** A failed bridge request: what happened and what to do, as one or two sentences. */
-export class BridgeError extends Error {
+/** The kind of error (one union for the whole extension, engine/errors.ts) each failure is. */
+const KIND_OF_FAILURE: Readonly<Record<BridgeFailure, PolyadicErrorKind>> = {
+  kernel: 'kernel',
+  state: 'connection',
+  restart: 'connection',
+  'kernel-changed': 'connection',
+  closed: 'connection',
+  connection: 'connection',
+  unanswered: 'connection',
+  cancelled: 'cancelled',
+  protocol: 'internal',
+  usage: 'usage',
+  disposed: 'connection'
+};
+
+/**
+ * A failed bridge request: what happened and what to do, as one or two sentences. A
+ * {@link PolyadicError} whose `kind` follows from `reason` (a cancelled request is of kind
+ * 'cancelled'); `detail` names the frame, column or option at fault.
+ */
+export class BridgeError extends PolyadicError {
   /** Create an error for a failure, with a full-sentence message and where it lies. */
   constructor(
     readonly reason: BridgeFailure,
     message: string,
     readonly detail: IBridgeErrorDetail = {}
   ) {
-    super(message);
+    super(KIND_OF_FAILURE[reason], message, detail);
     this.name = 'BridgeError';
   }
 }

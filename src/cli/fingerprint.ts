@@ -8,9 +8,9 @@
 
 import { parseArgs } from 'util';
 
-import { errorMessage, isPolyadicError, PolyadicError } from '../engine/errors';
+import { PolyadicError } from '../engine/errors';
 import { fingerprintColumns } from '../record/fingerprint';
-import { EXIT, ICliStreams } from './core';
+import { argumentError, EXIT, ICliStreams, reportFailure } from './core';
 import { readDataFile } from './readers';
 
 /** The text of `polyadic fingerprint --help`. */
@@ -37,8 +37,7 @@ export async function runFingerprint(args: string[], io: ICliStreams): Promise<n
         options: { columns: { type: 'string' }, help: { type: 'boolean', short: 'h' } }
       });
     } catch (error) {
-      const message = error instanceof Error ? error.message.split(/\.\s/)[0].replace(/\.$/, '') : String(error);
-      throw new PolyadicError('usage', `${message}; see polyadic fingerprint --help.`);
+      throw argumentError(error, 'fingerprint');
     }
     if (parsed.values.help) {
       io.stdout.write(FINGERPRINT_HELP);
@@ -57,13 +56,6 @@ export async function runFingerprint(args: string[], io: ICliStreams): Promise<n
     io.stdout.write(JSON.stringify({ ...fingerprint, rows: source.rows }, null, 2) + '\n');
     return EXIT.done;
   } catch (error) {
-    if (isPolyadicError(error) && error.kind !== 'internal') {
-      // messages quote column names from an untrusted file: no control character reaches the terminal
-      // eslint-disable-next-line no-control-regex
-      io.stderr.write(`polyadic: ${error.message.replace(/[\u0000-\u001f\u007f-\u009f]/g, ' ')}\n`);
-      return EXIT.usage;
-    }
-    io.stderr.write(`polyadic: internal error: ${errorMessage(error)}\n`);
-    return EXIT.internal;
+    return reportFailure(error, io);
   }
 }

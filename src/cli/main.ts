@@ -16,10 +16,10 @@ import { EnginePool } from '../worker/pool';
 import { BIN_SPEC_FORMS, parseBinSpec } from '../engine/binning';
 import { GREEDY_CHAINS } from '../engine/chains';
 import { ESTIMATORS } from '../engine/estimators';
-import { errorMessage, isPolyadicError, PolyadicError } from '../engine/errors';
+import { isPolyadicError, PolyadicError } from '../engine/errors';
 import { unknownColumn } from '../engine/table';
 import type { ChainRequest, EstimatorName, IAnalysisResult, IAnalyzeOptions, MissingPolicy, Units } from '../engine/types';
-import { EXIT, ICliStreams, oneLine } from './core';
+import { EXIT, firstSentence, ICliStreams, oneLine, reportFailure } from './core';
 import { runFingerprint } from './fingerprint';
 import { formatResult, OUTPUT_FORMATS, OutputFormat } from './output';
 import { readDataFile, type IDataSource } from './readers';
@@ -165,25 +165,7 @@ export async function main(argv: string[], streams: ICliStreams = process): Prom
  * one line naming what is at fault (2); anything else is a bug (1).
  */
 export function reportError(error: unknown, streams: ICliStreams, source?: IDataSource): number {
-  if (isPolyadicError(error) && error.kind !== 'internal') {
-    let message = error.message;
-    const row = error.detail.row;
-    if (source?.lineOfRow && typeof row === 'number' && error.detail.line === undefined && !/\bline \d/.test(message)) {
-      message = `${message.replace(/\.$/, '')} (line ${source.lineOfRow(row)} of the file).`;
-    }
-    streams.stderr.write(`polyadic: ${oneLine(message)}\n`);
-    return EXIT.usage;
-  }
-  const message = errorMessage(error);
-  streams.stderr.write(
-    `polyadic: internal error: ${oneLine(message)}\n` +
-      'polyadic: this is a bug in Polyadic; please report it with the command you ran, ' +
-      'the output of `polyadic --version` and, if you can, the data file.\n'
-  );
-  if (process.env.POLYADIC_DEBUG && error instanceof Error && error.stack) {
-    streams.stderr.write(error.stack + '\n');
-  }
-  return EXIT.internal;
+  return reportFailure(error, streams, { lineOfRow: source?.lineOfRow?.bind(source) });
 }
 
 /** Module-private helpers. */
@@ -265,7 +247,7 @@ namespace Private {
         }
       });
     } catch (error) {
-      throw new PolyadicError('usage', `${firstSentence(error)}; see polyadic --help.`, {});
+      throw new PolyadicError('usage', `${capitalFirstSentence(error)}; see polyadic --help.`, {});
     }
     const { values, positionals } = parsed;
     if (values.help) {
@@ -505,9 +487,8 @@ namespace Private {
   }
 
   /** The first sentence of node's argument-parser message, in our lower-case style. */
-  function firstSentence(error: unknown): string {
-    const message = errorMessage(error);
-    const sentence = message.split(/\.\s/)[0].replace(/\.$/, '');
+  function capitalFirstSentence(error: unknown): string {
+    const sentence = firstSentence(error);
     return sentence.charAt(0).toUpperCase() + sentence.slice(1);
   }
 

@@ -18,7 +18,7 @@ import { isPolyadicError, PolyadicError } from '../engine/errors';
 import { defaultVariants, IRobustnessResult, IRobustnessVariant, parseVariantSpec, robustnessRun } from '../engine/robustness';
 import type { IAnalyzeOptions, Units } from '../engine/types';
 import { COLUMN_SEPARATOR } from '../results-format';
-import { EXIT, ICliStreams, oneLine } from './core';
+import { argumentError, EXIT, ICliStreams, oneLine, reportFailure } from './core';
 import { readDataFile } from './readers';
 
 /**
@@ -114,15 +114,7 @@ export async function runRobustness(args: string[], io: ICliStreams): Promise<nu
     }
     return EXIT.done;
   } catch (error) {
-    if (isPolyadicError(error) && error.kind !== 'internal') {
-      io.stderr.write(`polyadic: ${oneLine(error.message)}\n`);
-      return EXIT.usage;
-    }
-    io.stderr.write(
-      `polyadic: internal error: ${oneLine(error instanceof Error ? error.message : String(error))}\n` +
-        'polyadic: this is a bug in Polyadic; please report it with the command you ran.\n'
-    );
-    return EXIT.internal;
+    return reportFailure(error, io);
   }
 }
 
@@ -178,8 +170,7 @@ namespace Private {
         }
       });
     } catch (error) {
-      const message = error instanceof Error ? error.message.split(/\.\s/)[0].replace(/\.$/, '') : String(error);
-      throw new PolyadicError('usage', `${message}; see polyadic robustness --help.`);
+      throw argumentError(error, 'robustness');
     }
     const { values, positionals } = parsed;
     if (values.help) {

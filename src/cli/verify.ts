@@ -26,7 +26,7 @@ import { promises as fs } from 'fs';
 import { parseArgs } from 'util';
 
 import { analyzeCodes, latticeInput, prepareColumns } from '../engine/analyze';
-import { isPolyadicError, PolyadicError } from '../engine/errors';
+import { errorMessage, isPolyadicError, PolyadicError } from '../engine/errors';
 import { fromNats } from '../engine/estimators';
 import type { ILattice } from '../engine/lattice';
 import { walkLattice } from '../engine/walk';
@@ -44,7 +44,7 @@ import { orderHistogram } from '../engine/histogram';
 import { evidenceSummaryOf, multipletSummary, statisticsSettingsOf } from '../record/summary';
 import type { IAnalysisRecord, IMultipletSummary } from '../record/types';
 import { EVIDENCE_FIELDS } from '../results-format';
-import { EXIT, ICliStreams, oneLine } from './core';
+import { argumentError, EXIT, ICliStreams, oneLine, reportFailure } from './core';
 import { readDataFile, type IDataSource } from './readers';
 
 /** The exit codes of verify (core.ts's, under verify's names). */
@@ -90,7 +90,8 @@ export async function runVerify(args: string[], io: ICliStreams): Promise<number
     analyses = await Private.readAnalyses(parsed.notebook);
     Private.checkData(parsed, analyses);
   } catch (error) {
-    return Private.reportFailure(error, io);
+    // a failure before any analysis ran: usage and input problems are 2, bugs 1
+    return reportFailure(error, io, { usageExit: VERIFY_EXIT.badInput });
   }
   io.stdout.write(
     `polyadic verify: ${oneLine(parsed.notebook)}: ${plural(analyses.length, 'analysis', 'analyses')}
@@ -109,7 +110,7 @@ export async function runVerify(args: string[], io: ICliStreams): Promise<number
         badInput = true;
         outcome = { ok: false, text: `CANNOT READ DATA: ${error.message}` };
       } else {
-        outcome = { ok: false, text: `ERROR: ${error instanceof Error ? error.message : String(error)}` };
+        outcome = { ok: false, text: `ERROR: ${errorMessage(error)}` };
       }
     }
     if (outcome.ok) {
@@ -154,8 +155,7 @@ namespace Private {
         }
       });
     } catch (error) {
-      const message = error instanceof Error ? error.message.split(/\.\s/)[0].replace(/\.$/, '') : String(error);
-      throw new PolyadicError('usage', `${message}; see polyadic verify --help.`);
+      throw argumentError(error, 'verify');
     }
     if (parsed.values.help) {
       return 'help';
@@ -619,18 +619,5 @@ namespace Private {
       return Object.values(value).reduce((sum: number, item) => sum + leafCount(item), 0);
     }
     return 1;
-  }
-
-  /** Print a failure before any analysis ran: usage and input problems are 2, bugs 1. */
-  export function reportFailure(error: unknown, io: ICliStreams): number {
-    if (isPolyadicError(error) && error.kind !== 'internal') {
-      io.stderr.write(`polyadic: ${oneLine(error.message)}\n`);
-      return VERIFY_EXIT.badInput;
-    }
-    io.stderr.write(
-      `polyadic: internal error: ${oneLine(error instanceof Error ? error.message : String(error))}\n` +
-        'polyadic: this is a bug in Polyadic; please report it with the command you ran.\n'
-    );
-    return EXIT.internal;
   }
 }

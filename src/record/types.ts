@@ -1,6 +1,6 @@
 /**
  * Types of the record Polyadic keeps in a notebook's metadata (DESIGN.md §4). They mirror
- * schema/record.schema.json field by field; the schema is what is checked, these are what the
+ * src/record/record.schema.json field by field; the schema is what is checked, these are what the
  * code reads after a check.
  */
 

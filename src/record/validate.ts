@@ -1,5 +1,5 @@
 /**
- * Validation of the record against schema/record.schema.json with Ajv (draft 2020-12), plus
+ * Validation of the record against src/record/record.schema.json with Ajv (draft 2020-12), plus
  * the few rules a JSON Schema cannot state (ids unique across analyses, the binning list
  * following the selected columns, summary multiplets drawn from the selection). Every problem
  * names the JSON Pointer of the offending value, so a person can find it in a hand-edited file.
@@ -116,7 +116,7 @@ namespace Private {
     if (compiled) {
       return compiled;
     }
-    const make = (useDefaults: boolean): Ajv2020 => makeAjv(useDefaults).addSchema(RECORD_SCHEMA as unknown as object);
+    const make = (useDefaults: boolean): Ajv2020 => makeAjv(useDefaults).addSchema(RECORD_SCHEMA);
     const strict = make(false);
     const filling = make(true);
     const analysisRef = `${RECORD_SCHEMA_ID}#/$defs/analysis`;

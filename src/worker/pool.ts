@@ -49,13 +49,13 @@ export function defaultWorkerCount(hardwareConcurrency?: number): number {
 }
 
 /** The rejection of a run that was cancelled (or whose pool was disposed). */
-export class RunCancelled extends Error {
-  /** Always 'cancelled', so a view can tell it from a {@link PolyadicError} by `kind`. */
-  readonly kind = 'cancelled' as const;
+export class RunCancelled extends PolyadicError {
+  /** Always 'cancelled' (the one kind {@link isCancellation} recognises). */
+  declare readonly kind: 'cancelled';
 
   /** Create the error; `message` says what stopped the run. */
   constructor(message = 'The analysis was cancelled.') {
-    super(message);
+    super('cancelled', message);
     this.name = 'RunCancelled';
   }
 }

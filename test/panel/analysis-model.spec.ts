@@ -186,11 +186,15 @@ describe('AnalysisModel', () => {
       await settle();
       // every column selected: the flags are boolean, and the run says which
       expect(analysis.run.state).toBe('error');
-      expect(analysis.run.message).toMatch(/'valve_command' is boolean/);
+      expect(analysis.run.error?.message).toMatch(/'valve_command' is boolean/);
+      // the error names its column: the Dataframe section marks that column, not the Binning one
+      expect(analysis.data.fault?.detail.column).toBe('valve_command');
+      expect(analysis.binning.faultOf('valve_command')).toBeNull();
       analysis.data.setSelected('valve_command', false);
       analysis.data.setSelected('leak_alarm', false);
       await analysis.start();
       await settle();
+      expect(analysis.data.fault).toBeNull();
       const result = analysis.latest!.result;
       expect(result.estimator).toBe('gaussian-copula');
       expect(result.columns.map(column => column.binning.method)).toEqual(['copula', 'copula', 'copula', 'copula']);
@@ -199,6 +203,29 @@ describe('AnalysisModel', () => {
       // the record the panel writes says so and passes the schema
       const recorded = records.state!.analyses;
       expect(recorded.map(a => [a.estimator, a.binning[0].method, a.binning[0].spec])).toEqual([['gaussian-copula', 'copula', 'copula']]);
+      analysis.dispose();
+    });
+
+    it('should hold the error of a run refused by a column’s edges, and mark that column’s binning row', async () => {
+      const kernel = new FakeKernel(await greenhouseColumns());
+      const { analysis } = await panelOn(kernel);
+      // well-formed edges that leave the recorded temperatures outside
+      analysis.binning.setSpec('air_temp_c', 'edges:-100,-99');
+      expect(analysis.blocker).toBeNull();
+      await analysis.start();
+      await settle();
+      expect(analysis.run.state).toBe('error');
+      const error = analysis.run.error!;
+      expect(error.kind).toBe('input');
+      expect(error.detail).toMatchObject({ column: 'air_temp_c', option: 'bins' });
+      expect(analysis.binning.faultOf('air_temp_c')?.detail.column).toBe('air_temp_c');
+      expect(analysis.binning.faultOf('air_temp_c')?.message).toMatch(/outside the edges -100 … -99/);
+      expect(analysis.data.fault).toBeNull();
+      analysis.binning.setSpec('air_temp_c', 'auto');
+      await analysis.start();
+      await settle();
+      expect(analysis.run.state).toBe('done');
+      expect(analysis.binning.faultOf('air_temp_c')).toBeNull();
       analysis.dispose();
     });
 

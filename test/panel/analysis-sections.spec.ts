@@ -5,6 +5,7 @@
 import { adequacyOf, EstimatorModel, maxOrderByRule } from '../../src/panel/estimator/model';
 import { BinningModel } from '../../src/panel/binning/model';
 import { columnStats, WARNING_BADGE, WARNING_TEXT } from '../../src/panel/data/stats';
+import { PolyadicError } from '../../src/engine/errors';
 import type { ColumnView } from '../../src/engine/types';
 import { previewColumn } from '../../src/worker/handlers';
 import type { IColumnPreview } from '../../src/worker/protocol';
@@ -141,8 +142,8 @@ describe('BinningModel', () => {
     model.setSpec('a', 'quantile:zero');
     await jest.advanceTimersByTimeAsync(20);
     expect(calls).toEqual([]);
-    expect(model.preview.error).toMatch(/quantile:zero/);
-    expect(model.problemOf('a')).toMatch(/not valid/);
+    expect(model.preview.error?.message).toMatch(/quantile:zero/);
+    expect(model.problemOf('a')?.message).toMatch(/not valid/);
     model.dispose();
   });
 
@@ -175,12 +176,50 @@ describe('BinningModel', () => {
     model.setColumns([numeric('flag', [0, 1, 1, 0, 1, 0, 0, 0]), numeric('level', [0, 1, 2, 1, 1, 0, 2, 1])]);
     model.requestBinCounts(['flag', 'level']);
     await jest.advanceTimersByTimeAsync(50);
-    expect(model.outcomeOf('flag')).toEqual({ spec: 'auto', bins: 2, method: 'categorical', warnings: [] });
+    expect(model.outcomeOf('flag')).toEqual({ spec: 'auto', bins: 2, method: 'categorical', warnings: [], error: null });
     model.setSpec('flag', 'quantile:4');
     await jest.advanceTimersByTimeAsync(50);
     const merged = model.outcomeOf('flag')!;
     expect([merged.bins, merged.method]).toEqual([1, 'quantile']);
     expect(merged.warnings.join(' ')).toMatch(/'flag' has only 2 distinct values, and quantile:4 merges them into 1 bin/);
+    model.dispose();
+  });
+
+  it('should mark the row whose valid edges the engine refuses on the data, with the engine’s error and its column', async () => {
+    const model = new BinningModel({
+      debounceMs: 10,
+      preview: (column, spec) => Promise.resolve().then(() => previewColumn(column, spec))
+    });
+    model.setColumns([numeric('a', [0.5, 1.5, 2.5, 9]), numeric('b', [1, 2, 3, 4])]);
+    model.requestBinCounts(['a', 'b']);
+    await jest.advanceTimersByTimeAsync(50);
+    // a well-formed spec, so a run is not blocked by its text: the value 9 lies outside the edges
+    model.setSpec('a', 'edges:0,1,3');
+    model.focus('b');
+    await jest.advanceTimersByTimeAsync(50);
+    expect(model.problemOf('a')).toBeNull();
+    const fault = model.faultOf('a');
+    expect(fault?.kind).toBe('input');
+    expect(fault?.detail.column).toBe('a');
+    expect(fault?.message).toMatch(/Column 'a' has the value 9 at row 3, outside the edges 0 … 3/);
+    expect(model.faultOf('b')).toBeNull();
+    model.setSpec('a', 'edges:0,1,10');
+    await jest.advanceTimersByTimeAsync(50);
+    expect(model.faultOf('a')).toBeNull();
+    model.dispose();
+  });
+
+  it('should mark the row a failed run names until its spec changes, and ignore errors about other things', () => {
+    const model = new BinningModel({ preview: fakePreview([]), debounceMs: 10 });
+    model.setColumns([numeric('a', [1, 2]), numeric('b', [2, 1])]);
+    const refused = new PolyadicError('input', "Column 'b' is refused.", { column: 'b', option: 'bins' });
+    model.setRunFault(refused);
+    expect(model.faultOf('b')).toBe(refused);
+    expect(model.faultOf('a')).toBeNull();
+    model.setSpec('b', 'width:3');
+    expect(model.faultOf('b')).toBeNull();
+    model.setRunFault(new PolyadicError('input', "Column 'a' is all missing.", { column: 'a' }));
+    expect(model.faultOf('a')).toBeNull();
     model.dispose();
   });
 

@@ -113,7 +113,7 @@ describe('DataModel', () => {
       loading.forEach((entry, i) => expect(entry.fraction).toBeCloseTo(expected[i], 12));
       expect(loading.every(entry => entry.fraction < 1)).toBe(true);
       expect(loading.map(entry => entry.counted)).toEqual([0, 0, 1, 2]);
-      expect(seen[seen.length - 1]).toEqual({ state: 'loaded', fraction: 1, message: null, counted: 3 });
+      expect(seen[seen.length - 1]).toEqual({ state: 'loaded', fraction: 1, error: null, counted: 3 });
     });
 
     it('should read the picked frame again when the listing shows it with other rows, keeping the selection', async () => {

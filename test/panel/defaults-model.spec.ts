@@ -79,7 +79,7 @@ describe('DefaultsModel', () => {
       model.fail('Settings could not be loaded.');
       expect(model.settings).toBeNull();
       expect(model.rows).toEqual([]);
-      expect(model.error).toBe('Settings could not be loaded.');
+      expect(model.error?.message).toBe('Settings could not be loaded.');
     });
   });
 

@@ -124,13 +124,13 @@ describe('RecordsModel', () => {
     it('should refuse without a notebook and without fetched columns', async () => {
       const model = new RecordsModel();
       expect(await model.recordRun(runOf(columns))).toBeNull();
-      expect(model.error).toMatch(/No notebook is open/);
+      expect(model.error?.message).toMatch(/No notebook is open/);
       const metadata = metadataOf();
       model.setNotebook({ path: 'a.ipynb', metadata });
       const run = runOf(columns);
       delete run.frame.columns;
       expect(await model.recordRun(run)).toBeNull();
-      expect(model.error).toMatch(/did not pass on the columns/);
+      expect(model.error?.message).toMatch(/did not pass on the columns/);
       expect(metadata.writes).toBe(0);
     });
 
@@ -178,7 +178,7 @@ describe('RecordsModel', () => {
       expect(model.state?.analyses[0].label).toBe('Drip line <b>check</b>');
       const writes = metadata.writes;
       expect(model.rename('pd-renameme0001', '   ')).toBe(false);
-      expect(model.error).toMatch(/empty/);
+      expect(model.error?.message).toMatch(/empty/);
       expect(metadata.writes).toBe(writes);
       expect(model.remove('pd-renameme0001')).toBe(true);
       expect(model.state?.analyses).toEqual([]);

@@ -58,7 +58,7 @@ def markdown_cells(markdown: str) -> list[list[str]]:
 
 
 def test_pattern_is_the_schema_pattern():
-    schema = json.loads((ROOT / "schema" / "record.schema.json").read_text())
+    schema = json.loads((ROOT / "src" / "record" / "record.schema.json").read_text())
     assert RECORD_ID_PATTERN == schema["$defs"]["recordId"]["pattern"]
 
 

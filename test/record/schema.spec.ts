@@ -1,5 +1,5 @@
 /**
- * The record schema: the file and the module agree, the schema is a valid draft 2020-12 schema
+ * The record schema: the module exports the one file (src/record/record.schema.json), the schema is a valid draft 2020-12 schema
  * written to our conventions, valid fixtures pass and each invalid fixture fails with a message
  * naming the JSON path of its one defect.
  */
@@ -8,14 +8,14 @@ import * as path from 'path';
 
 import Ajv2020 from 'ajv/dist/2020';
 
-import { RECORD_SCHEMA } from '../../src/record/schema';
+import { RECORD_ID_PATTERN, RECORD_SCHEMA, RECORD_SCHEMA_ID } from '../../src/record/schema';
 import { completeAnalysis, validateAnalysis, validateRecord } from '../../src/record/validate';
 import type { IRecordDocument } from '../../src/record/types';
 import { clone } from './helpers';
 
 const ROOT = path.resolve(__dirname, '..', '..');
 const FIXTURES = path.join(__dirname, 'fixtures');
-const schemaFile = JSON.parse(fs.readFileSync(path.join(ROOT, 'schema', 'record.schema.json'), 'utf8'));
+const schemaFile = JSON.parse(fs.readFileSync(path.join(ROOT, 'src', 'record', 'record.schema.json'), 'utf8'));
 const valid = JSON.parse(fs.readFileSync(path.join(FIXTURES, 'valid-record.json'), 'utf8')) as IRecordDocument;
 
 function readFixture(name: string): unknown {
@@ -42,8 +42,11 @@ function subschemas(schema: unknown, at = ''): { at: string; node: Record<string
 }
 
 describe('record schema', () => {
-  it('should be the same document in schema/record.schema.json and src/record/schema.ts', () => {
-    expect(schemaFile).toEqual(JSON.parse(JSON.stringify(RECORD_SCHEMA)));
+  it('should be exported by the module as the file src/record/record.schema.json, its id and id pattern read from it', () => {
+    expect(RECORD_SCHEMA).toEqual(schemaFile);
+    expect(RECORD_SCHEMA_ID).toBe('urn:jupyterlab-polyadic:record:2');
+    expect(RECORD_ID_PATTERN).toBe('^pd-[0-9a-z]{8,32}$');
+    expect(new RegExp(RECORD_ID_PATTERN).test('pd-0123abcd')).toBe(true);
   });
 
   it('should be a valid draft 2020-12 schema that compiles in strict mode', () => {

@@ -90,6 +90,31 @@ test('should keep 0/1 and 0/1/2 integer columns as categories by default and fin
   await expect(binningRow('spike_a').locator('.pd-Binning-rowWarning')).toHaveCount(0);
 });
 
+test('should mark the Binning row whose edges leave values outside, and keep it marked after the run they refuse', async () => {
+  const panel = polyadicPanel(page);
+  const input = panel.getByLabel('Binning of column genotype', { exact: true });
+  const row = binningRow('genotype');
+  await expect(row).not.toHaveClass(/pd-mod-fault/);
+  // well-formed edges, so Run is not blocked by the text; the genotypes 0, 1, 2 all lie outside them
+  await input.fill('edges:5,6');
+  await expect(row).toHaveClass(/pd-mod-fault/);
+  await expect(input).toHaveAttribute('aria-invalid', 'true');
+  await expect(row.locator('.pd-Binning-problem')).toContainText("Column 'genotype' has the value");
+  await expect(row.locator('.pd-Binning-problem')).toContainText('outside the edges 5 … 6');
+  await panel.getByRole('button', { name: 'Run', exact: true }).click();
+  await expect(panel.locator('.pd-Run')).toHaveAttribute('data-state', 'error', { timeout: 60_000 });
+  await expect(panel.locator('.pd-Run-status')).toContainText("Column 'genotype'");
+  // with another row focused, the row at fault stays marked; the other rows are not
+  await panel.getByLabel('Binning of column spike_a', { exact: true }).focus();
+  await expect(row).toHaveClass(/pd-mod-fault/);
+  await expect(binningRow('spike_a')).not.toHaveClass(/pd-mod-fault/);
+  await polyadicPanel(page).locator('.pd-Binning').screenshot({ path: path.join(ARTIFACTS, 'binning-row-at-fault.png') });
+  await input.fill('auto');
+  await expect(row).not.toHaveClass(/pd-mod-fault/);
+  await expect(input).toHaveAttribute('aria-invalid', 'false');
+  await run();
+});
+
 test('should leave the keyboard to the notebook after the Polyadic cell toolbar button', async () => {
   // The results views of the runs above share the main area with the notebook, whose toolbar
   // then folds its last buttons into its overflow menu: close them, the notebook takes the width.

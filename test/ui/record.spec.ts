@@ -1,6 +1,6 @@
 /**
  * Browser test of the record in a real JupyterLab with a real kernel: run an analysis, save,
- * read the .ipynb the server wrote and validate its record against schema/record.schema.json,
+ * read the .ipynb the server wrote and validate its record against src/record/record.schema.json,
  * reopen the notebook and restore the settings, insert a analysis cell and see it drawn
  * (with the Markdown fallback saved beside it), then run `polyadic verify` on the saved
  * notebook with the frame's Parquet file: it passes, and fails on a copy with one value changed.
@@ -80,7 +80,7 @@ test('should record a completed run in the notebook and save a record that valid
   await save();
   const notebook = (await serverFile(NOTEBOOK, 'json')) as { metadata: Record<string, unknown> };
   const record = notebook.metadata.polyadic as { version: number; analyses: { id: string; estimator: string; max_order: number; columns: string[]; summary: { synergy: { columns: string[] }[] } }[] };
-  const schema = JSON.parse(readFileSync(path.join(REPO, 'schema', 'record.schema.json'), 'utf8')) as object;
+  const schema = JSON.parse(readFileSync(path.join(REPO, 'src', 'record', 'record.schema.json'), 'utf8')) as object;
   const ajv = new Ajv2020({ allErrors: true, strict: false });
   ajv.addFormat('date-time', true);
   const validate = ajv.compile(schema);

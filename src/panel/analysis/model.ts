@@ -8,7 +8,7 @@ import type { JSONObject } from '@lumino/coreutils';
 import { ISignal, Signal } from '@lumino/signaling';
 
 import type { IFetchedFrame } from '../../bridge/decode';
-import { errorMessage, isCancellation } from '../../engine/errors';
+import { asPolyadicError, errorMessage, isCancellation, PolyadicError } from '../../engine/errors';
 import { formatCount, plural, wordFor } from '../../engine/text';
 import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
 import { newRecordId } from '../../record/ids';
@@ -246,7 +246,7 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
     const frameName = this.data.frame;
     if (this.isRunning || blocker !== null || bridge === null || frameName === null) {
       if (!this.isRunning && blocker !== null) {
-        this._setRun({ state: 'error', progress: null, message: blocker });
+        this._setRun({ state: 'error', progress: null, error: new PolyadicError('usage', blocker) });
       }
       return;
     }
@@ -254,14 +254,16 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
     const started = this._now();
     const options = this.options();
     const listed = this.data.frameInfo;
-    this._setRun({ state: 'fetching', progress: null, message: null });
+    this._setRun({ state: 'fetching', progress: null, error: null });
+    this.binning.setRunFault(null);
+    this.data.setRunFault(null);
     try {
       const fetched: IFetchedFrame = await bridge.fetch(frameName, options.columns ?? [], {
         rowCap: this._settings?.rowCap,
         onProgress: progress => {
           if (ticket === this._ticket && progress.bytesTotal > 0) {
             this._fetchFraction = progress.bytesReceived / progress.bytesTotal;
-            this._setRun({ state: 'fetching', progress: null, message: null });
+            this._setRun({ state: 'fetching', progress: null, error: null });
           }
         }
       });
@@ -271,11 +273,11 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
       // the run read the frame as it is now: the loaded frame (and the "data changed" check on
       // the chosen record) follows at once, before the engine has finished
       this.data.adopt(fetched);
-      this._setRun({ state: 'running', progress: null, message: null });
+      this._setRun({ state: 'running', progress: null, error: null });
       const outcome = await this._engine.analyze(fetched.columns, options, {
         onProgress: progress => {
           if (ticket === this._ticket) {
-            this._setRun({ state: 'running', progress, message: null });
+            this._setRun({ state: 'running', progress, error: null });
           }
         }
       });
@@ -310,7 +312,7 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
         completed.analysisId = repeated;
       }
       this._latest = completed;
-      this._setRun({ state: 'done', progress: null, message: null });
+      this._setRun({ state: 'done', progress: null, error: null });
       this._resultChanged.emit(completed);
       this._runCompleted.emit(completed);
       void this._sendToKernel(completed);
@@ -318,11 +320,13 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
       if (ticket !== this._ticket) {
         return;
       }
-      this._setRun({
-        state: isCancellation(error) ? 'cancelled' : 'error',
-        progress: null,
-        message: errorMessage(error)
-      });
+      const failure = asPolyadicError(error);
+      this._setRun({ state: isCancellation(failure) ? 'cancelled' : 'error', progress: null, error: failure });
+      // the column or binning at fault is marked in its section
+      if (!isCancellation(failure)) {
+        this.binning.setRunFault(failure);
+        this.data.setRunFault(failure);
+      }
     }
   }
 
@@ -333,7 +337,7 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
     }
     this._ticket++;
     this._engine.cancel();
-    this._setRun({ state: 'cancelled', progress: null, message: 'The analysis was cancelled.' });
+    this._setRun({ state: 'cancelled', progress: null, error: new PolyadicError('cancelled', 'The analysis was cancelled.') });
   }
 
   /** Fraction of the fetch of the current run received, 0 … 1. */
@@ -420,7 +424,7 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
       this._resultChanged.emit(null);
     }
     if (this._run.state !== 'idle') {
-      this._setRun({ state: 'idle', progress: null, message: null });
+      this._setRun({ state: 'idle', progress: null, error: null });
     }
   }
 
@@ -449,7 +453,7 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
   private _choices = new Map<string, IEstimatorChoices & { touched: boolean }>();
   private _applyingSettings = false;
   private _latest: IRunCompleted | null = null;
-  private _run: IRunStatus = { state: 'idle', progress: null, message: null };
+  private _run: IRunStatus = { state: 'idle', progress: null, error: null };
   private _fetchFraction = 0;
   private _kernelMessage: string | null = null;
   private _ticket = 0;

@@ -5,6 +5,7 @@
  */
 import type { ISignal } from '@lumino/signaling';
 
+import type { PolyadicError } from '../../engine/errors';
 import type { IFetchedField } from '../../bridge/decode';
 import type { IFrameInfo } from '../../bridge/protocol';
 import type { ColumnView, IAnalysisResult, IAnalyzeOptions } from '../../engine/types';
@@ -83,6 +84,9 @@ export interface IRunStatus {
   state: RunState;
   /** The latest progress report while running. */
   progress: IRunProgress | null;
-  /** One or two sentences for the user (error or cancellation), plain text. */
-  message: string | null;
+  /**
+   * Why the run did not finish (state 'error' or 'cancelled'): its message is one or two
+   * sentences for the user, its `detail` the column, row or option at fault.
+   */
+  error: PolyadicError | null;
 }

@@ -9,7 +9,7 @@ import { ISignal, Signal } from '@lumino/signaling';
 import { defaultBinSpec, formatBinSpec, parseBinSpec } from '../../engine/binning';
 import type { BinMethod, ColumnView } from '../../engine/types';
 import type { IColumnPreview } from '../../worker/protocol';
-import { errorMessage } from '../../engine/errors';
+import { asPolyadicError, type PolyadicError } from '../../engine/errors';
 
 /** What a column's current spec gave, as its row in the Binning section says. */
 export interface IBinOutcome {
@@ -21,6 +21,8 @@ export interface IBinOutcome {
   method: BinMethod | null;
   /** The engine's warnings about this column under the spec (merged values, a single value, …). */
   warnings: string[];
+  /** Why the engine refused the spec on this column's data (null: it did not). */
+  error: PolyadicError | null;
 }
 
 /** What the preview area shows. */
@@ -31,8 +33,8 @@ export interface IPreviewState {
   spec: string | null;
   /** The preview, once computed. */
   preview: IColumnPreview | null;
-  /** Why there is no preview (bad spec, engine error), plain text. */
-  error: string | null;
+  /** Why there is no preview (bad spec, engine error). */
+  error: PolyadicError | null;
   /** A preview is being computed. */
   pending: boolean;
 }
@@ -117,8 +119,8 @@ export class BinningModel {
     return this._specs.get(name);
   }
 
-  /** Why a column's spec is not valid, or null. */
-  problemOf(name: string): string | null {
+  /** Why a column's spec is not valid as text, or null (a run waits until it is). */
+  problemOf(name: string): PolyadicError | null {
     const spec = this._specs.get(name);
     if (spec === undefined) {
       return null;
@@ -127,7 +129,44 @@ export class BinningModel {
       parseBinSpec(spec);
       return null;
     } catch (error) {
-      return errorMessage(error);
+      return asPolyadicError(error);
+    }
+  }
+
+  /**
+   * What is wrong with a column's binning, or null: its spec as text, else the engine's refusal of
+   * the spec on the column's data (seen by a preview), else the last run's error when it names
+   * this column's binning. The Binning row of the column is marked with it.
+   */
+  faultOf(name: string): PolyadicError | null {
+    const problem = this.problemOf(name);
+    if (problem !== null) {
+      return problem;
+    }
+    const state = this._state;
+    if (state.column === name && state.error !== null && state.spec === this._specs.get(name)?.trim()) {
+      return state.error;
+    }
+    const refused = this.outcomeOf(name)?.error ?? null;
+    if (refused !== null) {
+      return refused;
+    }
+    const run = this._runFault;
+    return run !== null && run.error.detail.column === name && run.spec === this._specs.get(name)?.trim() ? run.error : null;
+  }
+
+  /**
+   * The error of the last run (null: it did not fail, or another run started). One that names
+   * a column's binning (`detail.column` with `detail.option` 'bins') marks that column's row
+   * until its spec changes.
+   */
+  setRunFault(error: PolyadicError | null): void {
+    const column = error?.detail.column;
+    const spec = typeof column === 'string' ? this._specs.get(column) : undefined;
+    const fault = error !== null && error.detail.option === 'bins' && spec !== undefined ? { error, spec: spec.trim() } : null;
+    if (fault?.error !== this._runFault?.error) {
+      this._runFault = fault;
+      this._changed.emit();
     }
   }
 
@@ -262,7 +301,7 @@ export class BinningModel {
       if (ticket !== this._ticket || this._isDisposed) {
         return;
       }
-      this._state = { column: name, spec, preview: null, error: errorMessage(error), pending: false };
+      this._state = { column: name, spec, preview: null, error: asPolyadicError(error), pending: false };
     }
     this._changed.emit();
     void this._fillBins();
@@ -282,9 +321,9 @@ export class BinningModel {
         try {
           const preview = await this._preview(column, spec);
           this._bins.set(name, Private.outcome(spec, preview));
-        } catch {
-          // An engine error for this spec shows when the column is previewed or run; skip it here.
-          this._bins.set(name, { spec, bins: Number.NaN, method: null, warnings: [] });
+        } catch (error) {
+          // the engine refused this spec on the column's data: its row is marked (faultOf)
+          this._bins.set(name, { spec, bins: Number.NaN, method: null, warnings: [], error: asPolyadicError(error) });
         }
         this._changed.emit();
       }
@@ -294,6 +333,7 @@ export class BinningModel {
   }
 
   private _preview: PreviewFunction;
+  private _runFault: { error: PolyadicError; spec: string } | null = null;
   private _debounceMs: number;
   private _numericDefault: string | null;
   private _columns = new Map<string, ColumnView>();
@@ -331,6 +371,6 @@ export namespace BinningModel {
 namespace Private {
   /** The outcome of a spec from its preview. */
   export function outcome(spec: string, preview: IColumnPreview): IBinOutcome {
-    return { spec, bins: preview.binCounts.length, method: preview.binning.binning.method, warnings: [...preview.warnings] };
+    return { spec, bins: preview.binCounts.length, method: preview.binning.binning.method, warnings: [...preview.warnings], error: null };
   }
 }

@@ -102,12 +102,13 @@ export class BinningView extends SectionView<BinningModel> {
       if (input.value !== spec && document.activeElement !== input) {
         input.value = spec;
       }
-      const text = this.model.problemOf(name);
-      problem.textContent = text ?? '';
-      problem.hidden = text === null;
-      input.setAttribute('aria-invalid', text === null ? 'false' : 'true');
+      const fault = this.model.faultOf(name);
+      problem.textContent = fault?.message ?? '';
+      problem.hidden = fault === null;
+      input.setAttribute('aria-invalid', fault === null ? 'false' : 'true');
+      row.classList.toggle('pd-mod-fault', fault !== null);
       row.classList.toggle('jp-mod-active', this.model.focused === name);
-      Private.showOutcome(outcome, text === null ? this.model.outcomeOf(name) : null, this.trans);
+      Private.showOutcome(outcome, fault === null ? this.model.outcomeOf(name) : null, this.trans);
     }
     const focused = this.model.focused;
     this._apply.disabled = focused === null || !this.model.isNumeric(focused);
@@ -152,7 +153,7 @@ export class BinningView extends SectionView<BinningModel> {
       return;
     }
     if (state.error !== null) {
-      figure.replaceChildren(textElement('figcaption', 'pd-Binning-caption', trans.__('Preview of %1', state.column)), textElement('p', 'pd-Binning-problem', state.error));
+      figure.replaceChildren(textElement('figcaption', 'pd-Binning-caption', trans.__('Preview of %1', state.column)), textElement('p', 'pd-Binning-problem', state.error.message));
       return;
     }
     const preview = state.preview;

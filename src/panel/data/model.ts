@@ -15,7 +15,7 @@ import type { ColumnKind, IFrameInfo } from '../../bridge/protocol';
 import { sameColumnData } from '../../engine/table';
 import type { ColumnView } from '../../engine/types';
 import { columnStats, IColumnStats } from './stats';
-import { errorMessage } from '../../engine/errors';
+import { asPolyadicError, type PolyadicError } from '../../engine/errors';
 
 /** One row of the column checklist. */
 export interface IColumnEntry {
@@ -37,8 +37,8 @@ export interface ILoadState {
    * (see {@link DataModel.FETCH_SHARE}); 1 only once the columns are ready.
    */
   fraction: number;
-  /** What went wrong, plain text. */
-  message: string | null;
+  /** What went wrong (its `detail.column` names the column at fault, if one is). */
+  error: PolyadicError | null;
 }
 
 /** State of the Dataframe section. */
@@ -112,6 +112,29 @@ export class DataModel {
   /** Loading state of the picked frame. */
   get load(): ILoadState {
     return this._load;
+  }
+
+  /**
+   * The error of a column of this frame: the load's, else the last run's unless it concerns the
+   * column's binning (the Binning section marks those). Null when no column is at fault.
+   */
+  get fault(): PolyadicError | null {
+    for (const error of [this._load.error, this._runFault]) {
+      const column = error?.detail.column;
+      if (error && typeof column === 'string' && this._columns.some(entry => entry.name === column)) {
+        return error;
+      }
+    }
+    return null;
+  }
+
+  /** The error of the last run (null: it did not fail, or a run started); see {@link fault}. */
+  setRunFault(error: PolyadicError | null): void {
+    const fault = error !== null && error.detail.option !== 'bins' ? error : null;
+    if (fault !== this._runFault) {
+      this._runFault = fault;
+      this._changed.emit();
+    }
   }
 
   /** Selected column names, in frame order. */
@@ -227,7 +250,8 @@ export class DataModel {
     const previous = new Set(this._selected);
     this._selected.clear();
     this._columns = (info?.columns ?? []).map(column => ({ ...column, stats: null, view: null }));
-    this._load = { state: name === null ? 'idle' : 'loading', fraction: 0, message: null };
+    this._load = { state: name === null ? 'idle' : 'loading', fraction: 0, error: null };
+    this._runFault = null;
     if (changedFrame) {
       this._frameChanged.emit(name);
     }
@@ -276,13 +300,12 @@ export class DataModel {
           this._selected.add(column.name);
         }
       }
-      this._load = { state: 'loaded', fraction: 1, message: null };
+      this._load = { state: 'loaded', fraction: 1, error: null };
     } catch (error) {
       if (ticket !== this._ticket) {
         return;
       }
-      const message = errorMessage(error);
-      this._load = { state: 'error', fraction: 0, message };
+      this._load = { state: 'error', fraction: 0, error: asPolyadicError(error) };
     }
     this._changed.emit();
   }
@@ -313,7 +336,8 @@ export class DataModel {
   private _columns: IColumnEntry[] = [];
   private _selected = new Set<string>();
   private _fetched: IFetchedFrame | null = null;
-  private _load: ILoadState = { state: 'idle', fraction: 0, message: null };
+  private _runFault: PolyadicError | null = null;
+  private _load: ILoadState = { state: 'idle', fraction: 0, error: null };
   private _rowCap: number | undefined;
   private _loadedShape = '';
   private _ticket = 0;

@@ -55,7 +55,7 @@ export class DataView extends SectionView<DataModel> {
     } else if (ready && model.frame === null) {
       this._message.textContent = this.trans.__('Pick a dataframe to see its columns.');
     } else if (load.state === 'error') {
-      this._message.textContent = load.message ?? this.trans.__('The dataframe could not be loaded.');
+      this._message.textContent = load.error?.message ?? this.trans.__('The dataframe could not be loaded.');
     } else if (load.state === 'loading') {
       this._message.textContent = this.trans.__('Loading the columns…');
     } else {
@@ -145,6 +145,27 @@ export class DataView extends SectionView<DataModel> {
     }
     for (const [name, box] of this._boxes) {
       box.checked = this.model.isSelected(name);
+    }
+    this._markFault();
+  }
+
+  /** Mark the row of the column at fault (the model's fault names it), with the error's message. */
+  private _markFault(): void {
+    const fault = this.model.fault;
+    const column = fault === null ? null : fault.detail.column;
+    for (const [name, box] of this._boxes) {
+      const row = box.closest('tr');
+      if (row === null) {
+        continue;
+      }
+      const atFault = name === column;
+      row.classList.toggle('pd-mod-fault', atFault);
+      row.querySelector('.pd-Data-fault')?.remove();
+      if (atFault && fault !== null) {
+        const note = textElement('span', 'pd-Badge pd-mod-error pd-Data-fault', this.trans.__('at fault'));
+        note.title = fault.message;
+        row.querySelector('.pd-Data-name')?.append(' ', note);
+      }
     }
   }
 

@@ -4,6 +4,7 @@
  */
 import { ISignal, Signal } from '@lumino/signaling';
 
+import { asPolyadicError, PolyadicError } from '../../engine/errors';
 import { formatCount } from '../../engine/text';
 import type { IPolyadicSettings } from '../../settings';
 
@@ -51,8 +52,8 @@ export class DefaultsModel {
     return this._rows;
   }
 
-  /** Why the settings could not be loaded, or `null`. */
-  get error(): string | null {
+  /** Why the settings could not be loaded (its message is what the section shows), or `null`. */
+  get error(): PolyadicError | null {
     return this._error;
   }
 
@@ -67,11 +68,12 @@ export class DefaultsModel {
     this._changed.emit();
   }
 
-  /** Record that the settings could not be loaded; the section shows `message`. */
-  fail(message: string): void {
+  /** Record that the settings could not be loaded; the section shows `message` (`cause`: what failed). */
+  fail(message: string, cause?: unknown): void {
     this._settings = null;
     this._rows = [];
-    this._error = message;
+    const origin = cause === undefined ? null : asPolyadicError(cause);
+    this._error = new PolyadicError(origin?.kind ?? 'internal', message, origin?.detail);
     this._changed.emit();
   }
 
@@ -91,7 +93,7 @@ export class DefaultsModel {
 
   private _settings: IPolyadicSettings | null = null;
   private _rows: IDefaultRow[] = [];
-  private _error: string | null = null;
+  private _error: PolyadicError | null = null;
   private _isDisposed = false;
   private _changed = new Signal<this, void>(this);
 }

@@ -22,7 +22,7 @@ export class DefaultsView extends SectionView<DefaultsModel> {
     const children: HTMLElement[] = [];
     const error = this.model.error;
     if (error !== null) {
-      const message = textElement('p', 'pd-Defaults-error', error);
+      const message = textElement('p', 'pd-Defaults-error', error.message);
       message.setAttribute('role', 'alert');
       children.push(message);
     } else if (this.model.rows.length === 0) {

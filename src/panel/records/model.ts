@@ -8,7 +8,7 @@
  */
 import { ISignal, Signal } from '@lumino/signaling';
 
-import { isPolyadicError } from '../../engine/errors';
+import { asPolyadicError, errorMessage, PolyadicError } from '../../engine/errors';
 import { formatCount, plural, wordFor } from '../../engine/text';
 import { fingerprintColumns, type IFingerprint } from '../../record/fingerprint';
 import { recordFromResult } from '../../record/recordFromResult';
@@ -78,17 +78,17 @@ export class RecordsModel implements IPolyadicPanel.IRecords {
     return this._checks.get(id) ?? null;
   }
 
-  /** The message of the last action that failed, or `null`. */
-  get error(): string | null {
+  /** Why the last action failed (its message is what the section shows), or `null`. */
+  get error(): PolyadicError | null {
     return this._error;
   }
 
   /** Show a sentence about the last action (e.g. what a restore could not set), or clear it. */
   setNotice(message: string | null): void {
-    if (message === this._error) {
+    if (message === (this._error?.message ?? null)) {
       return;
     }
-    this._error = message;
+    this._error = message === null ? null : new PolyadicError('usage', message);
     this._changed.emit();
   }
 
@@ -160,7 +160,7 @@ export class RecordsModel implements IPolyadicPanel.IRecords {
     try {
       analysis = await this._analysisOf(run);
     } catch (error) {
-      return this._fail(`The run was not recorded: ${Private.messageOf(error)}`);
+      return this._fail(`The run was not recorded: ${errorMessage(error)}`, error);
     }
     // the person may have switched notebooks while the fingerprint was computed
     if (this._notebook !== notebook) {
@@ -177,7 +177,7 @@ export class RecordsModel implements IPolyadicPanel.IRecords {
         this._state = addAnalysis(notebook.metadata, analysis);
       }
     } catch (error) {
-      return this._fail(`The run was not recorded: ${Private.messageOf(error)}`);
+      return this._fail(`The run was not recorded: ${errorMessage(error)}`, error);
     }
     // a re-run on the same data answers the data check of the analysis it replaces
     this._checks.delete(analysis.id);
@@ -196,19 +196,19 @@ export class RecordsModel implements IPolyadicPanel.IRecords {
     const notebook = this._notebook;
     if (notebook === null) {
       this._fail('No notebook is open, so the robustness check was not recorded.');
-      return this._error;
+      return this._error?.message ?? null;
     }
     const id = this._recordedAs.get(run.analysisId) ?? run.analysisId;
     const analysis = this._state === null ? undefined : findAnalysis(this._state, id);
     if (analysis === undefined) {
       this._fail(`The robustness check was not recorded: analysis '${id}' is not in this notebook's record.`);
-      return this._error;
+      return this._error?.message ?? null;
     }
     try {
       this._state = replaceAnalysis(notebook.metadata, withRobustness(analysis, result));
     } catch (error) {
-      this._fail(`The robustness check was not recorded: ${Private.messageOf(error)}`);
-      return this._error;
+      this._fail(`The robustness check was not recorded: ${errorMessage(error)}`, error);
+      return this._error?.message ?? null;
     }
     this._error = null;
     this._changed.emit();
@@ -284,7 +284,7 @@ export class RecordsModel implements IPolyadicPanel.IRecords {
     try {
       this._state = write(this._notebook.metadata);
     } catch (error) {
-      this._fail(Private.messageOf(error));
+      this._fail(errorMessage(error), error);
       return false;
     }
     if (this._selectedId !== null && this.selected === null) {
@@ -321,8 +321,10 @@ export class RecordsModel implements IPolyadicPanel.IRecords {
     });
   }
 
-  private _fail(message: string): null {
-    this._error = message;
+  /** Keep a failure: `message` says what was not done; `cause`, if any, gives its kind and detail. */
+  private _fail(message: string, cause?: unknown): null {
+    const origin = cause === undefined ? null : asPolyadicError(cause);
+    this._error = new PolyadicError(origin?.kind ?? 'usage', message, origin?.detail);
     this._changed.emit();
     return null;
   }
@@ -334,7 +336,7 @@ export class RecordsModel implements IPolyadicPanel.IRecords {
   /** Record id each run of this session was recorded under (a repeated run keeps the old id). */
   private _recordedAs = new Map<string, string>();
   private _fingerprinted: { run: IRunCompleted; fingerprint: Promise<IFingerprint> } | null = null;
-  private _error: string | null = null;
+  private _error: PolyadicError | null = null;
   private _isDisposed = false;
   private _changed = new Signal<this, void>(this);
   private _restoreRequested = new Signal<this, IRestoreRequest>(this);
@@ -350,14 +352,6 @@ namespace Private {
   export function dateOf(text: string): Date {
     const date = new Date(text);
     return Number.isNaN(date.getTime()) ? new Date() : date;
-  }
-
-  /** A user-facing message of any thrown value. */
-  export function messageOf(error: unknown): string {
-    if (isPolyadicError(error) || error instanceof Error) {
-      return error.message;
-    }
-    return String(error);
   }
 
   export async function check(analysis: IAnalysisRecord, frame: IRunFrame): Promise<IDataCheck> {

@@ -35,7 +35,7 @@ export class RecordsView extends SectionView<RecordsModel> {
       parts.push(Private.notice(state.status, state.notice, state.problems));
     }
     if (model.error !== null) {
-      const error = textElement('p', 'pd-Records-error', model.error);
+      const error = textElement('p', 'pd-Records-error', model.error.message);
       error.setAttribute('role', 'alert');
       parts.push(error);
     }

@@ -19,6 +19,7 @@ import {
   overRepresentedCell,
   tableMutualInformation
 } from '../../engine/contingency';
+import { errorMessage } from '../../engine/errors';
 import { fromNats } from '../../engine/estimators';
 import { coinformationOf, type IEntropySource } from '../../engine/measures';
 import { plural } from '../../engine/text';
@@ -231,7 +232,7 @@ export class DetailModel {
         try {
           detail.tables = row.order === 2 ? this._pair(codes) : this._triplet(row.columns, codes);
         } catch (error) {
-          detail.tablesNote = `The contingency tables could not be counted: ${error instanceof Error ? error.message : String(error)}`;
+          detail.tablesNote = `The contingency tables could not be counted: ${errorMessage(error)}`;
         }
       }
     } else if (row.order >= 4) {
@@ -452,7 +453,7 @@ export class DetailModel {
       const mismatch = Private.mismatch(result, prepared);
       return mismatch ?? prepared;
     } catch (error) {
-      return `The binned codes of the run could not be rebuilt: ${error instanceof Error ? error.message : String(error)}`;
+      return `The binned codes of the run could not be rebuilt: ${errorMessage(error)}`;
     }
   }
 

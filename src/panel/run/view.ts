@@ -102,7 +102,7 @@ export class RunView extends Widget {
     } else if (run.state === 'cancelled') {
       this._line.textContent = trans.__('Cancelled. Nothing was computed; press Run to start again.');
     } else if (run.state === 'error') {
-      this._line.textContent = run.message ?? trans.__('The analysis failed.');
+      this._line.textContent = run.error?.message ?? trans.__('The analysis failed.');
     } else if (running) {
       this._line.textContent = trans.__('Running. The notebook stays usable meanwhile.');
     } else {
