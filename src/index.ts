@@ -52,7 +52,7 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
     const { commands, shell } = app;
     const trans = translationBundle(translator);
     const engine = new EnginePool({ createWorker: createEngineWorker });
-    const model = new PanelModel({ engine });
+    const model = new PanelModel({ engine, translator: translator ?? undefined });
     const documents: ResultsDocuments = new ResultsDocuments({
       shell,
       analysis: model.analysis,
@@ -158,7 +158,7 @@ const recordsPlugin: JupyterFrontEndPlugin<void> = {
     const { analysis, records } = panel.model;
     const follower = followRecords(notebooks, records);
     const recorder = recordCompletedRuns(analysis, records);
-    const restores = followRestores(analysis, records);
+    const restores = followRestores(analysis, records, translator ?? undefined);
     const cells = setupAnalysisCells({ commands: app.commands, notebooks, chosenId: () => records.selectedId,
       translator: translator ?? undefined
     });

@@ -14,6 +14,7 @@ import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
 import { newRecordId } from '../../record/ids';
 import type { IPolyadicSettings } from '../../settings';
 import type { IPolyadicPanel } from '../../tokens';
+import { translationBundle, type ITranslator, type TranslationBundle } from '../../translation';
 import type { EnginePool, IRunProgress, IRunResult } from '../../worker/pool';
 import type { IColumnPreview } from '../../worker/protocol';
 import { BinningModel } from '../binning/model';
@@ -36,6 +37,7 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
     this._engine = options.engine;
     this._now = options.now ?? (() => globalThis.performance.now());
     this._recordIdFor = options.recordIdFor ?? null;
+    this._trans = translationBundle(options.translator);
     this.data = new DataModel({});
     this.binning = new BinningModel({
       preview: (column, spec) => this._engine.preview(column, spec),
@@ -183,22 +185,23 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
 
   /** Why Run cannot start now, or null. */
   get blocker(): string | null {
+    const trans = this._trans;
     if (this.data.bridge === null || this.data.status?.state !== 'ready') {
-      return 'Connect to a notebook whose kernel has polyadic installed.';
+      return trans.__('Connect to a notebook whose kernel has polyadic installed.');
     }
     if (this.data.frame === null) {
-      return 'Pick a dataframe first.';
+      return trans.__('Pick a dataframe first.');
     }
     if (this.data.load.state !== 'loaded') {
-      return 'Wait until the dataframe has loaded.';
+      return trans.__('Wait until the dataframe has loaded.');
     }
     const selected = this.data.selected;
     if (selected.length === 0) {
-      return 'Select at least one column.';
+      return trans.__('Select at least one column.');
     }
     const bad = selected.find(name => this.binning.problemOf(name) !== null);
     if (bad !== undefined) {
-      return `The binning of column "${bad}" is not valid.`;
+      return trans.__('The binning of column "%1" is not valid.', bad);
     }
     const statistics = this.statistics.problem;
     if (statistics !== null) {
@@ -337,7 +340,7 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
     }
     this._ticket++;
     this._engine.cancel();
-    this._setRun({ state: 'cancelled', progress: null, error: new PolyadicError('cancelled', 'The analysis was cancelled.') });
+    this._setRun({ state: 'cancelled', progress: null, error: new PolyadicError('cancelled', this._trans.__('The analysis was cancelled.')) });
   }
 
   /** Fraction of the fetch of the current run received, 0 … 1. */
@@ -384,7 +387,7 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
       await bridge.sendResults(completed.analysisId, completed.result.multiplets, { meta });
       this._kernelMessage = null;
     } catch (error) {
-      this._kernelMessage = `The results could not be sent to the kernel: ${errorMessage(error)}`;
+      this._kernelMessage = this._trans.__('The results could not be sent to the kernel: %1', errorMessage(error));
     }
     this._changed.emit();
   }
@@ -435,14 +438,17 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
     if (sender === this.estimator) {
       this.binning.unusedBecause =
         this.estimator.estimator === 'gaussian-copula'
-          ? 'Not used by the Gaussian-copula estimator: it does not bin, but replaces each column by the normal ' +
-            'scores of its ranks. These specs apply again when a binned estimator is chosen.'
+          ? this._trans.__(
+              'Not used by the Gaussian-copula estimator: it does not bin, but replaces each column by the normal ' +
+                'scores of its ranks. These specs apply again when a binned estimator is chosen.'
+            )
           : null;
     }
     this._changed.emit();
   }
 
   private _engine: IEngineRunner;
+  private readonly _trans: TranslationBundle;
   private _now: () => number;
   private _recordIdFor: ((run: IRunCompleted) => Promise<string | null>) | null;
   private _settings: IPolyadicSettings | null = null;
@@ -479,6 +485,8 @@ export namespace AnalysisModel {
      * null; the run then takes that id instead of a new one.
      */
     recordIdFor?: (run: IRunCompleted) => Promise<string | null>;
+    /** Translates the model's messages; they stay as written without one. */
+    translator?: ITranslator;
   }
 }
 
