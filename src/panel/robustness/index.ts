@@ -30,7 +30,7 @@ export interface IRobustnessExtrasOptions {
  */
 export function robustnessExtras(options: IRobustnessExtrasOptions): (results: ResultsModel) => Widget[] {
   return results => {
-    const model = new RobustnessModel({ engine: options.engine, record: options.record });
+    const model = new RobustnessModel({ engine: options.engine, record: options.record, translator: options.translator });
     const follow = (): void => {
       const id = results.context.recordId;
       const live = results.result !== null && !results.context.restored && id !== undefined;
