@@ -11,5 +11,5 @@ module.exports = {
     ],
     '^.+\\.m?js$': ['ts-jest', { tsconfig: 'tsconfig.test.json' }]
   },
-  transformIgnorePatterns: ['/node_modules/(?!(hyparquet)/)']
+  transformIgnorePatterns: ['/node_modules/(?!(hyparquet|@jupyterlab)/)']
 };

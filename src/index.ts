@@ -10,6 +10,7 @@ import {
 import { ICommandPalette } from '@jupyterlab/apputils';
 import { INotebookTracker } from '@jupyterlab/notebook';
 import { ISettingRegistry } from '@jupyterlab/settingregistry';
+import { ITranslator } from '@jupyterlab/translation';
 
 import { INSERT_ANALYSIS_CELL, setupAnalysisCells } from './cells/command';
 import { polyadicIcon } from './icons';
@@ -23,6 +24,7 @@ import { recordCompletedRuns } from './panel/records/connect';
 import { followRestores } from './panel/records/restore';
 import { followRecords } from './panel/records/tracker';
 import { CommandIDs, EXTENSION_ID, IPolyadicPanel, PALETTE_CATEGORY, PLUGIN_ID } from './tokens';
+import { translationBundle } from './translation';
 import { createEngineWorker } from './worker/browser';
 import { EnginePool } from './worker/pool';
 
@@ -38,27 +40,31 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
   description: 'The Polyadic side panel: higher-order structure of a dataframe.',
   autoStart: true,
   provides: IPolyadicPanel,
-  optional: [ICommandPalette, INotebookTracker, ISettingRegistry, ILayoutRestorer],
+  optional: [ICommandPalette, INotebookTracker, ISettingRegistry, ILayoutRestorer, ITranslator],
   activate: (
     app: JupyterFrontEnd,
     palette: ICommandPalette | null,
     notebooks: INotebookTracker | null,
     settingRegistry: ISettingRegistry | null,
-    restorer: ILayoutRestorer | null
+    restorer: ILayoutRestorer | null,
+    translator: ITranslator | null
   ): IPolyadicPanel => {
     const { commands, shell } = app;
+    const trans = translationBundle(translator);
     const engine = new EnginePool({ createWorker: createEngineWorker });
-    const model = new PanelModel({ engine });
+    const model = new PanelModel({ engine, translator: translator ?? undefined });
     const documents: ResultsDocuments = new ResultsDocuments({
       shell,
       analysis: model.analysis,
       records: model.records,
       currentNotebook: () => notebooks?.currentWidget ?? null,
+      translator: translator ?? undefined,
       extras: robustnessExtras({
         engine,
         runOf: id => documents.runOf(id),
         recordOf: id => (model.records.state ? (findAnalysis(model.records.state, id) ?? null) : null),
-        record: (run, result) => model.records.recordRobustness(run, result)
+        record: (run, result) => model.records.recordRobustness(run, result),
+        translator: translator ?? undefined
       })
     });
     const panel = new PolyadicPanel({
@@ -72,7 +78,8 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
           ? () => void commands.execute(ExternalCommands.newNotebook)
           : undefined,
       onOpenSettings: () => void commands.execute(ExternalCommands.openSettings, { query: 'Polyadic' }),
-      onInsertAnalysisCell: id => void commands.execute(INSERT_ANALYSIS_CELL, { id })
+      onInsertAnalysisCell: id => void commands.execute(INSERT_ANALYSIS_CELL, { id }),
+      translator: translator ?? undefined
     });
     panel.disposed.connect(() => {
       documents.dispose();
@@ -84,28 +91,28 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
     restorer?.add(panel, PolyadicPanel.ID);
 
     commands.addCommand(CommandIDs.openPanel, {
-      label: 'Open Polyadic panel',
-      caption: 'Show the Polyadic panel in the right sidebar',
+      label: trans.__('Open Polyadic panel'),
+      caption: trans.__('Show the Polyadic panel in the right sidebar'),
       icon: polyadicIcon,
       execute: () => shell.activateById(panel.id)
     });
     palette?.addItem({ command: CommandIDs.openPanel, category: PALETTE_CATEGORY });
 
     commands.addCommand(CommandIDs.openResults, {
-      label: 'Open Polyadic results',
-      caption: 'Open the results view of a recorded analysis beside the notebook',
+      label: trans.__('Open Polyadic results'),
+      caption: trans.__('Open the results view of a recorded analysis beside the notebook'),
       icon: polyadicIcon,
       execute: args => {
         const id = args['id'];
         if (!isRecordId(id)) {
-          throw new Error(`Polyadic results: not an analysis id: ${JSON.stringify(id)}`);
+          throw new Error(trans.__('Polyadic results: not an analysis id: %1', JSON.stringify(id)));
         }
         return documents.open(id);
       }
     });
     commands.addCommand(CommandIDs.showLatestResults, {
-      label: 'Show Polyadic results of the latest run',
-      caption: 'Bring the results view of the latest run beside the notebook',
+      label: trans.__('Show Polyadic results of the latest run'),
+      caption: trans.__('Bring the results view of the latest run beside the notebook'),
       icon: polyadicIcon,
       isEnabled: () => model.analysis.latest !== null,
       execute: () => documents.showLatest()
@@ -125,7 +132,7 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
     if (settingRegistry !== null) {
       void followSettings(settingRegistry, PLUGIN_ID, model.defaults);
     } else {
-      model.defaults.fail('This JupyterLab has no settings registry, so no settings can be shown.');
+      model.defaults.fail(trans.__('This JupyterLab has no settings registry, so no settings can be shown.'));
     }
     const analysisFollower = followAnalysis({ panel, notebooks, defaults: model.defaults, analysis: model.analysis });
     panel.disposed.connect(() => analysisFollower.dispose());
@@ -140,18 +147,21 @@ const recordsPlugin: JupyterFrontEndPlugin<void> = {
   description: 'Records of analyses in notebook metadata, and cells that show a recorded analysis.',
   autoStart: true,
   requires: [IPolyadicPanel, INotebookTracker],
-  optional: [ICommandPalette],
+  optional: [ICommandPalette, ITranslator],
   activate: (
     app: JupyterFrontEnd,
     panel: IPolyadicPanel,
     notebooks: INotebookTracker,
-    palette: ICommandPalette | null
+    palette: ICommandPalette | null,
+    translator: ITranslator | null
   ): void => {
-    const records = panel.model.records;
+    const { analysis, records } = panel.model;
     const follower = followRecords(notebooks, records);
-    const recorder = recordCompletedRuns(panel.model.analysis, records);
-    const restores = followRestores(panel.model.analysis, records);
-    const cells = setupAnalysisCells({ commands: app.commands, notebooks, chosenId: () => records.selectedId });
+    const recorder = recordCompletedRuns(analysis, records);
+    const restores = followRestores(analysis, records, translator ?? undefined);
+    const cells = setupAnalysisCells({ commands: app.commands, notebooks, chosenId: () => records.selectedId,
+      translator: translator ?? undefined
+    });
     records.changed.connect(() => app.commands.notifyCommandChanged(INSERT_ANALYSIS_CELL));
     palette?.addItem({ command: INSERT_ANALYSIS_CELL, category: PALETTE_CATEGORY });
     panel.widget.disposed.connect(() => {

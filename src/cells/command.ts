@@ -11,6 +11,7 @@ import { IDisposable } from '@lumino/disposable';
 
 import { errorMessage } from '../engine/errors';
 import { showCellSource } from '../record/ids';
+import { translationBundle, type ITranslator } from '../translation';
 import { createAnalysisRendererFactory, type IRecordNotebook } from './renderer';
 
 /** Id of the insert command. */
@@ -53,6 +54,8 @@ export interface IAnalysisCellsOptions {
   notebooks: INotebookTracker;
   /** The analysis chosen in the panel, used when the command gets no id. */
   chosenId: () => string | null;
+  /** Translates the command's and the cells' strings; they stay as written without one. */
+  translator?: ITranslator;
 }
 
 /**
@@ -61,16 +64,17 @@ export interface IAnalysisCellsOptions {
  */
 export function setupAnalysisCells(options: IAnalysisCellsOptions): IDisposable {
   const { commands, notebooks, chosenId } = options;
+  const trans = translationBundle(options.translator);
   const idOf = (args: IInsertCellArgs): string | null => (typeof args.id === 'string' ? args.id : chosenId());
   const command = commands.addCommand(INSERT_ANALYSIS_CELL, {
-    label: 'Insert Polyadic analysis cell',
-    caption: 'Insert a code cell below that shows the analysis chosen in the Polyadic panel',
+    label: trans.__('Insert Polyadic analysis cell'),
+    caption: trans.__('Insert a code cell below that shows the analysis chosen in the Polyadic panel'),
     isEnabled: args => notebooks.currentWidget !== null && idOf(args as IInsertCellArgs) !== null,
     execute: args => {
       const panel = notebooks.currentWidget;
       const id = idOf(args as IInsertCellArgs);
       if (panel === null || id === null) {
-        Notification.warning('Choose an analysis in the Polyadic panel’s Records section first, with a notebook open.');
+        Notification.warning(trans.__('Choose an analysis in the Polyadic panel’s Records section first, with a notebook open.'));
         return;
       }
       try {
@@ -92,10 +96,10 @@ export function setupAnalysisCells(options: IAnalysisCellsOptions): IDisposable 
         metadataChanged: model.metadataChanged
       };
     };
-    panel.content.rendermime.addFactory(createAnalysisRendererFactory(resolve));
+    panel.content.rendermime.addFactory(createAnalysisRendererFactory(resolve, options.translator));
     // As JupyterLab's own notebook toolbar buttons: a click does not take the focus from the
     // notebook, so the keys that follow (Shift+Enter) go to the notebook, not to the button.
-    const button = new CommandToolbarButton({ commands, id: INSERT_ANALYSIS_CELL, label: 'Polyadic cell', noFocusOnClick: true });
+    const button = new CommandToolbarButton({ commands, id: INSERT_ANALYSIS_CELL, label: trans.__('Polyadic cell'), noFocusOnClick: true });
     // the spacer comes from the toolbar settings and may not be there yet
     if (!panel.toolbar.insertBefore('spacer', TOOLBAR_ITEM, button)) {
       panel.toolbar.addItem(TOOLBAR_ITEM, button);

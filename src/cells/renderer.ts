@@ -13,7 +13,8 @@ import type { IRenderMime } from '@jupyterlab/rendermime-interfaces';
 import type { ISignal } from '@lumino/signaling';
 import { Widget } from '@lumino/widgets';
 
-import { formatCount, formatValue, plural } from '../engine/text';
+import { formatCount, formatValue } from '../engine/text';
+import { translationBundle, type ITranslator, type TranslationBundle } from '../translation';
 import {
   formatProbability,
   INADEQUATE_MARK,
@@ -45,11 +46,13 @@ export interface IRecordNotebook {
 
 /** Draws one analysis cell output. */
 export class AnalysisCellRenderer extends Widget implements IRenderMime.IRenderer {
-  /** Create a renderer reading records from the notebook `resolve()` returns. */
-  constructor(resolve: () => IRecordNotebook | null) {
+  /** Create a renderer reading records from the notebook `resolve()` returns; `translator` translates its strings. */
+  constructor(resolve: () => IRecordNotebook | null, translator?: ITranslator) {
     super();
     this.addClass('pd-AnalysisCell');
     this._resolve = resolve;
+    this._translator = translator;
+    this._trans = translationBundle(translator);
   }
 
   /** Draw the output of `model`. */
@@ -82,14 +85,14 @@ export class AnalysisCellRenderer extends Widget implements IRenderMime.IRendere
 
   private _draw(): void {
     this._disposeCharts();
-    const found = lookupAnalysisCell(this._payload, this._notebook?.metadata ?? null);
+    const found = lookupAnalysisCell(this._payload, this._notebook?.metadata ?? null, this._trans);
     if (found.kind === 'message') {
       const message = textElement('p', `pd-AnalysisCell-message jp-mod-${found.level}`, found.text);
       message.setAttribute('role', found.level === 'error' ? 'alert' : 'status');
       this.node.replaceChildren(message);
       return;
     }
-    this.node.replaceChildren(...Private.analysis(found.analysis, this._charts));
+    this.node.replaceChildren(...Private.analysis(found.analysis, this._charts, this._trans, this._translator));
     this._attachCharts();
   }
 
@@ -115,18 +118,23 @@ export class AnalysisCellRenderer extends Widget implements IRenderMime.IRendere
   private _charts: Private.IPlacedChart[] = [];
 
   private readonly _resolve: () => IRecordNotebook | null;
+  private readonly _translator: ITranslator | undefined;
+  private readonly _trans: TranslationBundle;
   private _notebook: IRecordNotebook | null = null;
   private _payload: unknown = undefined;
 }
 
-/** A renderer factory whose renderers read records from the notebook `resolve()` returns. */
-export function createAnalysisRendererFactory(resolve: () => IRecordNotebook | null): IRenderMime.IRendererFactory {
+/**
+ * A renderer factory whose renderers read records from the notebook `resolve()` returns, in the
+ * language of the rendermime registry's translator (else `translator`'s).
+ */
+export function createAnalysisRendererFactory(resolve: () => IRecordNotebook | null, translator?: ITranslator): IRenderMime.IRendererFactory {
   return {
     // the payload is a record id and everything drawn is text: nothing can run
     safe: true,
     mimeTypes: [ANALYSIS_MIME_TYPE],
     defaultRank: 50,
-    createRenderer: () => new AnalysisCellRenderer(resolve)
+    createRenderer: options => new AnalysisCellRenderer(resolve, options.translator ?? translator)
   };
 }
 
@@ -138,21 +146,31 @@ namespace Private {
   }
 
   /** The parts of a drawn analysis; its charts are added to `charts`, to be attached into their hosts. */
-  export function analysis(record: IAnalysisRecord, charts: IPlacedChart[]): HTMLElement[] {
+  export function analysis(record: IAnalysisRecord, charts: IPlacedChart[], trans: TranslationBundle, translator?: ITranslator): HTMLElement[] {
+    const counted = (count: number, one: string, many: string): string => trans._n(one, many, count, formatCount(count));
     const head = textElement('div', 'pd-AnalysisCell-head');
     head.append(
       textElement('h3', 'pd-AnalysisCell-title', record.label),
       textElement(
         'p',
         'pd-AnalysisCell-meta',
-        `${record.source.frame} · ${formatCount(record.summary.rows_used)} of ${plural(record.source.rows, 'row')} · ` +
-          `${plural(record.columns.length, 'column')} · ${plural(record.summary.multiplet_count, 'multiplet')} up to order ` +
-          `${record.max_order} · ${record.estimator} · ${record.units} · ${record.id}`
+        trans.__(
+          '%1 · %2 of %3 · %4 · %5 up to order %6 · %7 · %8 · %9',
+          record.source.frame,
+          formatCount(record.summary.rows_used),
+          counted(record.source.rows, '%2 row', '%2 rows'),
+          counted(record.columns.length, '%2 column', '%2 columns'),
+          counted(record.summary.multiplet_count, '%2 multiplet', '%2 multiplets'),
+          record.max_order,
+          record.estimator,
+          record.units,
+          record.id
+        )
       ),
       textElement(
         'p',
         'pd-AnalysisCell-sign',
-        'Co-information sign (Bell 2003): negative means synergy dominates, positive means redundancy dominates.'
+        trans.__('Co-information sign (Bell 2003): negative means synergy dominates, positive means redundancy dominates.')
       )
     );
     const { summary } = record;
@@ -173,14 +191,14 @@ namespace Private {
     if (histograms.length > 0) {
       const row = textElement('div', 'pd-AnalysisCell-histograms');
       row.setAttribute('role', 'group');
-      row.setAttribute('aria-label', 'Order histograms of co-information');
+      row.setAttribute('aria-label', trans.__('Order histograms of co-information'));
       for (const histogram of histograms) {
-        row.append(orderHistogram(record, histogram, bands.get(histogram.order), charts));
+        row.append(orderHistogram(record, histogram, bands.get(histogram.order), charts, trans, translator));
       }
       parts.push(row);
     } else {
       parts.push(
-        textElement('p', 'pd-AnalysisCell-note', 'The record holds no order histograms (the run kept only its top multiplets).')
+        textElement('p', 'pd-AnalysisCell-note', trans.__('The record holds no order histograms (the run kept only its top multiplets).'))
       );
       const bandLine = nullBandLine(summary);
       if (bandLine) {
@@ -189,8 +207,8 @@ namespace Private {
     }
     const withQ = Boolean(summary.evidence?.families.co_information);
     parts.push(
-      table('Synergy (most negative co-information)', summary.synergy.slice(0, CELL_TABLE_SIZE), record.units, withQ),
-      table('Redundancy (most positive co-information)', summary.redundancy.slice(0, CELL_TABLE_SIZE), record.units, withQ)
+      table(trans.__('Synergy (most negative co-information)'), summary.synergy.slice(0, CELL_TABLE_SIZE), record.units, withQ, trans),
+      table(trans.__('Redundancy (most positive co-information)'), summary.redundancy.slice(0, CELL_TABLE_SIZE), record.units, withQ, trans)
     );
     return parts;
   }
@@ -202,25 +220,40 @@ namespace Private {
    * One order's histogram (the chart module's figure, as in the results view: the same
    * colours, log counts, the order's null band shaded when recorded), with PNG and SVG export.
    */
-  function orderHistogram(record: IAnalysisRecord, histogram: IOrderHistogram, band: NullBand | undefined, charts: IPlacedChart[]): HTMLElement {
+  function orderHistogram(
+    record: IAnalysisRecord,
+    histogram: IOrderHistogram,
+    band: NullBand | undefined,
+    charts: IPlacedChart[],
+    trans: TranslationBundle,
+    translator?: ITranslator
+  ): HTMLElement {
     const figure = textElement('figure', 'pd-AnalysisCell-histogram');
     const units = record.units;
     const { edges, counts } = histogram;
     const low = edges[0];
     const high = edges[edges.length - 1];
     const total = counts.reduce((sum, count) => sum + count, 0);
+    const multiplets = trans._n('%2 multiplet', '%2 multiplets', total, formatCount(total));
     const chart = new ChartView({
       label:
-        `Order ${histogram.order} histogram: ${plural(total, 'multiplet')}, co-information from ${formatValue(low)} to ` +
-        `${formatValue(high)} ${units}` +
-        (band ? `; null band ${nullBandText(band)}` : ''),
+        trans.__('Order %1 histogram: %2, co-information from %3 to %4 %5', histogram.order, multiplets, formatValue(low), formatValue(high), units) +
+        (band ? trans.__('; null band %1', nullBandText(band)) : ''),
+      translator,
       filename: `polyadic-order-${histogram.order}-histogram`,
       height: 150,
       exportAs: () => ({
-        title: `${record.label}: order ${histogram.order} histogram of co-information (${plural(total, 'multiplet')})`,
-        subtitle: `${record.source.frame} · record ${record.id} · ${formatCount(record.summary.rows_used)} rows · ${record.estimator} · ${units}`,
-        xTitle: `co-information (${units}): < 0 synergy-dominated, > 0 redundancy-dominated`,
-        yTitle: 'multiplets',
+        title: trans.__('%1: order %2 histogram of co-information (%3)', record.label, histogram.order, multiplets),
+        subtitle: trans.__(
+          '%1 · record %2 · %3 · %4 · %5',
+          record.source.frame,
+          record.id,
+          trans._n('%2 row', '%2 rows', record.summary.rows_used, formatCount(record.summary.rows_used)),
+          record.estimator,
+          units
+        ),
+        xTitle: trans.__('co-information (%1): < 0 synergy-dominated, > 0 redundancy-dominated', units),
+        yTitle: trans.__('multiplets'),
         filename: exportFileName({ frame: record.source.frame, recordId: record.id }, `order-${histogram.order}-histogram`)
       })
     });
@@ -228,23 +261,31 @@ namespace Private {
     chart.setFigure(colors => histogramFigure({ edges, counts, band: band ?? null }, colors, { formatEdge: formatValue }));
     const host = textElement('div', 'pd-AnalysisCell-chart');
     charts.push({ chart, host });
-    const caption = textElement('figcaption', 'pd-AnalysisCell-caption', `Order ${histogram.order} · ${plural(total, 'multiplet')}`);
+    const caption = textElement('figcaption', 'pd-AnalysisCell-caption', trans.__('Order %1 · %2', histogram.order, multiplets));
     if (band) {
-      caption.append(textElement('span', 'pd-AnalysisCell-bandText', `null band ${nullBandText(band)} ${units}`));
+      caption.append(textElement('span', 'pd-AnalysisCell-bandText', trans.__('null band %1 %2', nullBandText(band), units)));
     }
     figure.append(host, caption);
     return figure;
   }
 
   /** A table of multiplets with their measures; with `withQ`, q and p follow co-information. */
-  function table(title: string, rows: readonly IMultipletSummary[], units: string, withQ: boolean): HTMLElement {
+  function table(title: string, rows: readonly IMultipletSummary[], units: string, withQ: boolean, trans: TranslationBundle): HTMLElement {
     if (rows.length === 0) {
-      return textElement('p', 'pd-AnalysisCell-note', `${title}: none.`);
+      return textElement('p', 'pd-AnalysisCell-note', trans.__('%1: none.', title));
     }
     const node = textElement('table', 'pd-AnalysisCell-table');
-    node.append(textElement('caption', '', `${title}, ${units}`));
+    node.append(textElement('caption', '', trans.__('%1, %2', title, units)));
     const head = textElement('tr', '');
-    const names = ['multiplet', 'order', 'co-information', ...(withQ ? ['q', 'p'] : []), 'O-information', 'total correlation', 'dual total correlation'];
+    const names = [
+      trans.__('multiplet'),
+      trans.__('order'),
+      trans.__('co-information'),
+      ...(withQ ? ['q', 'p'] : []),
+      trans.__('O-information'),
+      trans.__('total correlation'),
+      trans.__('dual total correlation')
+    ];
     for (const name of names) {
       const cell = textElement('th', '', name);
       cell.scope = 'col';
@@ -258,7 +299,7 @@ namespace Private {
       const multiplet = textElement('td', 'pd-AnalysisCell-names', row.columns.join(' · '));
       if (isInadequate(row)) {
         const mark = textElement('span', 'pd-AnalysisCell-mark', ` ${INADEQUATE_MARK}`);
-        mark.title = `Adequacy ${formatValue(row.adequacy as number)}: fewer rows than possible joint cells; the estimates are biased.`;
+        mark.title = trans.__('Adequacy %1: fewer rows than possible joint cells; the estimates are biased.', formatValue(row.adequacy as number));
         multiplet.append(mark);
       }
       line.append(

@@ -5,13 +5,15 @@
  */
 import { Panel, Widget } from '@lumino/widgets';
 
+import { translationBundle, type ITranslator, type TranslationBundle } from '../translation';
 import { textElement, uniqueId } from './dom';
 
 /** One foldable section: a header button (the section's title label) above the section. */
 export class FoldSection extends Panel {
   /** Wrap `content`; its `title.label` names the section. */
-  constructor(content: Widget, options: { expanded?: boolean } = {}) {
+  constructor(content: Widget, options: { expanded?: boolean; translator?: ITranslator } = {}) {
     super();
+    this._trans = translationBundle(options.translator);
     this.addClass('pd-Fold');
     this.content = content;
     const header = new Widget({ node: textElement('h3', 'pd-Fold-header') });
@@ -31,9 +33,9 @@ export class FoldSection extends Panel {
     // "Notebook Section": the name JupyterLab's own sidebar sections give their regions
     const name = (): void => {
       this._label.textContent = content.title.label;
-      content.node.setAttribute('aria-label', `${content.title.label} Section`);
+      content.node.setAttribute('aria-label', this._trans.__('%1 Section', content.title.label));
       // "Run section", so the header is not taken for the section's own Run button
-      this._button.setAttribute('aria-label', `${content.title.label} section`);
+      this._button.setAttribute('aria-label', this._trans.__('%1 section', content.title.label));
     };
     name();
     content.title.changed.connect(name);
@@ -57,6 +59,7 @@ export class FoldSection extends Panel {
     this.toggleClass('pd-mod-folded', !expanded);
   }
 
+  private readonly _trans: TranslationBundle;
   private readonly _button: HTMLButtonElement;
   private readonly _caret: HTMLSpanElement;
   private readonly _label: HTMLSpanElement;
@@ -64,14 +67,16 @@ export class FoldSection extends Panel {
 
 /** The scrolling column of {@link FoldSection}s the side panel shows. */
 export class FoldForm extends Panel {
-  constructor() {
+  /** Create the form; `options.translator` translates the sections' accessible names. */
+  constructor(options: { translator?: ITranslator } = {}) {
     super();
     this.addClass('pd-FoldForm');
+    this._translator = options.translator;
   }
 
   /** Add `widget` as a foldable section (open unless `expanded` is false). */
   addSection(widget: Widget, expanded = true): FoldSection {
-    const section = new FoldSection(widget, { expanded });
+    const section = new FoldSection(widget, { expanded, translator: this._translator });
     this.addWidget(section);
     return section;
   }
@@ -80,4 +85,6 @@ export class FoldForm extends Panel {
   get sections(): FoldSection[] {
     return this.widgets.filter((w): w is FoldSection => w instanceof FoldSection);
   }
+
+  private readonly _translator: ITranslator | undefined;
 }

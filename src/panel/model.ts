@@ -6,12 +6,19 @@ import { AnalysisModel, IEngineRunner } from './analysis/model';
 import { DefaultsModel } from './defaults/model';
 import { RecordsModel } from './records/model';
 import { SourceModel } from './source/model';
+import type { IPolyadicPanel } from '../tokens';
+import type { ITranslator } from '../translation';
 
 /** State of the Polyadic side panel. */
-export class PanelModel {
+export class PanelModel implements IPolyadicPanel.IModel {
   /** Create the model; `options.engine` runs the analyses and previews. */
   constructor(options: PanelModel.IOptions) {
-    this.analysis = new AnalysisModel({ engine: options.engine, recordIdFor: run => this.records.rerunOf(run) });
+    this.records = new RecordsModel({ translator: options.translator });
+    this.analysis = new AnalysisModel({
+      engine: options.engine,
+      recordIdFor: run => this.records.rerunOf(run),
+      translator: options.translator
+    });
   }
 
   /** The analysis being set up and run (dataframe, binning, estimator and run sections). */
@@ -24,7 +31,7 @@ export class PanelModel {
   readonly defaults = new DefaultsModel();
 
   /** The analyses recorded in the followed notebook (records section). */
-  readonly records = new RecordsModel();
+  readonly records: RecordsModel;
 
   /** Whether the model has been disposed. */
   get isDisposed(): boolean {
@@ -52,5 +59,7 @@ export namespace PanelModel {
   export interface IOptions {
     /** Runs analyses and binning previews off the main thread (the engine pool). */
     engine: IEngineRunner;
+    /** Translates the models' messages. */
+    translator?: ITranslator;
   }
 }

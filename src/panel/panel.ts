@@ -6,6 +6,7 @@ import { SidePanel } from '@jupyterlab/ui-components';
 import { Widget } from '@lumino/widgets';
 
 import { polyadicIcon } from '../icons';
+import { translationBundle, type ITranslator } from '../translation';
 import { BinningView } from './binning/view';
 import { DataView } from './data/view';
 import { EstimatorView } from './estimator/view';
@@ -22,30 +23,32 @@ import { StatisticsView } from './statistics/view';
 export class PolyadicPanel extends SidePanel {
   /** Create the panel and its sections for `options.model`. */
   constructor(options: PolyadicPanel.IOptions) {
-    const form = new FoldForm();
+    const form = new FoldForm({ translator: options.translator });
     super({ content: form });
     this.form = form;
     this.id = PolyadicPanel.ID;
     this.addClass('pd-Panel');
     this.title.icon = polyadicIcon;
-    this.title.caption = 'Polyadic';
+    const translator = options.translator;
+    const trans = translationBundle(translator);
+    this.title.caption = trans.__('Polyadic');
     this.node.setAttribute('role', 'region');
-    this.node.setAttribute('aria-label', 'Polyadic');
+    this.node.setAttribute('aria-label', trans.__('Polyadic'));
     this.model = options.model;
 
-    const heading = new Widget({ node: textElement('h2', 'pd-Panel-title', 'Polyadic') });
+    const heading = new Widget({ node: textElement('h2', 'pd-Panel-title', trans.__('Polyadic')) });
     heading.addClass('jp-text-truncated');
     this.header.addWidget(heading);
 
-    form.addSection(new SourceView({ model: this.model.source, onNewNotebook: options.onNewNotebook }));
+    form.addSection(new SourceView({ model: this.model.source, onNewNotebook: options.onNewNotebook, translator }));
     const analysis = this.model.analysis;
-    form.addSection(new DataView({ model: analysis.data }));
-    form.addSection(new BinningView({ model: analysis.binning }));
-    form.addSection(new EstimatorView({ model: analysis }));
-    form.addSection(new StatisticsView({ model: analysis, workers: options.workers }));
-    form.addSection(new RunView({ model: analysis, onShowResults: options.onShowResults }));
-    form.addSection(new DefaultsView({ model: this.model.defaults, onOpenSettings: options.onOpenSettings }));
-    form.addSection(new RecordsView({ model: this.model.records, onInsertCell: options.onInsertAnalysisCell }));
+    form.addSection(new DataView({ model: analysis.data, translator }));
+    form.addSection(new BinningView({ model: analysis.binning, translator }));
+    form.addSection(new EstimatorView({ model: analysis, translator }));
+    form.addSection(new StatisticsView({ model: analysis, workers: options.workers, translator }));
+    form.addSection(new RunView({ model: analysis, onShowResults: options.onShowResults, translator }));
+    form.addSection(new DefaultsView({ model: this.model.defaults, onOpenSettings: options.onOpenSettings, translator }));
+    form.addSection(new RecordsView({ model: this.model.records, onInsertCell: options.onInsertAnalysisCell, translator }));
   }
 
   /** The set-up form: one foldable section per part of an analysis. */
@@ -75,5 +78,7 @@ export namespace PolyadicPanel {
     onShowResults?: () => void;
     /** Inserts an analysis cell for a recorded analysis (records section). */
     onInsertAnalysisCell?: (id: string) => void;
+    /** Translates the panel's strings; they stay as written without one. */
+    translator?: ITranslator;
   }
 }

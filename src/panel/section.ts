@@ -5,6 +5,8 @@
 import { ISignal } from '@lumino/signaling';
 import { Widget } from '@lumino/widgets';
 
+import { translationBundle, type ITranslator, type TranslationBundle } from '../translation';
+
 /**
  * A section of the side panel that follows `options.model`'s `changed` signal.
  *
@@ -18,9 +20,13 @@ export abstract class SectionView<M extends SectionView.IModel> extends Widget {
     super();
     this.addClass(options.className);
     this.title.label = options.label;
+    this.trans = translationBundle(options.translator);
     this._model = options.model;
     this._model.changed.connect(this.render, this);
   }
+
+  /** The section's strings in the user's language. */
+  protected readonly trans: TranslationBundle;
 
   /** The model this section shows. */
   protected get model(): M {
@@ -56,7 +62,9 @@ export namespace SectionView {
     model: M;
     /** The section's CSS class, `pd-<Name>`. */
     className: string;
-    /** The section's title label. */
+    /** The section's title label, already translated. */
     label: string;
+    /** Translates the section's strings; they stay as written without one. */
+    translator?: ITranslator;
   }
 }

@@ -8,7 +8,9 @@ import { DEFAULT_MAX_MULTIPLETS } from '../engine/multiplets';
 import type { IStatisticsOptions } from '../engine/statistics/options';
 import type { IAnalyzeOptions } from '../engine/types';
 import type { IFingerprint } from './fingerprint';
-import type { IAnalysisRecord } from './types';
+import type { IAnalysisRecord, IDataComparison } from './types';
+
+export type { IDataComparison } from './types';
 
 /**
  * The engine options of a recorded analysis: its selection, each column's binning spec, the
@@ -48,19 +50,6 @@ export function statisticsOptionsFromRecord(analysis: IAnalysisRecord): IStatist
     fitDraws: settings.fit_draws,
     sharpen: settings.sharpen
   };
-}
-
-/** How current data compares with an analysis' recorded fingerprint. */
-export interface IDataComparison {
-  /** Whether the fingerprints are equal: the data is the data the analysis read. */
-  same: boolean;
-  /**
-   * Selected columns whose own digest differs (empty when the record has no per-column
-   * digests, as records migrated from version 0).
-   */
-  changedColumns: string[];
-  /** Selected columns that the current fingerprint does not cover (gone or renamed). */
-  missingColumns: string[];
 }
 
 /**

@@ -16,16 +16,13 @@ import {
   RECORD_METADATA_KEY,
   RECORD_VERSION,
   type IAnalysisRecord,
+  type IMetadataAccess,
   type IRecordDocument,
   type IRecordProblem
 } from './types';
 import { problemsError, validateAnalysis, validateRecord } from './validate';
 
-/** The notebook metadata, as far as the record needs it. */
-export interface IMetadataAccess {
-  get(key: string): unknown;
-  set(key: string, value: unknown): void;
-}
+export type { IMetadataAccess } from './types';
 
 /** What a notebook's record holds, as read. */
 export interface IRecordState {

@@ -170,3 +170,22 @@ export interface IRecordProblem {
   /** A sentence naming the path, e.g. "/analyses/0/estimator must be one of plugin, …". */
   message: string;
 }
+
+/** The notebook metadata, as far as the record needs it. */
+export interface IMetadataAccess {
+  get(key: string): unknown;
+  set(key: string, value: unknown): void;
+}
+
+/** How current data compares with an analysis' recorded fingerprint. */
+export interface IDataComparison {
+  /** Whether the fingerprints are equal: the data is the data the analysis read. */
+  same: boolean;
+  /**
+   * Selected columns whose own digest differs (empty when the record has no per-column
+   * digests, as records migrated from version 0).
+   */
+  changedColumns: string[];
+  /** Selected columns that the current fingerprint does not cover (gone or renamed). */
+  missingColumns: string[];
+}

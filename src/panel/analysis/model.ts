@@ -13,13 +13,15 @@ import { formatCount, plural, wordFor } from '../../engine/text';
 import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
 import { newRecordId } from '../../record/ids';
 import type { IPolyadicSettings } from '../../settings';
+import type { IPolyadicPanel } from '../../tokens';
+import { translationBundle, type ITranslator, type TranslationBundle } from '../../translation';
 import type { EnginePool, IRunProgress, IRunResult } from '../../worker/pool';
 import type { IColumnPreview } from '../../worker/protocol';
 import { BinningModel } from '../binning/model';
 import { DataModel } from '../data/model';
 import { StatisticsModel } from '../statistics/model';
 import { adequacyOf, EstimatorModel, IAdequacy, type IEstimatorChoices, type IOrderClamp } from '../estimator/model';
-import type { IAnalysisState, IRunCompleted, IRunStatus, RunState } from './types';
+import type { IRunCompleted, IRunStatus, RunState } from './types';
 
 /** What the model needs of the engine pool (an {@link EnginePool} in the panel). */
 export interface IEngineRunner {
@@ -29,12 +31,13 @@ export interface IEngineRunner {
 }
 
 /** The state of one analysis in the panel. */
-export class AnalysisModel implements IAnalysisState {
+export class AnalysisModel implements IPolyadicPanel.IAnalysis {
   /** Create the model over an engine runner. */
   constructor(options: AnalysisModel.IOptions) {
     this._engine = options.engine;
     this._now = options.now ?? (() => globalThis.performance.now());
     this._recordIdFor = options.recordIdFor ?? null;
+    this._trans = translationBundle(options.translator);
     this.data = new DataModel({});
     this.binning = new BinningModel({
       preview: (column, spec) => this._engine.preview(column, spec),
@@ -182,22 +185,23 @@ export class AnalysisModel implements IAnalysisState {
 
   /** Why Run cannot start now, or null. */
   get blocker(): string | null {
+    const trans = this._trans;
     if (this.data.bridge === null || this.data.status?.state !== 'ready') {
-      return 'Connect to a notebook whose kernel has polyadic installed.';
+      return trans.__('Connect to a notebook whose kernel has polyadic installed.');
     }
     if (this.data.frame === null) {
-      return 'Pick a dataframe first.';
+      return trans.__('Pick a dataframe first.');
     }
     if (this.data.load.state !== 'loaded') {
-      return 'Wait until the dataframe has loaded.';
+      return trans.__('Wait until the dataframe has loaded.');
     }
     const selected = this.data.selected;
     if (selected.length === 0) {
-      return 'Select at least one column.';
+      return trans.__('Select at least one column.');
     }
     const bad = selected.find(name => this.binning.problemOf(name) !== null);
     if (bad !== undefined) {
-      return `The binning of column "${bad}" is not valid.`;
+      return trans.__('The binning of column "%1" is not valid.', bad);
     }
     const statistics = this.statistics.problem;
     if (statistics !== null) {
@@ -336,7 +340,7 @@ export class AnalysisModel implements IAnalysisState {
     }
     this._ticket++;
     this._engine.cancel();
-    this._setRun({ state: 'cancelled', progress: null, error: new PolyadicError('cancelled', 'The analysis was cancelled.') });
+    this._setRun({ state: 'cancelled', progress: null, error: new PolyadicError('cancelled', this._trans.__('The analysis was cancelled.')) });
   }
 
   /** Fraction of the fetch of the current run received, 0 … 1. */
@@ -383,7 +387,7 @@ export class AnalysisModel implements IAnalysisState {
       await bridge.sendResults(completed.analysisId, completed.result.multiplets, { meta });
       this._kernelMessage = null;
     } catch (error) {
-      this._kernelMessage = `The results could not be sent to the kernel: ${errorMessage(error)}`;
+      this._kernelMessage = this._trans.__('The results could not be sent to the kernel: %1', errorMessage(error));
     }
     this._changed.emit();
   }
@@ -434,14 +438,17 @@ export class AnalysisModel implements IAnalysisState {
     if (sender === this.estimator) {
       this.binning.unusedBecause =
         this.estimator.estimator === 'gaussian-copula'
-          ? 'Not used by the Gaussian-copula estimator: it does not bin, but replaces each column by the normal ' +
-            'scores of its ranks. These specs apply again when a binned estimator is chosen.'
+          ? this._trans.__(
+              'Not used by the Gaussian-copula estimator: it does not bin, but replaces each column by the normal ' +
+                'scores of its ranks. These specs apply again when a binned estimator is chosen.'
+            )
           : null;
     }
     this._changed.emit();
   }
 
   private _engine: IEngineRunner;
+  private readonly _trans: TranslationBundle;
   private _now: () => number;
   private _recordIdFor: ((run: IRunCompleted) => Promise<string | null>) | null;
   private _settings: IPolyadicSettings | null = null;
@@ -478,6 +485,8 @@ export namespace AnalysisModel {
      * null; the run then takes that id instead of a new one.
      */
     recordIdFor?: (run: IRunCompleted) => Promise<string | null>;
+    /** Translates the model's messages; they stay as written without one. */
+    translator?: ITranslator;
   }
 }
 

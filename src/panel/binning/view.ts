@@ -8,7 +8,8 @@
 import { Widget } from '@lumino/widgets';
 
 import { AUTO_NUMERIC_SPEC } from '../../engine/binning';
-import { formatCount, formatDataValue, plural } from '../../engine/text';
+import { formatCount, formatDataValue } from '../../engine/text';
+import { translationBundle, type ITranslator, type TranslationBundle } from '../../translation';
 import { ChartView, plotlyText } from '../charts/chart';
 import type { IChartColors, IFigure } from '../charts/chart';
 import { textElement } from '../dom';
@@ -36,15 +37,16 @@ const SPEC_SUGGESTIONS = [
 export class BinningView extends SectionView<BinningModel> {
   /** Create the section for `options.model`. */
   constructor(options: BinningView.IOptions) {
-    super({ model: options.model, className: 'pd-Binning', label: 'Binning' });
+    const trans = translationBundle(options.translator);
+    super({ model: options.model, className: 'pd-Binning', label: trans.__('Binning'), translator: options.translator });
     const listId = `pd-binning-forms-${Private.nextId()}`;
     this._datalist = document.createElement('datalist');
     this._datalist.id = listId;
     this._datalist.append(...SPEC_SUGGESTIONS.map(spec => Object.assign(document.createElement('option'), { value: spec })));
     this._listId = listId;
-    this._empty = textElement('p', 'pd-Binning-empty', 'Pick a dataframe in the Dataframe section to choose how its columns are binned.');
+    this._empty = textElement('p', 'pd-Binning-empty', trans.__('Pick a dataframe in the Dataframe section to choose how its columns are binned.'));
     this._rows = textElement('div', 'pd-Binning-rows');
-    this._apply = textElement('button', 'pd-Binning-apply jp-mod-styled', 'Apply to all numeric columns');
+    this._apply = textElement('button', 'pd-Binning-apply jp-mod-styled', trans.__('Apply to all numeric columns'));
     this._apply.type = 'button';
     this._apply.addEventListener('click', () => {
       const focused = this.model.focused;
@@ -56,17 +58,19 @@ export class BinningView extends SectionView<BinningModel> {
     this._preview.setAttribute('aria-live', 'polite');
     // one chart, redrawn for each column and spec (the chart module of the results view)
     this._chart = new ChartView({
-      label: 'Binning preview',
+      label: trans.__('Binning preview'),
       filename: 'polyadic-binning-preview',
       height: 130,
       exportAs: () => {
         const preview = this._drawn;
-        const name = preview?.name ?? 'column';
+        const name = preview?.name ?? trans.__('column');
         return {
-          title: `Binning of ${name}: ${this.model.preview.spec ?? ''}`,
-          subtitle: preview ? `${formatCount(preview.rows)} rows · ${Private.binsText(preview.binCounts.length, preview.binning.binning.method)}` : '',
+          title: trans.__('Binning of %1: %2', name, this.model.preview.spec ?? ''),
+          subtitle: preview
+            ? trans.__('%1 · %2', Private.rowsText(preview.rows, trans), Private.binsText(preview.binCounts.length, preview.binning.binning.method, trans))
+            : '',
           xTitle: name,
-          yTitle: 'rows',
+          yTitle: trans.__('rows'),
           filename: `polyadic-binning-${name.replace(/[^A-Za-z0-9._-]+/g, '_').slice(0, 60)}`
         };
       }
@@ -104,7 +108,7 @@ export class BinningView extends SectionView<BinningModel> {
       input.setAttribute('aria-invalid', fault === null ? 'false' : 'true');
       row.classList.toggle('pd-mod-fault', fault !== null);
       row.classList.toggle('jp-mod-active', this.model.focused === name);
-      Private.showOutcome(outcome, fault === null ? this.model.outcomeOf(name) : null);
+      Private.showOutcome(outcome, fault === null ? this.model.outcomeOf(name) : null, this.trans);
     }
     const focused = this.model.focused;
     this._apply.disabled = focused === null || !this.model.isNumeric(focused);
@@ -122,7 +126,7 @@ export class BinningView extends SectionView<BinningModel> {
     input.className = 'pd-Binning-spec jp-mod-styled';
     input.spellcheck = false;
     input.setAttribute('list', this._listId);
-    input.setAttribute('aria-label', `Binning of column ${name}`);
+    input.setAttribute('aria-label', this.trans.__('Binning of column %1', name));
     input.value = this.model.specOf(name) ?? '';
     input.addEventListener('input', () => this.model.setSpec(name, input.value));
     input.addEventListener('focus', () => this.model.focus(name));
@@ -138,6 +142,7 @@ export class BinningView extends SectionView<BinningModel> {
   }
 
   private _renderPreview(): void {
+    const trans = this.trans;
     const state = this.model.preview;
     const figure = this._preview;
     figure.classList.toggle('jp-mod-pending', state.pending);
@@ -148,25 +153,29 @@ export class BinningView extends SectionView<BinningModel> {
       return;
     }
     if (state.error !== null) {
-      figure.replaceChildren(textElement('figcaption', 'pd-Binning-caption', `Preview of ${state.column}`), textElement('p', 'pd-Binning-problem', state.error.message));
+      figure.replaceChildren(textElement('figcaption', 'pd-Binning-caption', trans.__('Preview of %1', state.column)), textElement('p', 'pd-Binning-problem', state.error.message));
       return;
     }
     const preview = state.preview;
     if (preview === null) {
-      figure.replaceChildren(textElement('figcaption', 'pd-Binning-caption', `Preview of ${state.column}…`));
+      figure.replaceChildren(textElement('figcaption', 'pd-Binning-caption', trans.__('Preview of %1…', state.column)));
       return;
     }
     if (preview === this._drawn) {
       return;
     }
     this._drawn = preview;
-    const label = Private.chartLabel(preview);
+    const label = Private.chartLabel(preview, trans);
     this._chart.plotNode.setAttribute('aria-label', label);
     this._chart.node.dataset.edges = String(preview.binning.binning.edges?.length ?? 0);
     figure.replaceChildren(
-      textElement('figcaption', 'pd-Binning-caption', `Preview of ${preview.name}: ${state.spec} → ${Private.binsText(preview.binCounts.length, preview.binning.binning.method)}`),
+      textElement(
+        'figcaption',
+        'pd-Binning-caption',
+        trans.__('Preview of %1: %2 → %3', preview.name, state.spec, Private.binsText(preview.binCounts.length, preview.binning.binning.method, trans))
+      ),
       this._chartHost,
-      Private.binTable(preview),
+      Private.binTable(preview, trans),
       ...preview.warnings.map(warning => textElement('p', 'pd-Binning-warning', warning))
     );
     this._chart.setFigure(colors => Private.figure(preview, colors));
@@ -211,6 +220,8 @@ export namespace BinningView {
   export interface IOptions {
     /** The section's state. */
     model: BinningModel;
+    /** Translates the section's strings. */
+    translator?: ITranslator;
   }
 }
 
@@ -223,15 +234,22 @@ namespace Private {
   }
 
   /** "4 bins", or "2 categories" for a categorical binning. */
-  export function binsText(bins: number, method: string | null): string {
-    return method === 'categorical' ? plural(bins, 'category', 'categories') : plural(bins, 'bin');
+  export function binsText(bins: number, method: string | null, trans: TranslationBundle): string {
+    return method === 'categorical'
+      ? trans._n('%2 category', '%2 categories', bins, formatCount(bins))
+      : trans._n('%2 bin', '%2 bins', bins, formatCount(bins));
+  }
+
+  /** "1,000 rows". */
+  export function rowsText(rows: number, trans: TranslationBundle): string {
+    return trans._n('%2 row', '%2 rows', rows, formatCount(rows));
   }
 
   /**
    * A column's row under its spec field: what the spec gave (under `auto`, which method it
    * chose) and the engine's warnings about the column, such as values merged into one bin.
    */
-  export function showOutcome(node: HTMLElement, outcome: IBinOutcome | null): void {
+  export function showOutcome(node: HTMLElement, outcome: IBinOutcome | null, trans: TranslationBundle): void {
     const key = outcome === null ? '' : JSON.stringify(outcome);
     if (node.dataset.key === key) {
       return;
@@ -242,20 +260,28 @@ namespace Private {
       node.replaceChildren();
       return;
     }
-    const chose = outcome.spec === 'auto' ? ` (${outcome.method === 'categorical' ? 'each value kept' : AUTO_NUMERIC_SPEC})` : '';
-    const summary = textElement('p', 'pd-Binning-result', `→ ${binsText(outcome.bins, outcome.method)}${chose}`);
+    const bins = binsText(outcome.bins, outcome.method, trans);
+    const chose = outcome.method === 'categorical' ? trans.__('each value kept') : AUTO_NUMERIC_SPEC;
+    const summary = textElement('p', 'pd-Binning-result', outcome.spec === 'auto' ? trans.__('→ %1 (%2)', bins, chose) : trans.__('→ %1', bins));
     node.classList.toggle('pd-mod-warning', outcome.warnings.length > 0);
     node.replaceChildren(summary, ...outcome.warnings.map(warning => textElement('p', 'pd-Binning-rowWarning', warning)));
   }
 
   /** What the preview's chart shows, for screen readers. */
-  export function chartLabel(preview: IColumnPreview): string {
+  export function chartLabel(preview: IColumnPreview, trans: TranslationBundle): string {
     const distribution = preview.distribution;
     if (distribution.kind === 'numeric' && Number.isFinite(distribution.low)) {
       const edges = preview.binning.binning.edges ?? [];
-      return `Distribution of ${preview.name} from ${format(distribution.low)} to ${format(distribution.high)} with ${plural(edges.length, 'bin edge')} drawn as lines`;
+      return trans.__(
+        'Distribution of %1 from %2 to %3 with %4 drawn as lines',
+        preview.name,
+        format(distribution.low),
+        format(distribution.high),
+        trans._n('%2 bin edge', '%2 bin edges', edges.length, formatCount(edges.length))
+      );
     }
-    return `Counts of the ${plural(distribution.counts.length, 'category', 'categories')} of ${preview.name}`;
+    const categories = distribution.counts.length;
+    return trans.__('Counts of the %1 of %2', trans._n('%2 category', '%2 categories', categories, formatCount(categories)), preview.name);
   }
 
   /**
@@ -317,11 +343,11 @@ namespace Private {
   }
 
   /** Rows per bin, with each bin's range or category. */
-  export function binTable(preview: IColumnPreview): HTMLTableElement {
+  export function binTable(preview: IColumnPreview, trans: TranslationBundle): HTMLTableElement {
     const table = textElement('table', 'pd-Table pd-Binning-counts');
-    table.append(textElement('caption', 'pd-Binning-caption', 'Rows per bin'));
+    table.append(textElement('caption', 'pd-Binning-caption', trans.__('Rows per bin')));
     const head = textElement('tr', '');
-    for (const text of ['Bin', 'Rows']) {
+    for (const text of [trans.__('Bin'), trans.__('Rows')]) {
       const cell = textElement('th', '', text);
       cell.scope = 'col';
       head.append(cell);
@@ -332,11 +358,11 @@ namespace Private {
     for (let i = 0; i < preview.binCounts.length; i++) {
       let name: string;
       if (categories !== undefined) {
-        name = categories[i] ?? `code ${i}`;
+        name = categories[i] ?? trans.__('code %1', i);
       } else if (edges !== undefined && i + 1 < edges.length) {
         name = `[${format(edges[i])}, ${format(edges[i + 1])}${i + 2 === edges.length ? ']' : ')'}`;
       } else {
-        name = `bin ${i + 1}`;
+        name = trans.__('bin %1', i + 1);
       }
       const row = textElement('tr', '');
       row.append(textElement('td', 'pd-Binning-bin', name), textElement('td', 'pd-Number', formatCount(preview.binCounts[i])));
@@ -346,7 +372,7 @@ namespace Private {
     table.tHead!.append(head);
     if (preview.missing > 0) {
       const row = textElement('tr', '');
-      row.append(textElement('td', 'pd-Binning-bin', 'missing'), textElement('td', 'pd-Number', formatCount(preview.missing)));
+      row.append(textElement('td', 'pd-Binning-bin', trans.__('missing')), textElement('td', 'pd-Number', formatCount(preview.missing)));
       body.append(row);
     }
     return table;

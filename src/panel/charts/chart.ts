@@ -8,6 +8,7 @@
 import { Widget } from '@lumino/widgets';
 import type * as PlotlyModule from 'plotly.js-dist-min';
 
+import { translationBundle, type ITranslator } from '../../translation';
 import { textElement } from '../dom';
 import { type IChartExport, plotlyText, PRINT_SIZE, printColors, printFigure } from './print';
 import type { FigureBuilder, IChartColors } from './types';
@@ -26,12 +27,13 @@ export class ChartView extends Widget {
     this._plot.setAttribute('aria-label', options.label);
     // plotly sizes its SVG to the layout height; the box must reserve the same room.
     this._plot.style.height = `${options.height}px`;
+    const trans = translationBundle(options.translator);
     const actions = textElement('div', 'pd-Plot-actions');
     for (const format of ['png', 'svg'] as const) {
       const button = textElement('button', 'pd-Plot-export jp-mod-styled', format.toUpperCase());
       button.type = 'button';
-      button.title = `Save this chart as ${format.toUpperCase()}`;
-      button.setAttribute('aria-label', `Save ${options.label} as ${format.toUpperCase()}`);
+      button.title = trans.__('Save this chart as %1', format.toUpperCase());
+      button.setAttribute('aria-label', trans.__('Save %1 as %2', options.label, format.toUpperCase()));
       button.addEventListener('click', () => void this.exportImage(format));
       actions.append(button);
     }
@@ -175,6 +177,8 @@ export namespace ChartView {
     height: number;
     /** Called with the trace and point index when a point or bar is clicked. */
     onClick?: (trace: number, point: number) => void;
+    /** Translates the export buttons' names (the label comes translated). */
+    translator?: ITranslator;
   }
 }
 

@@ -3,7 +3,8 @@
  * checklist (type, distinct and missing counts, warnings). Column names, types and messages
  * are untrusted text and only ever reach the DOM through `textContent`.
  */
-import { formatCount, plural } from '../../engine/text';
+import { formatCount } from '../../engine/text';
+import { translationBundle, type ITranslator } from '../../translation';
 import { textElement } from '../dom';
 import { SectionView } from '../section';
 import { IColumnEntry, DataModel } from './model';
@@ -13,11 +14,12 @@ import { WARNING_BADGE, WARNING_TEXT } from './stats';
 export class DataView extends SectionView<DataModel> {
   /** Create the section for `options.model`. */
   constructor(options: DataView.IOptions) {
-    super({ model: options.model, className: 'pd-Data', label: 'Dataframe' });
+    const trans = translationBundle(options.translator);
+    super({ model: options.model, className: 'pd-Data', label: trans.__('Dataframe'), translator: options.translator });
     this._status = textElement('div', 'pd-Data-status');
     this._status.setAttribute('role', 'status');
     const pickerId = `pd-frame-picker-${Private.nextId()}`;
-    const label = textElement('label', 'pd-Data-label', 'Dataframe');
+    const label = textElement('label', 'pd-Data-label', trans.__('Dataframe'));
     label.htmlFor = pickerId;
     this._picker = document.createElement('select');
     this._picker.id = pickerId;
@@ -28,7 +30,7 @@ export class DataView extends SectionView<DataModel> {
     this._progress = document.createElement('progress');
     this._progress.className = 'pd-Data-progress';
     this._progress.max = 1;
-    this._progress.setAttribute('aria-label', 'Loading the dataframe');
+    this._progress.setAttribute('aria-label', trans.__('Loading the dataframe'));
     this._message = textElement('p', 'pd-Data-message');
     this._list = textElement('div', 'pd-Data-columns');
     this.node.append(this._status, this._pickerRow, this._progress, this._message, this._list);
@@ -46,15 +48,16 @@ export class DataView extends SectionView<DataModel> {
     this._progress.hidden = load.state !== 'loading';
     this._progress.value = load.fraction;
     if (ready && model.frames.length === 0) {
-      this._message.textContent =
+      this._message.textContent = this.trans.__(
         'No dataframe in this notebook’s kernel yet. Load a table in a cell, for example ' +
-        'df = pd.read_csv("data.csv"), and it appears here.';
+          'df = pd.read_csv("data.csv"), and it appears here.'
+      );
     } else if (ready && model.frame === null) {
-      this._message.textContent = 'Pick a dataframe to see its columns.';
+      this._message.textContent = this.trans.__('Pick a dataframe to see its columns.');
     } else if (load.state === 'error') {
-      this._message.textContent = load.error?.message ?? 'The dataframe could not be loaded.';
+      this._message.textContent = load.error?.message ?? this.trans.__('The dataframe could not be loaded.');
     } else if (load.state === 'loading') {
-      this._message.textContent = 'Loading the columns…';
+      this._message.textContent = this.trans.__('Loading the columns…');
     } else {
       this._message.textContent = '';
     }
@@ -67,7 +70,7 @@ export class DataView extends SectionView<DataModel> {
     const box = this._status;
     box.replaceChildren();
     if (status === null) {
-      box.append(textElement('p', 'pd-Data-statusText', 'Open a notebook to analyse one of its dataframes.'));
+      box.append(textElement('p', 'pd-Data-statusText', this.trans.__('Open a notebook to analyse one of its dataframes.')));
       box.dataset.state = 'no-notebook';
       return;
     }
@@ -82,7 +85,7 @@ export class DataView extends SectionView<DataModel> {
       box.append(line);
     }
     if (status.state === 'error' || status.state === 'missing-package') {
-      const retry = textElement('button', 'pd-Data-retry jp-mod-styled jp-mod-accept', 'Try again');
+      const retry = textElement('button', 'pd-Data-retry jp-mod-styled jp-mod-accept', this.trans.__('Try again'));
       retry.type = 'button';
       retry.addEventListener('click', () => this.model.reconnect());
       box.append(retry);
@@ -94,7 +97,7 @@ export class DataView extends SectionView<DataModel> {
     const key = JSON.stringify(frames.map(frame => [frame.name, frame.rows, frame.columns.length]));
     if (key !== this._pickerKey) {
       this._pickerKey = key;
-      const none = textElement('option', '', 'Choose a dataframe…');
+      const none = textElement('option', '', this.trans.__('Choose a dataframe…'));
       none.value = '';
       this._picker.replaceChildren(
         none,
@@ -102,7 +105,13 @@ export class DataView extends SectionView<DataModel> {
           const option = textElement(
             'option',
             '',
-            `${frame.name} (${plural(frame.rows, 'row')} × ${plural(frame.columns.length, 'column')}, ${frame.kind})`
+            this.trans.__(
+              '%1 (%2 × %3, %4)',
+              frame.name,
+              this.trans._n('%2 row', '%2 rows', frame.rows, formatCount(frame.rows)),
+              this.trans._n('%2 column', '%2 columns', frame.columns.length, formatCount(frame.columns.length)),
+              frame.kind
+            )
           );
           option.value = frame.name;
           return option;
@@ -122,7 +131,8 @@ export class DataView extends SectionView<DataModel> {
       if (columns.length > 0) {
         const table = textElement('table', 'pd-Table pd-Data-table');
         const head = textElement('tr', '');
-        for (const text of ['Use', 'Column', 'Type', 'Distinct', 'Missing']) {
+        const trans = this.trans;
+        for (const text of [trans.__('Use'), trans.__('Column'), trans.__('Type'), trans.__('Distinct'), trans.__('Missing')]) {
           const cell = textElement('th', '', text);
           cell.scope = 'col';
           head.append(cell);
@@ -152,7 +162,7 @@ export class DataView extends SectionView<DataModel> {
       row.classList.toggle('pd-mod-fault', atFault);
       row.querySelector('.pd-Data-fault')?.remove();
       if (atFault && fault !== null) {
-        const note = textElement('span', 'pd-Badge pd-mod-error pd-Data-fault', 'at fault');
+        const note = textElement('span', 'pd-Badge pd-mod-error pd-Data-fault', this.trans.__('at fault'));
         note.title = fault.message;
         row.querySelector('.pd-Data-name')?.append(' ', note);
       }
@@ -164,7 +174,7 @@ export class DataView extends SectionView<DataModel> {
     const use = textElement('td', '');
     const box = document.createElement('input');
     box.type = 'checkbox';
-    box.setAttribute('aria-label', `Use column ${column.name}`);
+    box.setAttribute('aria-label', this.trans.__('Use column %1', column.name));
     box.disabled = column.view === null;
     box.addEventListener('change', () => this.model.setSelected(column.name, box.checked));
     this._boxes.set(column.name, box);
@@ -172,19 +182,19 @@ export class DataView extends SectionView<DataModel> {
     const name = textElement('td', 'pd-Data-name');
     name.append(textElement('span', 'pd-Data-columnName', column.name));
     for (const warning of column.stats?.warnings ?? []) {
-      const badge = textElement('span', `pd-Badge pd-mod-warning pd-mod-${warning}`, WARNING_BADGE[warning]);
+      const badge = textElement('span', `pd-Badge pd-mod-warning pd-mod-${warning}`, this.trans.__(WARNING_BADGE[warning]));
       badge.dataset.warning = warning;
-      badge.title = WARNING_TEXT[warning];
+      badge.title = this.trans.__(WARNING_TEXT[warning]);
       name.append(' ', badge);
     }
     if (column.kind === 'other') {
-      const badge = textElement('span', 'pd-Badge pd-mod-warning', 'unsupported type');
+      const badge = textElement('span', 'pd-Badge pd-mod-warning', this.trans.__('unsupported type'));
       name.append(' ', badge);
     }
     row.append(
       use,
       name,
-      textElement('td', 'pd-Data-type', `${column.dtype} (${column.kind})`),
+      textElement('td', 'pd-Data-type', this.trans.__('%1 (%2)', column.dtype, column.kind)),
       textElement('td', 'pd-Number', column.stats === null ? '–' : formatCount(column.stats.distinct)),
       textElement('td', 'pd-Number', column.stats === null ? '–' : formatCount(column.stats.missing))
     );
@@ -208,6 +218,8 @@ export namespace DataView {
   export interface IOptions {
     /** The section's state. */
     model: DataModel;
+    /** Translates the section's strings. */
+    translator?: ITranslator;
   }
 }
 

@@ -2,6 +2,7 @@
  * The panel's defaults section: the settings new analyses start from, with a way to the
  * Settings Editor.
  */
+import { translationBundle, type ITranslator } from '../../translation';
 import { textElement } from '../dom';
 import { SectionView } from '../section';
 import { DefaultsModel } from './model';
@@ -10,7 +11,8 @@ import { DefaultsModel } from './model';
 export class DefaultsView extends SectionView<DefaultsModel> {
   /** Create the section for `options.model`. */
   constructor(options: DefaultsView.IOptions) {
-    super({ model: options.model, className: 'pd-Defaults', label: 'Defaults' });
+    const trans = translationBundle(options.translator);
+    super({ model: options.model, className: 'pd-Defaults', label: trans.__('Defaults'), translator: options.translator });
     this._onOpenSettings = options.onOpenSettings ?? null;
     this.render();
   }
@@ -24,7 +26,7 @@ export class DefaultsView extends SectionView<DefaultsModel> {
       message.setAttribute('role', 'alert');
       children.push(message);
     } else if (this.model.rows.length === 0) {
-      children.push(textElement('p', 'pd-Defaults-note', 'Loading settings…'));
+      children.push(textElement('p', 'pd-Defaults-note', this.trans.__('Loading settings…')));
     } else {
       const list = textElement('dl', 'pd-Facts');
       for (const row of this.model.rows) {
@@ -37,7 +39,7 @@ export class DefaultsView extends SectionView<DefaultsModel> {
     }
     const onOpenSettings = this._onOpenSettings;
     if (onOpenSettings !== null) {
-      const button = textElement('button', 'pd-Defaults-action jp-mod-styled', 'Edit settings');
+      const button = textElement('button', 'pd-Defaults-action jp-mod-styled', this.trans.__('Edit settings'));
       button.type = 'button';
       button.addEventListener('click', () => onOpenSettings());
       children.push(button);
@@ -56,5 +58,7 @@ export namespace DefaultsView {
     model: DefaultsModel;
     /** Called by the "Edit settings" button; no button without it. */
     onOpenSettings?: () => void;
+    /** Translates the section's strings. */
+    translator?: ITranslator;
   }
 }

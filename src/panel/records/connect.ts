@@ -6,10 +6,10 @@
 import { IDisposable } from '@lumino/disposable';
 
 import type { IAnalysisState, IRunCompleted } from '../analysis/types';
-import { RecordsModel } from './model';
+import type { IPolyadicPanel } from '../../tokens';
 
 /** Record every completed run of `analysis` in `records` until the handle is disposed. */
-export function recordCompletedRuns(analysis: IAnalysisState, records: RecordsModel): IDisposable {
+export function recordCompletedRuns(analysis: IAnalysisState, records: IPolyadicPanel.IRecords): IDisposable {
   let disposed = false;
   const onRun = (_: IAnalysisState, run: IRunCompleted): void => {
     void Private.handle(run, records);
@@ -28,7 +28,7 @@ export function recordCompletedRuns(analysis: IAnalysisState, records: RecordsMo
 
 namespace Private {
   /** Compare, then record; runs one after the other so the check sees the restored analysis. */
-  export async function handle(run: IRunCompleted, records: RecordsModel): Promise<void> {
+  export async function handle(run: IRunCompleted, records: IPolyadicPanel.IRecords): Promise<void> {
     const { frame } = run;
     if (frame.columns !== undefined) {
       await records.checkData({

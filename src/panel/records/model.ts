@@ -9,13 +9,12 @@
 import { ISignal, Signal } from '@lumino/signaling';
 
 import { asPolyadicError, errorMessage, PolyadicError } from '../../engine/errors';
-import { formatCount, plural, wordFor } from '../../engine/text';
-import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
+import { formatCount } from '../../engine/text';
 import { fingerprintColumns, type IFingerprint } from '../../record/fingerprint';
 import { recordFromResult } from '../../record/recordFromResult';
 import { withRobustness } from '../../record/robustness';
 import type { IRobustnessResult } from '../../engine/robustness';
-import { compareFingerprint, optionsFromRecord, type IDataComparison } from '../../record/settings';
+import { compareFingerprint, optionsFromRecord } from '../../record/settings';
 import {
   addAnalysis,
   deleteAnalysis,
@@ -27,59 +26,21 @@ import {
   type IMetadataAccess,
   type IRecordState
 } from '../../record/store';
-import type { IAnalysisRecord, ISampleInfo, IStatisticsSettings } from '../../record/types';
+import type { IAnalysisRecord, ISampleInfo } from '../../record/types';
+import type { IPolyadicPanel } from '../../tokens';
+import { translationBundle, type ITranslator, type TranslationBundle } from '../../translation';
 import type { IRunCompleted } from '../analysis/types';
+import type { IDataCheck, IRecordsNotebook, IRestoreRequest, IRunFrame } from './types';
 
-/** The notebook whose record the section shows. */
-export interface IRecordsNotebook {
-  /** Path relative to the server root; tells one notebook from another. */
-  path: string;
-  /** Its metadata, as far as the record needs it. */
-  metadata: IMetadataAccess;
-}
-
-/** The rows an analysis read, as the bridge fetched them. */
-export interface IRunFrame {
-  /** Dataframe name in the kernel. */
-  name: string;
-  /** The columns the engine read, in the order it read them. */
-  columns: readonly ColumnView[];
-  /** Rows received. */
-  rows: number;
-  /** Rows of the frame in the kernel. */
-  originalRows: number;
-  /** Whether the rows are a seeded sample of the frame. */
-  sampled: boolean;
-  /** Seed of the sample. */
-  seed: number;
-}
-
-/** A request to put a recorded analysis' settings back into the analysis section. */
-export interface IRestoreRequest {
-  /** The recorded analysis. */
-  analysis: IAnalysisRecord;
-  /** Dataframe the analysis read. */
-  frame: string;
-  /** Engine options that re-run it exactly. */
-  options: IAnalyzeOptions;
-  /** Its statistics settings, or null when it computed no evidence. */
-  statistics: IStatisticsSettings | null;
-}
-
-/** How the data the panel fetched compares with the chosen analysis. */
-export interface IDataCheck {
-  /** Id of the analysis compared. */
-  id: string;
-  /** `same`, `changed`, or `not-comparable` (a different sample or missing columns). */
-  status: 'same' | 'changed' | 'not-comparable';
-  /** A sentence for the banner. */
-  message: string;
-  /** Column-level detail of a comparison that was made. */
-  comparison: IDataComparison | null;
-}
+export type { IDataCheck, IRecordsNotebook, IRestoreRequest, IRunFrame } from './types';
 
 /** Holds the followed notebook's record and signals every change of it. */
-export class RecordsModel {
+export class RecordsModel implements IPolyadicPanel.IRecords {
+  /** Create the model; `options.translator` translates its messages (as written without one). */
+  constructor(options: RecordsModel.IOptions = {}) {
+    this._trans = translationBundle(options.translator);
+  }
+
   /** Emitted after the record, the choice, the data check or the last error changed. */
   get changed(): ISignal<this, void> {
     return this._changed;
@@ -196,20 +157,20 @@ export class RecordsModel {
   async recordRun(run: IRunCompleted): Promise<IAnalysisRecord | null> {
     const notebook = this._notebook;
     if (notebook === null) {
-      return this._fail('No notebook is open, so the run was not recorded.');
+      return this._fail(this._trans.__('No notebook is open, so the run was not recorded.'));
     }
     if (run.frame.columns === undefined) {
-      return this._fail('The run was not recorded: the analysis section did not pass on the columns it read.');
+      return this._fail(this._trans.__('The run was not recorded: the analysis section did not pass on the columns it read.'));
     }
     let analysis: IAnalysisRecord;
     try {
       analysis = await this._analysisOf(run);
     } catch (error) {
-      return this._fail(`The run was not recorded: ${errorMessage(error)}`, error);
+      return this._fail(this._trans.__('The run was not recorded: %1', errorMessage(error)), error);
     }
     // the person may have switched notebooks while the fingerprint was computed
     if (this._notebook !== notebook) {
-      return this._fail('The notebook changed while the run was being recorded, so it was not recorded.');
+      return this._fail(this._trans.__('The notebook changed while the run was being recorded, so it was not recorded.'));
     }
     const repeated =
       this._state?.analyses.find(existing => existing.id === analysis.id) ??
@@ -222,7 +183,7 @@ export class RecordsModel {
         this._state = addAnalysis(notebook.metadata, analysis);
       }
     } catch (error) {
-      return this._fail(`The run was not recorded: ${errorMessage(error)}`, error);
+      return this._fail(this._trans.__('The run was not recorded: %1', errorMessage(error)), error);
     }
     // a re-run on the same data answers the data check of the analysis it replaces
     this._checks.delete(analysis.id);
@@ -240,19 +201,19 @@ export class RecordsModel {
   async recordRobustness(run: IRunCompleted, result: IRobustnessResult): Promise<string | null> {
     const notebook = this._notebook;
     if (notebook === null) {
-      this._fail('No notebook is open, so the robustness check was not recorded.');
+      this._fail(this._trans.__('No notebook is open, so the robustness check was not recorded.'));
       return this._error?.message ?? null;
     }
     const id = this._recordedAs.get(run.analysisId) ?? run.analysisId;
     const analysis = this._state === null ? undefined : findAnalysis(this._state, id);
     if (analysis === undefined) {
-      this._fail(`The robustness check was not recorded: analysis '${id}' is not in this notebook's record.`);
+      this._fail(this._trans.__("The robustness check was not recorded: analysis '%1' is not in this notebook's record.", id));
       return this._error?.message ?? null;
     }
     try {
       this._state = replaceAnalysis(notebook.metadata, withRobustness(analysis, result));
     } catch (error) {
-      this._fail(`The robustness check was not recorded: ${errorMessage(error)}`, error);
+      this._fail(this._trans.__('The robustness check was not recorded: %1', errorMessage(error)), error);
       return this._error?.message ?? null;
     }
     this._error = null;
@@ -274,7 +235,7 @@ export class RecordsModel {
   restore(id: string): boolean {
     const analysis = this._state === null ? undefined : findAnalysis(this._state, id);
     if (analysis === undefined) {
-      this._fail(`No analysis with id '${id.slice(0, 80)}' is recorded in this notebook.`);
+      this._fail(this._trans.__("No analysis with id '%1' is recorded in this notebook.", id.slice(0, 80)));
       return false;
     }
     this.select(id);
@@ -298,7 +259,7 @@ export class RecordsModel {
       return null;
     }
     const notebook = this._notebook;
-    const check = await Private.check(analysis, frame);
+    const check = await Private.check(analysis, frame, this._trans);
     if (this._notebook !== notebook) {
       return null;
     }
@@ -323,7 +284,7 @@ export class RecordsModel {
 
   private _change(write: (metadata: IMetadataAccess) => IRecordState): boolean {
     if (this._notebook === null) {
-      this._fail('No notebook is open.');
+      this._fail(this._trans.__('No notebook is open.'));
       return false;
     }
     try {
@@ -348,7 +309,7 @@ export class RecordsModel {
     const columns = selected.map(name => {
       const column = byName.get(name);
       if (column === undefined) {
-        throw new Error(`The run used column '${name}', which the fetched frame '${run.frame.name}' does not hold.`);
+        throw new Error(this._trans.__("The run used column '%1', which the fetched frame '%2' does not hold.", name, run.frame.name));
       }
       return column;
     });
@@ -374,6 +335,7 @@ export class RecordsModel {
     return null;
   }
 
+  private readonly _trans: TranslationBundle;
   private _notebook: IRecordsNotebook | null = null;
   private _state: IRecordState | null = null;
   private _selectedId: string | null = null;
@@ -385,6 +347,15 @@ export class RecordsModel {
   private _isDisposed = false;
   private _changed = new Signal<this, void>(this);
   private _restoreRequested = new Signal<this, IRestoreRequest>(this);
+}
+
+/** The statics of {@link RecordsModel}. */
+export namespace RecordsModel {
+  /** Options of a {@link RecordsModel}. */
+  export interface IOptions {
+    /** Translates the model's messages. */
+    translator?: ITranslator;
+  }
 }
 
 namespace Private {
@@ -399,7 +370,9 @@ namespace Private {
     return Number.isNaN(date.getTime()) ? new Date() : date;
   }
 
-  export async function check(analysis: IAnalysisRecord, frame: IRunFrame): Promise<IDataCheck> {
+  export async function check(analysis: IAnalysisRecord, frame: IRunFrame, trans: TranslationBundle): Promise<IDataCheck> {
+    const rowsText = (rows: number): string => trans._n('%2 row', '%2 rows', rows, formatCount(rows));
+    const quoted = (names: string[]): string => names.map(name => `'${name}'`).join(', ');
     const id = analysis.id;
     const recorded = analysis.source.sample;
     const sampleNow = sampleOf(frame);
@@ -414,10 +387,26 @@ namespace Private {
         comparison: null,
         message:
           recorded === undefined
-            ? `The panel read a sample of ${formatCount(frame.rows)} of ${plural(frame.originalRows, 'row')} of '${frame.name}', ` +
-              'but this analysis read every row; the data cannot be compared.'
-            : `This analysis read a sample of ${plural(recorded.row_cap, 'row')} (seed ${recorded.seed}); the panel read ` +
-              `${plural(frame.rows, 'row')}${frame.sampled ? ` (seed ${frame.seed})` : ''}, so the data cannot be compared.`
+            ? trans.__(
+                "The panel read a sample of %1 of %2 of '%3', but this analysis read every row; the data cannot be compared.",
+                formatCount(frame.rows),
+                rowsText(frame.originalRows),
+                frame.name
+              )
+            : frame.sampled
+              ? trans.__(
+                  'This analysis read a sample of %1 (seed %2); the panel read %3 (seed %4), so the data cannot be compared.',
+                  rowsText(recorded.row_cap),
+                  recorded.seed,
+                  rowsText(frame.rows),
+                  frame.seed
+                )
+              : trans.__(
+                  'This analysis read a sample of %1 (seed %2); the panel read %3, so the data cannot be compared.',
+                  rowsText(recorded.row_cap),
+                  recorded.seed,
+                  rowsText(frame.rows)
+                )
       };
     }
     const byName = new Map(frame.columns.map(column => [column.name, column]));
@@ -427,23 +416,27 @@ namespace Private {
         id,
         status: 'not-comparable',
         comparison: null,
-        message: `The panel has not read ${wordFor(missing.length, 'column')} ${missing.map(n => `'${n}'`).join(', ')} of '${frame.name}'; the data cannot be compared.`
+        message: trans._n(
+          "The panel has not read column %2 of '%3'; the data cannot be compared.",
+          "The panel has not read columns %2 of '%3'; the data cannot be compared.",
+          missing.length,
+          quoted(missing),
+          frame.name
+        )
       };
     }
     const fingerprint = await fingerprintColumns(analysis.columns.map(name => byName.get(name)!));
     const comparison = compareFingerprint(analysis, fingerprint);
     if (comparison.same) {
-      return { id, status: 'same', comparison, message: 'The data is the data this analysis read.' };
+      return { id, status: 'same', comparison, message: trans.__('The data is the data this analysis read.') };
     }
-    const where =
-      comparison.changedColumns.length > 0
-        ? ` (${wordFor(comparison.changedColumns.length, 'column')} ${comparison.changedColumns.map(n => `'${n}'`).join(', ')})`
-        : '';
+    const changed = comparison.changedColumns;
+    const where = changed.length > 0 ? trans._n(' (column %2)', ' (columns %2)', changed.length, quoted(changed)) : '';
     return {
       id,
       status: 'changed',
       comparison,
-      message: `The data of '${frame.name}' changed since this analysis was recorded${where}.`
+      message: trans.__("The data of '%1' changed since this analysis was recorded%2.", frame.name, where)
     };
   }
 }

@@ -4,53 +4,34 @@
  * Written against the few members of the analysis model it uses, so it depends on no more.
  */
 import type { IDisposable } from '@lumino/disposable';
-import type { ISignal } from '@lumino/signaling';
 
-import { wordFor } from '../../engine/text';
-import type { EstimatorName, Units } from '../../engine/types';
-import type { IStatisticsSettings } from '../../record/types';
-import type { IRestoreRequest, IRunFrame, RecordsModel } from './model';
+import type { IPolyadicPanel } from '../../tokens';
+import { translationBundle, type ITranslator, type TranslationBundle } from '../../translation';
+import type { IRestoreRequest, IRunFrame } from './types';
 
 /** The members of the analysis model a restore uses. */
-export interface IRestoreTarget {
-  data: {
-    readonly changed: ISignal<unknown, void>;
-    readonly frame: string | null;
-    readonly frames: readonly { name: string }[];
-    readonly columns: readonly { name: string }[];
-    readonly fetched: IRunFrame | null;
-    pick(name: string | null): Promise<void>;
-    setSelected(name: string, selected: boolean): void;
-    isSelected(name: string): boolean;
-  };
-  binning: {
-    specOf(name: string): string | undefined;
-    setSpec(name: string, spec: string): void;
-  };
-  estimator: {
-    estimator: EstimatorName;
-    units: Units;
-    maxOrder: number | null;
-  };
-  /** The Statistics section; absent in targets without one. */
-  statistics?: { restore(settings: IStatisticsSettings | null): void };
-}
+export type IRestoreTarget = Pick<IPolyadicPanel.IAnalysis, 'data' | 'binning' | 'estimator' | 'statistics'>;
 
 /**
  * Restore the request's frame, selection, binning specs, estimator, units, maximum order and
  * statistics (a record without statistics sets every count to 0: the run computed none).
- * Resolves to a sentence naming what could not be restored, or null when everything was.
+ * Resolves to a sentence (in `trans`'s language) naming what could not be restored, or null when
+ * everything was.
  */
-export async function restoreSettings(target: IRestoreTarget, request: IRestoreRequest): Promise<string | null> {
+export async function restoreSettings(
+  target: IRestoreTarget,
+  request: IRestoreRequest,
+  trans: TranslationBundle = translationBundle()
+): Promise<string | null> {
   const { data, binning, estimator } = target;
   if (!data.frames.some(frame => frame.name === request.frame)) {
-    return `The kernel holds no dataframe named '${request.frame}'; run the cell that makes it, then restore again.`;
+    return trans.__("The kernel holds no dataframe named '%1'; run the cell that makes it, then restore again.", request.frame);
   }
   if (data.frame !== request.frame || data.fetched === null) {
     await data.pick(request.frame);
   }
   if (data.frame !== request.frame) {
-    return `Another dataframe was picked while '${request.frame}' was loading; nothing was restored.`;
+    return trans.__("Another dataframe was picked while '%1' was loading; nothing was restored.", request.frame);
   }
   const wanted = new Set(request.options.columns ?? []);
   const present = new Set(data.columns.map(column => column.name));
@@ -75,8 +56,13 @@ export async function restoreSettings(target: IRestoreTarget, request: IRestoreR
   const missing = [...absent, ...notSelectable];
   return missing.length === 0
     ? null
-    : `${wordFor(missing.length, 'Column')} ${missing.map(name => `'${name}'`).join(', ')} of the record ` +
-        `could not be selected in '${request.frame}' (gone, renamed or not readable); the other settings were restored.`;
+    : trans._n(
+        "Column %2 of the record could not be selected in '%3' (gone, renamed or not readable); the other settings were restored.",
+        "Columns %2 of the record could not be selected in '%3' (gone, renamed or not readable); the other settings were restored.",
+        missing.length,
+        missing.map(name => `'${name}'`).join(', '),
+        request.frame
+      );
 }
 
 /**
@@ -84,11 +70,12 @@ export async function restoreSettings(target: IRestoreTarget, request: IRestoreR
  * request sets the sections, and every frame the Dataframe section loads is checked against the
  * chosen analysis (the "data changed" banner).
  */
-export function followRestores(target: IRestoreTarget, records: RecordsModel): IDisposable {
+export function followRestores(target: IRestoreTarget, records: IPolyadicPanel.IRecords, translator?: ITranslator): IDisposable {
+  const trans = translationBundle(translator);
   let disposed = false;
   let lastChecked: IRunFrame | null = null;
-  const onRestore = (_: RecordsModel, request: IRestoreRequest): void => {
-    void restoreSettings(target, request).then(problem => {
+  const onRestore = (_: IPolyadicPanel.IRecords, request: IRestoreRequest): void => {
+    void restoreSettings(target, request, trans).then(problem => {
       if (!disposed) {
         records.setNotice(problem);
       }

@@ -1,5 +1,5 @@
 /**
- * Keeps a {@link RecordsModel} on the current notebook's metadata: the record is read from
+ * Keeps the records section's model on the current notebook's metadata: the record is read from
  * and written to `INotebookModel.getMetadata` / `setMetadata` (a write marks the notebook
  * dirty, as any edit does), and read again whenever the metadata changes (a load from disk,
  * an edit in the metadata editor, another view of the same notebook).
@@ -7,10 +7,10 @@
 import { INotebookModel, INotebookTracker, NotebookPanel } from '@jupyterlab/notebook';
 import { IDisposable } from '@lumino/disposable';
 
-import { RecordsModel } from './model';
+import type { IPolyadicPanel } from '../../tokens';
 
 /** Follow the tracker's current notebook until the returned handle is disposed. */
-export function followRecords(tracker: INotebookTracker, model: RecordsModel): IDisposable {
+export function followRecords(tracker: INotebookTracker, model: IPolyadicPanel.IRecords): IDisposable {
   return new Private.RecordsFollower(tracker, model);
 }
 
@@ -19,7 +19,7 @@ namespace Private {
   export class RecordsFollower implements IDisposable {
     constructor(
       private readonly _tracker: INotebookTracker,
-      private readonly _model: RecordsModel
+      private readonly _model: IPolyadicPanel.IRecords
     ) {
       _tracker.currentChanged.connect(this._onCurrentChanged, this);
       this._onCurrentChanged();

@@ -3,7 +3,8 @@
  * rename, delete and "insert analysis cell" per analysis, the banner of a record that is
  * invalid, newer or migrated, and the "data changed" banner of the chosen analysis.
  */
-import { plural } from '../../engine/text';
+import { formatCount } from '../../engine/text';
+import { translationBundle, type ITranslator } from '../../translation';
 import type { IAnalysisRecord, IRecordProblem } from '../../record/types';
 import { textElement } from '../dom';
 import { SectionView } from '../section';
@@ -13,18 +14,20 @@ import { RecordsModel } from './model';
 export class RecordsView extends SectionView<RecordsModel> {
   /** Create the section for `options.model`. */
   constructor(options: RecordsView.IOptions) {
-    super({ model: options.model, className: 'pd-Records', label: 'Records' });
+    const trans = translationBundle(options.translator);
+    super({ model: options.model, className: 'pd-Records', label: trans.__('Records'), translator: options.translator });
     this._onInsertCell = options.onInsertCell ?? null;
     this.render();
   }
 
   /** Redraw from the model. */
   protected render(): void {
+    const trans = this.trans;
     const model = this.model;
     const state = model.state;
     const parts: HTMLElement[] = [];
     if (state === null) {
-      parts.push(textElement('p', 'pd-Records-note', 'Open a notebook to see the analyses recorded in it.'));
+      parts.push(textElement('p', 'pd-Records-note', trans.__('Open a notebook to see the analyses recorded in it.')));
       this.node.replaceChildren(...parts);
       return;
     }
@@ -42,13 +45,15 @@ export class RecordsView extends SectionView<RecordsModel> {
           textElement(
             'p',
             'pd-Records-note',
-            'No analysis is recorded in this notebook yet. Every completed run is recorded here, ' +
-              'in the notebook’s metadata, and saved with the notebook.'
+            trans.__(
+              'No analysis is recorded in this notebook yet. Every completed run is recorded here, ' +
+                'in the notebook’s metadata, and saved with the notebook.'
+            )
           )
         );
       } else {
         const list = textElement('ul', 'pd-Records-list');
-        list.setAttribute('aria-label', 'Recorded analyses');
+        list.setAttribute('aria-label', trans.__('Recorded analyses'));
         for (const analysis of state.analyses) {
           list.append(this._item(analysis, state.readOnly));
         }
@@ -60,6 +65,7 @@ export class RecordsView extends SectionView<RecordsModel> {
 
   /** One analysis of the list. */
   private _item(analysis: IAnalysisRecord, readOnly: boolean): HTMLElement {
+    const trans = this.trans;
     const model = this.model;
     const chosen = model.selectedId === analysis.id;
     const item = textElement('li', `pd-Records-item${chosen ? ' jp-mod-selected' : ''}`);
@@ -67,7 +73,7 @@ export class RecordsView extends SectionView<RecordsModel> {
 
     const label = textElement('button', 'pd-Records-label', analysis.label);
     label.type = 'button';
-    label.title = `Choose this analysis (${analysis.id})`;
+    label.title = trans.__('Choose this analysis (%1)', analysis.id);
     label.setAttribute('aria-pressed', String(chosen));
     label.addEventListener('click', () => model.select(chosen ? null : analysis.id));
     item.append(label);
@@ -75,8 +81,14 @@ export class RecordsView extends SectionView<RecordsModel> {
       textElement(
         'p',
         'pd-Records-meta',
-        `${analysis.source.frame} · ${plural(analysis.columns.length, 'column')} · orders ≤ ${analysis.max_order} · ` +
-          `${analysis.estimator} · ${Private.when(analysis.created)}`
+        trans.__(
+          '%1 · %2 · orders ≤ %3 · %4 · %5',
+          analysis.source.frame,
+          trans._n('%2 column', '%2 columns', analysis.columns.length, formatCount(analysis.columns.length)),
+          analysis.max_order,
+          analysis.estimator,
+          Private.when(analysis.created)
+        )
       )
     );
 
@@ -103,28 +115,29 @@ export class RecordsView extends SectionView<RecordsModel> {
   }
 
   private _actions(analysis: IAnalysisRecord, readOnly: boolean): HTMLElement {
+    const trans = this.trans;
     const bar = textElement('div', 'pd-Records-actions');
     bar.append(
-      Private.button('Restore settings', 'Put this analysis’ frame, columns and settings back in the panel', () =>
+      Private.button(trans.__('Restore settings'), trans.__('Put this analysis’ frame, columns and settings back in the panel'), () =>
         this.model.restore(analysis.id)
       )
     );
     const insert = this._onInsertCell;
     if (insert !== null) {
       bar.append(
-        Private.button('Insert cell', 'Insert a code cell that shows this analysis in the notebook', () =>
+        Private.button(trans.__('Insert cell'), trans.__('Insert a code cell that shows this analysis in the notebook'), () =>
           insert(analysis.id)
         )
       );
     }
     if (!readOnly) {
       bar.append(
-        Private.button('Rename', 'Give this analysis another name', () => {
+        Private.button(trans.__('Rename'), trans.__('Give this analysis another name'), () => {
           this._renaming = analysis.id;
           this.render();
           this.node.querySelector<HTMLInputElement>('.pd-Records-renameInput')?.focus();
         }),
-        Private.button('Delete', 'Remove this analysis from the notebook’s record', () => {
+        Private.button(trans.__('Delete'), trans.__('Remove this analysis from the notebook’s record'), () => {
           this._confirmingDelete = analysis.id;
           this.render();
         })
@@ -134,11 +147,12 @@ export class RecordsView extends SectionView<RecordsModel> {
   }
 
   private _renameForm(analysis: IAnalysisRecord): HTMLElement {
+    const trans = this.trans;
     const form = textElement('form', 'pd-Records-rename');
     const input = textElement('input', 'pd-Records-renameInput jp-mod-styled');
     input.type = 'text';
     input.value = analysis.label;
-    input.setAttribute('aria-label', 'New name');
+    input.setAttribute('aria-label', trans.__('New name'));
     const done = (): void => {
       this._renaming = null;
       this.render();
@@ -155,22 +169,23 @@ export class RecordsView extends SectionView<RecordsModel> {
         done();
       }
     });
-    const save = Private.button('Save', 'Save the new name', () => undefined);
+    const save = Private.button(trans.__('Save'), trans.__('Save the new name'), () => undefined);
     save.type = 'submit';
-    form.append(input, save, Private.button('Cancel', 'Keep the old name', done));
+    form.append(input, save, Private.button(trans.__('Cancel'), trans.__('Keep the old name'), done));
     return form;
   }
 
   private _deleteConfirm(analysis: IAnalysisRecord): HTMLElement {
+    const trans = this.trans;
     const box = textElement('div', 'pd-Records-actions');
     box.append(
-      textElement('span', 'pd-Records-question', 'Delete this analysis from the record?'),
-      Private.button('Delete', 'Delete it for good', () => {
+      textElement('span', 'pd-Records-question', trans.__('Delete this analysis from the record?')),
+      Private.button(trans.__('Delete'), trans.__('Delete it for good'), () => {
         this._confirmingDelete = null;
         this.model.remove(analysis.id);
         this.render();
       }),
-      Private.button('Keep', 'Keep it', () => {
+      Private.button(trans.__('Keep'), trans.__('Keep it'), () => {
         this._confirmingDelete = null;
         this.render();
       })
@@ -191,6 +206,8 @@ export namespace RecordsView {
     model: RecordsModel;
     /** Inserts a analysis cell for an analysis; no button without it. */
     onInsertCell?: (id: string) => void;
+    /** Translates the section's strings. */
+    translator?: ITranslator;
   }
 }
 

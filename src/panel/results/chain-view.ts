@@ -9,6 +9,7 @@ import { Panel, Widget } from '@lumino/widgets';
 
 import { ChartView, plotlyText } from '../charts/chart';
 import type { IChartColors, IFigure } from '../charts/chart';
+import { translationBundle, type ITranslator, type TranslationBundle } from '../../translation';
 import { textElement } from '../dom';
 import { exportFileName, provenanceLine } from './export';
 import { formatValue } from './format';
@@ -21,32 +22,39 @@ export class ChainView extends Panel {
   constructor(options: ChainView.IOptions) {
     super();
     this.addClass('pd-Chain');
+    const trans = (this._trans = translationBundle(options.translator));
     this._model = options.model;
     const top = new Widget({ node: textElement('div', 'pd-Chain-header') });
     top.node.append(
-      textElement('h3', 'pd-Chain-title', 'Conditioning chain'),
+      textElement('h3', 'pd-Chain-title', trans.__('Conditioning chain')),
       textElement(
         'p',
         'pd-Chain-note',
-        'The chain rule along an ordering: start at the co-information of the first two columns; each ' +
-          'further column adds minus the co-information of the columns before it conditioned on the ' +
-          'new one, and the running value after the last column is the multiplet\u2019s co-information. ' +
-          'Bars below zero (synergy colour) pull towards synergy, bars above (redundancy colour) towards ' +
-          'redundancy. Pick a table row, or:'
+        trans.__(
+          'The chain rule along an ordering: start at the co-information of the first two columns; each ' +
+            'further column adds minus the co-information of the columns before it conditioned on the ' +
+            'new one, and the running value after the last column is the multiplet\u2019s co-information. ' +
+            'Bars below zero (synergy colour) pull towards synergy, bars above (redundancy colour) towards ' +
+            'redundancy. Pick a table row, or:'
+        )
       )
     );
     const actions = textElement('div', 'pd-Chain-actions');
-    const synergy = textElement('button', 'pd-Chain-action jp-mod-styled', 'Grow from the most synergistic triplet');
+    const synergy = textElement('button', 'pd-Chain-action jp-mod-styled', trans.__('Grow from the most synergistic triplet'));
     synergy.type = 'button';
-    synergy.title = 'Start at the triplet of most negative co-information, then add the column that makes the value most negative, up to the run\u2019s highest order';
+    synergy.title = trans.__(
+      'Start at the triplet of most negative co-information, then add the column that makes the value most negative, up to the run\u2019s highest order'
+    );
     synergy.addEventListener('click', () => this._model.showExtremalChain('synergy'));
-    const redundancy = textElement('button', 'pd-Chain-action jp-mod-styled', 'Grow from the most redundant pair');
+    const redundancy = textElement('button', 'pd-Chain-action jp-mod-styled', trans.__('Grow from the most redundant pair'));
     redundancy.type = 'button';
-    redundancy.title = 'Start at the pair of most mutual information, then add the column that makes the value most positive, up to the run\u2019s highest order';
+    redundancy.title = trans.__(
+      'Start at the pair of most mutual information, then add the column that makes the value most positive, up to the run\u2019s highest order'
+    );
     redundancy.addEventListener('click', () => this._model.showExtremalChain('redundancy'));
-    this._rotate = textElement('button', 'pd-Chain-action jp-mod-styled', 'Start from the next column');
+    this._rotate = textElement('button', 'pd-Chain-action jp-mod-styled', trans.__('Start from the next column'));
     this._rotate.type = 'button';
-    this._rotate.title = 'The same columns in another order: the first column moves to the end';
+    this._rotate.title = trans.__('The same columns in another order: the first column moves to the end');
     this._rotate.addEventListener('click', () => this._model.rotateChain());
     actions.append(synergy, redundancy, this._rotate);
     top.node.append(actions);
@@ -54,23 +62,24 @@ export class ChainView extends Panel {
     this._message.setAttribute('aria-live', 'polite');
     top.node.append(this._message);
     this._chart = new ChartView({
-      label: 'Conditioning chain waterfall',
+      label: trans.__('Conditioning chain waterfall'),
+      translator: options.translator,
       filename: 'polyadic-conditioning-chain',
       height: 220,
       exportAs: () => {
         const source = this._model.exportSource;
         const chain = this._model.chain;
         return {
-          title: chain === null ? 'Conditioning chain' : `Conditioning chain of ${chain.columns.join(', ')}`,
+          title: chain === null ? trans.__('Conditioning chain') : trans.__('Conditioning chain of %1', chain.columns.join(', ')),
           subtitle: source === null ? '' : provenanceLine(source),
-          xTitle: 'the first pair, then each column as it joins the chain',
-          yTitle: `co-information (${source?.result.units ?? ''})`,
+          xTitle: trans.__('the first pair, then each column as it joins the chain'),
+          yTitle: trans.__('co-information (%1)', source?.result.units ?? ''),
           filename: exportFileName(source ?? {}, 'conditioning-chain')
         };
       }
     });
     this._list = new Widget({ node: textElement('ol', 'pd-Chain-list') });
-    this._list.node.setAttribute('aria-label', 'Conditioning chain, step by step');
+    this._list.node.setAttribute('aria-label', trans.__('Conditioning chain, step by step'));
     this.addWidget(top);
     this.addWidget(this._chart);
     this.addWidget(this._list);
@@ -88,6 +97,7 @@ export class ChainView extends Panel {
   }
 
   private _update(): void {
+    const trans = this._trans;
     const chain = this._model.chain;
     const error = this._model.chainError;
     this._rotate.disabled = !chain || chain.kind !== 'multiplet' || chain.columns.length < 3;
@@ -99,15 +109,15 @@ export class ChainView extends Panel {
     if (error) {
       this._message.textContent = error;
     } else if (!chain) {
-      this._message.textContent = 'No chain selected.';
+      this._message.textContent = trans.__('No chain selected.');
     } else {
       const what =
         chain.kind === 'multiplet'
-          ? `Chain of ${chain.columns.join(', ')}`
+          ? trans.__('Chain of %1', chain.columns.join(', '))
           : chain.kind === 'synergy'
-            ? 'Grown from the most synergistic triplet (greedy: each added column makes the value most negative)'
-            : 'Grown from the most redundant pair (greedy: each added column makes the value most positive)';
-      this._message.textContent = `${what}, in ${this._model.result?.units ?? ''}:`;
+            ? trans.__('Grown from the most synergistic triplet (greedy: each added column makes the value most negative)')
+            : trans.__('Grown from the most redundant pair (greedy: each added column makes the value most positive)');
+      this._message.textContent = trans.__('%1, in %2:', what, this._model.result?.units ?? '');
     }
     this._chart.setHidden(!chain);
     this._list.setHidden(!chain);
@@ -122,14 +132,14 @@ export class ChainView extends Panel {
         if (i === 0) {
           item.append(
             textElement('span', 'pd-Chain-name', `${chain.columns[0]}, ${chain.columns[1]}`),
-            textElement('span', 'pd-Chain-value', `: co-information ${formatValue(value)}`)
+            textElement('span', 'pd-Chain-value', trans.__(': co-information %1', formatValue(value)))
           );
         } else {
           const step = chain.steps[i - 1];
           item.dataset.step = String(step);
           item.append(
             textElement('span', 'pd-Chain-name', `+ ${chain.columns[i + 1]}`),
-            textElement('span', 'pd-Chain-value', `: step ${formatValue(step)}, running value ${formatValue(value)}`)
+            textElement('span', 'pd-Chain-value', trans.__(': step %1, running value %2', formatValue(step), formatValue(value)))
           );
         }
         items.push(item);
@@ -138,6 +148,7 @@ export class ChainView extends Panel {
     }
   }
 
+  private readonly _trans: TranslationBundle;
   private readonly _model: ResultsModel;
   private readonly _chart: ChartView;
   private readonly _list: Widget;
@@ -152,6 +163,8 @@ export namespace ChainView {
   /** Options of a {@link ChainView}. */
   export interface IOptions {
     model: ResultsModel;
+    /** Translates the view's strings. */
+    translator?: ITranslator;
   }
 }
 

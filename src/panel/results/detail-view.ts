@@ -12,7 +12,8 @@ import { Panel, Widget } from '@lumino/widgets';
 import { ChartView, plotlyText } from '../charts/chart';
 import type { IChartColors, IFigure } from '../charts/chart';
 import { textElement, uniqueId } from '../dom';
-import { formatFixed, plural } from '../../engine/text';
+import { formatFixed } from '../../engine/text';
+import { translationBundle, type ITranslator, type TranslationBundle } from '../../translation';
 import type { DetailModel, IDetailMeasure, IDetailTable, IMultipletDetail, ISubMultiplets, ITripletTables } from './detail-model';
 import { exportFileName, provenanceLine } from './export';
 import { formatAdequacy, formatCount, formatValue } from './format';
@@ -24,21 +25,22 @@ export class DetailView extends Panel {
   constructor(options: DetailView.IOptions) {
     super();
     this.addClass('pd-Detail');
+    const trans = (this._trans = translationBundle(options.translator));
     this._model = options.model;
     this._results = options.results;
     const headingId = uniqueId('pd-detail-title');
     this.node.setAttribute('role', 'region');
     this.node.setAttribute('aria-labelledby', headingId);
     const top = new Widget({ node: textElement('div', 'pd-Detail-header') });
-    const heading = textElement('h3', 'pd-Detail-title', 'Multiplet detail');
+    const heading = textElement('h3', 'pd-Detail-title', trans.__('Multiplet detail'));
     heading.id = headingId;
     this._subject = textElement('p', 'pd-Detail-subject');
     this._subject.setAttribute('aria-live', 'polite');
     this._measures = textElement('dl', 'pd-Detail-measures');
-    this._measures.setAttribute('aria-label', 'Measures of the selected multiplet');
-    this._evidenceTitle = textElement('h4', 'pd-Detail-subtitle', 'Evidence');
+    this._measures.setAttribute('aria-label', trans.__('Measures of the selected multiplet'));
+    this._evidenceTitle = textElement('h4', 'pd-Detail-subtitle', trans.__('Evidence'));
     this._evidence = textElement('dl', 'pd-Detail-measures pd-Detail-evidence');
-    this._evidence.setAttribute('aria-label', 'Evidence of the selected multiplet');
+    this._evidence.setAttribute('aria-label', trans.__('Evidence of the selected multiplet'));
     this._tablesTitle = textElement('h4', 'pd-Detail-subtitle');
     this._explain = textElement('p', 'pd-Detail-note');
     this._note = textElement('p', 'pd-Detail-message');
@@ -48,7 +50,7 @@ export class DetailView extends Panel {
 
     const pickerId = uniqueId('pd-detail-conditioning');
     this._picker = textElement('div', 'pd-Detail-picker');
-    const pickerLabel = textElement('label', 'pd-Detail-pickerLabel', 'Condition on');
+    const pickerLabel = textElement('label', 'pd-Detail-pickerLabel', trans.__('Condition on'));
     pickerLabel.htmlFor = pickerId;
     this._select = textElement('select', 'pd-Detail-select jp-mod-styled');
     this._select.id = pickerId;
@@ -61,7 +63,7 @@ export class DetailView extends Panel {
     this._picker.append(pickerLabel, this._select);
     this._flip = textElement('div', 'pd-Detail-flip');
     this._flip.setAttribute('role', 'group');
-    this._flip.setAttribute('aria-label', 'What each conditional table shows');
+    this._flip.setAttribute('aria-label', trans.__('What each conditional table shows'));
     top.node.append(
       heading,
       this._subject,
@@ -78,14 +80,15 @@ export class DetailView extends Panel {
     );
 
     this._tablesChart = new ChartView({
-      label: 'Contingency tables of the selected multiplet as heat maps; the counts are listed as tables below',
+      label: trans.__('Contingency tables of the selected multiplet as heat maps; the counts are listed as tables below'),
+      translator: options.translator,
       filename: 'polyadic-contingency',
       height: DetailView.TABLE_HEIGHT,
       exportAs: () => {
         const source = this._results.exportSource;
         const detail = this._model.detail;
         return {
-          title: detail === null ? 'Contingency tables' : `Contingency tables of ${detail.columns.join(', ')}`,
+          title: detail === null ? trans.__('Contingency tables') : trans.__('Contingency tables of %1', detail.columns.join(', ')),
           subtitle: source === null ? '' : provenanceLine(source),
           xTitle: '',
           yTitle: '',
@@ -95,17 +98,18 @@ export class DetailView extends Panel {
     });
     this._textTables = new Widget({ node: textElement('details', 'pd-Detail-text') });
     this._subChart = new ChartView({
-      label: 'Co-information of the sub-multiplets by order; they are listed below',
+      label: trans.__('Co-information of the sub-multiplets by order; they are listed below'),
+      translator: options.translator,
       filename: 'polyadic-sub-multiplets',
       height: 220,
       exportAs: () => {
         const source = this._results.exportSource;
         const detail = this._model.detail;
         return {
-          title: detail === null ? 'Sub-multiplets' : `Sub-multiplets of ${detail.columns.join(', ')}`,
+          title: detail === null ? trans.__('Sub-multiplets') : trans.__('Sub-multiplets of %1', detail.columns.join(', ')),
           subtitle: source === null ? '' : provenanceLine(source),
-          xTitle: 'order',
-          yTitle: `co-information (${detail?.units ?? ''})`,
+          xTitle: trans.__('order'),
+          yTitle: trans.__('co-information (%1)', detail?.units ?? ''),
           filename: exportFileName(source ?? {}, 'sub-multiplets')
         };
       }
@@ -135,6 +139,7 @@ export class DetailView extends Panel {
   }
 
   private _update(): void {
+    const trans = this._trans;
     const detail = this._model.detail;
     const tables = detail?.tables ?? null;
     const subs = detail?.subMultiplets ?? null;
@@ -155,17 +160,22 @@ export class DetailView extends Panel {
     this._caution.hidden = true;
     this._explain.hidden = true;
     if (detail === null) {
-      this._subject.textContent =
-        'Select a row of the synergy or redundancy table (click it, or move with the arrow keys) to see its measures and what makes it synergistic or redundant.';
+      this._subject.textContent = trans.__(
+        'Select a row of the synergy or redundancy table (click it, or move with the arrow keys) to see its measures and what makes it synergistic or redundant.'
+      );
       this._measures.replaceChildren();
       this._evidence.replaceChildren();
       return;
     }
-    this._subject.textContent = `${detail.columns.join(', ')} (order ${detail.order})`;
-    this._measures.replaceChildren(...Private.measureNodes(detail.measures));
-    this._evidence.replaceChildren(...Private.measureNodes(detail.evidence));
+    this._subject.textContent = trans.__('%1 (order %2)', detail.columns.join(', '), detail.order);
+    this._measures.replaceChildren(...Private.measureNodes(detail.measures, trans));
+    this._evidence.replaceChildren(...Private.measureNodes(detail.evidence, trans));
     this._tablesTitle.textContent =
-      detail.order === 2 ? 'Joint contingency table' : detail.order === 3 ? 'Conditional contingency tables' : 'Sub-multiplets by order';
+      detail.order === 2
+        ? trans.__('Joint contingency table')
+        : detail.order === 3
+          ? trans.__('Conditional contingency tables')
+          : trans.__('Sub-multiplets by order');
     if (tables?.kind === 'pair') {
       this._showPair(detail, tables.table);
     } else if (tables?.kind === 'triplet') {
@@ -178,10 +188,14 @@ export class DetailView extends Panel {
   }
 
   private _showPair(detail: IMultipletDetail, table: IDetailTable): void {
-    this._explain.textContent =
-      `Rows of each pair of bins of ${table.rowColumn} (down) and ${table.columnColumn} (across). ` +
-      `Their mutual information from these counts is ${formatValue(table.mutualInformation)} ${detail.units}: ` +
-      'counts in proportion to the row and column totals (independence) mean none, counts piled on a few cells mean much.';
+    this._explain.textContent = this._trans.__(
+      'Rows of each pair of bins of %1 (down) and %2 (across). Their mutual information from these counts is %3 %4: ' +
+        'counts in proportion to the row and column totals (independence) mean none, counts piled on a few cells mean much.',
+      table.rowColumn,
+      table.columnColumn,
+      formatValue(table.mutualInformation),
+      detail.units
+    );
     this._setCaution([table]);
     this._tablesChart.plotNode.style.height = `${DetailView.TABLE_HEIGHT}px`;
     this._tablesChart.setFigure(colors => Private.heatmaps([table], colors));
@@ -189,14 +203,20 @@ export class DetailView extends Panel {
   }
 
   private _showTriplet(detail: IMultipletDetail, tables: ITripletTables): void {
+    const trans = this._trans;
+    const rowsText = (rows: number): string => trans._n('%2 row', '%2 rows', rows, formatCount(rows));
     const choice = tables.choices.find(c => c.column === tables.conditioning)!;
     const [first] = tables.levels;
-    this._explain.textContent =
-      `Rows of ${first.rowColumn} (down) and ${first.columnColumn} (across) within each level of ${tables.conditioning}, side by side. ` +
-      'For an XOR-like synergy the pair looks unrelated pooled but is sharply related within each level, differently in each: the tables flip.';
+    this._explain.textContent = trans.__(
+      'Rows of %1 (down) and %2 (across) within each level of %3, side by side. For an XOR-like synergy the pair ' +
+        'looks unrelated pooled but is sharply related within each level, differently in each: the tables flip.',
+      first.rowColumn,
+      first.columnColumn,
+      tables.conditioning
+    );
     this._select.replaceChildren(
       ...tables.choices.map(c => {
-        const option = textElement('option', '', `${c.column} (${plural(c.levels, 'level')})`);
+        const option = textElement('option', '', trans.__('%1 (%2)', c.column, trans._n('%2 level', '%2 levels', c.levels, formatCount(c.levels))));
         option.value = c.column;
         return option;
       })
@@ -205,18 +225,39 @@ export class DetailView extends Panel {
     const units = detail.units;
     this._reason.textContent =
       tables.chosenBy === 'default'
-        ? `Conditioned on ${tables.conditioning} by default: pooled over it, the other two columns share the least mutual ` +
-          `information of the three choices (${formatValue(choice.pooledMutualInformation)} ${units}), so what their tables show within its levels is the interaction.`
-        : `Conditioned on ${tables.conditioning}, as picked (pooled over it, the other two share ${formatValue(choice.pooledMutualInformation)} ${units}); ` +
-          `the default is ${tables.defaultConditioning}.`;
+        ? trans.__(
+            'Conditioned on %1 by default: pooled over it, the other two columns share the least mutual information of ' +
+              'the three choices (%2 %3), so what their tables show within its levels is the interaction.',
+            tables.conditioning,
+            formatValue(choice.pooledMutualInformation),
+            units
+          )
+        : trans.__(
+            'Conditioned on %1, as picked (pooled over it, the other two share %2 %3); the default is %4.',
+            tables.conditioning,
+            formatValue(choice.pooledMutualInformation),
+            units,
+            tables.defaultConditioning
+          );
     const items = tables.levels.map(level => {
       const cell = level.overRepresented;
       const text =
         cell === null
-          ? `${level.level!.column} = ${level.level!.label}: no rows.`
-          : `${level.level!.column} = ${level.level!.label} (${plural(level.total, 'row')}): mutual information ${formatValue(level.mutualInformation)} ${units}; ` +
-            `most over-represented ${level.rowColumn} ${cell.rowLabel} with ${level.columnColumn} ${cell.columnLabel}, ` +
-            `${plural(cell.count, 'row')}, ${formatFixed(cell.ratio, 2)}\u00d7 independence.`;
+          ? trans.__('%1 = %2: no rows.', level.level!.column, level.level!.label)
+          : trans.__(
+              '%1 = %2 (%3): mutual information %4 %5; most over-represented %6 %7 with %8 %9, %10, %11\u00d7 independence.',
+              level.level!.column,
+              level.level!.label,
+              rowsText(level.total),
+              formatValue(level.mutualInformation),
+              units,
+              level.rowColumn,
+              cell.rowLabel,
+              level.columnColumn,
+              cell.columnLabel,
+              rowsText(cell.count),
+              formatFixed(cell.ratio, 2)
+            );
       return textElement('li', 'pd-Detail-level', text);
     });
     const list = textElement('ul', 'pd-Detail-levels');
@@ -225,10 +266,14 @@ export class DetailView extends Panel {
       'p',
       tables.flips ? 'pd-Detail-verdict jp-mod-flips' : 'pd-Detail-verdict',
       (tables.flips
-        ? 'The tables flip: the most over-represented cell moves from level to level, and within the levels the pair shares more than pooled, '
-        : 'The tables do not flip: the most over-represented cell stays put, or within the levels the pair shares little more than pooled, ') +
-        `${formatValue(tables.conditionalMutualInformation)} ${units} on average against ${formatValue(tables.pooled.mutualInformation)} ${units} ` +
-        `(a flip needs more than chance alone gives in tables this size, by a chi-square rule of thumb; the row’s evidence, when tested, says more).`
+        ? trans.__('The tables flip: the most over-represented cell moves from level to level, and within the levels the pair shares more than pooled, ')
+        : trans.__('The tables do not flip: the most over-represented cell stays put, or within the levels the pair shares little more than pooled, ')) +
+        trans.__(
+          '%1 %2 on average against %3 %2 (a flip needs more than chance alone gives in tables this size, by a chi-square rule of thumb; the row’s evidence, when tested, says more).',
+          formatValue(tables.conditionalMutualInformation),
+          units,
+          formatValue(tables.pooled.mutualInformation)
+        )
     );
     this._flip.replaceChildren(verdict, list);
     this._setCaution([...tables.levels, tables.pooled]);
@@ -239,10 +284,14 @@ export class DetailView extends Panel {
   }
 
   private _showSubMultiplets(detail: IMultipletDetail, subs: ISubMultiplets): void {
-    this._explain.textContent =
-      `Co-information of every sub-multiplet of ${plural(detail.columns.length, 'column')}, order by order, in ${detail.units} ` +
-      `(negative: synergy-dominated, positive: redundancy-dominated); ${subs.source === 'result' ? 'from the result\u2019s own rows' : 'from the run\u2019s binned codes'}.`;
-    this._subChart.setFigure(colors => Private.subFigure(subs, detail.units, colors));
+    const trans = this._trans;
+    this._explain.textContent = trans.__(
+      'Co-information of every sub-multiplet of %1, order by order, in %2 (negative: synergy-dominated, positive: redundancy-dominated); %3.',
+      trans._n('%2 column', '%2 columns', detail.columns.length, formatCount(detail.columns.length)),
+      detail.units,
+      subs.source === 'result' ? trans.__('from the result\u2019s own rows') : trans.__('from the run\u2019s binned codes')
+    );
+    this._subChart.setFigure(colors => Private.subFigure(subs, detail.units, colors, trans));
     const blocks: HTMLElement[] = [];
     for (const { order, members } of subs.orders) {
       const sorted = [...members].sort((a, b) => a.value - b.value);
@@ -250,8 +299,8 @@ export class DetailView extends Panel {
       const title = textElement(
         'h5',
         'pd-Detail-orderTitle',
-        `Order ${order}: ${plural(members.length, 'sub-multiplet')}` +
-          (shown.length < sorted.length ? `, the ${DetailView.LISTED_PER_ORDER / 2} most negative and most positive listed` : '')
+        trans.__('Order %1: %2', order, trans._n('%2 sub-multiplet', '%2 sub-multiplets', members.length, formatCount(members.length))) +
+          (shown.length < sorted.length ? trans.__(', the %1 most negative and most positive listed', DetailView.LISTED_PER_ORDER / 2) : '')
       );
       const list = textElement('ol', 'pd-Detail-subs');
       for (const member of shown) {
@@ -269,9 +318,13 @@ export class DetailView extends Panel {
   private _setCaution(tables: IDetailTable[]): void {
     const sparse = tables.filter(table => table.rowsPerCell < DetailView.FEW_PER_CELL);
     if (sparse.length > 0) {
-      this._caution.textContent =
-        `${plural(sparse.length, 'table')} ${sparse.length === 1 ? 'has' : 'have'} fewer than ${DetailView.FEW_PER_CELL} rows per cell on average ` +
-        '(a common rule of thumb for contingency tables): their patterns may be noise.';
+      this._caution.textContent = this._trans._n(
+        '%2 table has fewer than %3 rows per cell on average (a common rule of thumb for contingency tables): their patterns may be noise.',
+        '%2 tables have fewer than %3 rows per cell on average (a common rule of thumb for contingency tables): their patterns may be noise.',
+        sparse.length,
+        formatCount(sparse.length),
+        DetailView.FEW_PER_CELL
+      );
       this._caution.hidden = false;
     }
   }
@@ -279,11 +332,12 @@ export class DetailView extends Panel {
   /** The tables as HTML tables; a table without a level is pooled over `pooledOver`, when given. */
   private _setTextTables(tables: IDetailTable[], pooledOver?: string): void {
     const node = this._textTables.node;
-    const summary = textElement('summary', 'pd-Detail-textSummary', tables.length === 1 ? 'Counts as a table' : 'Counts as tables');
-    node.replaceChildren(summary, ...tables.map(table => Private.textTable(table, pooledOver)));
+    const summary = textElement('summary', 'pd-Detail-textSummary', tables.length === 1 ? this._trans.__('Counts as a table') : this._trans.__('Counts as tables'));
+    node.replaceChildren(summary, ...tables.map(table => Private.textTable(table, this._trans, pooledOver)));
   }
 
   private readonly _model: DetailModel;
+  private readonly _trans: TranslationBundle;
   private readonly _results: ResultsModel;
   private readonly _subject: HTMLParagraphElement;
   private readonly _measures: HTMLDListElement;
@@ -310,6 +364,8 @@ export namespace DetailView {
     model: DetailModel;
     /** The results model, for the export's provenance line. */
     results: ResultsModel;
+    /** Translates the view's strings. */
+    translator?: ITranslator;
   }
 
   /** Height of one row of heat maps, in CSS pixels. */
@@ -327,12 +383,12 @@ export namespace DetailView {
 
 namespace Private {
   /** A `dt`/`dd` pair per measure; intervals as "low to high". */
-  export function measureNodes(measures: IDetailMeasure[]): HTMLElement[] {
+  export function measureNodes(measures: IDetailMeasure[], trans: TranslationBundle): HTMLElement[] {
     const nodes: HTMLElement[] = [];
     for (const measure of measures) {
-      const term = textElement('dt', 'pd-Detail-term', measure.label);
-      term.title = measure.title;
-      const value = textElement('dd', 'pd-Detail-value pd-Number', valueText(measure));
+      const term = textElement('dt', 'pd-Detail-term', trans.__(measure.label));
+      term.title = trans.__(measure.title);
+      const value = textElement('dd', 'pd-Detail-value pd-Number', valueText(measure, trans));
       value.dataset.key = measure.key;
       if (measure.value !== null) {
         value.dataset.value = String(measure.value);
@@ -342,23 +398,39 @@ namespace Private {
     return nodes;
   }
 
-  function valueText(measure: IDetailMeasure): string {
+  function valueText(measure: IDetailMeasure, trans: TranslationBundle): string {
     const format = (v: number | null): string =>
-      v === null || Number.isNaN(v) ? 'not computed' : measure.key === 'adequacy' ? formatAdequacy(v) : measure.key === 'p_surrogates' ? formatCount(v) : formatValue(v);
-    const text = measure.high !== undefined ? `${format(measure.value)} to ${format(measure.high)}` : format(measure.value);
+      v === null || Number.isNaN(v)
+        ? trans.__('not computed')
+        : measure.key === 'adequacy'
+          ? formatAdequacy(v)
+          : measure.key === 'p_surrogates'
+            ? formatCount(v)
+            : formatValue(v);
+    const text = measure.high !== undefined ? trans.__('%1 to %2', format(measure.value), format(measure.high)) : format(measure.value);
     return measure.unit === '' || measure.value === null ? text : `${text} ${measure.unit}`;
   }
 
   /** A contingency table as an HTML table: caption, column labels, a row per bin, row totals. */
-  export function textTable(table: IDetailTable, pooledOver?: string): HTMLTableElement {
+  export function textTable(table: IDetailTable, trans: TranslationBundle, pooledOver?: string): HTMLTableElement {
     const node = textElement('table', 'pd-Table pd-Detail-table');
     const where = table.level
-      ? `, where ${table.level.column} = ${table.level.label}`
+      ? trans.__(', where %1 = %2', table.level.column, table.level.label)
       : pooledOver !== undefined
-        ? `, pooled over every level of ${pooledOver}`
+        ? trans.__(', pooled over every level of %1', pooledOver)
         : '';
     node.append(
-      textElement('caption', 'pd-Detail-caption', `${table.rowColumn} (rows) by ${table.columnColumn} (columns)${where}: ${plural(table.total, 'row')}`)
+      textElement(
+        'caption',
+        'pd-Detail-caption',
+        trans.__(
+          '%1 (rows) by %2 (columns)%3: %4',
+          table.rowColumn,
+          table.columnColumn,
+          where,
+          trans._n('%2 row', '%2 rows', table.total, formatCount(table.total))
+        )
+      )
     );
     const head = textElement('tr', '');
     const corner = textElement('th', '', `${table.rowColumn} \\ ${table.columnColumn}`);
@@ -369,7 +441,7 @@ namespace Private {
       cell.scope = 'col';
       head.append(cell);
     }
-    const totalHead = textElement('th', '', 'All');
+    const totalHead = textElement('th', '', trans.__('All'));
     totalHead.scope = 'col';
     head.append(totalHead);
     const thead = textElement('thead', '');
@@ -461,7 +533,7 @@ namespace Private {
   }
 
   /** One dot per sub-multiplet at its order, spread sideways within the order, coloured by sign. */
-  export function subFigure(subs: ISubMultiplets, units: string, colors: IChartColors): IFigure {
+  export function subFigure(subs: ISubMultiplets, units: string, colors: IChartColors, trans: TranslationBundle): IFigure {
     const x: number[] = [];
     const y: number[] = [];
     const names: string[][] = [];
@@ -488,7 +560,7 @@ namespace Private {
         xaxis: {
           tickmode: 'array',
           tickvals: subs.orders.map(o => o.order),
-          ticktext: subs.orders.map(o => `order ${o.order}`),
+          ticktext: subs.orders.map(o => trans.__('order %1', o.order)),
           color: colors.muted,
           gridcolor: colors.grid,
           zeroline: false

@@ -12,6 +12,7 @@ import type { Widget } from '@lumino/widgets';
 import { polyadicIcon } from '../../icons';
 import { findAnalysis } from '../../record/store';
 import type { IAnalysisRecord } from '../../record/types';
+import { translationBundle, type ITranslator, type TranslationBundle } from '../../translation';
 import type { IAnalysisState, IRunCompleted } from '../analysis/types';
 import type { RecordsModel } from '../records/model';
 import { resultFromRecord } from './from-record';
@@ -23,8 +24,9 @@ export class ResultsDocument extends MainAreaWidget<ResultsView> {
   /** Create the view of analysis `options.analysisId`. */
   constructor(options: ResultsDocument.IOptions) {
     const model = new ResultsModel();
-    const content = new ResultsView({ model, extras: options.extras?.(model) });
+    const content = new ResultsView({ model, extras: options.extras?.(model), translator: options.translator });
     super({ content });
+    this._trans = translationBundle(options.translator);
     this.analysisId = options.analysisId;
     this.model = model;
     // record ids are `pd-` and [0-9a-z] (src/record/ids.ts), safe in a DOM id
@@ -44,9 +46,15 @@ export class ResultsDocument extends MainAreaWidget<ResultsView> {
   /** Title the tab with the frame and the analysis label (either may be unknown yet). */
   setTitle(frame: string | null, label: string | null): void {
     const parts = [frame, label].filter((part): part is string => part !== null && part !== '');
-    this.title.label = parts.length > 0 ? `Results: ${parts.join(' · ')}` : 'Polyadic results';
-    this.title.caption = `Polyadic results of analysis ${this.analysisId}${parts.length > 0 ? ` (${parts.join(', ')})` : ''}`;
+    const trans = this._trans;
+    this.title.label = parts.length > 0 ? trans.__('Results: %1', parts.join(' · ')) : trans.__('Polyadic results');
+    this.title.caption =
+      parts.length > 0
+        ? trans.__('Polyadic results of analysis %1 (%2)', this.analysisId, parts.join(', '))
+        : trans.__('Polyadic results of analysis %1', this.analysisId);
   }
+
+  private readonly _trans: TranslationBundle;
 
   /** Show a completed run. */
   showRun(run: IRunCompleted): void {
@@ -97,6 +105,8 @@ export namespace ResultsDocument {
     analysisId: string;
     /** Widgets to add below the view's own (given the view's model). */
     extras?: (model: ResultsModel) => Widget[];
+    /** Translates the view's strings. */
+    translator?: ITranslator;
   }
 }
 
@@ -239,7 +249,7 @@ export class ResultsDocuments implements IDisposable {
   }
 
   private _create(analysisId: string): ResultsDocument {
-    const doc = new ResultsDocument({ analysisId, extras: this._options.extras });
+    const doc = new ResultsDocument({ analysisId, extras: this._options.extras, translator: this._options.translator });
     void this.tracker.add(doc);
     doc.model.changed.connect(() => void this.tracker.save(doc));
     return doc;
@@ -292,5 +302,7 @@ export namespace ResultsDocuments {
     currentNotebook?: () => Widget | null;
     /** Widgets each view adds below its own. */
     extras?: (model: ResultsModel) => Widget[];
+    /** Translates the views' strings. */
+    translator?: ITranslator;
   }
 }

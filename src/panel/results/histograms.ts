@@ -13,7 +13,7 @@ import { ChartView, plotlyText } from '../charts/chart';
 import { histogramFigure } from '../charts/histogram';
 import type { IChartColors, IFigure } from '../charts/chart';
 import { textElement } from '../dom';
-import { plural } from '../../engine/text';
+import { translationBundle, type ITranslator, type TranslationBundle } from '../../translation';
 import type { MultipletStore } from './store';
 import { exportFileName, provenanceLine } from './export';
 import { formatCount, formatValue } from './format';
@@ -26,6 +26,8 @@ export class HistogramsView extends Panel {
   constructor(options: HistogramsView.IOptions) {
     super();
     this.addClass('pd-Histograms');
+    this._translator = options.translator;
+    this._trans = translationBundle(options.translator);
     this._model = options.model;
     this._model.changed.connect(this._update, this);
     this._update();
@@ -77,32 +79,41 @@ export class HistogramsView extends Panel {
 
   private _add(histogram: IResultsHistogram, units: string): void {
     const order = histogram.order;
+    const trans = this._trans;
+    const multiplets = trans._n('%2 multiplet', '%2 multiplets', histogram.total, formatCount(histogram.total));
     const header = new Widget({ node: textElement('div', 'pd-Histogram-header') });
     header.node.append(
-      textElement('h4', 'pd-Histogram-title', `Order ${order}: ${plural(histogram.total, 'multiplet')}`),
+      textElement('h4', 'pd-Histogram-title', trans.__('Order %1: %2', order, multiplets)),
       textElement(
         'p',
         'pd-Histogram-convention',
-        `Co-information in ${units}. Left of 0 (shaded): negative, synergy-dominated; right of 0: ` +
-          'positive, redundancy-dominated (sign convention of Bell 2003). Counts on a log scale; ticks ' +
-          'under the bars: the most extreme multiplets of this order (click one to select it).' +
+        trans.__(
+          'Co-information in %1. Left of 0 (shaded): negative, synergy-dominated; right of 0: positive, ' +
+            'redundancy-dominated (sign convention of Bell 2003). Counts on a log scale; ticks under the bars: ' +
+            'the most extreme multiplets of this order (click one to select it).',
+          units
+        ) +
           (histogram.band
-            ? ` Grey band: where 95 % of the independence surrogates fall (${formatValue(histogram.band.low)} to ` +
-              `${formatValue(histogram.band.high)}); bars outside it stand out from chance.`
+            ? trans.__(
+                ' Grey band: where 95 % of the independence surrogates fall (%1 to %2); bars outside it stand out from chance.',
+                formatValue(histogram.band.low),
+                formatValue(histogram.band.high)
+              )
             : '')
       )
     );
     const chart = new ChartView({
-      label: `Order ${order} histogram of co-information`,
+      label: trans.__('Order %1 histogram of co-information', order),
+      translator: this._translator,
       filename: `polyadic-order-${order}-histogram`,
       height: 200,
       exportAs: () => {
         const source = this._model.exportSource;
         return {
-          title: `Order ${order} histogram of co-information (${plural(histogram.total, 'multiplet')})`,
+          title: trans.__('Order %1 histogram of co-information (%2)', order, multiplets),
           subtitle: source === null ? '' : provenanceLine(source),
-          xTitle: `co-information (${units}): < 0 synergy-dominated, > 0 redundancy-dominated`,
-          yTitle: 'multiplets',
+          xTitle: trans.__('co-information (%1): < 0 synergy-dominated, > 0 redundancy-dominated', units),
+          yTitle: trans.__('multiplets'),
           filename: exportFileName(source ?? {}, `order-${order}-histogram`)
         };
       },
@@ -119,18 +130,18 @@ export class HistogramsView extends Panel {
     });
     const pickerRow = new Widget({ node: textElement('div', 'pd-Histogram-picker') });
     const pickerId = `pd-histogram-picker-${Private.nextId++}`;
-    const label = textElement('label', 'pd-Histogram-pickerLabel', 'Filter tables to bar');
+    const label = textElement('label', 'pd-Histogram-pickerLabel', trans.__('Filter tables to bar'));
     label.htmlFor = pickerId;
     const picker = textElement('select', 'pd-Histogram-pickerSelect jp-mod-styled');
     picker.id = pickerId;
-    const none = textElement('option', '', 'All values');
+    const none = textElement('option', '', trans.__('All values'));
     none.value = '-1';
     picker.append(none);
     histogram.counts.forEach((count, i) => {
       const option = textElement(
         'option',
         '',
-        `${formatValue(histogram.edges[i])} to ${formatValue(histogram.edges[i + 1])} (${formatCount(count)})`
+        trans.__('%1 to %2 (%3)', formatValue(histogram.edges[i]), formatValue(histogram.edges[i + 1]), formatCount(count))
       );
       option.value = String(i);
       picker.append(option);
@@ -143,7 +154,7 @@ export class HistogramsView extends Panel {
     const group = new Panel();
     group.addClass('pd-Histogram');
     group.node.setAttribute('role', 'group');
-    group.node.setAttribute('aria-label', `Order ${order} histogram`);
+    group.node.setAttribute('aria-label', trans.__('Order %1 histogram', order));
     group.addWidget(header);
     group.addWidget(chart);
     group.addWidget(pickerRow);
@@ -161,6 +172,8 @@ export class HistogramsView extends Panel {
   }
 
   private readonly _model: ResultsModel;
+  private readonly _translator: ITranslator | undefined;
+  private readonly _trans: TranslationBundle;
   private _shown: unknown = null;
   private _charts: {
     histogram: IResultsHistogram;
@@ -177,6 +190,8 @@ export namespace HistogramsView {
   /** Options of a {@link HistogramsView}. */
   export interface IOptions {
     model: ResultsModel;
+    /** Translates the view's strings. */
+    translator?: ITranslator;
   }
 }
 

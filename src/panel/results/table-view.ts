@@ -4,6 +4,7 @@
  */
 import { Widget } from '@lumino/widgets';
 
+import { translationBundle, type ITranslator, type TranslationBundle } from '../../translation';
 import { textElement, uniqueId } from '../dom';
 import { exportFileName, provenanceCsv, provenanceEntries, tableEntries, type IExportSource } from './export';
 import { formatAdequacy, formatCount, formatValue } from './format';
@@ -15,13 +16,15 @@ export class MultipletTableView extends Widget {
   /** Create the view of `options.model`. */
   constructor(options: MultipletTableView.IOptions) {
     super();
+    const trans = (this._trans = translationBundle(options.translator));
     this._model = options.model;
     this._onSelect = options.onSelect;
     this._source = options.source ?? (() => null);
     const side = this._model.side;
     this.addClass('pd-ResultsTable');
     this.addClass(`pd-ResultsTable-${side}`);
-    const title = side === 'synergy' ? 'Synergy table' : 'Redundancy table';
+    const synergySide = side === 'synergy';
+    const title = synergySide ? trans.__('Synergy table') : trans.__('Redundancy table');
     const headingId = `pd-results-${side}-${Private.nextId++}`;
     const heading = textElement('h3', 'pd-ResultsTable-title', title);
     heading.id = headingId;
@@ -29,8 +32,8 @@ export class MultipletTableView extends Widget {
       'p',
       'pd-ResultsTable-note',
       side === 'synergy'
-        ? 'Multiplets of negative co-information (synergy-dominated), most negative first.'
-        : 'Multiplets of positive co-information (redundancy-dominated), most positive first.'
+        ? trans.__('Multiplets of negative co-information (synergy-dominated), most negative first.')
+        : trans.__('Multiplets of positive co-information (redundancy-dominated), most positive first.')
     );
     this._table = textElement('table', 'pd-ResultsTable-table');
     this._table.setAttribute('aria-labelledby', headingId);
@@ -59,27 +62,35 @@ export class MultipletTableView extends Widget {
     this._all.type = 'checkbox';
     this._all.id = allId;
     this._all.addEventListener('change', () => this._render());
-    const allLabel = textElement('label', 'pd-ResultsTable-allLabel', 'Every measure');
+    const allLabel = textElement('label', 'pd-ResultsTable-allLabel', trans.__('Every measure'));
     allLabel.htmlFor = allId;
-    allLabel.title = 'Add total and dual total correlation, S-information and the other evidence columns (the table may then scroll sideways)';
+    allLabel.title = trans.__(
+      'Add total and dual total correlation, S-information and the other evidence columns (the table may then scroll sideways)'
+    );
     const allRow = textElement('div', 'pd-ResultsTable-filters');
     allRow.append(this._all, allLabel);
 
     const pager = textElement('div', 'pd-ResultsTable-pager');
-    this._previous = textElement('button', 'pd-ResultsTable-page jp-mod-styled', 'Previous');
+    this._previous = textElement('button', 'pd-ResultsTable-page jp-mod-styled', trans.__('Previous'));
     this._previous.type = 'button';
-    this._previous.setAttribute('aria-label', `Previous page of the ${title.toLowerCase()}`);
+    this._previous.setAttribute(
+      'aria-label',
+      synergySide ? trans.__('Previous page of the synergy table') : trans.__('Previous page of the redundancy table')
+    );
     this._previous.addEventListener('click', () => this._model.setPage(this._model.page - 1));
-    this._next = textElement('button', 'pd-ResultsTable-page jp-mod-styled', 'Next');
+    this._next = textElement('button', 'pd-ResultsTable-page jp-mod-styled', trans.__('Next'));
     this._next.type = 'button';
-    this._next.setAttribute('aria-label', `Next page of the ${title.toLowerCase()}`);
+    this._next.setAttribute('aria-label', synergySide ? trans.__('Next page of the synergy table') : trans.__('Next page of the redundancy table'));
     this._next.addEventListener('click', () => this._model.setPage(this._model.page + 1));
     this._status = textElement('span', 'pd-ResultsTable-status');
     this._status.setAttribute('aria-live', 'polite');
-    const exportButton = textElement('button', 'pd-ResultsTable-export jp-mod-styled', 'Export CSV');
+    const exportButton = textElement('button', 'pd-ResultsTable-export jp-mod-styled', trans.__('Export CSV'));
     exportButton.type = 'button';
-    exportButton.setAttribute('aria-label', `Export the ${title.toLowerCase()} as CSV`);
-    exportButton.title = 'Save the filtered rows, in table order, as CSV';
+    exportButton.setAttribute(
+      'aria-label',
+      synergySide ? trans.__('Export the synergy table as CSV') : trans.__('Export the redundancy table as CSV')
+    );
+    exportButton.title = trans.__('Save the filtered rows, in table order, as CSV');
     exportButton.addEventListener('click', () => this._export());
     pager.append(this._previous, this._status, this._next, exportButton);
 
@@ -118,6 +129,7 @@ export class MultipletTableView extends Widget {
   }
 
   private _render(): void {
+    const trans = this._trans;
     const model = this._model;
     const store = model.store;
     const { key, descending } = model.sort;
@@ -134,7 +146,7 @@ export class MultipletTableView extends Widget {
     const hasQ = store !== null && store.evidence.has('q_value') && alpha !== null;
     this._qRow.hidden = !hasQ;
     this._qFilter.checked = model.filter.qAtMost !== null;
-    this._qLabel.textContent = hasQ ? `Only q ≤ α (${alpha}): the multiplets the false discovery rate calls significant` : '';
+    this._qLabel.textContent = hasQ ? trans.__('Only q ≤ α (%1): the multiplets the false discovery rate calls significant', alpha) : '';
     const rows: HTMLTableRowElement[] = [];
     if (store) {
       for (const index of model.pageRows()) {
@@ -155,7 +167,7 @@ export class MultipletTableView extends Widget {
         if (adequacy < 1) {
           adequacyCell.classList.add('jp-mod-warning');
           adequacyCell.prepend(textElement('span', 'pd-ResultsTable-flag', '\u26a0 '));
-          adequacyCell.title = 'Fewer rows than possible joint cells: treat this value with care.';
+          adequacyCell.title = trans.__('Fewer rows than possible joint cells: treat this value with care.');
         }
         tr.append(
           ...columns.map(column => {
@@ -182,7 +194,7 @@ export class MultipletTableView extends Widget {
             return cell;
           })
         );
-        tr.title = 'Show this multiplet in the detail view and its conditioning chain (arrow keys move between rows)';
+        tr.title = trans.__('Show this multiplet in the detail view and its conditioning chain (arrow keys move between rows)');
         const select = (): void => this._onSelect(index);
         tr.addEventListener('click', select);
         tr.addEventListener('keydown', event => {
@@ -207,7 +219,7 @@ export class MultipletTableView extends Widget {
       const td = textElement(
         'td',
         'pd-ResultsTable-empty',
-        model.totalCount === 0 ? 'No multiplets on this side.' : 'No multiplets match the filters.'
+        model.totalCount === 0 ? trans.__('No multiplets on this side.') : trans.__('No multiplets match the filters.')
       );
       td.colSpan = columns.length;
       tr.append(td);
@@ -217,11 +229,11 @@ export class MultipletTableView extends Widget {
     this.setSelected(this._selected);
     const first = model.page * model.pageSize;
     const shown = model.pageRows().length;
-    const filtered = model.rowCount !== model.totalCount ? ` (filtered from ${formatCount(model.totalCount)})` : '';
+    const filtered = model.rowCount !== model.totalCount ? trans.__(' (filtered from %1)', formatCount(model.totalCount)) : '';
     this._status.textContent =
       model.rowCount === 0
-        ? `0 rows${filtered}`
-        : `Rows ${formatCount(first + 1)}–${formatCount(first + shown)} of ${formatCount(model.rowCount)}${filtered}`;
+        ? trans.__('0 rows%1', filtered)
+        : trans.__('Rows %1–%2 of %3%4', formatCount(first + 1), formatCount(first + shown), formatCount(model.rowCount), filtered);
     this._previous.disabled = model.page === 0;
     this._next.disabled = model.page >= model.pageCount - 1;
   }
@@ -237,9 +249,10 @@ export class MultipletTableView extends Widget {
     const cells = columns.map(column => {
       const th = textElement('th', `pd-ResultsTable-head pd-mod-${column.key}`);
       th.scope = 'col';
-      const button = textElement('button', 'pd-ResultsTable-sort', column.label);
+      const label = this._trans.__(column.label);
+      const button = textElement('button', 'pd-ResultsTable-sort', label);
       button.type = 'button';
-      button.title = column.title ? `${column.title}; sort by it` : `Sort by ${column.label.toLowerCase()}`;
+      button.title = column.title ? this._trans.__('%1; sort by it', this._trans.__(column.title)) : this._trans.__('Sort by %1', label.toLowerCase());
       button.addEventListener('click', () => this._model.setSort(column.key));
       th.append(button);
       this._headers.push(th);
@@ -281,6 +294,7 @@ export class MultipletTableView extends Widget {
   private readonly _table: HTMLTableElement;
   private readonly _body: HTMLTableSectionElement;
   private readonly _headers: HTMLTableCellElement[] = [];
+  private readonly _trans: TranslationBundle;
   private readonly _headRow = document.createElement('tr');
   private _headSignature = '';
   private readonly _qRow: HTMLElement;
@@ -315,6 +329,8 @@ export namespace MultipletTableView {
     onSelect: (index: number) => void;
     /** What an export names and carries (the frame, the record, the settings). */
     source?: () => IExportSource | null;
+    /** Translates the table's strings. */
+    translator?: ITranslator;
   }
 }
 

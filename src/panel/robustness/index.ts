@@ -2,6 +2,7 @@
 import type { Widget } from '@lumino/widgets';
 
 import type { IAnalysisRecord } from '../../record/types';
+import type { ITranslator } from '../../translation';
 import type { IRunCompleted } from '../analysis/types';
 import type { ResultsModel } from '../results/model';
 import { type IRobustnessEngine, RobustnessModel } from './model';
@@ -18,6 +19,8 @@ export interface IRobustnessExtrasOptions {
   /** The recorded analysis of an id, if the followed notebook's record holds it. */
   recordOf?: (analysisId: string) => IAnalysisRecord | null;
   record?: RobustnessModel.Recorder;
+  /** Translates the section's strings. */
+  translator?: ITranslator;
 }
 
 /**
@@ -27,7 +30,7 @@ export interface IRobustnessExtrasOptions {
  */
 export function robustnessExtras(options: IRobustnessExtrasOptions): (results: ResultsModel) => Widget[] {
   return results => {
-    const model = new RobustnessModel({ engine: options.engine, record: options.record });
+    const model = new RobustnessModel({ engine: options.engine, record: options.record, translator: options.translator });
     const follow = (): void => {
       const id = results.context.recordId;
       const live = results.result !== null && !results.context.restored && id !== undefined;
@@ -37,7 +40,7 @@ export function robustnessExtras(options: IRobustnessExtrasOptions): (results: R
     };
     results.changed.connect(follow);
     follow();
-    const section = new RobustnessSection({ model });
+    const section = new RobustnessSection({ model, translator: options.translator });
     section.disposed.connect(() => results.changed.disconnect(follow));
     return [section];
   };

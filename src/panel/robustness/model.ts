@@ -23,6 +23,7 @@ import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
 import { COLUMN_SEPARATOR } from '../../results-format';
 import type { IRunCompleted } from '../analysis/types';
 import { formatCount } from '../../engine/text';
+import { translationBundle, type ITranslator, type TranslationBundle } from '../../translation';
 import type { IAnalysisRecord } from '../../record/types';
 import { exportFileName, type IExportSource, provenanceEntries, provenanceLines, type ProvenanceEntry } from '../results/export';
 import { resultFromRecord } from '../results/from-record';
@@ -71,6 +72,8 @@ export class RobustnessModel implements IDisposable {
   constructor(options: RobustnessModel.IOptions) {
     this._engine = options.engine;
     this._record = options.record ?? null;
+    this._trans = translationBundle(options.translator);
+    this._unavailable = this._trans.__('No run to check yet.');
   }
 
   /** Fires on every change of state, text, N, result or record note. */
@@ -124,7 +127,14 @@ export class RobustnessModel implements IDisposable {
 
   /** The verdict rule, in the words the section shows. */
   get ruleText(): string {
-    return Private.ruleText(this._shown?.top ?? this._top);
+    const top = this._shown?.top ?? this._top;
+    return this._trans.__(
+      'Followed: the top %1 of each table under the base or any variant. A multiplet holds under a variant ' +
+        "when it has its table's sign and stays in that variant's top %1. Robust: that sign under the base and " +
+        'every variant, and in the top %1 under at least %2 % of the variants.',
+      top,
+      Math.round(ROBUST_TOP_SHARE * 100)
+    );
   }
 
   /** Show `run` (or none): the defaults are rebuilt for it and any earlier result is dropped. */
@@ -143,8 +153,8 @@ export class RobustnessModel implements IDisposable {
     if (run === null || columns === null) {
       this._unavailable =
         run === null
-          ? 'Run the analysis in this session to check its robustness (a view restored from the record has no data).'
-          : 'The run did not keep the columns it read, so its robustness cannot be checked.';
+          ? this._trans.__('Run the analysis in this session to check its robustness (a view restored from the record has no data).')
+          : this._trans.__('The run did not keep the columns it read, so its robustness cannot be checked.');
       this._state = 'unavailable';
       this._defaults = '';
       this._text = '';
@@ -178,7 +188,7 @@ export class RobustnessModel implements IDisposable {
   /** Set N (a whole number from 1 to 1000; anything else is an error naming it). */
   setTop(top: number): void {
     if (!(Number.isInteger(top) && top >= 1 && top <= 1000)) {
-      this._error = new PolyadicError('usage', `N must be a whole number from 1 to 1000, not ${String(top)}.`, { option: 'top' });
+      this._error = new PolyadicError('usage', this._trans.__('N must be a whole number from 1 to 1000, not %1.', String(top)), { option: 'top' });
       this._changed.emit();
       return;
     }
@@ -203,7 +213,9 @@ export class RobustnessModel implements IDisposable {
     try {
       variants = parseVariantList(this._text);
       if (variants.length === 0) {
-        throw new PolyadicError('usage', 'The variant list is empty; give at least one variant, one per line.', { option: 'variants' });
+        throw new PolyadicError('usage', this._trans.__('The variant list is empty; give at least one variant, one per line.'), {
+          option: 'variants'
+        });
       }
     } catch (error) {
       this._fail(error);
@@ -238,7 +250,7 @@ export class RobustnessModel implements IDisposable {
     if (this._record) {
       const why = await this._record(run, result);
       if (ticket === this._ticket && !this._isDisposed) {
-        this._recordNote = why === null ? 'Recorded in the notebook: polyadic verify re-derives these verdicts.' : why;
+        this._recordNote = why === null ? this._trans.__('Recorded in the notebook: polyadic verify re-derives these verdicts.') : why;
         this._changed.emit();
       }
     }
@@ -308,12 +320,18 @@ export class RobustnessModel implements IDisposable {
     if (shown === null) {
       return null;
     }
+    const trans = this._trans;
     const robust = shown.rows.filter(row => row.robust).length;
     const variants = shown.labels.length - 1;
-    return (
-      `${shown.recorded ? 'As recorded: ' : ''}${robust} of ${shown.rows.length} followed multiplets robust across ` +
-      `${variants} variant${variants === 1 ? '' : 's'}${shown.compared}.`
+    const across = trans._n(
+      '%2 of %3 followed multiplets robust across %1 variant',
+      '%2 of %3 followed multiplets robust across %1 variants',
+      variants,
+      robust,
+      shown.rows.length
     );
+    const compared = shown.compared === null ? '' : trans.__(' (%1 multiplets compared)', formatCount(shown.compared));
+    return shown.recorded ? trans.__('As recorded: %1%2.', across, compared) : trans.__('%1%2.', across, compared);
   }
 
   /**
@@ -380,7 +398,8 @@ export class RobustnessModel implements IDisposable {
   private readonly _changed = new Signal<this, void>(this);
   private _run: IRunCompleted | null = null;
   private _state: RobustnessState = 'unavailable';
-  private _unavailable: string | null = 'No run to check yet.';
+  private readonly _trans: TranslationBundle;
+  private _unavailable: string | null;
   private _defaults = '';
   private _text = '';
   private _top = DEFAULT_ROBUSTNESS_TOP;
@@ -401,6 +420,8 @@ export namespace RobustnessModel {
   export interface IOptions {
     engine: IRobustnessEngine;
     record?: Recorder;
+    /** Translates the section's messages (the CSV stays in the words the CLI writes). */
+    translator?: ITranslator;
   }
 }
 
@@ -412,8 +433,8 @@ namespace Private {
     agreement: IRobustnessAgreement[];
     top: number;
     units: string;
-    /** ' (N multiplets compared)' for a live check, '' for a recorded one. */
-    compared: string;
+    /** Multiplets compared in a live check; null for a recorded one. */
+    compared: number | null;
     recorded: boolean;
     recordId: string;
     source: IExportSource;
@@ -460,7 +481,7 @@ namespace Private {
       agreement: result.agreement,
       top: result.top,
       units: result.units,
-      compared: ` (${formatCount(result.multiplet_count)} multiplets compared)`,
+      compared: result.multiplet_count,
       recorded: false,
       recordId: run.analysisId,
       source: { result: run.result, frame: run.frame.name, recordId: run.analysisId, missing: run.options.missing }
@@ -479,7 +500,7 @@ namespace Private {
       agreement: block.results.agreement.map(pair => ({ ...pair, kendall_tau: pair.kendall_tau ?? NaN })),
       top: block.settings.top,
       units: analysis.units,
-      compared: '',
+      compared: null,
       recorded: true,
       recordId: analysis.id,
       source: { result: resultFromRecord(analysis), frame: analysis.source.frame, recordId: analysis.id, missing: analysis.missing }

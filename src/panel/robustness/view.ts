@@ -9,6 +9,7 @@ import type * as PlotlyModule from 'plotly.js-dist-min';
 
 import { ChartView, plotlyText } from '../charts/chart';
 import type { IChartColors, IFigure } from '../charts/types';
+import { translationBundle, type ITranslator, type TranslationBundle } from '../../translation';
 import { textElement, uniqueId } from '../dom';
 import { formatFixed, formatValue } from '../../engine/text';
 import type { IRobustnessLine, RobustnessModel } from './model';
@@ -18,15 +19,20 @@ export class RobustnessSection extends Panel {
   /** Create the section over `options.model` (the section disposes the model with itself). */
   constructor(options: RobustnessSection.IOptions) {
     super();
+    const trans = (this._trans = translationBundle(options.translator));
     this._model = options.model;
     this.addClass('pd-Robustness');
     this.node.setAttribute('role', 'region');
-    this.node.setAttribute('aria-label', 'Robustness across variants');
+    this.node.setAttribute('aria-label', trans.__('Robustness across variants'));
 
-    const heading = textElement('h3', 'pd-Robustness-title', 'Robustness across binnings and estimators');
+    const heading = textElement('h3', 'pd-Robustness-title', trans.__('Robustness across binnings and estimators'));
     this._intro = textElement('p', 'pd-Robustness-intro');
     const textId = uniqueId('pd-robustness-variants');
-    const textLabel = textElement('label', 'pd-Field-label', 'Variants, one per line (KEY=VALUE settings joined by ";": bins, bin.COLUMN, estimator, missing)');
+    const textLabel = textElement(
+      'label',
+      'pd-Field-label',
+      trans.__('Variants, one per line (KEY=VALUE settings joined by ";": bins, bin.COLUMN, estimator, missing)')
+    );
     textLabel.htmlFor = textId;
     this._text = document.createElement('textarea');
     this._text.id = textId;
@@ -37,7 +43,7 @@ export class RobustnessSection extends Panel {
 
     const controls = textElement('div', 'pd-Robustness-controls');
     const topId = uniqueId('pd-robustness-top');
-    const topLabel = textElement('label', 'pd-Field-label', 'Top N of each table');
+    const topLabel = textElement('label', 'pd-Field-label', trans.__('Top N of each table'));
     topLabel.htmlFor = topId;
     this._top = document.createElement('input');
     this._top.id = topId;
@@ -47,7 +53,7 @@ export class RobustnessSection extends Panel {
     this._top.step = '1';
     this._top.className = 'pd-Robustness-top jp-mod-styled';
     this._top.addEventListener('change', () => this._model.setTop(Number(this._top.value)));
-    this._check = textElement('button', 'pd-Robustness-check jp-mod-styled jp-mod-accept', 'Check robustness');
+    this._check = textElement('button', 'pd-Robustness-check jp-mod-styled jp-mod-accept', trans.__('Check robustness'));
     this._check.type = 'button';
     this._check.addEventListener('click', () => {
       if (this._model.state === 'running') {
@@ -56,7 +62,7 @@ export class RobustnessSection extends Panel {
         void this._model.check();
       }
     });
-    this._reset = textElement('button', 'pd-Robustness-reset jp-mod-styled', 'Reset to defaults');
+    this._reset = textElement('button', 'pd-Robustness-reset jp-mod-styled', trans.__('Reset to defaults'));
     this._reset.type = 'button';
     this._reset.addEventListener('click', () => this._model.resetVariants());
     controls.append(topLabel, this._top, this._check, this._reset);
@@ -66,25 +72,28 @@ export class RobustnessSection extends Panel {
     this._caution = textElement(
       'p',
       'pd-Results-caution',
-      'The variants compare estimates only: a multiplet that holds everywhere is not thereby shown to differ from ' +
-        'chance (use the statistics for that), and with few rows every binning is coarse guesswork.'
+      trans.__(
+        'The variants compare estimates only: a multiplet that holds everywhere is not thereby shown to differ from ' +
+          'chance (use the statistics for that), and with few rows every binning is coarse guesswork.'
+      )
     );
     this._tableHost = textElement('div', 'pd-Robustness-tableHost');
-    this._export = textElement('button', 'pd-Robustness-export jp-mod-styled', 'Export CSV');
+    this._export = textElement('button', 'pd-Robustness-export jp-mod-styled', trans.__('Export CSV'));
     this._export.type = 'button';
-    this._export.setAttribute('aria-label', 'Export the robustness table as CSV');
+    this._export.setAttribute('aria-label', trans.__('Export the robustness table as CSV'));
     this._export.addEventListener('click', () => this._download());
     this._agreement = textElement('div', 'pd-Robustness-agreement');
 
     this._chart = new ChartView({
-      label: 'Ranks of the followed multiplets across the variants',
+      label: trans.__('Ranks of the followed multiplets across the variants'),
+      translator: options.translator,
       filename: 'polyadic-robustness-ranks',
       height: 280,
       exportAs: () => ({
-        title: 'Rank of each followed multiplet under each variant (1 = most negative co-information)',
-        subtitle: this._model.run ? `${this._model.run.frame.name} · record ${this._model.run.analysisId}` : '',
-        xTitle: 'variant',
-        yTitle: 'rank among all multiplets',
+        title: trans.__('Rank of each followed multiplet under each variant (1 = most negative co-information)'),
+        subtitle: this._model.run ? trans.__('%1 · record %2', this._model.run.frame.name, this._model.run.analysisId) : '',
+        xTitle: trans.__('variant'),
+        yTitle: trans.__('rank among all multiplets'),
         filename: this._model.fileName
       })
     });
@@ -117,11 +126,12 @@ export class RobustnessSection extends Panel {
   }
 
   private _render(): void {
+    const trans = this._trans;
     const model = this._model;
     const unavailable = model.state === 'unavailable';
     this._intro.textContent = unavailable
       ? (model.unavailableReason ?? '')
-      : `Re-run this analysis under each variant and follow its top multiplets. ${model.ruleText}`;
+      : trans.__('Re-run this analysis under each variant and follow its top multiplets. %1', model.ruleText);
     if (this._text.value !== model.variantsText) {
       this._text.value = model.variantsText;
     }
@@ -131,7 +141,7 @@ export class RobustnessSection extends Panel {
     this._top.disabled = unavailable || running;
     this._reset.disabled = unavailable || running || model.variantsText === model.defaultsText;
     this._check.disabled = unavailable;
-    this._check.textContent = running ? 'Cancel' : 'Check robustness';
+    this._check.textContent = running ? trans.__('Cancel') : trans.__('Check robustness');
     const error = model.error;
     this._text.classList.toggle('jp-mod-error', error !== null && error.detail.option === 'variants');
     this._text.setAttribute('aria-invalid', String(error !== null && error.detail.option === 'variants'));
@@ -140,7 +150,7 @@ export class RobustnessSection extends Panel {
     this._status.textContent = error
       ? error.message
       : running
-        ? 'Running every variant in a worker…'
+        ? trans.__('Running every variant in a worker…')
         : [model.summaryText, model.recordNote].filter(Boolean).join(' ');
     this._renderTable();
     this._renderAgreement();
@@ -150,11 +160,12 @@ export class RobustnessSection extends Panel {
     if (model.hasTable) {
       const lines = model.lines;
       const labels = model.variantLabels;
-      this._chart.setFigure(colors => Private.figure(lines, labels, colors));
+      this._chart.setFigure(colors => Private.figure(lines, labels, colors, trans));
     }
   }
 
   private _renderTable(): void {
+    const trans = this._trans;
     const model = this._model;
     this._tableHost.replaceChildren();
     if (!model.hasTable) {
@@ -162,9 +173,16 @@ export class RobustnessSection extends Panel {
     }
     const labels = model.variantLabels;
     const table = textElement('table', 'pd-Robustness-table');
-    table.setAttribute('aria-label', 'Robustness of the top multiplets');
+    table.setAttribute('aria-label', trans.__('Robustness of the top multiplets'));
     const head = table.createTHead().insertRow();
-    const headers = ['Multiplet', 'Table', `Base value (${model.units})`, ...labels.map((_, i) => (i === 0 ? 'Rank: base' : `Rank: V${i}`)), 'Same sign', 'Verdict'];
+    const headers = [
+      trans.__('Multiplet'),
+      trans.__('Table'),
+      trans.__('Base value (%1)', model.units),
+      ...labels.map((_, i) => (i === 0 ? trans.__('Rank: base') : trans.__('Rank: V%1', i))),
+      trans.__('Same sign'),
+      trans.__('Verdict')
+    ];
     headers.forEach((text, i) => {
       const cell = textElement('th', 'pd-Robustness-head', text);
       cell.scope = 'col';
@@ -194,11 +212,12 @@ export class RobustnessSection extends Panel {
         tr.append(cell);
       });
     }
-    const legend = textElement('p', 'pd-Robustness-legend', labels.slice(1).map((label, i) => `V${i + 1}: ${label}`).join(' · '));
+    const legend = textElement('p', 'pd-Robustness-legend', labels.slice(1).map((label, i) => trans.__('V%1: %2', i + 1, label)).join(' · '));
     this._tableHost.append(table, legend);
   }
 
   private _renderAgreement(): void {
+    const trans = this._trans;
     const pairs = this._model.agreement;
     this._agreement.replaceChildren();
     if (pairs.length === 0 || !this._model.hasTable) {
@@ -207,18 +226,30 @@ export class RobustnessSection extends Panel {
     const labels = this._model.variantLabels;
     const short = (label: string): string => {
       const i = labels.indexOf(label);
-      return i <= 0 ? 'base' : `V${i}`;
+      return i <= 0 ? trans.__('base') : trans.__('V%1', i);
     };
-    const title = textElement('p', 'pd-Robustness-agreementTitle', "Rank agreement: Kendall's tau-b over every multiplet; shared members of the 10 most negative and the 10 most positive");
+    const title = textElement(
+      'p',
+      'pd-Robustness-agreementTitle',
+      trans.__("Rank agreement: Kendall's tau-b over every multiplet; shared members of the 10 most negative and the 10 most positive")
+    );
     const list = textElement('ul', 'pd-Robustness-pairs');
     for (const pair of pairs) {
       // a plain hyphen, as the CLI's note and CSV write it
-      const tau = Number.isFinite(pair.kendall_tau) ? formatFixed(pair.kendall_tau, 3, '-') : 'undefined';
+      const tau = Number.isFinite(pair.kendall_tau) ? formatFixed(pair.kendall_tau, 3, '-') : trans.__('undefined');
       list.append(
         textElement(
           'li',
           'pd-Robustness-pair',
-          `${short(pair.a)} vs ${short(pair.b)}: tau ${tau}; shared ${pair.overlap_synergy} of ${pair.overlap_of} most negative, ${pair.overlap_redundancy} of ${pair.overlap_of} most positive`
+          trans.__(
+            '%1 vs %2: tau %3; shared %4 of %5 most negative, %6 of %5 most positive',
+            short(pair.a),
+            short(pair.b),
+            tau,
+            pair.overlap_synergy,
+            pair.overlap_of,
+            pair.overlap_redundancy
+          )
         )
       );
     }
@@ -243,6 +274,7 @@ export class RobustnessSection extends Panel {
   }
 
   private readonly _model: RobustnessModel;
+  private readonly _trans: TranslationBundle;
   private readonly _intro: HTMLParagraphElement;
   private readonly _text: HTMLTextAreaElement;
   private readonly _top: HTMLInputElement;
@@ -261,6 +293,8 @@ export namespace RobustnessSection {
   /** Options of a {@link RobustnessSection}. */
   export interface IOptions {
     model: RobustnessModel;
+    /** Translates the section's strings. */
+    translator?: ITranslator;
   }
 }
 
@@ -271,8 +305,8 @@ namespace Private {
    * is not robust dashed; the base's top N in front, those only a variant ranks that high thin
    * and faint behind them. Names go to plotly escaped (plotlyText).
    */
-  export function figure(lines: IRobustnessLine[], labels: string[], colors: IChartColors): IFigure {
-    const x = labels.map((_, i) => (i === 0 ? 'base' : `V${i}`));
+  export function figure(lines: IRobustnessLine[], labels: string[], colors: IChartColors, trans: TranslationBundle): IFigure {
+    const x = labels.map((_, i) => (i === 0 ? trans.__('base') : trans.__('V%1', i)));
     // plotly draws later traces on top: the variants' additions first
     const ordered = [...lines.filter(line => !line.inBaseTop), ...lines.filter(line => line.inBaseTop)];
     const data: PlotlyModule.Data[] = ordered.map(line => ({
@@ -295,7 +329,7 @@ namespace Private {
       data,
       layout: {
         xaxis: { type: 'category', gridcolor: colors.grid, color: colors.muted },
-        yaxis: { autorange: 'reversed', gridcolor: colors.grid, color: colors.muted, title: { text: 'rank' } },
+        yaxis: { autorange: 'reversed', gridcolor: colors.grid, color: colors.muted, title: { text: trans.__('rank') } },
         margin: { l: 48, r: 8, t: 8, b: 36 }
       } as PlotlyModule.Layout
     };

@@ -4,7 +4,8 @@
  */
 import { Widget } from '@lumino/widgets';
 
-import { formatFixed, plural } from '../../engine/text';
+import { formatCount, formatFixed } from '../../engine/text';
+import { translationBundle, type ITranslator, type TranslationBundle } from '../../translation';
 import type { AnalysisModel } from '../analysis/model';
 import { textElement } from '../dom';
 
@@ -14,12 +15,13 @@ export class RunView extends Widget {
   constructor(options: RunView.IOptions) {
     super();
     this.addClass('pd-Run');
-    this.title.label = 'Run';
+    const trans = (this._trans = translationBundle(options.translator));
+    this.title.label = trans.__('Run');
     this._model = options.model;
-    this._run = textElement('button', 'pd-Run-start jp-mod-styled jp-mod-accept', 'Run');
+    this._run = textElement('button', 'pd-Run-start jp-mod-styled jp-mod-accept', trans.__('Run'));
     this._run.type = 'button';
     this._run.addEventListener('click', () => void this._model.start());
-    this._cancel = textElement('button', 'pd-Run-cancel jp-mod-styled jp-mod-reject', 'Cancel');
+    this._cancel = textElement('button', 'pd-Run-cancel jp-mod-styled jp-mod-reject', trans.__('Cancel'));
     this._cancel.type = 'button';
     this._cancel.addEventListener('click', () => this._model.cancel());
     const buttons = textElement('div', 'pd-Run-buttons');
@@ -27,14 +29,14 @@ export class RunView extends Widget {
     this._bar = document.createElement('progress');
     this._bar.className = 'pd-Run-progress';
     this._bar.max = 1;
-    this._bar.setAttribute('aria-label', 'Analysis progress');
+    this._bar.setAttribute('aria-label', trans.__('Analysis progress'));
     this._progressText = textElement('p', 'pd-Run-progressText');
     this._line = textElement('p', 'pd-Run-status');
     this._line.setAttribute('role', 'status');
     this._hint = textElement('p', 'pd-Run-hint');
-    this._show = textElement('button', 'pd-Run-show jp-mod-styled', 'Show results');
+    this._show = textElement('button', 'pd-Run-show jp-mod-styled', trans.__('Show results'));
     this._show.type = 'button';
-    this._show.title = 'Bring the results view of the latest run beside the notebook';
+    this._show.title = trans.__('Bring the results view of the latest run beside the notebook');
     const onShow = options.onShowResults;
     this._show.addEventListener('click', () => onShow?.());
     this._canShow = onShow !== undefined;
@@ -56,6 +58,7 @@ export class RunView extends Widget {
 
   private _render(): void {
     const model = this._model;
+    const trans = this._trans;
     const run = model.run;
     const running = model.isRunning;
     const blocker = model.blocker;
@@ -66,28 +69,42 @@ export class RunView extends Widget {
     this._progressText.hidden = !running;
     if (run.state === 'fetching') {
       this._bar.value = model.fetchFraction;
-      this._progressText.textContent = `Fetching the columns from the kernel… ${Math.round(model.fetchFraction * 100)}%`;
+      this._progressText.textContent = trans.__('Fetching the columns from the kernel… %1%', Math.round(model.fetchFraction * 100));
     } else if (run.state === 'running') {
       const progress = run.progress;
       const fraction = progress?.fraction ?? 0;
       this._bar.value = fraction;
       const left = progress?.remainingMs ?? null;
+      const done = Math.floor(fraction * 100);
       this._progressText.textContent =
-        `${Math.floor(fraction * 100)}% done` + (left === null ? ', estimating the time left…' : `, about ${Private.duration(left)} left`);
+        left === null
+          ? trans.__('%1% done, estimating the time left…', done)
+          : trans.__('%1% done, about %2 left', done, Private.duration(left, trans));
     }
     const latest = model.latest;
     if (run.state === 'done' && latest !== null) {
       const count = latest.result.multiplet_count;
-      this._line.textContent =
-        `${plural(count, 'multiplet')} computed from ${plural(latest.frame.rows, 'row')} of ` +
-        `${latest.frame.name} in ${Private.duration(latest.elapsedMs)}` +
-        (latest.frame.sampled ? ` (a seeded sample of ${plural(latest.frame.originalRows, 'row')}, seed ${latest.frame.seed}).` : '.');
+      const { frame } = latest;
+      const multiplets = trans._n('%2 multiplet', '%2 multiplets', count, formatCount(count));
+      const rows = trans._n('%2 row', '%2 rows', frame.rows, formatCount(frame.rows));
+      const took = Private.duration(latest.elapsedMs, trans);
+      this._line.textContent = frame.sampled
+        ? trans.__(
+            '%1 computed from %2 of %3 in %4 (a seeded sample of %5, seed %6).',
+            multiplets,
+            rows,
+            frame.name,
+            took,
+            trans._n('%2 row', '%2 rows', frame.originalRows, formatCount(frame.originalRows)),
+            frame.seed
+          )
+        : trans.__('%1 computed from %2 of %3 in %4.', multiplets, rows, frame.name, took);
     } else if (run.state === 'cancelled') {
-      this._line.textContent = 'Cancelled. Nothing was computed; press Run to start again.';
+      this._line.textContent = trans.__('Cancelled. Nothing was computed; press Run to start again.');
     } else if (run.state === 'error') {
-      this._line.textContent = run.error?.message ?? 'The analysis failed.';
+      this._line.textContent = run.error?.message ?? trans.__('The analysis failed.');
     } else if (running) {
-      this._line.textContent = 'Running. The notebook stays usable meanwhile.';
+      this._line.textContent = trans.__('Running. The notebook stays usable meanwhile.');
     } else {
       this._line.textContent = '';
     }
@@ -98,6 +115,7 @@ export class RunView extends Widget {
   }
 
   private _model: AnalysisModel;
+  private readonly _trans: TranslationBundle;
   private _run: HTMLButtonElement;
   private _cancel: HTMLButtonElement;
   private _bar: HTMLProgressElement;
@@ -116,19 +134,21 @@ export namespace RunView {
     model: AnalysisModel;
     /** Brings the latest run's results view to the front; without it, no Show results button. */
     onShowResults?: () => void;
+    /** Translates the section's strings. */
+    translator?: ITranslator;
   }
 }
 
 namespace Private {
   /** A duration for people: "0.4 s", "12 s", "3 min 5 s". */
-  export function duration(ms: number): string {
+  export function duration(ms: number, trans: TranslationBundle): string {
     const seconds = ms / 1000;
     if (seconds < 10) {
-      return `${formatFixed(seconds, 1)} s`;
+      return trans.__('%1 s', formatFixed(seconds, 1));
     }
     if (seconds < 60) {
-      return `${Math.round(seconds)} s`;
+      return trans.__('%1 s', Math.round(seconds));
     }
-    return `${Math.floor(seconds / 60)} min ${Math.round(seconds % 60)} s`;
+    return trans.__('%1 min %2 s', Math.floor(seconds / 60), Math.round(seconds % 60));
   }
 }

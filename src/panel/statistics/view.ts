@@ -6,7 +6,8 @@
  */
 import { Widget } from '@lumino/widgets';
 
-import { formatCount, plural } from '../../engine/text';
+import { formatCount } from '../../engine/text';
+import { translationBundle, type ITranslator, type TranslationBundle } from '../../translation';
 import type { AnalysisModel } from '../analysis/model';
 import { labelledSelect, textElement, uniqueId } from '../dom';
 import type { StatisticsField } from './model';
@@ -17,24 +18,27 @@ export class StatisticsView extends Widget {
   constructor(options: StatisticsView.IOptions) {
     super();
     this.addClass('pd-Statistics');
-    this.title.label = 'Statistics';
+    const trans = (this._trans = translationBundle(options.translator));
+    this.title.label = trans.__('Statistics');
     this._model = options.model;
     this._workers = options.workers ?? (() => 1);
     const intro = textElement(
       'p',
       'pd-Statistics-intro',
-      'Evidence against chance for every multiplet: surrogates shuffle each column on its own ' +
-        '(every dependence gone, every marginal kept) and walk the lattice again; p counts the ' +
-        'surrogates at least as extreme, q corrects for the number of multiplets tested ' +
-        '(Benjamini–Hochberg). 0 turns a part off.'
+      trans.__(
+        'Evidence against chance for every multiplet: surrogates shuffle each column on its own ' +
+          '(every dependence gone, every marginal kept) and walk the lattice again; p counts the ' +
+          'surrogates at least as extreme, q corrects for the number of multiplets tested ' +
+          '(Benjamini–Hochberg). 0 turns a part off.'
+      )
     );
     const fields: [StatisticsField, string, string][] = [
-      ['surrogates', 'Surrogates', 'Independence surrogates N; the smallest p is 1/(N + 1) one-sided, 2/(N + 1) two-sided.'],
-      ['seed', 'Seed', 'Seed of every random draw: the same seed gives the same p-values, whatever the number of workers.'],
-      ['alpha', 'Level α', 'Level of the "q ≤ α" filter; bootstrap intervals cover 1 − α.'],
-      ['bootstrap', 'Bootstrap resamples', 'Row resamples B for percentile intervals of every measure; 0 = off.'],
-      ['beyondPairs', 'Pairwise-preserving null (per table)', 'Top multiplets of order ≥ 3 per table fitted by maximum entropy to their lower-order marginals (slow: keep it small).'],
-      ['sharpen', 'Sharpening surrogates', 'Fresh surrogates for each multiplet whose p sits at its floor, on that multiplet alone (at most 64 multiplets; slow).']
+      ['surrogates', trans.__('Surrogates'), trans.__('Independence surrogates N; the smallest p is 1/(N + 1) one-sided, 2/(N + 1) two-sided.')],
+      ['seed', trans.__('Seed'), trans.__('Seed of every random draw: the same seed gives the same p-values, whatever the number of workers.')],
+      ['alpha', trans.__('Level α'), trans.__('Level of the "q ≤ α" filter; bootstrap intervals cover 1 − α.')],
+      ['bootstrap', trans.__('Bootstrap resamples'), trans.__('Row resamples B for percentile intervals of every measure; 0 = off.')],
+      ['beyondPairs', trans.__('Pairwise-preserving null (per table)'), trans.__('Top multiplets of order ≥ 3 per table fitted by maximum entropy to their lower-order marginals (slow: keep it small).')],
+      ['sharpen', trans.__('Sharpening surrogates'), trans.__('Fresh surrogates for each multiplet whose p sits at its floor, on that multiplet alone (at most 64 multiplets; slow).')]
     ];
     const rows: HTMLElement[] = [];
     for (const [field, label, hint] of fields) {
@@ -57,11 +61,11 @@ export class StatisticsView extends Widget {
       this._inputs.set(field, input);
     }
     const tail = labelledSelect(
-      'Tail',
+      trans.__('Tail'),
       [
-        ['two', 'two-sided (synergy or redundancy)'],
-        ['synergy', 'synergy only (co-information below the null)'],
-        ['redundancy', 'redundancy only (co-information above the null)']
+        ['two', trans.__('two-sided (synergy or redundancy)')],
+        ['synergy', trans.__('synergy only (co-information below the null)')],
+        ['redundancy', trans.__('redundancy only (co-information above the null)')]
       ],
       value => this._model.statistics.set('tail', value)
     );
@@ -90,6 +94,7 @@ export class StatisticsView extends Widget {
   }
 
   private _render(): void {
+    const trans = this._trans;
     const statistics = this._model.statistics;
     const values = statistics.values;
     for (const [field, input] of this._inputs) {
@@ -122,23 +127,29 @@ export class StatisticsView extends Widget {
     if (problem !== null) {
       this._estimate.textContent = '';
     } else if (options === undefined) {
-      this._estimate.textContent = 'No evidence is computed: the tables rank raw estimates.';
+      this._estimate.textContent = trans.__('No evidence is computed: the tables rank raw estimates.');
     } else if (estimate === null) {
-      this._estimate.textContent = 'The estimated time shows once the dataframe has loaded.';
+      this._estimate.textContent = trans.__('The estimated time shows once the dataframe has loaded.');
     } else {
       const replicates = (options.surrogates ?? 0) + (options.bootstrap ?? 0);
       const extra =
         (options.sharpen ?? 0) > 0 || (options.beyondPairs ?? 0) > 0
-          ? ', plus the sharpening and the pairwise-preserving null, which can take much longer'
+          ? trans.__(', plus the sharpening and the pairwise-preserving null, which can take much longer')
           : '';
-      this._estimate.textContent =
-        `About ${Private.duration(estimate)} for ${plural(replicates, 'replicate')} of ` +
-        `${formatCount(multiplets)} multiplets × ${formatCount(rows)} rows on ${plural(workers, 'worker')}${extra} ` +
-        '(a rough estimate).';
+      this._estimate.textContent = trans.__(
+        'About %1 for %2 of %3 multiplets × %4 rows on %5%6 (a rough estimate).',
+        Private.duration(estimate, trans),
+        trans._n('%2 replicate', '%2 replicates', replicates, formatCount(replicates)),
+        formatCount(multiplets),
+        formatCount(rows),
+        trans._n('%2 worker', '%2 workers', workers, formatCount(workers)),
+        extra
+      );
     }
   }
 
   private _model: AnalysisModel;
+  private readonly _trans: TranslationBundle;
   private _workers: () => number;
   private _inputs = new Map<StatisticsField, HTMLInputElement>();
   private _tail: HTMLSelectElement;
@@ -154,18 +165,20 @@ export namespace StatisticsView {
     model: AnalysisModel;
     /** How many workers a run uses (for the time estimate); default 1. */
     workers?: () => number;
+    /** Translates the section's strings. */
+    translator?: ITranslator;
   }
 }
 
 namespace Private {
   /** A duration in words: "under a second", "12 s", "3 min". */
-  export function duration(ms: number): string {
+  export function duration(ms: number, trans: TranslationBundle): string {
     if (ms < 1000) {
-      return 'under a second';
+      return trans.__('under a second');
     }
     if (ms < 90_000) {
-      return `${Math.round(ms / 1000)} s`;
+      return trans.__('%1 s', Math.round(ms / 1000));
     }
-    return `${Math.round(ms / 60_000)} min`;
+    return trans.__('%1 min', Math.round(ms / 60_000));
   }
 }
