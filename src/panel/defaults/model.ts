@@ -7,6 +7,7 @@ import { ISignal, Signal } from '@lumino/signaling';
 import { asPolyadicError, PolyadicError } from '../../engine/errors';
 import { formatCount } from '../../engine/text';
 import type { IPolyadicSettings } from '../../settings';
+import { SignalOwner } from '../disposable';
 
 /** One setting as the defaults section lists it. */
 export interface IDefaultRow {
@@ -36,7 +37,7 @@ export function describeSettings(
 }
 
 /** Holds the current settings and signals every change of them. */
-export class DefaultsModel {
+export class DefaultsModel extends SignalOwner {
   /** Emitted after the settings, their description or the load error changed. */
   get changed(): ISignal<this, void> {
     return this._changed;
@@ -77,24 +78,9 @@ export class DefaultsModel {
     this._changed.emit();
   }
 
-  /** Whether the model has been disposed. */
-  get isDisposed(): boolean {
-    return this._isDisposed;
-  }
-
-  /** Disconnect every listener. */
-  dispose(): void {
-    if (this._isDisposed) {
-      return;
-    }
-    this._isDisposed = true;
-    Signal.clearData(this);
-  }
-
   private _settings: IPolyadicSettings | null = null;
   private _rows: IDefaultRow[] = [];
   private _error: PolyadicError | null = null;
-  private _isDisposed = false;
   private _changed = new Signal<this, void>(this);
 }
 

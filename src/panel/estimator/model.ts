@@ -9,6 +9,7 @@ import { ALL_ORDERS_UP_TO, DEFAULT_MAX_ORDER } from '../../engine/analyze';
 import { multipletCount } from '../../engine/multiplets';
 import type { EstimatorName, Units } from '../../engine/types';
 import type { MaxOrderRule } from '../../settings';
+import { SignalOwner } from '../disposable';
 
 /** The estimators the panel offers, with their labels. */
 export const ESTIMATOR_CHOICES: readonly { value: EstimatorName; label: string }[] = [
@@ -85,7 +86,7 @@ export interface IOrderClamp {
 }
 
 /** State of the Estimator and order section. */
-export class EstimatorModel {
+export class EstimatorModel extends SignalOwner {
   /** Fires when a choice changes. */
   get changed(): ISignal<this, void> {
     return this._changed;
@@ -168,20 +169,6 @@ export class EstimatorModel {
     return order < 1 ? 0n : multipletCount(columns, order);
   }
 
-  /** Whether the model has been disposed. */
-  get isDisposed(): boolean {
-    return this._isDisposed;
-  }
-
-  /** Disconnect the listeners. */
-  dispose(): void {
-    if (this._isDisposed) {
-      return;
-    }
-    this._isDisposed = true;
-    Signal.clearData(this);
-  }
-
   private _set(apply: () => void, changed: boolean): void {
     if (changed) {
       apply();
@@ -194,6 +181,5 @@ export class EstimatorModel {
   private _maxOrder: number | null = null;
   private _rule: MaxOrderRule = 'auto';
   private _fixed = DEFAULT_MAX_ORDER;
-  private _isDisposed = false;
   private _changed = new Signal<this, void>(this);
 }

@@ -31,13 +31,15 @@ import type { IPolyadicPanel } from '../../tokens';
 import { translationBundle, type ITranslator, type TranslationBundle } from '../../translation';
 import type { IRunCompleted } from '../analysis/types';
 import type { IDataCheck, IRecordsNotebook, IRestoreRequest, IRunFrame } from './types';
+import { SignalOwner } from '../disposable';
 
 export type { IDataCheck, IRecordsNotebook, IRestoreRequest, IRunFrame } from './types';
 
 /** Holds the followed notebook's record and signals every change of it. */
-export class RecordsModel implements IPolyadicPanel.IRecords {
+export class RecordsModel extends SignalOwner implements IPolyadicPanel.IRecords {
   /** Create the model; `options.translator` translates its messages (as written without one). */
   constructor(options: RecordsModel.IOptions = {}) {
+    super();
     this._trans = translationBundle(options.translator);
   }
 
@@ -268,20 +270,6 @@ export class RecordsModel implements IPolyadicPanel.IRecords {
     return check;
   }
 
-  /** Whether the model has been disposed. */
-  get isDisposed(): boolean {
-    return this._isDisposed;
-  }
-
-  /** Disconnect every listener. */
-  dispose(): void {
-    if (this._isDisposed) {
-      return;
-    }
-    this._isDisposed = true;
-    Signal.clearData(this);
-  }
-
   private _change(write: (metadata: IMetadataAccess) => IRecordState): boolean {
     if (this._notebook === null) {
       this._fail(this._trans.__('No notebook is open.'));
@@ -344,7 +332,6 @@ export class RecordsModel implements IPolyadicPanel.IRecords {
   private _recordedAs = new Map<string, string>();
   private _fingerprinted: { run: IRunCompleted; fingerprint: Promise<IFingerprint> } | null = null;
   private _error: PolyadicError | null = null;
-  private _isDisposed = false;
   private _changed = new Signal<this, void>(this);
   private _restoreRequested = new Signal<this, IRestoreRequest>(this);
 }

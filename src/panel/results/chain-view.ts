@@ -83,18 +83,11 @@ export class ChainView extends Panel {
     this.addWidget(top);
     this.addWidget(this._chart);
     this.addWidget(this._list);
+    // Widget.dispose clears the signal connections this view receives
     this._model.changed.connect(this._update, this);
     this._update();
   }
 
-  /** Disconnect from the model and dispose the widget. */
-  dispose(): void {
-    if (this.isDisposed) {
-      return;
-    }
-    this._model.changed.disconnect(this._update, this);
-    super.dispose();
-  }
 
   private _update(): void {
     const trans = this._trans;

@@ -120,6 +120,7 @@ export class DetailView extends Panel {
     this.addWidget(this._textTables);
     this.addWidget(this._subChart);
     this.addWidget(this._subList);
+    // Widget.dispose clears the signal connections this view receives
     this._model.changed.connect(this._update, this);
     this._update();
   }
@@ -129,14 +130,6 @@ export class DetailView extends Panel {
     return this._model;
   }
 
-  /** Disconnect from the model and dispose the widget. */
-  dispose(): void {
-    if (this.isDisposed) {
-      return;
-    }
-    this._model.changed.disconnect(this._update, this);
-    super.dispose();
-  }
 
   private _update(): void {
     const trans = this._trans;

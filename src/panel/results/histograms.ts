@@ -29,18 +29,11 @@ export class HistogramsView extends Panel {
     this._translator = options.translator;
     this._trans = translationBundle(options.translator);
     this._model = options.model;
+    // Widget.dispose clears the signal connections this view receives
     this._model.changed.connect(this._update, this);
     this._update();
   }
 
-  /** Disconnect from the model and dispose the charts. */
-  dispose(): void {
-    if (this.isDisposed) {
-      return;
-    }
-    this._model.changed.disconnect(this._update, this);
-    super.dispose();
-  }
 
   private _update(): void {
     const result = this._model.result;

@@ -3,6 +3,7 @@
  * No JupyterLab imports, so the model runs in unit tests without a DOM.
  */
 import { ISignal, Signal } from '@lumino/signaling';
+import { SignalOwner } from '../disposable';
 
 /** The kernel of the followed notebook, as the user sees it in the notebook toolbar. */
 export interface IKernelSummary {
@@ -23,7 +24,7 @@ export interface INotebookSummary {
 }
 
 /** Holds the followed notebook and signals every change of it. */
-export class SourceModel {
+export class SourceModel extends SignalOwner {
   /** Emitted after the followed notebook or its kernel changed. */
   get changed(): ISignal<this, void> {
     return this._changed;
@@ -42,22 +43,7 @@ export class SourceModel {
     this._changed.emit();
   }
 
-  /** Whether the model has been disposed. */
-  get isDisposed(): boolean {
-    return this._isDisposed;
-  }
-
-  /** Disconnect every listener. */
-  dispose(): void {
-    if (this._isDisposed) {
-      return;
-    }
-    this._isDisposed = true;
-    Signal.clearData(this);
-  }
-
   private _notebook: INotebookSummary | null = null;
-  private _isDisposed = false;
   private _changed = new Signal<this, void>(this);
 }
 
