@@ -49,6 +49,9 @@ async function rejection(promise: Promise<unknown>): Promise<Error> {
   throw new Error('expected the promise to reject');
 }
 
+// The bit-for-bit runs walk whole lattices several times over: a hang guard for a loaded machine, not a timing.
+jest.setTimeout(60_000);
+
 describe('EnginePool', () => {
   let pools: EnginePool[] = [];
   /** A pool of in-process workers, disposed after the test. */
