@@ -14,6 +14,7 @@ import { ISettingRegistry } from '@jupyterlab/settingregistry';
 import { INSERT_ANALYSIS_CELL, setupAnalysisCells } from './cells/command';
 import { polyadicIcon } from './icons';
 import { followNotebooks, followSettings, PanelModel, PolyadicPanel } from './panel';
+import { createFetchTransport } from './bridge/browser';
 import { followAnalysis } from './panel/analysis/tracker';
 import { ResultsDocuments } from './panel/results/document';
 import { robustnessExtras } from './panel/robustness';
@@ -127,7 +128,13 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
     } else {
       model.defaults.fail('This JupyterLab has no settings registry, so no settings can be shown.');
     }
-    const analysisFollower = followAnalysis({ panel, notebooks, defaults: model.defaults, analysis: model.analysis });
+    const analysisFollower = followAnalysis({
+      panel,
+      notebooks,
+      defaults: model.defaults,
+      analysis: model.analysis,
+      transport: createFetchTransport()
+    });
     panel.disposed.connect(() => analysisFollower.dispose());
 
     return { widget: panel, model };
