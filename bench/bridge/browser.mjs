@@ -11,7 +11,12 @@
  * their distinct and missing counts computed), timed with performance.now() in the page; the
  * moment the load bar is full (every byte received) is reported beside it.
  *
- * Usage: node bench/bridge/browser.mjs [--rows N] [--columns N] [--repeats N]
+ * The page fetches through the server's handover route (polyadic/_server.py) when the server
+ * has it; `--comm` starts the server with the extension off, so the same fetch travels over the
+ * comm, as before the route existed. Long tasks of the page's main thread are printed per run,
+ * and where the time went, from the bridge's performance marks (src/bridge/connector.ts).
+ *
+ * Usage: node bench/bridge/browser.mjs [--rows N] [--columns N] [--repeats N] [--comm]
  * Needs a built extension (`npm run build`) installed in .venv.
  */
 import { spawn, execFileSync } from 'node:child_process';
@@ -27,7 +32,8 @@ const { values: flags } = parseArgs({
   options: {
     rows: { type: 'string', default: '1000000' },
     columns: { type: 'string', default: '20' },
-    repeats: { type: 'string', default: '3' }
+    repeats: { type: 'string', default: '3' },
+    comm: { type: 'boolean', default: false }
   },
   strict: true
 });
@@ -116,7 +122,7 @@ const notebook = {
 
 const port = freePort();
 const server = spawn(process.execPath, [join(root, 'test', 'ui', 'serve.mjs')], {
-  env: { ...process.env, PD_UI_PORT: port },
+  env: { ...process.env, PD_UI_PORT: port, PD_UI_NO_ROUTE: flags.comm ? '1' : '0' },
   stdio: ['ignore', 'ignore', 'inherit']
 });
 const serverExit = new Promise(done => server.on('exit', done));
@@ -231,7 +237,10 @@ try {
     );
   }
   const mb = kernel.bytes / 1e6;
-  console.log(`handover of ${rows.toLocaleString('en-US')} rows × ${columns} float64 columns (${mb.toFixed(1)} MB IPC stream), medians of ${repeats}:`);
+  console.log(
+    `handover of ${rows.toLocaleString('en-US')} rows × ${columns} float64 columns (${mb.toFixed(1)} MB IPC stream), ` +
+      `${flags.comm ? 'over the comm (server extension off)' : "through the server's handover route"}, medians of ${repeats}:`
+  );
   console.log(`  pyarrow alone, writing the IPC stream in the kernel: ${kernel.pyarrow_write_ms.toFixed(1)} ms`);
   const totals = handover.map(run => run.total);
   const received = handover.map(run => run.received).filter(ms => ms !== null);
