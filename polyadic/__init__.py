@@ -24,6 +24,11 @@ def _jupyter_labextension_paths():
     return [{"src": "labextension", "dest": "jupyterlab-polyadic"}]
 
 
+def _jupyter_server_extension_points():
+    """The Jupyter server extension: the route that streams handover files to the page."""
+    return [{"module": "polyadic._server"}]
+
+
 def _register_quietly():
     # The import must never fail because of the bridge: outside a kernel this is a no-op, and
     # inside one a failure leaves the panel unable to connect, which it reports itself.

@@ -19,6 +19,7 @@ from __future__ import annotations
 
 import io
 import math
+import os
 from dataclasses import dataclass, field
 from typing import Any, Iterator, Sequence
 
@@ -26,10 +27,14 @@ import numpy as np
 import pyarrow as pa
 
 from ._errors import BridgeError
+from ._handover import create_private, handover_dir, new_token, publish, sweep
 from ._listing import column_label, frame_kind
 
 #: Largest serialized record batch the kernel sends in one comm message.
 FETCH_BATCH_MAX_BYTES = 64 * 1024 * 1024
+#: Largest record batch of a handover file: one batch as a rule, so the page's columns are
+#: views of the received bytes (Arrow's 32-bit offsets cap a string dictionary, not this).
+FILE_BATCH_MAX_BYTES = 1 << 62
 #: Rows sent when a request names no cap; above it, a seeded random sample is sent.
 FETCH_ROW_CAP_DEFAULT = 2_000_000
 #: Seed of the row sample when a request names none, so repeated fetches agree.
@@ -103,6 +108,35 @@ def _iter_pieces(schema: pa.Schema, batches: Sequence[pa.RecordBatch]) -> Iterat
         if index == last:
             writer.close()
         yield sink.drain()
+
+
+def write_handover(payload: FetchPayload) -> tuple[str, int]:
+    """Write the payload's stream to a private handover file (polyadic/_handover.py).
+
+    Returns the token that names the file and its length. Raises HandoverUnavailable or
+    OSError when the directory cannot be used; the caller then sends the pieces on the comm.
+    """
+    folder = handover_dir()
+    sweep(folder)
+    token = new_token()
+    partial = folder / f".{token}.partial"
+    create_private(partial)
+    try:
+        # The file exists with mode 0600; opening it for writing keeps that mode.
+        with pa.OSFile(os.fspath(partial), "w") as sink:
+            writer = pa.ipc.new_stream(sink, payload.schema, options=_write_options())
+            for batch in payload.batches:
+                writer.write_batch(batch)
+            writer.close()
+            size = sink.tell()
+        publish(partial, token)
+    except BaseException:
+        try:
+            os.unlink(partial)
+        except OSError:
+            pass
+        raise
+    return token, size
 
 
 def stream_size(schema: pa.Schema, batches: Sequence[pa.RecordBatch]) -> int:

@@ -6,7 +6,10 @@ The front end opens a comm to the target ``polyadic`` and sends JSON requests, e
 * ``list`` → ``listing``: the frames in the user's namespace. A listing is also pushed when a
   comm opens and after every executed cell (only when it changed).
 * ``fetch`` → ``fetch_chunk`` messages carrying an Arrow IPC stream in their binary buffers,
-  then ``fetch_done``.
+  then ``fetch_done``. With ``delivery: "file"`` the stream goes to a private handover file
+  instead (polyadic/_handover.py), named by the token of one ``fetch_file`` message, which the
+  Jupyter server's ``polyadic`` route streams to the page; when no such file can be written,
+  the pieces come on the comm as usual.
 * ``results_chunk`` → ``results_ack`` per chunk, ``results_stored`` when a table is complete;
   :func:`results` then returns it as a pandas DataFrame.
 
@@ -23,8 +26,9 @@ import threading
 import traceback
 from typing import Any, Callable, Mapping
 
-from ._arrow import FETCH_BATCH_MAX_BYTES, frame_to_ipc_batches
+from ._arrow import FETCH_BATCH_MAX_BYTES, FILE_BATCH_MAX_BYTES, frame_to_ipc_batches, write_handover
 from ._errors import BridgeError
+from ._handover import HandoverUnavailable
 from ._listing import IPYTHON_NAMES, frame_kind, list_frames
 from ._results import ResultsNotFound, ResultStore
 
@@ -198,13 +202,41 @@ class KernelBridge:
                 "the listing); refresh the list.",
                 frame=name,
             )
+        delivery = data.get("delivery", "comm")
+        if delivery not in ("comm", "file"):
+            raise BridgeError(f"'delivery' must be 'comm' or 'file', got {delivery!r}.", option="delivery")
         payload = frame_to_ipc_batches(
             frame,
             data.get("columns"),
             row_cap=data.get("row_cap"),
             seed=data.get("sample_seed"),
-            max_batch_bytes=self._max_batch_bytes,
+            max_batch_bytes=FILE_BATCH_MAX_BYTES if delivery == "file" else self._max_batch_bytes,
         )
+        if delivery == "file":
+            try:
+                token, size = write_handover(payload)
+            except (HandoverUnavailable, OSError):
+                _log.debug("polyadic handover file unavailable; sending on the comm", exc_info=True)
+                # Rare (no private runtime folder): convert again in comm-sized batches.
+                payload = frame_to_ipc_batches(
+                    frame,
+                    data.get("columns"),
+                    row_cap=data.get("row_cap"),
+                    seed=data.get("sample_seed"),
+                    max_batch_bytes=self._max_batch_bytes,
+                )
+            else:
+                comm.send(
+                    data={
+                        "type": "fetch_file",
+                        "request_id": request_id,
+                        "name": name,
+                        "token": token,
+                        "bytes_total": size,
+                    }
+                )
+                self._send_done(comm, request_id, name, payload, batch_count=1, bytes_total=size)
+                return
         sent = 0
         for index, piece in enumerate(payload.iter_pieces()):
             sent += len(piece)
@@ -220,6 +252,11 @@ class KernelBridge:
                 },
                 buffers=[piece],
             )
+        self._send_done(comm, request_id, name, payload, payload.batch_count, payload.bytes_total)
+
+    def _send_done(
+        self, comm: Any, request_id: Any, name: str, payload: Any, batch_count: int, bytes_total: int
+    ) -> None:
         comm.send(
             data={
                 "type": "fetch_done",
@@ -230,8 +267,8 @@ class KernelBridge:
                 "sampled": payload.sampled,
                 "seed": payload.seed,
                 "columns": payload.columns,
-                "batch_count": payload.batch_count,
-                "bytes_total": payload.bytes_total,
+                "batch_count": batch_count,
+                "bytes_total": bytes_total,
             }
         )
 

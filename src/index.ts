@@ -15,6 +15,7 @@ import { ITranslator } from '@jupyterlab/translation';
 import { INSERT_ANALYSIS_CELL, setupAnalysisCells } from './cells/command';
 import { polyadicIcon } from './icons';
 import { followNotebooks, followSettings, PanelModel, PolyadicPanel } from './panel';
+import { createFetchTransport } from './bridge/browser';
 import { followAnalysis } from './panel/analysis/tracker';
 import { ResultsDocuments } from './panel/results/document';
 import { robustnessExtras } from './panel/robustness';
@@ -134,7 +135,13 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
     } else {
       model.defaults.fail(trans.__('This JupyterLab has no settings registry, so no settings can be shown.'));
     }
-    const analysisFollower = followAnalysis({ panel, notebooks, defaults: model.defaults, analysis: model.analysis });
+    const analysisFollower = followAnalysis({
+      panel,
+      notebooks,
+      defaults: model.defaults,
+      analysis: model.analysis,
+      transport: createFetchTransport()
+    });
     panel.disposed.connect(() => analysisFollower.dispose());
 
     return { widget: panel, model };

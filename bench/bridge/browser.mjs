@@ -11,7 +11,12 @@
  * their distinct and missing counts computed), timed with performance.now() in the page; the
  * moment the load bar is full (every byte received) is reported beside it.
  *
- * Usage: node bench/bridge/browser.mjs [--rows N] [--columns N] [--repeats N]
+ * The page fetches through the server's handover route (polyadic/_server.py) when the server
+ * has it; `--comm` starts the server with the extension off, so the same fetch travels over the
+ * comm, as before the route existed. Long tasks of the page's main thread are printed per run,
+ * and where the time went, from the bridge's performance marks (src/bridge/connector.ts).
+ *
+ * Usage: node bench/bridge/browser.mjs [--rows N] [--columns N] [--repeats N] [--comm]
  * Needs a built extension (`npm run build`) installed in .venv.
  */
 import { spawn, execFileSync } from 'node:child_process';
@@ -27,7 +32,8 @@ const { values: flags } = parseArgs({
   options: {
     rows: { type: 'string', default: '1000000' },
     columns: { type: 'string', default: '20' },
-    repeats: { type: 'string', default: '3' }
+    repeats: { type: 'string', default: '3' },
+    comm: { type: 'boolean', default: false }
   },
   strict: true
 });
@@ -116,7 +122,7 @@ const notebook = {
 
 const port = freePort();
 const server = spawn(process.execPath, [join(root, 'test', 'ui', 'serve.mjs')], {
-  env: { ...process.env, PD_UI_PORT: port },
+  env: { ...process.env, PD_UI_PORT: port, PD_UI_NO_ROUTE: flags.comm ? '1' : '0' },
   stdio: ['ignore', 'ignore', 'inherit']
 });
 const serverExit = new Promise(done => server.on('exit', done));
@@ -159,6 +165,15 @@ try {
   await output.waitFor();
   const kernel = JSON.parse(/BENCH (\{.*\})/.exec(await output.innerText())[1]);
 
+  // Long tasks of the main thread (over 50 ms, as Chromium reports them), from here on.
+  await page.evaluate(() => {
+    window.__pdLongTasks = [];
+    new PerformanceObserver(list => {
+      for (const entry of list.getEntries()) {
+        window.__pdLongTasks.push({ start: entry.startTime, duration: entry.duration });
+      }
+    }).observe({ type: 'longtask', buffered: false });
+  });
   const picker = panel.getByRole('combobox', { name: 'Dataframe', exact: true });
   await picker.locator('option[value="bench_frame"]').waitFor({ state: 'attached' });
   const last = `sensor_${String(columns - 1).padStart(2, '0')}`;
@@ -176,8 +191,10 @@ try {
           return box !== null && !box.disabled;
         };
         const progress = document.querySelector('progress.pd-Data-progress');
+        performance.clearMarks();
         return new Promise(resolve => {
           const start = performance.now();
+          const tasksBefore = window.__pdLongTasks.length;
           // The last piece's bytes are in when the load bar is full; polled, because a
           // progress element's value is a property that mutation observers do not see.
           let received = null;
@@ -190,7 +207,26 @@ try {
             if (ready()) {
               observer.disconnect();
               clearInterval(poll);
-              resolve({ total: performance.now() - start, received });
+              const end = performance.now();
+              // Let a task that is still running end and be reported, then keep those of the run.
+              setTimeout(() => {
+                const tasks = window.__pdLongTasks.slice(tasksBefore).filter(task => task.start < end);
+                // The bridge's marks (src/bridge/connector.ts): the last of each step, from the pick.
+                const steps = {};
+                for (const mark of performance.getEntriesByType('mark')) {
+                  if (mark.name.startsWith('polyadic:fetch:')) {
+                    steps[mark.name.slice('polyadic:fetch:'.length)] = mark.startTime - start;
+                  }
+                }
+                resolve({
+                  steps,
+                  total: end - start,
+                  received,
+                  longest: tasks.reduce((most, task) => Math.max(most, task.duration), 0),
+                  longSum: tasks.reduce((sum, task) => sum + task.duration, 0),
+                  longCount: tasks.length
+                });
+              }, 200);
             }
           });
           observer.observe(document.body, { childList: true, subtree: true, attributes: true, attributeFilter: ['disabled'] });
@@ -201,12 +237,25 @@ try {
     );
   }
   const mb = kernel.bytes / 1e6;
-  console.log(`handover of ${rows.toLocaleString('en-US')} rows × ${columns} float64 columns (${mb.toFixed(1)} MB IPC stream), medians of ${repeats}:`);
+  console.log(
+    `handover of ${rows.toLocaleString('en-US')} rows × ${columns} float64 columns (${mb.toFixed(1)} MB IPC stream), ` +
+      `${flags.comm ? 'over the comm (server extension off)' : "through the server's handover route"}, medians of ${repeats}:`
+  );
   console.log(`  pyarrow alone, writing the IPC stream in the kernel: ${kernel.pyarrow_write_ms.toFixed(1)} ms`);
   const totals = handover.map(run => run.total);
   const received = handover.map(run => run.received).filter(ms => ms !== null);
   console.log(`  kernel → decoded columns in the browser (panel pick → checklist ready): ${median(totals).toFixed(1)} ms`);
   console.log(`  each run (ms): ${totals.map(ms => ms.toFixed(1)).join(', ')}`);
+  console.log(
+    `  main-thread long tasks per run (over 50 ms): longest ${handover.map(run => run.longest.toFixed(0)).join(', ')} ms; ` +
+      `count ${handover.map(run => run.longCount).join(', ')}; total ${handover.map(run => run.longSum.toFixed(0)).join(', ')} ms`
+  );
+  for (const step of ['request', 'kernel-done', 'received', 'decoded']) {
+    const at = handover.map(run => run.steps[step]).filter(ms => ms !== undefined);
+    if (at.length > 0) {
+      console.log(`  step '${step}' reached at (ms after the pick): ${at.map(ms => ms.toFixed(0)).join(', ')}`);
+    }
+  }
   if (received.length > 0) {
     // The rest of each run is decoding plus the panel's distinct and missing counts per column.
     console.log(`  of which until the last byte arrived (load bar full): ${median(received).toFixed(1)} ms (${received.length} of ${repeats} runs seen)`);

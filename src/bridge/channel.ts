@@ -253,7 +253,7 @@ namespace Private {
     };
   } = {
     list: { progress: {}, final: { listing: true } },
-    fetch: { progress: { fetch_chunk: true }, final: { fetch_done: true } },
+    fetch: { progress: { fetch_chunk: true, fetch_file: true }, final: { fetch_done: true } },
     results_chunk: { progress: {}, final: { results_ack: true, results_stored: true } }
   };
 

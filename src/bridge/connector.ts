@@ -15,11 +15,13 @@ import { ISignal, Signal } from '@lumino/signaling';
 
 import type { IMultipletRow } from '../engine/types';
 import { BridgeConnection, IBridgeStatus, IListing } from './connection';
+import { rememberStats } from '../panel/data/stats';
 import { FetchAssembler, IFetchedFrame, IFetchProgress } from './decode';
-import { encodeMultiplets, splitBytes } from './encode';
+import { MultipletColumnsBuilder, splitBytes } from './encode';
 import { BridgeError, isBridgeError } from './errors';
 import type { IBridgeSession } from './kernel';
-import { IResultsAck, IResultsStored, RESULTS_CHUNK_MAX_BYTES } from './protocol';
+import { FetchDelivery, IFetchDone, IResultsAck, IResultsStored, RESULTS_CHUNK_MAX_BYTES } from './protocol';
+import { FrameCodec, IFetchTransport, IFrameStream } from './transport';
 import {
   badChunkBytes,
   badRowCap,
@@ -86,6 +88,7 @@ export class KernelBridge implements IDisposable {
   /** Connect to the session's kernel (if any) and follow the session's kernel changes. */
   constructor(options: KernelBridge.IOptions) {
     this._connection = new BridgeConnection({ sessionContext: options.sessionContext });
+    this._transport = options.transport ?? Private.inProcess();
     this._connection.statusChanged.connect((_, status) => this._statusChanged.emit(status), this);
     this._connection.framesChanged.connect((_, listing) => this._framesChanged.emit(listing), this);
     options.sessionContext.disposed.connect(this.dispose, this);
@@ -133,25 +136,16 @@ export class KernelBridge implements IDisposable {
     if (problem !== null) {
       throw problem;
     }
-    const channel = this._connection.readyChannel();
-    const assembler = new FetchAssembler(name);
-    const fetching = channel.request(
-      {
-        type: 'fetch',
-        name,
-        ...(columns !== undefined ? { columns: [...columns] } : {}),
-        ...(options.rowCap !== undefined ? { row_cap: options.rowCap } : {}),
-        ...(options.seed !== undefined ? { sample_seed: options.seed } : {})
-      },
-      {
-        label: fetchRequest(name),
-        progress: (chunk, buffers) => {
-          const progress = assembler.add(chunk, buffers[0]);
-          options.onProgress?.(progress);
-        },
-        final: done => assembler.finish(done)
+    const route = this._transport.route;
+    // The server's route, unless it failed this session before (a kernel on another machine).
+    const byFile = route !== null && this._fileWorks && (await route.available());
+    const fetching = this._fetchOnce(name, columns, options, byFile ? 'file' : 'comm').catch(error => {
+      if (byFile && error instanceof Private.FileFailed) {
+        this._fileWorks = false;
+        return this._fetchOnce(name, columns, options, 'comm');
       }
-    );
+      throw error;
+    });
     fetching.catch(error => {
       // The listing the user chose from is out of date; show the current one.
       if (isBridgeError(error) && error.reason === 'kernel' && error.detail.frame !== undefined && error.detail.column === undefined) {
@@ -159,6 +153,103 @@ export class KernelBridge implements IDisposable {
       }
     });
     return fetching;
+  }
+
+  /** One fetch request; with 'file', the bytes come from the server's route when the kernel wrote a file. */
+  private async _fetchOnce(
+    name: string,
+    columns: readonly string[] | undefined,
+    options: IFetchOptions,
+    delivery: FetchDelivery
+  ): Promise<IFetchedFrame> {
+    const channel = this._connection.readyChannel();
+    Private.mark('request');
+    const assembler = new FetchAssembler(name);
+    const codec = this._transport.codec;
+    let stream: IFrameStream | null = null;
+    let file: { token: string; total: number } | null = null;
+    let done: IFetchDone;
+    try {
+      done = await channel.request(
+        {
+          type: 'fetch',
+          name,
+          ...(columns !== undefined ? { columns: [...columns] } : {}),
+          ...(options.rowCap !== undefined ? { row_cap: options.rowCap } : {}),
+          ...(options.seed !== undefined ? { sample_seed: options.seed } : {}),
+          ...(delivery === 'file' ? { delivery } : {})
+        },
+        {
+          label: fetchRequest(name),
+          progress: (reply, buffers) => {
+            if (reply.type === 'fetch_file') {
+              file = { token: reply.token, total: reply.bytes_total };
+              return;
+            }
+            const { progress, piece } = assembler.accept(reply, buffers[0]);
+            stream ??= codec.open(progress.bytesTotal);
+            // JupyterLab may still hold the message: its bytes are copied, never moved.
+            stream.push(piece, false);
+            options.onProgress?.(progress);
+          },
+          final: reply => reply
+        }
+      );
+    } catch (error) {
+      (stream as IFrameStream | null)?.drop();
+      throw error;
+    }
+    Private.mark('kernel-done');
+    let decoded;
+    const announced = file as { token: string; total: number } | null;
+    if (announced !== null) {
+      decoded = await this._download(name, announced, done, options);
+    } else {
+      assembler.verify(done);
+      stream ??= codec.open(0);
+      decoded = await (stream as IFrameStream).decode(done, true);
+    }
+    Private.mark('decoded');
+    decoded.frame.columns.forEach((column, i) => rememberStats(column, decoded.stats[i]));
+    return decoded.frame;
+  }
+
+  /** Stream a handover file from the server into the codec; a failure of the route is a {@link Private.FileFailed}. */
+  private async _download(
+    name: string,
+    file: { token: string; total: number },
+    done: IFetchDone,
+    options: IFetchOptions
+  ) {
+    const route = this._transport.route;
+    const stream = this._transport.codec.open(file.total);
+    let received = 0;
+    try {
+      if (route === null) {
+        throw new BridgeError('connection', 'No server route to fetch the data from.');
+      }
+      await route.download(file.token, bytes => {
+        received += bytes.byteLength;
+        // The body's parts belong to this reader alone: moved to the worker, not copied.
+        stream.push(bytes, true);
+        options.onProgress?.({
+          frame: name,
+          piecesReceived: 0,
+          pieceCount: 1,
+          bytesReceived: Math.min(received, file.total),
+          bytesTotal: file.total
+        });
+      });
+    } catch (error) {
+      stream.drop();
+      throw new Private.FileFailed(error);
+    }
+    Private.mark('received');
+    if (received !== file.total || done.bytes_total !== file.total) {
+      stream.drop();
+      throw new Private.FileFailed(new BridgeError('connection', `${received} of ${file.total} bytes arrived.`));
+    }
+    return stream.decode(done, false);
   }
 
   /**
@@ -175,7 +266,19 @@ export class KernelBridge implements IDisposable {
     if (problem !== null) {
       throw problem;
     }
-    const bytes = encodeMultiplets(rows);
+    // Read in slices with a pause between them, so a table of many multiplets never holds the
+    // page; the Arrow encoding and its UTF-8 run in the frame worker.
+    const builder = new MultipletColumnsBuilder(rows.length);
+    while (builder.done < rows.length) {
+      const until = Date.now() + Private.SLICE_MS;
+      while (builder.done < rows.length && Date.now() < until) {
+        builder.add(rows, builder.done + Private.SLICE_ROWS);
+      }
+      if (builder.done < rows.length) {
+        await Private.pause();
+      }
+    }
+    const bytes = await this._transport.codec.encode(builder.finish());
     const chunks = splitBytes(bytes, options.chunkBytes ?? RESULTS_CHUNK_MAX_BYTES);
     let sent = 0;
     for (let index = 0; index < chunks.length; index++) {
@@ -243,6 +346,8 @@ export class KernelBridge implements IDisposable {
   }
 
   private _connection: BridgeConnection;
+  private _transport: IFetchTransport;
+  private _fileWorks = true;
   private _isDisposed = false;
   private _statusChanged = new Signal<this, IBridgeStatus>(this);
   private _framesChanged = new Signal<this, IListing | null>(this);
@@ -254,11 +359,47 @@ export namespace KernelBridge {
   export interface IOptions {
     /** The notebook's session context (JupyterLab's `ISessionContext` fits). */
     sessionContext: IBridgeSession;
+    /** How bytes move (the page's frame worker and server route); default in process, comm only. */
+    transport?: IFetchTransport;
   }
 }
 
 /** Module-private helpers. */
 namespace Private {
+  /** Rows read between two looks at the clock, and the longest slice of reading (ms). */
+  export const SLICE_ROWS = 2048;
+  export const SLICE_MS = 25;
+
+  /** Let the page handle input and paint before the next slice. */
+  export function pause(): Promise<void> {
+    return new Promise(resolve => setTimeout(resolve, 0));
+  }
+
+  /**
+   * A performance mark `polyadic:fetch:<step>` (request, kernel-done, received, decoded), so a
+   * profile or the handover benchmark (bench/bridge/browser.mjs) sees where a fetch's time goes.
+   */
+  export function mark(step: string): void {
+    if (typeof performance !== 'undefined' && typeof performance.mark === 'function') {
+      performance.mark(`polyadic:fetch:${step}`);
+    }
+  }
+
+  /** The handover route failed for this fetch: fetch again over the comm. */
+  export class FileFailed extends Error {
+    constructor(readonly cause: unknown) {
+      super(cause instanceof Error ? cause.message : String(cause));
+    }
+  }
+
+  let shared: IFetchTransport | null = null;
+
+  /** The transport of bridges made without one: decoding in process, the comm only. */
+  export function inProcess(): IFetchTransport {
+    shared ??= { codec: new FrameCodec(), route: null };
+    return shared;
+  }
+
   /** Check the arguments of a fetch; the error names the option at fault. */
   export function checkFetch(
     name: unknown,

@@ -161,18 +161,28 @@ export class FetchAssembler {
 
   /** Pieces received so far. */
   get piecesReceived(): number {
-    return this._pieces.length;
+    return this._accepted;
   }
 
   /** Take the next piece; returns the progress including it. */
   add(chunk: IFetchChunk, buffer: unknown): IFetchProgress {
+    const { progress, piece } = this.accept(chunk, buffer);
+    this._pieces.push(piece);
+    return progress;
+  }
+
+  /**
+   * Check the next piece and count it without keeping it (the caller passes its bytes on,
+   * to a decoding worker); returns the progress including it and the piece's bytes.
+   */
+  accept(chunk: IFetchChunk, buffer: unknown): { progress: IFetchProgress; piece: Uint8Array } {
     const index = Private.count(chunk.batch_index, 'batch_index');
     const count = Private.count(chunk.batch_count, 'batch_count');
     const total = Private.count(chunk.bytes_total, 'bytes_total');
-    if (index !== this._pieces.length) {
+    if (index !== this._accepted) {
       throw new BridgeError(
         'protocol',
-        `Piece ${index + 1} of '${this.frame}' arrived where piece ${this._pieces.length + 1} was expected; fetch again.`,
+        `Piece ${index + 1} of '${this.frame}' arrived where piece ${this._accepted + 1} was expected; fetch again.`,
         { frame: this.frame }
       );
     }
@@ -202,32 +212,41 @@ export class FetchAssembler {
         { frame: this.frame }
       );
     }
-    this._pieces.push(piece);
+    this._accepted++;
     return {
-      frame: this.frame,
-      piecesReceived: this._pieces.length,
-      pieceCount: count,
-      bytesReceived: this._received,
-      bytesTotal: total
+      progress: {
+        frame: this.frame,
+        piecesReceived: this._accepted,
+        pieceCount: count,
+        bytesReceived: this._received,
+        bytesTotal: total
+      },
+      piece
     };
   }
 
-  /** Decode the collected pieces once the kernel says the fetch is done. */
-  finish(done: IFetchDone): IFetchedFrame {
+  /** Check that every announced piece and byte came, once the kernel says the fetch is done. */
+  verify(done: IFetchDone): void {
     const count = Private.count(done.batch_count, 'batch_count');
     const total = Private.count(done.bytes_total, 'bytes_total');
-    if (count !== this._pieces.length || total !== this._received) {
+    if (count !== this._accepted || total !== this._received) {
       throw new BridgeError(
         'protocol',
-        `The fetch of '${this.frame}' ended after ${this._pieces.length} of ${count} pieces ` +
+        `The fetch of '${this.frame}' ended after ${this._accepted} of ${count} pieces ` +
           `(${this._received} of ${total} bytes); fetch again.`,
         { frame: this.frame }
       );
     }
+  }
+
+  /** Decode the collected pieces once the kernel says the fetch is done. */
+  finish(done: IFetchDone): IFetchedFrame {
+    this.verify(done);
     return fetchedFrame(decodePieces(this._pieces), done, this._received);
   }
 
   private _pieces: Uint8Array[] = [];
+  private _accepted = 0;
   private _received = 0;
   private _count: number | null = null;
   private _total: number | null = null;

@@ -19,6 +19,7 @@ import {
   IFetchChunk,
   IFetchDone,
   IFetchedColumn,
+  IFetchFile,
   IFrameInfo,
   IListedColumn,
   IListingMessage,
@@ -98,6 +99,15 @@ export const isFetchChunk: ICheck<IFetchChunk> = shape<IFetchChunk>({
   bytes_total: isCount
 });
 
+/** A `fetch_file` message: the token of the handover file that holds the stream. */
+export const isFetchFile: ICheck<IFetchFile> = shape<IFetchFile>({
+  type: literal('fetch_file'),
+  request_id: isString,
+  name: isString,
+  token: isString,
+  bytes_total: isCount
+});
+
 /** How a fetched column was encoded, in a `fetch_done` message. */
 export const isFetchedColumn: ICheck<IFetchedColumn> = shape<IFetchedColumn>({
   name: isString,
@@ -173,6 +183,7 @@ export const isErrorMessage: ICheck<IErrorMessage> = shape<IErrorMessage>({
 export const KERNEL_MESSAGE_CHECKS: { readonly [T in KernelMessage['type']]: ICheck<KernelMessageOf<T>> } = {
   listing: isListingMessage,
   fetch_chunk: isFetchChunk,
+  fetch_file: isFetchFile,
   fetch_done: isFetchDone,
   results_ack: isResultsAck,
   results_stored: isResultsStored,

@@ -104,6 +104,27 @@ export interface IFetchRequest {
   row_cap?: number;
   /** Seed of numpy's `default_rng` for the row sample; default 0. */
   sample_seed?: number;
+  /**
+   * How the stream travels: 'comm' (default) in {@link IFetchChunk} pieces; 'file' as a private
+   * handover file announced by one {@link IFetchFile}, which the server's route
+   * ({@link HANDOVER_ROUTE}) streams to the page. A kernel that cannot write one sends pieces.
+   */
+  delivery?: FetchDelivery;
+}
+
+/** How a fetched stream travels to the page. */
+export type FetchDelivery = 'comm' | 'file';
+
+/** Path of the Jupyter server's handover route under the base URL (polyadic/_server.py). */
+export const HANDOVER_ROUTE = 'polyadic/handover';
+
+/** Version of the handover route's replies that this front end reads. */
+export const HANDOVER_ROUTE_VERSION = 1;
+
+/** What `GET <base>/polyadic/handover` answers: whether the server can serve handover files. */
+export interface IHandoverRouteInfo {
+  version: number;
+  available: boolean;
 }
 
 /**
@@ -158,6 +179,21 @@ export interface IFetchChunk {
   /** Bytes sent so far, this piece included. */
   bytes_sent: number;
   /** Length of the whole stream. */
+  bytes_total: number;
+}
+
+/**
+ * The fetched stream waits in a handover file: `GET <base>/polyadic/handover/<token>` streams
+ * it once (then the file is gone). Sent instead of the {@link IFetchChunk} pieces, before the
+ * {@link IFetchDone}, whose `batch_count` is then 1 and `bytes_total` the file's length.
+ */
+export interface IFetchFile {
+  type: 'fetch_file';
+  request_id: string;
+  name: string;
+  /** The kernel's random token for the file (43 URL-safe characters). */
+  token: string;
+  /** Length of the file. */
   bytes_total: number;
 }
 
@@ -247,6 +283,7 @@ export interface IBridgeErrorDetail {
 export type KernelMessage =
   | IListingMessage
   | IFetchChunk
+  | IFetchFile
   | IFetchDone
   | IResultsAck
   | IResultsStored
@@ -261,6 +298,6 @@ export type KernelMessageOf<T extends KernelMessage['type']> = Extract<KernelMes
  */
 export interface IRequestReplies {
   list: { progress: never; final: 'listing' };
-  fetch: { progress: 'fetch_chunk'; final: 'fetch_done' };
+  fetch: { progress: 'fetch_chunk' | 'fetch_file'; final: 'fetch_done' };
   results_chunk: { progress: never; final: 'results_ack' | 'results_stored' };
 }

@@ -7,9 +7,15 @@ import type { IDisposable } from '@lumino/disposable';
 
 import { KernelBridge } from './connector';
 import type { IBridgeSession } from './kernel';
+import type { IFetchTransport } from './transport';
 
 /** Keeps the bridge of each session the panel has followed. */
 export class BridgeRegistry implements IDisposable {
+  /** Create an empty registry; its bridges move bytes through `transport` (default in process). */
+  constructor(options: { transport?: IFetchTransport } = {}) {
+    this._transport = options.transport;
+  }
+
   /** The bridge of a session, created (and connected) on first use. */
   bridgeFor(sessionContext: IBridgeSession): KernelBridge {
     if (this._isDisposed) {
@@ -17,7 +23,7 @@ export class BridgeRegistry implements IDisposable {
     }
     let bridge = this._bridges.get(sessionContext);
     if (bridge === undefined || bridge.isDisposed) {
-      bridge = new KernelBridge({ sessionContext });
+      bridge = new KernelBridge({ sessionContext, transport: this._transport });
       this._bridges.set(sessionContext, bridge);
       sessionContext.disposed.connect(this._forget, this);
     }
@@ -57,6 +63,7 @@ export class BridgeRegistry implements IDisposable {
     (session as IBridgeSession).disposed.disconnect(this._forget, this);
   }
 
+  private _transport: IFetchTransport | undefined;
   private _bridges = new Map<IBridgeSession, KernelBridge>();
   private _isDisposed = false;
 }

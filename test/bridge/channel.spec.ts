@@ -76,7 +76,7 @@ describe('RequestChannel', () => {
       const seen: [number, unknown][] = [];
       const done = await channel.request(
         { type: 'fetch', name: 'df' },
-        { label: LABEL, progress: (chunk, buffers) => seen.push([chunk.batch_index, buffers[0]]), final: reply => reply }
+        { label: LABEL, progress: (chunk, buffers) => seen.push([chunk.type === 'fetch_chunk' ? chunk.batch_index : -1, buffers[0]]), final: reply => reply }
       );
       expect(seen).toEqual([
         [0, piece],
@@ -116,7 +116,7 @@ describe('RequestChannel', () => {
       answerWith(kernel, { type: 'results_ack', analysis_id: 'a', chunks_received: 1, chunk_count: 2 });
       const error = await failure(channel.request({ type: 'fetch', name: 'df' }, { label: LABEL, final: () => 0 }));
       expect(error.reason).toBe('protocol');
-      expect(error.message).toMatch(/^The kernel replied 'results_ack' where fetch_chunk or fetch_done was expected/);
+      expect(error.message).toMatch(/^The kernel replied 'results_ack' where fetch_chunk or fetch_file or fetch_done was expected/);
     });
 
     it("should reject an error reply with the kernel's message and detail, and refuse one of the wrong shape", async () => {

@@ -29,7 +29,7 @@ import { runPython, tempFolder } from './helpers';
  * as it sends them, JSON-encoded as the comm would (buffers left out).
  */
 const KERNEL_MESSAGES = `
-import json, sys
+import json, os, sys, tempfile
 import numpy as np, pandas as pd
 from polyadic.bridge import KernelBridge
 from polyadic._results import ResultStore
@@ -61,6 +61,9 @@ bridge.open_comm(comm)
 bridge.handle_message(comm, {"content": {"data": {"type": "list", "request_id": "r1"}}})
 bridge.handle_message(comm, {"content": {"data": {"type": "fetch", "request_id": "r2", "name": "greenhouse"}}})
 bridge.handle_message(comm, {"content": {"data": {"type": "fetch", "request_id": "r3", "name": "gone"}}})
+# The handover file goes to a private runtime folder of its own, removed at exit.
+os.environ["JUPYTER_RUNTIME_DIR"] = tempfile.mkdtemp()
+bridge.handle_message(comm, {"content": {"data": {"type": "fetch", "request_id": "r3f", "name": "greenhouse", "delivery": "file"}}})
 chunks = [open(name, "rb").read() for name in sys.argv[1:]]
 for index, chunk in enumerate(chunks):
     bridge.handle_message(comm, {

@@ -49,6 +49,14 @@ for (const name of ['greenhouse.ipynb', 'generate.py']) {
 for (const dir of ['config', 'data', 'runtime', 'ipython', 'settings', 'workspaces']) {
   mkdirSync(path.join(home, dir), { recursive: true });
 }
+// PD_UI_NO_ROUTE=1 (bench/bridge/browser.mjs --comm) turns the polyadic server extension off,
+// as on a server where it is not installed: fetches then travel over the comm alone.
+if (process.env.PD_UI_NO_ROUTE === '1') {
+  writeFileSync(
+    path.join(home, 'config', 'jupyter_server_config.json'),
+    JSON.stringify({ ServerApp: { jpserver_extensions: { polyadic: false } } })
+  );
+}
 // Answer JupyterLab's news and update questions in advance: no toast over the panel in the
 // screenshots, and no request to the internet.
 const notificationSettings = path.join(home, 'settings', '@jupyterlab', 'apputils-extension');

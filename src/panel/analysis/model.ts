@@ -317,7 +317,11 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
       this._latest = completed;
       this._setRun({ state: 'done', progress: null, error: null });
       this._resultChanged.emit(completed);
+      // The results view, the record and the upload each take their own task, so the page
+      // paints and answers input between them instead of in one long freeze.
+      await Private.yieldToPage();
       this._runCompleted.emit(completed);
+      await Private.yieldToPage();
       void this._sendToKernel(completed);
     } catch (error) {
       if (ticket !== this._ticket) {
@@ -492,3 +496,11 @@ export namespace AnalysisModel {
 
 /** Progress type re-exported for the run view. */
 export type { IRunProgress };
+
+/** Module-private helpers. */
+namespace Private {
+  /** Let the page handle input and paint before the next piece of work. */
+  export function yieldToPage(): Promise<void> {
+    return new Promise(resolve => setTimeout(resolve, 0));
+  }
+}

@@ -9,6 +9,7 @@ import { IMessageHandler, Message, MessageLoop } from '@lumino/messaging';
 import type { Widget } from '@lumino/widgets';
 
 import { BridgeRegistry } from '../../bridge/registry';
+import type { IFetchTransport } from '../../bridge/transport';
 import type { DefaultsModel } from '../defaults/model';
 import type { AnalysisModel } from './model';
 
@@ -18,8 +19,10 @@ export function followAnalysis(options: {
   notebooks: INotebookTracker | null;
   defaults: DefaultsModel;
   analysis: AnalysisModel;
+  /** How the bridges move bytes (the page's frame worker and server route); default in process. */
+  transport?: IFetchTransport;
 }): IDisposable {
-  return new Private.AnalysisFollower(options.panel, options.notebooks, options.defaults, options.analysis);
+  return new Private.AnalysisFollower(options.panel, options.notebooks, options.defaults, options.analysis, options.transport);
 }
 
 namespace Private {
@@ -29,8 +32,10 @@ namespace Private {
       private readonly _panel: Widget,
       private readonly _notebooks: INotebookTracker | null,
       private readonly _defaults: DefaultsModel,
-      private readonly _analysis: AnalysisModel
+      private readonly _analysis: AnalysisModel,
+      private readonly _transport?: IFetchTransport
     ) {
+      this._bridges = new BridgeRegistry({ transport: _transport });
       _defaults.changed.connect(this._onSettings, this);
       this._onSettings();
       if (_panel.isVisible) {
@@ -54,6 +59,7 @@ namespace Private {
       this._notebooks?.currentChanged.disconnect(this._follow, this);
       this._analysis.data.bridge = null;
       this._bridges.dispose();
+      this._transport?.codec.dispose();
     }
 
     private _hook = (_: IMessageHandler, msg: Message): boolean => {
@@ -88,7 +94,7 @@ namespace Private {
       }
     }
 
-    private _bridges = new BridgeRegistry();
+    private _bridges: BridgeRegistry;
     private _started = false;
     private _isDisposed = false;
   }

@@ -45,8 +45,20 @@ export const WARNING_TEXT: Record<ColumnWarning, string> = {
   'high-cardinality': `high cardinality: more than ${HIGH_CARDINALITY} categories`
 };
 
+/**
+ * Keep facts computed elsewhere (the bridge's frame worker counts beside decoding) for the
+ * view they describe, so {@link columnStats} of that view returns them without counting again.
+ */
+export function rememberStats(column: ColumnView, stats: IColumnStats): void {
+  Private.known.set(column, stats);
+}
+
 /** Count the missing and distinct values of a column and derive its warnings. */
 export function columnStats(column: ColumnView): IColumnStats {
+  const known = Private.known.get(column);
+  if (known !== undefined) {
+    return known;
+  }
   const counted = column.kind === 'categorical' ? Private.categorical(column.codes, column.missing) : Private.numeric(column.values, column.missing);
   const rows = column.kind === 'categorical' ? column.codes.length : column.values.length;
   const present = rows - counted.missing;
@@ -68,6 +80,9 @@ export function columnStats(column: ColumnView): IColumnStats {
 }
 
 namespace Private {
+  /** Facts of views, by view (weakly: a view dropped takes its facts along). */
+  export const known = new WeakMap<ColumnView, IColumnStats>();
+
   /** Counts of one column. */
   export interface ICounts {
     missing: number;
@@ -88,7 +103,12 @@ namespace Private {
     return { missing, distinct: seen.size };
   }
 
-  /** Distinct values of a numeric column: sort the present values once and count the changes. */
+  /**
+   * Distinct values of a numeric column: the present values go into an open-addressing hash
+   * set keyed by their IEEE-754 bits (−0 as +0, so values are distinct exactly when `!==`
+   * tells them apart), one pass and no sort, which keeps a column of a million rows in tens
+   * of milliseconds.
+   */
   export function numeric(values: NumericArray, mask: Uint8Array | null): ICounts {
     const present = new Float64Array(values.length);
     let count = 0;
@@ -98,17 +118,49 @@ namespace Private {
       if (Number.isNaN(x) || (mask !== null && mask[i] === 1)) {
         missing++;
       } else {
-        present[count++] = x;
+        // −0 and +0 are one value; writing 0 for both gives them one bit pattern
+        present[count++] = x === 0 ? 0 : x;
       }
     }
-    const sorted = present.subarray(0, count).sort();
-    let distinct = count > 0 ? 1 : 0;
-    for (let i = 1; i < count; i++) {
-      if (sorted[i] !== sorted[i - 1]) {
-        distinct++;
+    return { missing, distinct: distinctBits(new Uint32Array(present.buffer, 0, count * 2), count) };
+  }
+
+  /** How many distinct 64-bit patterns the first `count` (low, high) word pairs of `words` hold. */
+  export function distinctBits(words: Uint32Array, count: number): number {
+    if (count === 0) {
+      return 0;
+    }
+    let bits = 4;
+    while (1 << bits < count * 2) {
+      bits++;
+    }
+    const size = 1 << bits;
+    const slotMask = size - 1;
+    const shift = 32 - bits;
+    const low = new Uint32Array(size);
+    const high = new Uint32Array(size);
+    const used = new Uint8Array(size);
+    let distinct = 0;
+    for (let i = 0; i < count; i++) {
+      const lo = words[2 * i];
+      const hi = words[2 * i + 1];
+      // multiplicative hashing (Knuth, TAOCP vol. 3, §6.4) of the two words mixed
+      let slot = Math.imul(lo ^ Math.imul(hi, 0x9e3779b1), 0x85ebca6b) >>> shift;
+      for (;;) {
+        if (used[slot] === 0) {
+          used[slot] = 1;
+          low[slot] = lo;
+          high[slot] = hi;
+          distinct++;
+          break;
+        }
+        if (low[slot] === lo && high[slot] === hi) {
+          break;
+        }
+        slot = (slot + 1) & slotMask;
       }
     }
-    return { missing, distinct };
+    return distinct;
   }
 
   /** Whether a numeric column holds whole numbers by type (integers, timestamps as counts). */
