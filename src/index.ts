@@ -140,7 +140,8 @@ const panelPlugin: JupyterFrontEndPlugin<IPolyadicPanel> = {
       notebooks,
       defaults: model.defaults,
       analysis: model.analysis,
-      transport: createFetchTransport()
+      transport: createFetchTransport(),
+      translator: translator ?? undefined
     });
     panel.disposed.connect(() => analysisFollower.dispose());
 

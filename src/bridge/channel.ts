@@ -17,17 +17,7 @@ import { BridgeError } from './errors';
 import { readKernelMessage } from './guards';
 import type { IBridgeComm } from './kernel';
 import type { FrontEndRequest, IListingMessage, IRequestReplies, KernelMessageOf } from './protocol';
-import {
-  commClosed,
-  errorOutsideRequest,
-  Interruption,
-  INTERRUPTED,
-  IRequestLabel,
-  REFUSED_WITHOUT_REASON,
-  sendFailed,
-  unexpectedReply,
-  UNTYPED_MESSAGE
-} from './texts';
+import { BRIDGE_TEXTS, BridgeTexts, Interruption, IRequestLabel } from './texts';
 import { errorMessage } from '../engine/errors';
 
 /** The type of a request the front end sends. */
@@ -50,6 +40,7 @@ export class RequestChannel {
   /** Take over a comm's messages (`onMsg`); the comm's opening and closing stay with the caller. */
   constructor(options: RequestChannel.IOptions) {
     this._comm = options.comm;
+    this._texts = options.texts ?? BRIDGE_TEXTS;
     this._onListing = options.onListing;
     this._onProtocolError = options.onProtocolError;
     this._comm.onMsg = msg => this._onMessage(msg);
@@ -92,7 +83,7 @@ export class RequestChannel {
         }
         throw new BridgeError(
           'protocol',
-          unexpectedReply(String(replyType), [...Object.keys(expected.progress), ...Object.keys(expected.final)])
+          this._texts.unexpectedReply(String(replyType), [...Object.keys(expected.progress), ...Object.keys(expected.final)])
         );
       };
       this._send({ ...body, request_id: this._nextId() }, options.buffers ?? [], {
@@ -112,7 +103,7 @@ export class RequestChannel {
     const pending = [...this._pending.values()];
     this._pending.clear();
     for (const request of pending) {
-      request.reject(new BridgeError(reason, INTERRUPTED[reason](request.label)));
+      request.reject(new BridgeError(reason, this._texts.INTERRUPTED[reason](request.label)));
     }
   }
 
@@ -127,8 +118,8 @@ export class RequestChannel {
       this._pending.delete(id);
       pending.reject(
         this._comm.isDisposed
-          ? new BridgeError('closed', commClosed(pending.label))
-          : new BridgeError('connection', sendFailed(pending.label, Private.errorText(error)))
+          ? new BridgeError('closed', this._texts.commClosed(pending.label))
+          : new BridgeError('connection', this._texts.sendFailed(pending.label, Private.errorText(error)))
       );
       return;
     }
@@ -139,7 +130,7 @@ export class RequestChannel {
       }
       this._pending.delete(id);
       const reason = cancelled ? 'restart' : 'unanswered';
-      still.reject(new BridgeError(reason, INTERRUPTED[reason](still.label)));
+      still.reject(new BridgeError(reason, this._texts.INTERRUPTED[reason](still.label)));
     };
     future.done.then(
       () => settle(false),
@@ -153,7 +144,7 @@ export class RequestChannel {
     }
     const data = msg.content.data;
     if (typeof data !== 'object' || data === null || typeof data.type !== 'string') {
-      console.warn(UNTYPED_MESSAGE);
+      console.warn(this._texts.UNTYPED_MESSAGE);
       return;
     }
     const id = data.request_id;
@@ -170,7 +161,7 @@ export class RequestChannel {
       if (data.type === 'error') {
         this._pending.delete(id);
         const refusal = readKernelMessage('error', data);
-        pending.reject(new BridgeError('kernel', refusal.message || REFUSED_WITHOUT_REASON, { ...refusal.detail }));
+        pending.reject(new BridgeError('kernel', refusal.message || this._texts.REFUSED_WITHOUT_REASON, { ...refusal.detail }));
         return;
       }
       if (pending.read(data, msg.buffers ?? [])) {
@@ -196,8 +187,8 @@ export class RequestChannel {
       return;
     }
     if (data.type === 'error') {
-      const message = typeof data.message === 'string' && data.message ? data.message : REFUSED_WITHOUT_REASON;
-      console.warn(errorOutsideRequest(message));
+      const message = typeof data.message === 'string' && data.message ? data.message : this._texts.REFUSED_WITHOUT_REASON;
+      console.warn(this._texts.errorOutsideRequest(message));
     }
   }
 
@@ -206,6 +197,7 @@ export class RequestChannel {
     return `${this._idPrefix}-${this._counter}`;
   }
 
+  private readonly _texts: BridgeTexts;
   private _comm: IBridgeComm;
   private _onListing: (listing: IListingMessage) => void;
   private _onProtocolError: (error: BridgeError) => void;
@@ -221,6 +213,8 @@ export namespace RequestChannel {
   export interface IOptions {
     /** The open comm; the channel sets its `onMsg`. */
     comm: IBridgeComm;
+    /** The texts of its failures (default: as written). */
+    texts?: BridgeTexts;
     /** Called with every listing the kernel pushes (checked). */
     onListing(listing: IListingMessage): void;
     /** Called when a pushed listing does not follow the protocol. */

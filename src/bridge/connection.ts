@@ -17,26 +17,7 @@ import { isRecord } from './check';
 import { BridgeError } from './errors';
 import type { IBridgeKernel, IBridgeSession } from './kernel';
 import { COMM_TARGET, IFrameInfo, IListingMessage, ISkippedFrame } from './protocol';
-import {
-  CLOSED_AGAIN,
-  connectFailed,
-  DEAD,
-  IMPORT_NOT_RUN,
-  IMPORT_UNREPORTED,
-  importFailed,
-  Interruption,
-  missingPackage,
-  NO_KERNEL,
-  NO_LONGER_CONNECTED,
-  notPython,
-  PIP_COMMANDS,
-  ready,
-  RECONNECTING,
-  REFUSED,
-  RESTARTING,
-  STARTING,
-  STILL_CONNECTING
-} from './texts';
+import { BRIDGE_TEXTS, BridgeTexts, Interruption, PIP_COMMANDS } from './texts';
 import { errorMessage } from '../engine/errors';
 
 /** Where the bridge stands with the notebook's kernel. */
@@ -70,6 +51,8 @@ export class BridgeConnection implements IDisposable {
   /** Connect to the session's kernel (if any) and follow the session's kernel changes. */
   constructor(options: BridgeConnection.IOptions) {
     this._session = options.sessionContext;
+    this._texts = options.texts ?? BRIDGE_TEXTS;
+    this._status = { state: 'no-kernel', message: this._texts.NO_KERNEL, commands: [], language: null, kernelVersion: null };
     this._session.kernelChanged.connect(this._onKernelChanged, this);
     this._session.statusChanged.connect(this._onStatusChanged, this);
     this._session.connectionStatusChanged.connect(this._onConnectionStatusChanged, this);
@@ -104,11 +87,11 @@ export class BridgeConnection implements IDisposable {
   /** The request channel when ready; otherwise throws a 'disposed' or 'state' {@link BridgeError}. */
   readyChannel(): RequestChannel {
     if (this._isDisposed) {
-      throw new BridgeError('disposed', NO_LONGER_CONNECTED);
+      throw new BridgeError('disposed', this._texts.NO_LONGER_CONNECTED);
     }
     if (this._status.state !== 'ready' || this._channel === null) {
       const message =
-        this._status.state === 'starting' || this._status.state === 'ready' ? STILL_CONNECTING : this._status.message;
+        this._status.state === 'starting' || this._status.state === 'ready' ? this._texts.STILL_CONNECTING : this._status.message;
       throw new BridgeError('state', message);
     }
     return this._channel;
@@ -119,7 +102,7 @@ export class BridgeConnection implements IDisposable {
     const listing: IListing = { frames: message.frames, skipped: message.skipped, version: message.version };
     if (this._status.state === 'starting') {
       this._kernelVersion = listing.version;
-      this._setStatus('ready', ready(listing.version));
+      this._setStatus('ready', this._texts.ready(listing.version));
     }
     this._listing = listing;
     this._framesChanged.emit(listing);
@@ -153,10 +136,10 @@ export class BridgeConnection implements IDisposable {
     const kernel = this._session.isDisposed ? null : this._session.session?.kernel ?? null;
     this._kernel = kernel;
     if (kernel === null || kernel.isDisposed) {
-      this._setStatus('no-kernel', NO_KERNEL);
+      this._setStatus('no-kernel', this._texts.NO_KERNEL);
       return;
     }
-    this._setStatus('starting', STARTING);
+    this._setStatus('starting', this._texts.STARTING);
     const stale = (): boolean => this._isDisposed || generation !== this._generation;
     try {
       const info = await kernel.info;
@@ -166,14 +149,14 @@ export class BridgeConnection implements IDisposable {
       const language = info.language_info?.name ?? '';
       this._language = language || null;
       if (language.toLowerCase() !== 'python') {
-        this._setStatus('not-python', notPython(language));
+        this._setStatus('not-python', this._texts.notPython(language));
         return;
       }
       const reply = await kernel.requestExecute(Private.importRequest(), true).done;
       if (stale()) {
         return;
       }
-      const imported = Private.importOutcome(reply.content);
+      const imported = Private.importOutcome(reply.content, this._texts);
       if (imported.state !== 'ready') {
         this._setStatus(imported.state, imported.message, imported.commands);
         return;
@@ -182,6 +165,7 @@ export class BridgeConnection implements IDisposable {
       const comm = kernel.createComm(COMM_TARGET);
       const channel = new RequestChannel({
         comm,
+        texts: this._texts,
         onListing: listing => this.takeListing(listing),
         onProtocolError: error => this._teardown('protocol', ['error', error.message])
       });
@@ -200,14 +184,14 @@ export class BridgeConnection implements IDisposable {
       if (stale()) {
         return;
       }
-      this._setStatus('error', connectFailed(Private.errorText(error)));
+      this._setStatus('error', this._texts.connectFailed(Private.errorText(error)));
     }
   }
 
   /** The kernel closed or ignored the comm while it was opening. */
   private _refused(channel: RequestChannel): void {
     this._forget(channel, 'closed');
-    this._setStatus('error', REFUSED);
+    this._setStatus('error', this._texts.REFUSED);
   }
 
   /**
@@ -265,10 +249,10 @@ export class BridgeConnection implements IDisposable {
       return;
     }
     if (status === 'restarting' || status === 'autorestarting') {
-      this._teardown('restart', ['starting', RESTARTING]);
+      this._teardown('restart', ['starting', this._texts.RESTARTING]);
       this._reconnectWanted = true;
     } else if (status === 'dead') {
-      this._teardown('restart', ['error', DEAD]);
+      this._teardown('restart', ['error', this._texts.DEAD]);
       this._reconnectWanted = false;
     } else if ((status === 'idle' || status === 'busy') && this._reconnectWanted) {
       void this._connect();
@@ -284,7 +268,7 @@ export class BridgeConnection implements IDisposable {
       const inUse = this._channel !== null;
       if (inUse || this._status.state === 'starting') {
         // While still starting (or restarting), keep the message the user already sees.
-        this._teardown('connection', inUse ? ['starting', RECONNECTING] : null);
+        this._teardown('connection', inUse ? ['starting', this._texts.RECONNECTING] : null);
         this._reconnectWanted = true;
       }
     } else if (status === 'connected' && this._reconnectWanted) {
@@ -304,7 +288,7 @@ export class BridgeConnection implements IDisposable {
     const now = Date.now();
     const again = now - this._lastKernelClose < Private.CLOSE_LOOP_MS;
     this._lastKernelClose = now;
-    this._teardown('closed', again ? ['error', CLOSED_AGAIN] : null);
+    this._teardown('closed', again ? ['error', this._texts.CLOSED_AGAIN] : null);
     if (!again) {
       void this._connect();
     }
@@ -335,6 +319,7 @@ export class BridgeConnection implements IDisposable {
   private _session: IBridgeSession;
   private _kernel: IBridgeKernel | null = null;
   private _channel: RequestChannel | null = null;
+  private readonly _texts: BridgeTexts;
   private _generation = 0;
   private _reconnectWanted = false;
   private _lastKernelClose = -Infinity;
@@ -342,13 +327,7 @@ export class BridgeConnection implements IDisposable {
   private _kernelVersion: string | null = null;
   private _listing: IListing | null = null;
   private _isDisposed = false;
-  private _status: IBridgeStatus = {
-    state: 'no-kernel',
-    message: NO_KERNEL,
-    commands: [],
-    language: null,
-    kernelVersion: null
-  };
+  private _status: IBridgeStatus;
   private _statusChanged = new Signal<this, IBridgeStatus>(this);
   private _framesChanged = new Signal<this, IListing | null>(this);
 }
@@ -359,6 +338,8 @@ export namespace BridgeConnection {
   export interface IOptions {
     /** The notebook's session context (JupyterLab's `ISessionContext` fits). */
     sessionContext: IBridgeSession;
+    /** The texts of the states and failures (default: as written). */
+    texts?: BridgeTexts;
   }
 }
 
@@ -388,16 +369,17 @@ namespace Private {
 
   /** What the import reply says: ready with a version, or the state and message to show. */
   export function importOutcome(
-    content: KernelMessage.IExecuteReplyMsg['content']
+    content: KernelMessage.IExecuteReplyMsg['content'],
+    texts: BridgeTexts
   ):
     | { state: 'ready'; version: string }
     | { state: 'missing-package' | 'error'; message: string; commands: string[] } {
     if (content.status !== 'ok') {
-      return { state: 'error', message: IMPORT_NOT_RUN, commands: [] };
+      return { state: 'error', message: texts.IMPORT_NOT_RUN, commands: [] };
     }
     const outcome = (content.user_expressions ?? {})['polyadic'];
     if (!isRecord(outcome)) {
-      return { state: 'error', message: IMPORT_UNREPORTED, commands: [] };
+      return { state: 'error', message: texts.IMPORT_UNREPORTED, commands: [] };
     }
     if (outcome.status === 'ok') {
       const data = isRecord(outcome.data) ? outcome.data : {};
@@ -410,11 +392,11 @@ namespace Private {
       const itself = /No module named '?polyadic'?$/.test(evalue);
       return {
         state: 'missing-package',
-        message: missingPackage(itself ? '' : ` (${ename}: ${evalue})`),
+        message: texts.missingPackage(itself ? '' : ` (${ename}: ${evalue})`),
         commands: [...PIP_COMMANDS]
       };
     }
-    return { state: 'error', message: importFailed(ename, evalue), commands: [] };
+    return { state: 'error', message: texts.importFailed(ename, evalue), commands: [] };
   }
 
   /** The text of a thrown value. */

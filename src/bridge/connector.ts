@@ -22,23 +22,8 @@ import { BridgeError, isBridgeError } from './errors';
 import type { IBridgeSession } from './kernel';
 import { FetchDelivery, IFetchDone, IResultsAck, IResultsStored, RESULTS_CHUNK_MAX_BYTES } from './protocol';
 import { FrameCodec, IFetchTransport, IFrameStream } from './transport';
-import {
-  badChunkBytes,
-  badRowCap,
-  badSeed,
-  BAD_ANALYSIS_ID,
-  COLUMNS_NOT_NAMES,
-  EMPTY_FRAME_NAME,
-  fetchRequest,
-  LISTING_REQUEST,
-  META_NOT_OBJECT,
-  noChunkSent,
-  noColumns,
-  notStored,
-  resultsRequest,
-  storedEarly,
-  storedOtherRows
-} from './texts';
+import { BridgeTexts } from './texts';
+import { translationBundle, type ITranslator } from '../translation';
 
 export type { BridgeState, IBridgeStatus, IListing } from './connection';
 
@@ -87,7 +72,8 @@ export interface IResultsReceipt {
 export class KernelBridge implements IDisposable {
   /** Connect to the session's kernel (if any) and follow the session's kernel changes. */
   constructor(options: KernelBridge.IOptions) {
-    this._connection = new BridgeConnection({ sessionContext: options.sessionContext });
+    this._texts = new BridgeTexts(translationBundle(options.translator));
+    this._connection = new BridgeConnection({ sessionContext: options.sessionContext, texts: this._texts });
     this._transport = options.transport ?? Private.inProcess();
     this._connection.statusChanged.connect((_, status) => this._statusChanged.emit(status), this);
     this._connection.framesChanged.connect((_, listing) => this._framesChanged.emit(listing), this);
@@ -123,7 +109,7 @@ export class KernelBridge implements IDisposable {
   async refresh(): Promise<IListing> {
     return this._connection.readyChannel().request(
       { type: 'list' },
-      { label: LISTING_REQUEST, final: listing => this._connection.takeListing(listing) }
+      { label: this._texts.LISTING_REQUEST, final: listing => this._connection.takeListing(listing) }
     );
   }
 
@@ -132,7 +118,7 @@ export class KernelBridge implements IDisposable {
    * views and what the panel and the record state: rows, sample, seed, time units.
    */
   async fetch(name: string, columns?: readonly string[], options: IFetchOptions = {}): Promise<IFetchedFrame> {
-    const problem = Private.checkFetch(name, columns, options);
+    const problem = Private.checkFetch(name, columns, options, this._texts);
     if (problem !== null) {
       throw problem;
     }
@@ -180,7 +166,7 @@ export class KernelBridge implements IDisposable {
           ...(delivery === 'file' ? { delivery } : {})
         },
         {
-          label: fetchRequest(name),
+          label: this._texts.fetchRequest(name),
           progress: (reply, buffers) => {
             if (reply.type === 'fetch_file') {
               file = { token: reply.token, total: reply.bytes_total };
@@ -262,7 +248,7 @@ export class KernelBridge implements IDisposable {
     rows: readonly IMultipletRow[],
     options: ISendResultsOptions = {}
   ): Promise<IResultsReceipt> {
-    const problem = Private.checkResults(analysisId, options);
+    const problem = Private.checkResults(analysisId, options, this._texts);
     if (problem !== null) {
       throw problem;
     }
@@ -294,19 +280,19 @@ export class KernelBridge implements IDisposable {
       const last = index === chunks.length - 1;
       if (reply.type === 'results_stored') {
         if (!last) {
-          throw new BridgeError('protocol', storedEarly(analysisId, index + 1, chunks.length), { option: 'analysisId' });
+          throw new BridgeError('protocol', this._texts.storedEarly(analysisId, index + 1, chunks.length), { option: 'analysisId' });
         }
         if (reply.rows !== rows.length) {
-          throw new BridgeError('protocol', storedOtherRows(analysisId, reply.rows, rows.length), { option: 'analysisId' });
+          throw new BridgeError('protocol', this._texts.storedOtherRows(analysisId, reply.rows, rows.length), { option: 'analysisId' });
         }
         return { analysisId, rows: reply.rows, chunks: chunks.length, bytes: bytes.byteLength };
       }
       if (last) {
-        throw new BridgeError('protocol', notStored(analysisId), { option: 'analysisId' });
+        throw new BridgeError('protocol', this._texts.notStored(analysisId), { option: 'analysisId' });
       }
     }
     // splitBytes always returns at least one chunk, so the loop has returned or thrown.
-    throw new BridgeError('protocol', noChunkSent(analysisId));
+    throw new BridgeError('protocol', this._texts.noChunkSent(analysisId));
   }
 
   /** Start over with the current kernel: re-import `polyadic` and re-open the comm (after `pip install`). */
@@ -341,10 +327,11 @@ export class KernelBridge implements IDisposable {
         chunk_count: count,
         ...(meta !== undefined && index === 0 ? { meta } : {})
       },
-      { label: resultsRequest(analysisId), buffers: [Private.ownBuffer(chunk)], final: reply => reply }
+      { label: this._texts.resultsRequest(analysisId), buffers: [Private.ownBuffer(chunk)], final: reply => reply }
     );
   }
 
+  private readonly _texts: BridgeTexts;
   private _connection: BridgeConnection;
   private _transport: IFetchTransport;
   private _fileWorks = true;
@@ -361,6 +348,8 @@ export namespace KernelBridge {
     sessionContext: IBridgeSession;
     /** How bytes move (the page's frame worker and server route); default in process, comm only. */
     transport?: IFetchTransport;
+    /** Translates what the bridge tells the user (default: as written). */
+    translator?: ITranslator;
   }
 }
 
@@ -404,43 +393,44 @@ namespace Private {
   export function checkFetch(
     name: unknown,
     columns: readonly unknown[] | undefined,
-    options: IFetchOptions
+    options: IFetchOptions,
+    texts: BridgeTexts
   ): BridgeError | null {
     if (typeof name !== 'string' || name === '') {
-      return usage(EMPTY_FRAME_NAME, 'name');
+      return usage(texts.EMPTY_FRAME_NAME, 'name');
     }
     if (columns !== undefined) {
       if (!Array.isArray(columns) || columns.some(column => typeof column !== 'string')) {
-        return usage(COLUMNS_NOT_NAMES, 'columns');
+        return usage(texts.COLUMNS_NOT_NAMES, 'columns');
       }
       if (columns.length === 0) {
-        return usage(noColumns(name), 'columns');
+        return usage(texts.noColumns(name), 'columns');
       }
     }
     const { rowCap, seed } = options;
     if (rowCap !== undefined && (!Number.isSafeInteger(rowCap) || rowCap < 1)) {
-      return usage(badRowCap(rowCap), 'rowCap');
+      return usage(texts.badRowCap(rowCap), 'rowCap');
     }
     if (seed !== undefined && (!Number.isSafeInteger(seed) || seed < 0)) {
-      return usage(badSeed(seed), 'seed');
+      return usage(texts.badSeed(seed), 'seed');
     }
     return null;
   }
 
   /** Check the arguments of sendResults; the error names the option at fault. */
-  export function checkResults(analysisId: unknown, options: ISendResultsOptions): BridgeError | null {
+  export function checkResults(analysisId: unknown, options: ISendResultsOptions, texts: BridgeTexts): BridgeError | null {
     if (typeof analysisId !== 'string' || analysisId === '' || analysisId.length > 200) {
-      return usage(BAD_ANALYSIS_ID, 'analysisId');
+      return usage(texts.BAD_ANALYSIS_ID, 'analysisId');
     }
     const { chunkBytes, meta } = options;
     if (
       chunkBytes !== undefined &&
       (!Number.isSafeInteger(chunkBytes) || chunkBytes < 1 || chunkBytes > RESULTS_CHUNK_MAX_BYTES)
     ) {
-      return usage(badChunkBytes(chunkBytes, RESULTS_CHUNK_MAX_BYTES), 'chunkBytes');
+      return usage(texts.badChunkBytes(chunkBytes, RESULTS_CHUNK_MAX_BYTES), 'chunkBytes');
     }
     if (meta !== undefined && (typeof meta !== 'object' || meta === null || Array.isArray(meta))) {
-      return usage(META_NOT_OBJECT, 'meta');
+      return usage(texts.META_NOT_OBJECT, 'meta');
     }
     return null;
   }

@@ -46,7 +46,7 @@ import {
   shape,
   withIndex
 } from './check';
-import { malformedMessage, protocolMismatch } from './texts';
+import { BRIDGE_TEXTS } from './texts';
 
 /** A listed column: name, the library's dtype and its kind. */
 export const isListedColumn: ICheck<IListedColumn> = shape<IListedColumn>({
@@ -202,13 +202,13 @@ export function isKernelMessageType(value: unknown): value is KernelMessage['typ
  */
 export function readKernelMessage<T extends KernelMessage['type']>(type: T, data: JSONObject): KernelMessageOf<T> {
   if (type === 'listing' && data.protocol !== PROTOCOL_VERSION) {
-    throw new BridgeError('protocol', protocolMismatch(data.protocol, PROTOCOL_VERSION));
+    throw new BridgeError('protocol', BRIDGE_TEXTS.protocolMismatch(data.protocol, PROTOCOL_VERSION));
   }
   const check: ICheck<KernelMessageOf<T>> = KERNEL_MESSAGE_CHECKS[type];
   if (check(data)) {
     return data;
   }
   const field = check.problem(data) ?? '';
-  throw new BridgeError('protocol', malformedMessage(type, field), { field });
+  throw new BridgeError('protocol', BRIDGE_TEXTS.malformedMessage(type, field), { field });
 }
 

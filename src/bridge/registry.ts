@@ -7,13 +7,18 @@ import type { IDisposable } from '@lumino/disposable';
 
 import { KernelBridge } from './connector';
 import type { IBridgeSession } from './kernel';
+import type { ITranslator } from '../translation';
 import type { IFetchTransport } from './transport';
 
 /** Keeps the bridge of each session the panel has followed. */
 export class BridgeRegistry implements IDisposable {
-  /** Create an empty registry; its bridges move bytes through `transport` (default in process). */
-  constructor(options: { transport?: IFetchTransport } = {}) {
+  /**
+   * Create an empty registry; its bridges move bytes through `transport` (default in process)
+   * and speak through `translator` (default: the texts as written).
+   */
+  constructor(options: { transport?: IFetchTransport; translator?: ITranslator } = {}) {
     this._transport = options.transport;
+    this._translator = options.translator;
   }
 
   /** The bridge of a session, created (and connected) on first use. */
@@ -23,7 +28,7 @@ export class BridgeRegistry implements IDisposable {
     }
     let bridge = this._bridges.get(sessionContext);
     if (bridge === undefined || bridge.isDisposed) {
-      bridge = new KernelBridge({ sessionContext, transport: this._transport });
+      bridge = new KernelBridge({ sessionContext, transport: this._transport, translator: this._translator });
       this._bridges.set(sessionContext, bridge);
       sessionContext.disposed.connect(this._forget, this);
     }
@@ -63,6 +68,7 @@ export class BridgeRegistry implements IDisposable {
     (session as IBridgeSession).disposed.disconnect(this._forget, this);
   }
 
+  private readonly _translator: ITranslator | undefined;
   private _transport: IFetchTransport | undefined;
   private _bridges = new Map<IBridgeSession, KernelBridge>();
   private _isDisposed = false;

@@ -7,32 +7,11 @@
  */
 import './jsdom-shim';
 
-import { Gettext, type ITranslator } from '@jupyterlab/translation';
-
 import { SourceModel } from '../../src/panel/source/model';
+
 import { SourceView } from '../../src/panel/source/view';
 import { TRANSLATION_DOMAIN } from '../../src/translation';
-
-/** A translator of one language holding one catalogue, for the extension's domain only. */
-function translatorWith(messages: Record<string, string[]>): ITranslator & { domains: string[] } {
-  const bundle = new Gettext({ domain: TRANSLATION_DOMAIN, locale: 'fr' });
-  bundle.loadJSON(
-    { '': { language: 'fr', domain: TRANSLATION_DOMAIN, pluralForms: 'nplurals=2; plural=(n > 1);' }, ...messages },
-    TRANSLATION_DOMAIN
-  );
-  const domains: string[] = [];
-  return {
-    languageCode: 'fr',
-    domains,
-    load: (domain: string) => {
-      domains.push(domain);
-      if (domain !== TRANSLATION_DOMAIN) {
-        throw new Error(`no catalogue for ${domain}`);
-      }
-      return bundle;
-    }
-  };
-}
+import { translatorWith } from '../translator';
 
 describe('SourceView', () => {
   it('should show the empty state in the translator’s language', () => {
@@ -67,3 +46,4 @@ describe('Gettext', () => {
     expect(trans._n('%2 row', '%2 rows', 1200, '1,200')).toBe('1,200 lignes');
   });
 });
+

@@ -10,6 +10,7 @@ import type { Widget } from '@lumino/widgets';
 
 import { BridgeRegistry } from '../../bridge/registry';
 import type { IFetchTransport } from '../../bridge/transport';
+import type { ITranslator } from '../../translation';
 import type { DefaultsModel } from '../defaults/model';
 import type { AnalysisModel } from './model';
 
@@ -21,8 +22,10 @@ export function followAnalysis(options: {
   analysis: AnalysisModel;
   /** How the bridges move bytes (the page's frame worker and server route); default in process. */
   transport?: IFetchTransport;
+  /** Translates what the bridges tell the user (default: as written). */
+  translator?: ITranslator;
 }): IDisposable {
-  return new Private.AnalysisFollower(options.panel, options.notebooks, options.defaults, options.analysis, options.transport);
+  return new Private.AnalysisFollower(options.panel, options.notebooks, options.defaults, options.analysis, options.transport, options.translator);
 }
 
 namespace Private {
@@ -33,9 +36,10 @@ namespace Private {
       private readonly _notebooks: INotebookTracker | null,
       private readonly _defaults: DefaultsModel,
       private readonly _analysis: AnalysisModel,
-      private readonly _transport?: IFetchTransport
+      private readonly _transport?: IFetchTransport,
+      translator?: ITranslator
     ) {
-      this._bridges = new BridgeRegistry({ transport: _transport });
+      this._bridges = new BridgeRegistry({ transport: _transport, translator });
       _defaults.changed.connect(this._onSettings, this);
       this._onSettings();
       if (_panel.isVisible) {
