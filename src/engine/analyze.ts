@@ -260,8 +260,9 @@ export function analyzeCodes(
     );
     found = concludeRun(prepared, options, walked, plan, accumulator);
   }
-  const coinformation = found?.measures.coinformation ?? coinformationAll(walked);
-  const selected = selectMultiplets(walked, coinformation, resolved.top);
+  const coinformation = found?.measures.coinformation ?? (withRows ? coinformationAll(walked) : new Float64Array(0));
+  // without rows, the selection is made later, from the lattice (multipletRows)
+  const selected = withRows ? selectMultiplets(walked, coinformation, resolved.top) : [];
   const units = resolved.units;
   const inUnits = (nats: number): number | null => (Number.isNaN(nats) ? null : fromNats(nats, units));
   // Adequacy counts possible joint cells of binned codes; the copula has none.
