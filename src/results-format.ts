@@ -65,6 +65,18 @@ export function evidenceFieldsOf(rows: Iterable<IMultipletRow>): Exclude<keyof I
  */
 export const COLUMN_SEPARATOR = '|';
 
+/** The CSV cells of one multiplet row: the core fields, then `extras`. */
+export function csvCells(row: IMultipletRow, extras: readonly Exclude<keyof IMultipletRow, CoreMultipletField>[]): (string | number)[] {
+  const cells: (string | number)[] = MULTIPLET_FIELDS.map(field =>
+    field === 'columns' ? row.columns.join(COLUMN_SEPARATOR) : row[field]
+  );
+  for (const field of extras) {
+    // A value that was not computed for this row (null) is an empty cell.
+    cells.push(row[field] ?? '');
+  }
+  return cells;
+}
+
 /**
  * Multiplet rows as CSV, one row per multiplet, numbers at full precision, ending with a line
  * break. Cells that a spreadsheet would run as a formula (a column name starting with `=`,
@@ -74,17 +86,7 @@ export const COLUMN_SEPARATOR = '|';
 export function multipletsCsv(rows: Iterable<IMultipletRow>): string {
   const list = Array.from(rows);
   const extras = evidenceFieldsOf(list);
-  const data: (string | number)[][] = [];
-  for (const row of list) {
-    const cells: (string | number)[] = MULTIPLET_FIELDS.map(field =>
-      field === 'columns' ? row.columns.join(COLUMN_SEPARATOR) : row[field]
-    );
-    for (const field of extras) {
-      // A value that was not computed for this row (null) is an empty cell.
-      cells.push(row[field] ?? '');
-    }
-    data.push(cells);
-  }
+  const data = list.map(row => csvCells(row, extras));
   return (
     Papa.unparse(
       { fields: [...MULTIPLET_FIELDS, ...extras], data },

@@ -6,10 +6,11 @@
  * a request to report it).
  */
 
-import { existsSync, promises as fs, readFileSync } from 'fs';
+import { closeSync, existsSync, openSync, readFileSync, writeSync } from 'fs';
 import * as path from 'path';
 
-import { analyze } from '../engine/analyze';
+import { analyzeCodes, latticeInput, multipletRows, prepareColumns, resolveOptions } from '../engine/analyze';
+import { walkLattice } from '../engine/walk';
 import { MAX_SEED, STATISTICS_TAILS, type IStatisticsOptions, type StatisticsTail } from '../engine/statistics/options';
 import { EnginePool } from '../worker/pool';
 import { BIN_SPEC_FORMS, parseBinSpec } from '../engine/binning';
@@ -18,11 +19,11 @@ import { ESTIMATORS } from '../engine/estimators';
 import { isPolyadicError, PolyadicError } from '../engine/errors';
 import { unknownColumn } from '../engine/table';
 import { formatCount } from '../engine/text';
-import type { ChainRequest, EstimatorName, IAnalysisResult, IAnalyzeOptions, MissingPolicy, Units } from '../engine/types';
+import type { ChainRequest, EstimatorName, IAnalysisResult, IAnalyzeOptions, IMultipletRow, MissingPolicy, Units } from '../engine/types';
 import { ANALYSIS_OPTIONS, EXIT, ICliStreams, oneLine, parseCommandLine, reportFailure } from './core';
 import { analyzeViaDuckDB, duckdbColumnNames, MAX_DISTINCT_ROWS, MAX_SQL_BINS } from './duckdb';
 import { runFingerprint } from './fingerprint';
-import { formatResult, OUTPUT_FORMATS, OutputFormat } from './output';
+import { OUTPUT_FORMATS, OutputFormat, writeResult } from './output';
 import { readDataFile, type IDataSource } from './readers';
 import { defaultThreads, ThreadWorker } from './threads';
 import { runRobustness } from './robustness';
@@ -149,16 +150,19 @@ export async function main(argv: string[], streams: ICliStreams = process): Prom
       return EXIT.done;
     }
     let result: IAnalysisResult;
+    let rows: Iterable<IMultipletRow>;
     if (command.via === 'duckdb') {
       const names = await duckdbColumnNames(command.data);
       const options = Private.analyzeOptions(command, command.columns ?? names, names);
       const run = await analyzeViaDuckDB(command.data, { ...options, columns: command.columns ?? names });
       result = run.result;
-      streams.stderr.write(`polyadic: note: ${oneLine(run.note)}\n`);
+      rows = result.multiplets;
+      streams.stderr.write(`polyadic: note: ${oneLine(run.note)}
+`);
     } else {
       source = await readDataFile(command.data, { columns: command.columns });
       const options = Private.analyzeOptions(command, source.columns.map(column => column.name), source.names);
-      result = await Private.run(source, options, command.threads);
+      ({ result, rows } = await Private.run(source, options, command.threads));
     }
     for (const warning of result.warnings) {
       streams.stderr.write(`polyadic: warning: ${oneLine(warning)}\n`);
@@ -166,11 +170,11 @@ export async function main(argv: string[], streams: ICliStreams = process): Prom
     for (const note of Private.statisticsNotes(result)) {
       streams.stderr.write(`polyadic: note: ${note}\n`);
     }
-    const text = formatResult(result, command.format);
+    // the rows go out in chunks as they are made from the lattice, never all held at once
     if (command.out) {
-      await Private.writeOutput(command.out, text);
+      Private.writeOutput(command.out, write => writeResult(result, rows, command.format, write));
     } else {
-      streams.stdout.write(text);
+      writeResult(result, rows, command.format, text => streams.stdout.write(text));
     }
     return EXIT.done;
   } catch (error) {
@@ -213,20 +217,36 @@ namespace Private {
 
   /**
    * Analyze in this thread (one thread, or a run too small to share) or in a pool of worker
-   * threads running this very bundle; the result is the same bit for bit.
+   * threads running this very bundle; the result is the same bit for bit. Without statistics
+   * the result comes without its rows, which are made one at a time from the lattice as the
+   * output is written (a full lattice has a million of them).
    */
-  export async function run(source: IDataSource, options: IAnalyzeOptions, threads: number | undefined): Promise<IAnalysisResult> {
+  export async function run(
+    source: IDataSource,
+    options: IAnalyzeOptions,
+    threads: number | undefined
+  ): Promise<{ result: IAnalysisResult; rows: Iterable<IMultipletRow> }> {
     const count = threads ?? defaultThreads();
     const bundle = process.argv[1];
     const script = bundle ? path.join(path.dirname(bundle), 'polyadic-worker.cjs') : '';
+    const top = options.top ?? null;
     if (count <= 1 || !bundle?.endsWith('.cjs') || !existsSync(script)) {
       // From source (tests import main.ts) there is no worker bundle to start threads with.
-      return analyze(source.columns, options);
+      const prepared = prepareColumns(source.columns, options);
+      if (resolveOptions(options, prepared.codes.length).statistics !== null) {
+        const result = analyzeCodes(prepared, options);
+        return { result, rows: result.multiplets };
+      }
+      const lattice = walkLattice(latticeInput(prepared, options));
+      const result = analyzeCodes(prepared, options, lattice, undefined, false);
+      return { result, rows: multipletRows(result, lattice, top) };
     }
     const pool = new EnginePool({ createWorker: () => new ThreadWorker(script), workers: count });
     try {
-      const done = await pool.analyze(source.columns, options, { transferColumns: true });
-      return done.result;
+      const done = await pool.analyze(source.columns, options, { transferColumns: true, includeLattice: true, omitRows: true });
+      // with statistics the rows carry their evidence and come with the result
+      const rows = done.result.statistics || !done.lattice ? done.result.multiplets : multipletRows(done.result, done.lattice, top);
+      return { result: done.result, rows };
     } finally {
       pool.dispose();
     }
@@ -499,14 +519,31 @@ namespace Private {
   }
 
   /** Write the output file, reporting a path that cannot be written as a usage error. */
-  export async function writeOutput(out: string, text: string): Promise<void> {
-    try {
-      await fs.writeFile(out, text, 'utf8');
-    } catch (error) {
-      throw new PolyadicError('usage', `--out '${out}' cannot be written (${(error as Error).message}).`, {
+  export function writeOutput(out: string, produce: (write: (text: string) => void) => void): void {
+    const failed = (error: unknown): PolyadicError =>
+      new PolyadicError('usage', `--out '${out}' cannot be written (${(error as Error).message}).`, {
         option: '--out',
         value: out
       });
+    let fd: number;
+    try {
+      fd = openSync(out, 'w');
+    } catch (error) {
+      throw failed(error);
+    }
+    try {
+      produce(text => {
+        try {
+          const bytes = Buffer.from(text, 'utf8');
+          for (let done = 0; done < bytes.length; ) {
+            done += writeSync(fd, bytes, done, bytes.length - done);
+          }
+        } catch (error) {
+          throw failed(error);
+        }
+      });
+    } finally {
+      closeSync(fd);
     }
   }
 

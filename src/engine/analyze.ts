@@ -229,13 +229,15 @@ export function latticeInput(prepared: IPreparedCodes, options: IAnalyzeOptions 
  * Analyze columns that are already binned (see {@link prepareColumns}). A lattice computed
  * elsewhere (a worker pool) may be passed; it must come from the same codes and options. With
  * statistics requested, their replicates run in this thread unless `evidence` (merged and
- * concluded elsewhere, see {@link concludeRun}) is passed.
+ * concluded elsewhere, see {@link concludeRun}) is passed. With `withRows` false the result's
+ * multiplets are left empty, to be made one at a time from the lattice ({@link multipletRows}).
  */
 export function analyzeCodes(
   prepared: IPreparedCodes,
   options: IAnalyzeOptions = {},
   lattice?: ILattice,
-  evidence?: IRunEvidence
+  evidence?: IRunEvidence,
+  withRows = true
 ): IAnalysisResult {
   const n = prepared.codes.length;
   const resolved = resolveOptions(options, n);
@@ -258,40 +260,25 @@ export function analyzeCodes(
     );
     found = concludeRun(prepared, options, walked, plan, accumulator);
   }
-  const coinformation = found?.measures.coinformation ?? coinformationAll(walked);
-  const selected = selectMultiplets(walked, coinformation, resolved.top);
-  const members = new Int32Array(resolved.maxOrder);
+  const coinformation = found?.measures.coinformation ?? (withRows ? coinformationAll(walked) : new Float64Array(0));
+  // without rows, the selection is made later, from the lattice (multipletRows)
+  const selected = withRows ? selectMultiplets(walked, coinformation, resolved.top) : [];
   const units = resolved.units;
   const inUnits = (nats: number): number | null => (Number.isNaN(nats) ? null : fromNats(nats, units));
   // Adequacy counts possible joint cells of binned codes; the copula has none.
   const counted = !isContinuousEstimator(resolved.estimator);
   const bootstrapAt = new Map<number, number>();
   found?.outcome.evidence.bootstrapped.forEach((index, j) => bootstrapAt.set(index, j));
-  const multiplets: IMultipletRow[] = selected.map(index => {
-    const order = membersOfIndex(walked.indexing, index, members);
-    const measures = multipletMeasures(walked, members, order, coinformation);
-    let cells = 1;
-    for (let i = 0; i < order; i++) {
-      cells *= prepared.bins[members[i]];
-    }
-    const row: IMultipletRow = {
-      columns: Array.from(members.subarray(0, order), c => prepared.names[c]),
-      order,
-      entropy: fromNats(measures.entropy, units),
-      co_information: fromNats(measures.coinformation, units),
-      total_correlation: fromNats(measures.totalCorrelation, units),
-      dual_total_correlation: fromNats(measures.dualTotalCorrelation, units),
-      o_information: fromNats(measures.oInformation, units),
-      s_information: fromNats(measures.sInformation, units)
-    };
-    if (counted) {
-      row.adequacy = prepared.rowsUsed / cells;
-    }
-    if (found && resolved.statistics) {
-      Private.addEvidence(row, index, found, resolved.statistics, bootstrapAt.get(index), inUnits);
-    }
-    return row;
-  });
+  const rowOf = Private.rowMaker(walked, coinformation, prepared.names, prepared.bins, prepared.rowsUsed, units, counted);
+  const multiplets: IMultipletRow[] = !withRows
+    ? []
+    : selected.map(index => {
+        const row = rowOf(index);
+        if (found && resolved.statistics) {
+          Private.addEvidence(row, index, found, resolved.statistics, bootstrapAt.get(index), inUnits);
+        }
+        return row;
+      });
   let inadequate = 0;
   forEachMultiplet(walked.indexing, (_index, ids, order) => {
     if (order >= 2 && counted) {
@@ -485,7 +472,66 @@ function checkMissing(policy: MissingPolicy | undefined): MissingPolicy {
   return value;
 }
 
+/**
+ * The multiplet rows of a result computed without them (analyzeCodes with `withRows` false, no
+ * statistics), one at a time from its lattice: the same rows, in the same order, as
+ * analyzeCodes would have listed, without holding them all (the CLI streams its output so).
+ */
+export function* multipletRows(result: IAnalysisResult, lattice: ILattice, top: number | null): Generator<IMultipletRow> {
+  if (result.statistics) {
+    throw new PolyadicError('internal', 'Rows with evidence come with the result, not from the lattice.');
+  }
+  const coinformation = coinformationAll(lattice);
+  const rowOf = Private.rowMaker(
+    lattice,
+    coinformation,
+    result.columns.map(column => column.name),
+    lattice.bins,
+    result.rows_used,
+    result.units,
+    !isContinuousEstimator(result.estimator)
+  );
+  for (const index of selectMultiplets(lattice, coinformation, top)) {
+    yield rowOf(index);
+  }
+}
+
 namespace Private {
+  /** The row of a multiplet (without evidence), by index. */
+  export function rowMaker(
+    lattice: ILattice,
+    coinformation: Float64Array,
+    names: string[],
+    bins: number[],
+    rowsUsed: number,
+    units: Units,
+    counted: boolean
+  ): (index: number) => IMultipletRow {
+    const members = new Int32Array(lattice.indexing.maxOrder);
+    return index => {
+      const order = membersOfIndex(lattice.indexing, index, members);
+      const measures = multipletMeasures(lattice, members, order, coinformation);
+      let cells = 1;
+      for (let i = 0; i < order; i++) {
+        cells *= bins[members[i]];
+      }
+      const row: IMultipletRow = {
+        columns: Array.from(members.subarray(0, order), c => names[c]),
+        order,
+        entropy: fromNats(measures.entropy, units),
+        co_information: fromNats(measures.coinformation, units),
+        total_correlation: fromNats(measures.totalCorrelation, units),
+        dual_total_correlation: fromNats(measures.dualTotalCorrelation, units),
+        o_information: fromNats(measures.oInformation, units),
+        s_information: fromNats(measures.sInformation, units)
+      };
+      if (counted) {
+        row.adequacy = rowsUsed / cells;
+      }
+      return row;
+    };
+  }
+
   /**
    * Weighted rows (an aggregated source's distinct rows with counts) give the count estimators'
    * lattice exactly; what needs the rows one by one is refused with the reason.

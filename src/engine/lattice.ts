@@ -716,6 +716,13 @@ namespace Private {
   /** Largest key range tallied through a table; larger ones use a Map. */
   const TABLE_LIMIT = 1 << 22;
 
+  /**
+   * A node of at most this many keys, with at most one row in SHARE_SINGLETONS alone in its
+   * cell, passes its keys and its parent's rows to its children as they are (see _count).
+   */
+  const SHARE_RANGE = 1 << 14;
+  const SHARE_SINGLETONS = 16;
+
   /** Weighted rows: counts up to at least this (and the rows) have their n·ln n parts in a table. */
   const WEIGHT_TABLE = 1 << 16;
 
@@ -759,6 +766,7 @@ namespace Private {
         all[i] = i;
       }
       this._active.push(all);
+      this._view.push(all);
       this._labels.push(new Int32Array(rows));
       this._cells = { counts: this._counts, length: 0, extraSingletons: 0 };
       this._summary = { total: prepared.total, occupied: 0, singletons: 0, sumCountLogCount: 0, possibleCells: 1 };
@@ -844,7 +852,7 @@ namespace Private {
         return this._countWeighted(level, column, record, p.weights);
       }
       const parent = level - 1;
-      const parentActive = this._active[parent];
+      const parentActive = this._view[parent];
       const parentLabels = this._labels[parent];
       const parentCount = this._activeCount[parent];
       const dropped = this._dropped[parent];
@@ -901,7 +909,22 @@ namespace Private {
       if (singletons === blocks && p.fillDistinct) {
         return Below.fill;
       }
+      if (direct && range <= SHARE_RANGE && singletons * SHARE_SINGLETONS <= parentCount) {
+        // Few cells holding many rows each: the keys are the children's labels as they are (not
+        // renumbered), every row stays active (the few rows alone are not dropped), and the
+        // parent's active rows serve again, so the node costs no pass beyond its tally.
+        const keys = this._scratchLabel;
+        this._level(level);
+        this._scratchLabel = this._labels[level];
+        this._labels[level] = keys;
+        this._view[level] = parentActive;
+        this._activeCount[level] = parentCount;
+        this._labelCount[level] = range;
+        this._dropped[level] = dropped;
+        return Below.walk;
+      }
       const active = this._level(level);
+      this._view[level] = active;
       this._activeCount[level] = keepMapped(
         parentActive,
         parentCount,
@@ -924,7 +947,7 @@ namespace Private {
     private _countWeighted(level: number, column: number, record: boolean, weights: Int32Array): Below {
       const p = this._p;
       const parent = level - 1;
-      const parentActive = this._active[parent];
+      const parentActive = this._view[parent];
       const parentLabels = this._labels[parent];
       const parentCount = this._activeCount[parent];
       const K = p.used[column];
@@ -1058,6 +1081,7 @@ namespace Private {
         return Below.fill;
       }
       const active = this._level(level);
+      this._view[level] = active;
       this._activeCount[level] = keepMapped(parentActive, parentCount, childLabel, remap, active, this._labels[level]);
       this._labelCount[level] = next;
       this._dropped[level] = this._dropped[parent] + alone;
@@ -1215,7 +1239,10 @@ namespace Private {
     private _stats = new Float64Array(3);
     /** The estimator reads the counts, so the key scan also writes them compactly. */
     private _needsCounts: boolean;
+    /** Active-row buffers by level (each level's own, written by its nodes). */
     private _active: Int32Array[] = [];
+    /** The active rows of the node at each level on the current branch: its own buffer, or its parent's rows when it keeps them all. */
+    private _view: Int32Array[] = [];
     private _labels: Int32Array[] = [];
     private _activeCount: number[] = [];
     private _labelCount: number[] = [];

@@ -4,4 +4,4 @@
 export const ENGINE_NAME = 'polyadic';
 
 /** Engine version; bump it when a result for the same input and settings may change. */
-export const ENGINE_VERSION = '0.1.0';
+export const ENGINE_VERSION = '0.1.1';

@@ -102,9 +102,13 @@ export function concludePlannedRun(
 }
 
 /** Step 3 of an analysis: the lattice from its parts, then the result as `analyze` gives it. */
-export function finishRun(run: IPreparedRun, parts: ISubtreeResult[]): { result: IAnalysisResult; lattice: ILattice } {
+export function finishRun(
+  run: IPreparedRun,
+  parts: ISubtreeResult[],
+  withRows = true
+): { result: IAnalysisResult; lattice: ILattice } {
   const lattice = assembleLattice(run.input, parts);
-  return { result: analyzeCodes(run.prepared, run.options, lattice), lattice };
+  return { result: analyzeCodes(run.prepared, run.options, lattice, undefined, withRows), lattice };
 }
 
 /** Options of {@link previewColumn}. */
@@ -239,7 +243,7 @@ export class WorkerHost {
           return;
         }
         this._forget(request.run);
-        this._postResult(request.id, request.run, finishRun(prepared, request.parts), request.includeLattice);
+        this._postResult(request.id, request.run, finishRun(prepared, request.parts, !request.omitRows), request.includeLattice);
         return;
       }
       case 'replicates': {

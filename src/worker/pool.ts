@@ -547,7 +547,8 @@ export class EnginePool {
         protocol: PROTOCOL_VERSION,
         run: run.id,
         parts: run.parts,
-        includeLattice: run.runOptions.includeLattice ?? false
+        includeLattice: run.runOptions.includeLattice ?? false,
+        ...(run.runOptions.omitRows ? { omitRows: true } : {})
       };
       run.parts = [];
       this._send(run.slots[0], finish, transfer.buffers);
@@ -778,6 +779,11 @@ export namespace EnginePool {
     onProgress?: (progress: IRunProgress) => void;
     /** Send the lattice back with the result. */
     includeLattice?: boolean;
+    /**
+     * With includeLattice and no statistics: leave the result's multiplets empty, for the caller
+     * to make one at a time from the lattice (multipletRows in engine/analyze.ts).
+     */
+    omitRows?: boolean;
     /**
      * Hand the columns' buffers over to the worker instead of copying them; arrays that own
      * their whole buffer are then detached from the caller. Default false.

@@ -90,6 +90,8 @@ export interface IFinishRequest extends IRequestBase {
   parts: ISubtreeResult[];
   /** Send the lattice (entropies and occupied cells of every multiplet) back with the result. */
   includeLattice: boolean;
+  /** Leave the result's multiplets empty: the caller makes them from the lattice (multipletRows). */
+  omitRows?: boolean;
 }
 
 /** Compute one block of replicates (step 4); the first block a worker gets carries the targets. */

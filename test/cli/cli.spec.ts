@@ -397,6 +397,18 @@ describe('polyadic analyze', () => {
       return csv(['a', 'b', 'c', 'n', 'm'], data);
     }
 
+    it('should write byte-identical JSON and CSV, streamed from the lattice, with --threads 1 and 2', () => {
+      const folder = fixtureFolder({ 'x.csv': xorCsv() });
+      for (const format of ['json', 'csv']) {
+        const outputs = ['1', '2'].map(threads => analyze(path.join(folder, 'x.csv'), '--format', format, '--threads', threads));
+        outputs.forEach(run => expect(run.code).toBe(0));
+        expect(outputs[1].stdout).toBe(outputs[0].stdout);
+        // every multiplet of the 5 columns is there
+        const rows = format === 'json' ? (JSON.parse(outputs[0].stdout) as IAnalysisResult).multiplets.length : outputs[0].stdout.trim().split('\n').length - 1;
+        expect(rows).toBe(31);
+      }
+    });
+
     it('should give byte-identical JSON with --threads 1, 2 and 3 on the same seed', () => {
       const folder = fixtureFolder({ 'x.csv': xorCsv() });
       const args = ['--surrogates', '60', '--bootstrap', '20', '--seed', '11', '--beyond-pairs', '2', '--fit-draws', '30'];

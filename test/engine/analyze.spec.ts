@@ -24,7 +24,7 @@ describe('analyze', () => {
     it('should report every multiplet by order then lexicographically, with the engine and counts', () => {
       const result = analyze(plantedColumns(), { bins: 'categorical' });
       expect(result.engine).toEqual({ name: 'polyadic', version: ENGINE_VERSION });
-      expect(ENGINE_VERSION).toBe('0.1.0');
+      expect(ENGINE_VERSION).toBe('0.1.1');
       expect(result.rows).toBe(16);
       expect(result.rows_used).toBe(16);
       expect(result.max_order).toBe(5);
