@@ -13,6 +13,7 @@ import type { JSONObject } from '@lumino/coreutils';
 import type { IDisposable } from '@lumino/disposable';
 import { ISignal, Signal } from '@lumino/signaling';
 
+import { errorMessage } from '../engine/errors';
 import type { IMultipletRow } from '../engine/types';
 import { BridgeConnection, IBridgeStatus, IListing } from './connection';
 import { rememberStats } from '../panel/data/stats';
@@ -377,7 +378,7 @@ namespace Private {
   /** The handover route failed for this fetch: fetch again over the comm. */
   export class FileFailed extends Error {
     constructor(readonly cause: unknown) {
-      super(cause instanceof Error ? cause.message : String(cause));
+      super(errorMessage(cause));
     }
   }
 

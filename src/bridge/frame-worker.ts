@@ -12,6 +12,7 @@ interface IWorkerScope {
   onmessage: ((event: { data: FrameRequest }) => void) | null;
 }
 
-const scope = self as unknown as IWorkerScope;
+// a dedicated worker's global scope is its `self` and `globalThis`
+const scope: IWorkerScope = globalThis as typeof globalThis & IWorkerScope;
 const host = new FrameHost((response, transfer) => scope.postMessage(response, transfer));
 scope.onmessage = event => host.handle(event.data);
