@@ -73,12 +73,12 @@ export class RequestChannel {
       const read = (data: JSONObject, buffers: readonly unknown[]): boolean => {
         const replyType: unknown = data.type;
         if (isKeyOf(expected.progress, replyType)) {
-          const progress = readKernelMessage(replyType, data);
+          const progress = readKernelMessage(replyType, data, this._texts);
           options.progress?.(progress, buffers);
           return false;
         }
         if (isKeyOf(expected.final, replyType)) {
-          resolve(options.final(readKernelMessage(replyType, data)));
+          resolve(options.final(readKernelMessage(replyType, data, this._texts)));
           return true;
         }
         throw new BridgeError(
@@ -160,7 +160,7 @@ export class RequestChannel {
     try {
       if (data.type === 'error') {
         this._pending.delete(id);
-        const refusal = readKernelMessage('error', data);
+        const refusal = readKernelMessage('error', data, this._texts);
         pending.reject(new BridgeError('kernel', refusal.message || this._texts.REFUSED_WITHOUT_REASON, { ...refusal.detail }));
         return;
       }
@@ -178,7 +178,7 @@ export class RequestChannel {
     if (data.type === 'listing') {
       let listing: IListingMessage;
       try {
-        listing = readKernelMessage('listing', data);
+        listing = readKernelMessage('listing', data, this._texts);
       } catch (error) {
         this._onProtocolError(error instanceof BridgeError ? error : new BridgeError('protocol', Private.errorText(error)));
         return;

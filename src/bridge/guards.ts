@@ -46,7 +46,7 @@ import {
   shape,
   withIndex
 } from './check';
-import { BRIDGE_TEXTS } from './texts';
+import { BRIDGE_TEXTS, type BridgeTexts } from './texts';
 
 /** A listed column: name, the library's dtype and its kind. */
 export const isListedColumn: ICheck<IListedColumn> = shape<IListedColumn>({
@@ -198,17 +198,22 @@ export function isKernelMessageType(value: unknown): value is KernelMessage['typ
 /**
  * A kernel message of a known type, checked. A listing of another protocol version is refused
  * for its version before its shape is looked at (the shape may have changed with it); any
- * other field that is not as protocol.ts says is refused by name. Both are 'protocol' errors.
+ * other field that is not as protocol.ts says is refused by name. Both are 'protocol' errors,
+ * told in `texts` (default: as written).
  */
-export function readKernelMessage<T extends KernelMessage['type']>(type: T, data: JSONObject): KernelMessageOf<T> {
+export function readKernelMessage<T extends KernelMessage['type']>(
+  type: T,
+  data: JSONObject,
+  texts: BridgeTexts = BRIDGE_TEXTS
+): KernelMessageOf<T> {
   if (type === 'listing' && data.protocol !== PROTOCOL_VERSION) {
-    throw new BridgeError('protocol', BRIDGE_TEXTS.protocolMismatch(data.protocol, PROTOCOL_VERSION));
+    throw new BridgeError('protocol', texts.protocolMismatch(data.protocol, PROTOCOL_VERSION));
   }
   const check: ICheck<KernelMessageOf<T>> = KERNEL_MESSAGE_CHECKS[type];
   if (check(data)) {
     return data;
   }
   const field = check.problem(data) ?? '';
-  throw new BridgeError('protocol', BRIDGE_TEXTS.malformedMessage(type, field), { field });
+  throw new BridgeError('protocol', texts.malformedMessage(type, field), { field });
 }
 

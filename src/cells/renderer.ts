@@ -258,7 +258,7 @@ namespace Private {
       })
     });
     chart.addClass('pd-AnalysisCell-plot');
-    chart.setFigure(colors => histogramFigure({ edges, counts, band: band ?? null }, colors, { formatEdge: formatValue }));
+    chart.setFigure(colors => histogramFigure({ edges, counts, band: band ?? null }, colors, { formatEdge: formatValue, trans }));
     const host = textElement('div', 'pd-AnalysisCell-chart');
     charts.push({ chart, host });
     const caption = textElement('figcaption', 'pd-AnalysisCell-caption', trans.__('Order %1 · %2', histogram.order, multiplets));

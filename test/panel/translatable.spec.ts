@@ -43,7 +43,11 @@ function leadingWords(text: string): string | null {
     return null;
   }
   // interpolations are data; escapes of signs (\u26a0, \\) are not words
-  const body = match[2].replace(/\$\{[^}]*\}/g, '').replace(/\\u[0-9a-fA-F]{4}|\\\\/g, '');
+  // nor are markup tags and plotly's %{…} placeholders (a hover label of data only passes)
+  const body = match[2]
+    .replace(/\$\{(?:[^{}]|\{[^{}]*\})*\}/g, '')
+    .replace(/\\u[0-9a-fA-F]{4}|\\\\/g, '')
+    .replace(/<[^>]*>|%\{[^}]*\}/g, '');
   return NOT_WORDS.test(body) ? null : match[0].trim();
 }
 
@@ -71,7 +75,7 @@ function untranslated(file: string, text: string): string[] {
     /textElement\(\s*'[^']*'\s*,\s*(?:'[^']*'|`[^`]*`|[\w.]+)\s*,/g,
     /setAttribute\(\s*'(?:aria-label|title|placeholder)'\s*,/g,
     /labelledSelect\(/g,
-    ...(MODEL_FILE.test(path.basename(file)) ? [] : [/\b(?:label|title|subtitle|xTitle|yTitle|caption):/g])
+    ...(MODEL_FILE.test(path.basename(file)) ? [] : [/\b(?:label|title|subtitle|xTitle|yTitle|caption|text|hovertemplate):/g])
   ];
   for (const pattern of calls) {
     for (const match of source.matchAll(pattern)) {
@@ -87,7 +91,7 @@ function untranslated(file: string, text: string): string[] {
 describe('untranslated', () => {
   const file = path.join(SRC, 'panel', 'example.ts');
 
-  it('should find a literal set as text, title, placeholder, accessible name or chart label', () => {
+  it('should find a literal set as text, title, placeholder, accessible name, chart label or hover label', () => {
     const text = [
       "node.textContent = 'Pick a dataframe';",
       'node.title = `Rows of ${name}`;',
@@ -95,7 +99,8 @@ describe('untranslated', () => {
       "const p = textElement('p', 'pd-Note', 'No notebook is open');",
       "box.setAttribute('aria-label', 'Recorded analyses');",
       "const chart = new ChartView({ label: 'Binning preview', height: 130 });",
-      "const units = labelledSelect('Units', choices, onChange);"
+      "const units = labelledSelect('Units', choices, onChange);",
+      "const bar = { hovertemplate: '%{x}<br>%{y} rows<extra></extra>', colorbar: { title: { text: 'rows' } } };"
     ].join('\n');
     expect(untranslated(file, text).sort()).toEqual([
       "panel/example.ts:1: 'Pick a dataframe'",
@@ -104,7 +109,9 @@ describe('untranslated', () => {
       "panel/example.ts:4: 'No notebook is open'",
       "panel/example.ts:5: 'Recorded analyses'",
       "panel/example.ts:6: 'Binning preview'",
-      "panel/example.ts:7: 'Units'"
+      "panel/example.ts:7: 'Units'",
+      "panel/example.ts:8: '%{x}<br>%{y} rows<extra></extra>'",
+      "panel/example.ts:8: 'rows'"
     ]);
   });
 
@@ -117,7 +124,8 @@ describe('untranslated', () => {
       "cell.textContent = value === null ? '–' : formatValue(value);",
       "const p = textElement('td', 'pd-Number', formatCount(rows));",
       "const flag = textElement('span', 'pd-Flag', '\\u26a0 ');",
-      "// node.textContent = 'a comment';"
+      "// node.textContent = 'a comment';",
+      "const bar = { hovertemplate: `${trans.__('%{x}<br>%{y} rows')}<extra></extra>`, texttemplate: '%{z}' };"
     ].join('\n');
     expect(untranslated(file, text)).toEqual([]);
     // a model's table of labels is data, shown through the bundle by its view

@@ -178,7 +178,7 @@ export class BinningView extends SectionView<BinningModel> {
       Private.binTable(preview, trans),
       ...preview.warnings.map(warning => textElement('p', 'pd-Binning-warning', warning))
     );
-    this._chart.setFigure(colors => Private.figure(preview, colors));
+    this._chart.setFigure(colors => Private.figure(preview, colors, trans));
   }
 
   /** Attach the preview's chart into its place (a widget of its own inside this section's node). */
@@ -288,7 +288,7 @@ namespace Private {
    * The column's values as bars (fine bins of a numeric column, one bar per category of a
    * categorical one) in the distribution colour, with the bin edges as lines over them.
    */
-  export function figure(preview: IColumnPreview, colors: IChartColors): IFigure {
+  export function figure(preview: IColumnPreview, colors: IChartColors, trans: TranslationBundle): IFigure {
     const distribution = preview.distribution;
     const counts = Array.from(distribution.counts);
     const layout: Record<string, unknown> = {
@@ -319,14 +319,14 @@ namespace Private {
             y: counts,
             width: widths,
             customdata: counts.map((_c, i) => [format(edges[i]), format(edges[i + 1])]),
-            hovertemplate: '%{customdata[0]} to %{customdata[1]}<br>%{y} rows<extra></extra>',
+            hovertemplate: `${trans.__('%{customdata[0]} to %{customdata[1]}<br>%{y} rows')}<extra></extra>`,
             marker: { color: colors.distribution, line: { width: 0 } }
           }
         ] as IFigure['data'],
         layout: layout as IFigure['layout']
       };
     }
-    const categories = distribution.kind === 'categorical' ? distribution.categories : counts.map((_c, i) => `bin ${i + 1}`);
+    const categories = distribution.kind === 'categorical' ? distribution.categories : counts.map((_c, i) => trans.__('bin %1', i + 1));
     return {
       data: [
         {
@@ -334,7 +334,7 @@ namespace Private {
           // category names are data: plotly reads markup in labels, so they go in escaped
           x: categories.map(name => plotlyText(name)),
           y: counts,
-          hovertemplate: '%{x}<br>%{y} rows<extra></extra>',
+          hovertemplate: `${trans.__('%{x}<br>%{y} rows')}<extra></extra>`,
           marker: { color: colors.distribution, line: { width: 0 } }
         }
       ] as IFigure['data'],

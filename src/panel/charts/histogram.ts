@@ -7,6 +7,7 @@
  * The results view adds its strip of extreme multiplets under the bars (`strip`).
  */
 import { formatCount, formatValue } from '../../engine/text';
+import { translationBundle, type TranslationBundle } from '../../translation';
 import type { IChartColors, IFigure } from './types';
 
 /** What a histogram figure draws. */
@@ -28,8 +29,10 @@ export interface IHistogramOptions {
   reach?: readonly number[];
   /** Leave the bottom of the plot for a strip on a second y axis (`y2`). */
   strip?: boolean;
-  /** Text of the hover label of a bar: `%{customdata[0]}` to `%{customdata[1]}` are the edges. */
+  /** How the hover label writes a bar's edges. */
   formatEdge?: (value: number) => string;
+  /** The bundle of the figure's texts: hover label, null band, axis titles (default: as written). */
+  trans?: TranslationBundle;
 }
 
 /** The figure of one order histogram. */
@@ -38,6 +41,7 @@ export function histogramFigure(histogram: IHistogramInput, colors: IChartColors
   const selected = options.selected ?? -1;
   const marked = options.marked ?? -1;
   const formatEdge = options.formatEdge ?? formatValue;
+  const trans = options.trans ?? translationBundle();
   const centers = counts.map((_c, i) => (edges[i] + edges[i + 1]) / 2);
   const widths = counts.map((_c, i) => edges[i + 1] - edges[i]);
   const low = edges[0];
@@ -82,7 +86,7 @@ export function histogramFigure(histogram: IHistogramInput, colors: IChartColors
       y: 1,
       yanchor: 'bottom',
       showarrow: false,
-      text: 'null 95 %',
+      text: trans.__('null 95 %'),
       font: { size: 10, color: colors.muted }
     });
   }
@@ -106,7 +110,8 @@ export function histogramFigure(histogram: IHistogramInput, colors: IChartColors
     y: counts,
     width: widths,
     customdata: counts.map((_c, i) => [formatEdge(edges[i]), formatEdge(edges[i + 1])]),
-    hovertemplate: '%{customdata[0]} to %{customdata[1]}<br>%{y} multiplets<extra></extra>',
+    // plotly's template: the edges, then the count
+    hovertemplate: `${trans.__('%{customdata[0]} to %{customdata[1]}<br>%{y} multiplets')}<extra></extra>`,
     marker: {
       color: centers.map(c => (c < 0 ? colors.synergy : colors.redundancy)),
       line: {
@@ -121,14 +126,14 @@ export function histogramFigure(histogram: IHistogramInput, colors: IChartColors
     annotations,
     showlegend: false,
     xaxis: {
-      title: { text: 'co-information' },
+      title: { text: trans.__('co-information') },
       gridcolor: colors.grid,
       zerolinecolor: colors.grid,
       color: colors.muted,
       range: xRange(low, high, options.reach ?? [])
     },
     yaxis: {
-      title: { text: 'count (log)' },
+      title: { text: trans.__('count (log)') },
       type: 'log',
       // from half a multiplet up, so a bar of one multiplet has height
       range: [Math.log10(0.5), Math.log10(maxCount * 1.6)],

@@ -116,7 +116,7 @@ export class ChainView extends Panel {
     this._list.setHidden(!chain);
     if (chain) {
       const units = this._model.result?.units ?? '';
-      this._chart.setFigure(colors => Private.figure(chain, units, colors));
+      this._chart.setFigure(colors => Private.figure(chain, units, colors, trans));
       const items: HTMLElement[] = [];
       chain.values.forEach((value, i) => {
         const item = textElement('li', 'pd-Chain-item');
@@ -167,7 +167,7 @@ namespace Private {
    * per added column from the running value before it to the one after, coloured by the sign of
    * what it adds; the running value is written beside each bar.
    */
-  export function figure(chain: IChainView, units: string, colors: IChartColors): IFigure {
+  export function figure(chain: IChainView, units: string, colors: IChartColors, trans: TranslationBundle): IFigure {
     const labels = chain.values.map((_v, i) =>
       i === 0 ? `${plotlyText(short(chain.columns[0]))}, ${plotlyText(short(chain.columns[1]))}` : `+ ${plotlyText(short(chain.columns[i + 1]))}`
     );
@@ -199,7 +199,7 @@ namespace Private {
           cliponaxis: false,
           textfont: { color: colors.text },
           customdata: chain.values.map((v, i) => [formatValue(heights[i]), formatValue(v)]),
-          hovertemplate: '%{customdata[0]} added, running value %{customdata[1]}<extra></extra>'
+          hovertemplate: `${trans.__('%{customdata[0]} added, running value %{customdata[1]}')}<extra></extra>`
         }
       ],
       layout: {

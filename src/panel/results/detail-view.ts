@@ -191,7 +191,7 @@ export class DetailView extends Panel {
     );
     this._setCaution([table]);
     this._tablesChart.plotNode.style.height = `${DetailView.TABLE_HEIGHT}px`;
-    this._tablesChart.setFigure(colors => Private.heatmaps([table], colors));
+    this._tablesChart.setFigure(colors => Private.heatmaps([table], colors, this._trans));
     this._setTextTables([table]);
   }
 
@@ -272,7 +272,7 @@ export class DetailView extends Panel {
     this._setCaution([...tables.levels, tables.pooled]);
     const rowsOfPanels = Math.ceil(tables.levels.length / DetailView.PANELS_PER_ROW);
     this._tablesChart.plotNode.style.height = `${DetailView.TABLE_HEIGHT * rowsOfPanels}px`;
-    this._tablesChart.setFigure(colors => Private.heatmaps(tables.levels, colors, DetailView.TABLE_HEIGHT * rowsOfPanels));
+    this._tablesChart.setFigure(colors => Private.heatmaps(tables.levels, colors, trans, DetailView.TABLE_HEIGHT * rowsOfPanels));
     this._setTextTables([...tables.levels, tables.pooled], tables.conditioning);
   }
 
@@ -453,7 +453,7 @@ namespace Private {
   }
 
   /** Heat maps of counts on one colour scale, up to DetailView.PANELS_PER_ROW side by side. */
-  export function heatmaps(tables: IDetailTable[], colors: IChartColors, height?: number): IFigure {
+  export function heatmaps(tables: IDetailTable[], colors: IChartColors, trans: TranslationBundle, height?: number): IFigure {
     const perRow = Math.min(tables.length, DetailView.PANELS_PER_ROW);
     const rows = Math.ceil(tables.length / perRow);
     const zmax = Math.max(1, ...tables.map(t => Math.max(...t.counts.map(r => Math.max(...r)))));
@@ -514,12 +514,12 @@ namespace Private {
           [1, colors.text]
         ],
         showscale: n === 0,
-        colorbar: { title: { text: 'rows' }, thickness: 10, tickfont: { color: colors.muted } },
+        colorbar: { title: { text: trans.__('rows') }, thickness: 10, tickfont: { color: colors.muted } },
         // no text colour: plotly picks one that contrasts with each cell
         texttemplate: '%{z}',
         xgap: 1,
         ygap: 1,
-        hovertemplate: '%{customdata}: %{z} rows<extra></extra>'
+        hovertemplate: `${trans.__('%{customdata}: %{z} rows')}<extra></extra>`
       };
     });
     return { data: data as unknown as IFigure['data'], layout: layout as IFigure['layout'] };

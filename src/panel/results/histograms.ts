@@ -64,7 +64,7 @@ export class HistogramsView extends Panel {
         entry.picker.value = String(selected);
         entry.node.dataset.markedBar = String(marked);
         if (store) {
-          entry.chart.setFigure(colors => Private.figure(entry.histogram, store, { selected, marked, row: markedRow }, colors));
+          entry.chart.setFigure(colors => Private.figure(entry.histogram, store, { selected, marked, row: markedRow }, colors, this._trans));
         }
       }
     }
@@ -203,7 +203,13 @@ namespace Private {
    * The bar chart of one histogram (bars left of 0 in the synergy colour, counts on a log axis)
    * over a strip of its most extreme multiplets.
    */
-  export function figure(histogram: IResultsHistogram, store: MultipletStore, marks: IMarks, colors: IChartColors): IFigure {
+  export function figure(
+    histogram: IResultsHistogram,
+    store: MultipletStore,
+    marks: IMarks,
+    colors: IChartColors,
+    trans: TranslationBundle
+  ): IFigure {
     const extremes = histogram.extremes;
     const extremeValues = extremes.map(i => store.co_information[i]);
     const base = histogramFigure(histogram, colors, {
@@ -211,7 +217,8 @@ namespace Private {
       marked: marks.marked,
       reach: extremeValues,
       strip: true,
-      formatEdge: formatValue
+      formatEdge: formatValue,
+      trans
     });
     const strip = {
       type: 'scatter',

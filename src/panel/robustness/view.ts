@@ -316,7 +316,7 @@ namespace Private {
       y: line.ranks,
       name: plotlyText(line.multiplet),
       text: labels.map(label => plotlyText(`${line.multiplet} · ${label}`)),
-      hovertemplate: '%{text}<br>rank %{y}<extra></extra>',
+      hovertemplate: `${trans.__('%{text}<br>rank %{y}')}<extra></extra>`,
       line: {
         color: line.table === 'synergy' ? colors.synergy : colors.redundancy,
         width: line.inBaseTop ? 2 : 1,
