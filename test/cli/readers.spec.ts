@@ -161,6 +161,13 @@ describe('main', () => {
     expect(await main(['analyze', 'x.csv', '--units', 'bans'], streams)).toBe(EXIT.usage);
     expect(out.stderr).toBe("polyadic: --units must be one of bits, nats; got 'bans'.\n");
   });
+
+  it('should refuse an engine --via does not know, naming the flag and the one it takes', async () => {
+    const { out, streams } = capture();
+    expect(await main(['analyze', 'x.parquet', '--via', 'sqlite'], streams)).toBe(EXIT.usage);
+    expect(out.stderr).toBe("polyadic: --via must be one of duckdb; got 'sqlite'.\n");
+    expect(out.stdout).toBe('');
+  });
 });
 
 describe('reportError', () => {
