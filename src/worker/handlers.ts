@@ -41,6 +41,7 @@ import {
   PROTOCOL_VERSION
 } from './protocol';
 import { serializeError } from './errors';
+import { packedBuffers, packRows } from './rows';
 import { TransferList } from './transfer';
 import { unitMultiplets, walkUnit } from './units';
 
@@ -306,9 +307,21 @@ export class WorkerHost {
     if (includeLattice) {
       transfer.addLattice(done.lattice);
     }
+    // The rows as typed-array columns, transferred: a clone of the row objects would hold the
+    // page for seconds after a large run.
+    const packed = packRows(done.result.multiplets);
+    const result = packed === null ? done.result : { ...done.result, multiplets: [] };
+    const buffers = packed === null ? transfer.buffers : [...transfer.buffers, ...packedBuffers(packed)];
     this._post(
-      { type: 'result', id, run, result: done.result, lattice: includeLattice ? done.lattice : undefined },
-      transfer.buffers
+      {
+        type: 'result',
+        id,
+        run,
+        result,
+        ...(packed !== null ? { packed } : {}),
+        lattice: includeLattice ? done.lattice : undefined
+      },
+      buffers
     );
   }
 

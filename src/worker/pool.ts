@@ -36,6 +36,7 @@ import {
   IWorkUnit,
   PROTOCOL_VERSION
 } from './protocol';
+import { IPackedRows, unpackRows } from './rows';
 import { addColumn, packColumn, TransferList } from './transfer';
 import { IPlannedUnit, planUnits } from './units';
 
@@ -436,7 +437,7 @@ export class EnginePool {
         this._onParts(run, slot, response.id, response.parts);
         return;
       case 'result':
-        this._onResult(run, response.result, response.lattice);
+        this._onResult(run, response.result, response.packed, response.lattice);
         return;
       case 'planned':
         this._onPlanned(run, response.targets);
@@ -658,7 +659,12 @@ export class EnginePool {
     );
   }
 
-  private _onResult(run: Private.IRun, result: IAnalysisResult, lattice: ILattice | undefined): void {
+  private _onResult(
+    run: Private.IRun,
+    result: IAnalysisResult,
+    packed: IPackedRows | undefined,
+    lattice: ILattice | undefined
+  ): void {
     const helpers = run.slots.slice(1).filter(slot => slot.holds === run.id);
     run.phase = 'done';
     // Ended first, so a listener that cancels on the last report cannot turn the result into a rejection.
@@ -667,7 +673,14 @@ export class EnginePool {
     for (const slot of helpers) {
       this._send(slot, { type: 'release', id: this._nextId(), protocol: PROTOCOL_VERSION, run: run.id }, []);
     }
-    run.resolve({ result, lattice, workers: run.walkers, elapsedMs: this._now() - run.started });
+    const settle = (multiplets: IAnalysisResult['multiplets']): void =>
+      run.resolve({ result: { ...result, multiplets }, lattice, workers: run.walkers, elapsedMs: this._now() - run.started });
+    if (packed === undefined) {
+      settle(result.multiplets);
+      return;
+    }
+    // The row objects are rebuilt in slices: the page paints and answers input in between.
+    unpackRows(packed, Private.pause).then(settle, run.reject);
   }
 
   private _onRunError(run: Private.IRun, response: IErrorResponse): void {
@@ -884,6 +897,11 @@ namespace Private {
   /** Surrogates plus bootstrap resamples of a run. */
   export function replicateCount(statistics: IResolvedStatistics | null): number {
     return statistics ? statistics.surrogates + statistics.bootstrap : 0;
+  }
+
+  /** Let the page handle input and paint before the next slice of work. */
+  export function pause(): Promise<void> {
+    return new Promise(resolve => setTimeout(resolve, 0));
   }
 
   /** A column with its name, kind and type but no rows. */

@@ -34,6 +34,7 @@ import type { IResolvedStatistics } from '../engine/statistics/options';
 import type { IReplicateBlock, IReplicateTargets, ReplicateBlockResult } from '../engine/statistics/replicates';
 import type { IRobustnessResult, IRobustnessVariant } from '../engine/robustness';
 import type { ColumnView, IAnalysisResult, IAnalyzeOptions, IColumnBinning } from '../engine/types';
+import type { IPackedRows } from './rows';
 
 /** Version of this protocol; a worker bundle answers requests of another version with an error. */
 export const PROTOCOL_VERSION = 2;
@@ -186,7 +187,10 @@ export interface IResultResponse {
   type: 'result';
   id: number;
   run: number;
+  /** The result; its `multiplets` are empty when they travel in `packed`. */
   result: IAnalysisResult;
+  /** The result's multiplet rows column-wise (src/worker/rows.ts), their buffers transferred. */
+  packed?: IPackedRows;
   lattice?: ILattice;
 }
 

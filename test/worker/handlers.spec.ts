@@ -15,6 +15,7 @@ import {
   IWorkUnit,
   PROTOCOL_VERSION
 } from '../../src/worker/protocol';
+import { RowsUnpacker } from '../../src/worker/rows';
 import { IPlannedUnit, planUnits, walkUnit } from '../../src/worker/units';
 import { createIndexing } from '../../src/engine/multiplets';
 import { makeColumns, runPython } from './helpers';
@@ -252,7 +253,11 @@ print(json.dumps(out))
       expect(helper.host.heldRuns).toEqual([9]);
       host.handle({ ...base, type: 'finish', id: 4, run: 9, parts, includeLattice: true });
       const result = responses.pop() as IResultResponse;
-      expect(result.result).toEqual(analyze(columns, options));
+      // the rows travel packed (src/worker/rows.ts), the rest of the result as it is
+      expect(result.result.multiplets).toEqual([]);
+      const unpacker = new RowsUnpacker(result.packed!);
+      unpacker.add(Infinity);
+      expect({ ...result.result, multiplets: unpacker.rows }).toEqual(analyze(columns, options));
       expect(result.lattice?.entropy).toHaveLength(128);
       expect(host.heldRuns).toEqual([]);
       helper.host.handle({ ...base, type: 'release', id: 5, run: 9 });
