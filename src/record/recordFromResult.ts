@@ -6,7 +6,7 @@
 import { resolveOptions } from '../engine/analyze';
 import { PolyadicError } from '../engine/errors';
 import { plural } from '../engine/text';
-import type { ColumnView, IAnalysisResult, IAnalyzeOptions, MissingPolicy } from '../engine/types';
+import type { ColumnView, IAnalysisResult, IAnalyzeOptions, IMultipletRow, MissingPolicy } from '../engine/types';
 import type { IFingerprint } from './fingerprint';
 import { newRecordId } from './ids';
 import { DEFAULT_SUMMARY_SIZE, evidenceSummaryOf, histogramsOfRows, statisticsSettingsOf, topMultiplets } from './summary';
@@ -57,8 +57,7 @@ export function recordFromResult(input: IRecordInput): IAnalysisRecord {
     );
   }
   const missing = resolveOptions(input.options, selected.length).missing;
-  const summary = topMultiplets(result.multiplets, input.summarySize ?? DEFAULT_SUMMARY_SIZE);
-  const histograms = histogramsOfRows(result.multiplets, result.multiplet_count, result.max_order);
+  const { summary, histograms } = Private.summaryOf(result, input.summarySize ?? DEFAULT_SUMMARY_SIZE);
   const analysis: Record<string, unknown> = {
     id: input.id ?? newRecordId(),
     label: Private.cleanLabel(input.label ?? defaultLabel(source.frame, result, missing)),
@@ -130,6 +129,34 @@ export function defaultLabel(frame: string, result: IAnalysisResult, missing: Mi
 
 /** Module-private helpers. */
 namespace Private {
+  /** The summary of a result's rows, by their array: a run is recorded after it is compared, from the same rows. */
+  const summaries = new WeakMap<
+    readonly IMultipletRow[],
+    { size: number; maxOrder: number; count: number; summary: ReturnType<typeof topMultiplets>; histograms: ReturnType<typeof histogramsOfRows> }
+  >();
+
+  /** The top multiplets and order histograms of `result`, computed once per rows and size. */
+  export function summaryOf(
+    result: IAnalysisResult,
+    size: number
+  ): { summary: ReturnType<typeof topMultiplets>; histograms: ReturnType<typeof histogramsOfRows> } {
+    const rows = result.multiplets;
+    const known = summaries.get(rows);
+    if (known !== undefined && known.size === size && known.maxOrder === result.max_order && known.count === result.multiplet_count) {
+      // each record owns its summary: a copy of a few dozen small objects
+      return structuredClone({ summary: known.summary, histograms: known.histograms });
+    }
+    const fresh = {
+      size,
+      maxOrder: result.max_order,
+      count: result.multiplet_count,
+      summary: topMultiplets(rows, size),
+      histograms: histogramsOfRows(rows, result.multiplet_count, result.max_order)
+    };
+    summaries.set(rows, fresh);
+    return structuredClone({ summary: fresh.summary, histograms: fresh.histograms });
+  }
+
   export function sameList(a: readonly string[], b: readonly string[]): boolean {
     return a.length === b.length && a.every((name, i) => name === b[i]);
   }

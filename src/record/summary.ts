@@ -80,17 +80,60 @@ export function topMultiplets(
   rows: readonly IMultipletRow[],
   size: number = DEFAULT_SUMMARY_SIZE
 ): { synergy: IMultipletSummary[]; redundancy: IMultipletSummary[] } {
-  const higher = rows.filter(row => row.order >= 2);
-  const synergy = higher
-    .filter(row => row.co_information < 0)
-    .sort((a, b) => a.co_information - b.co_information)
-    .slice(0, size)
-    .map(multipletSummary);
-  const redundancy = higher
-    .filter(row => row.co_information > 0)
-    .sort((a, b) => b.co_information - a.co_information)
-    .slice(0, size)
-    .map(multipletSummary);
-  return { synergy, redundancy };
+  // One pass keeping the `size` best of each side in order: a full lattice has hundreds of
+  // thousands of rows, and sorting them all for ten would hold the page.
+  const synergy = new Private.Best(size, -1);
+  const redundancy = new Private.Best(size, 1);
+  for (const row of rows) {
+    if (row.order < 2) {
+      continue;
+    }
+    if (row.co_information < 0) {
+      synergy.offer(row);
+    } else if (row.co_information > 0) {
+      redundancy.offer(row);
+    }
+  }
+  return { synergy: synergy.kept.map(multipletSummary), redundancy: redundancy.kept.map(multipletSummary) };
 }
 
+
+namespace Private {
+  /**
+   * The `size` rows of largest `sign · co_information` offered, largest first; of equal values
+   * the one offered first comes first (as a stable sort followed by a cut would keep them).
+   */
+  export class Best {
+    constructor(
+      private readonly _size: number,
+      private readonly _sign: number
+    ) {}
+
+    /** The rows kept, best first. */
+    readonly kept: IMultipletRow[] = [];
+
+    /** Keep `row` if it is among the best so far. */
+    offer(row: IMultipletRow): void {
+      const kept = this.kept;
+      const value = this._sign * row.co_information;
+      if (kept.length >= this._size && (this._size <= 0 || value <= this._sign * kept[kept.length - 1].co_information)) {
+        return;
+      }
+      // after every kept row at least as good: ties keep the order of offer
+      let low = 0;
+      let high = kept.length;
+      while (low < high) {
+        const middle = (low + high) >> 1;
+        if (this._sign * kept[middle].co_information >= value) {
+          low = middle + 1;
+        } else {
+          high = middle;
+        }
+      }
+      kept.splice(low, 0, row);
+      if (kept.length > this._size) {
+        kept.pop();
+      }
+    }
+  }
+}

@@ -3,6 +3,8 @@
  * invented greenhouse table. The histogram rules are numpy.histogram's; test_fingerprint.py
  * also compares orderHistogram with numpy.histogram computed at test time.
  */
+import fc from 'fast-check';
+
 import { readDelimitedText } from '../../src/cli/readers';
 import { analyze } from '../../src/engine/analyze';
 import type { IAnalyzeOptions, IMultipletRow } from '../../src/engine/types';
@@ -50,6 +52,29 @@ describe('summary', () => {
       expect(synergy.map(m => m.columns.join(''))).toEqual(['abc', 'ac']);
       expect(redundancy.map(m => m.columns.join(''))).toEqual(['cd', 'ab']);
       expect(synergy[0]).not.toHaveProperty('s_information');
+    });
+
+    it('should pick what a stable sort of every row followed by a cut picks', () => {
+      // the reference: Array.prototype.sort is stable (ECMAScript 2019), so ties keep input order
+      const reference = (all: IMultipletRow[], size: number, sign: number): string[] =>
+        all
+          .filter(r => r.order >= 2 && sign * r.co_information > 0)
+          .sort((a, b) => sign * (b.co_information - a.co_information))
+          .slice(0, size)
+          .map(r => r.columns.join(''));
+      const value = fc.constantFrom(-2, -1, -0.5, 0, 0.5, 1, 2, Number.NaN);
+      fc.assert(
+        fc.property(
+          fc.array(fc.tuple(fc.integer({ min: 1, max: 3 }), value), { maxLength: 60 }),
+          fc.integer({ min: 0, max: 8 }),
+          (specs, size) => {
+            const all = specs.map(([order, co], i) => ({ ...row([`m${i}`], co), order }));
+            const { synergy, redundancy } = topMultiplets(all, size);
+            expect(synergy.map(m => m.columns.join(''))).toEqual(reference(all, size, -1));
+            expect(redundancy.map(m => m.columns.join(''))).toEqual(reference(all, size, 1));
+          }
+        )
+      );
     });
   });
 
