@@ -388,7 +388,7 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
       max_order: completed.result.max_order
     };
     try {
-      await bridge.sendResults(completed.analysisId, completed.result.multiplets, { meta });
+      await bridge.sendResults(completed.analysisId, completed.result.multiplets, { meta, chunkBytes: Private.UPLOAD_CHUNK_BYTES });
       this._kernelMessage = null;
     } catch (error) {
       this._kernelMessage = this._trans.__('The results could not be sent to the kernel: %1', errorMessage(error));
@@ -499,6 +499,12 @@ export type { IRunProgress };
 
 /** Module-private helpers. */
 namespace Private {
+  /**
+   * Bytes per results chunk sent to the kernel: JupyterLab copies a message into its websocket
+   * frame in one task, and 1 MiB keeps that task short (the protocol allows 8 MiB).
+   */
+  export const UPLOAD_CHUNK_BYTES = 1 << 20;
+
   /** Let the page handle input and paint before the next piece of work. */
   export function yieldToPage(): Promise<void> {
     return new Promise(resolve => setTimeout(resolve, 0));

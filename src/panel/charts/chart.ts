@@ -123,7 +123,9 @@ export class ChartView extends Widget {
     }
     const ticket = ++this._ticket;
     void Private.plotly().then(async Plotly => {
-      if (ticket !== this._ticket || this.isDisposed) {
+      // One chart per task: a results view of many charts never draws them in one long freeze.
+      await Private.nextTurn();
+      if (ticket !== this._ticket || this.isDisposed || !this.isAttached) {
         return;
       }
       const colors = Private.colors(this.node);
@@ -188,6 +190,16 @@ namespace Private {
   /** The loaded plotly module, once loaded. */
   export let loaded: typeof PlotlyModule | null = null;
   let loading: Promise<typeof PlotlyModule> | null = null;
+
+  /** The end of the queue of chart draws. */
+  let queue: Promise<void> = Promise.resolve();
+
+  /** Resolves on a task of its own after every draw queued before it has had its task. */
+  export function nextTurn(): Promise<void> {
+    const turn = queue.then(() => new Promise<void>(resolve => setTimeout(resolve, 0)));
+    queue = turn;
+    return turn;
+  }
 
   /** Load plotly.js once, on first use. */
   export function plotly(): Promise<typeof PlotlyModule> {
