@@ -279,6 +279,60 @@ describe('MultipletTable', () => {
 describe('ResultsModel', () => {
   const result = plantedResult();
 
+  describe('#setResultInSlices', () => {
+    /** What a model shows, as plain data. */
+    const shown = (model: ResultsModel) => ({
+      histograms: model.histograms,
+      inadequate: model.inadequateCount,
+      count: model.multipletCount,
+      synergy: Array.from(model.synergy.visible),
+      redundancy: Array.from(model.redundancy.visible),
+      store: model.store && {
+        order: Array.from(model.store.order),
+        co: Array.from(model.store.co_information),
+        adequacy: Array.from(model.store.adequacy),
+        members: Array.from(model.store.members),
+        evidence: [...model.store.evidence.keys()]
+      }
+    });
+
+    it('should show what setResult shows, changing once, after pausing between slices', async () => {
+      const withStatistics = analyze(plantedColumns(), { maxOrder: 3, statistics: { surrogates: 19, seed: 3 } });
+      for (const one of [result, withStatistics]) {
+        const direct = new ResultsModel();
+        direct.setResult(one, { frame: 'planted' });
+        const sliced = new ResultsModel();
+        let changes = 0;
+        sliced.changed.connect(() => changes++);
+        let pauses = 0;
+        const done = sliced.setResultInSlices(one, { frame: 'planted' }, async () => {
+          pauses++;
+          expect(sliced.pending).toBe(true);
+          expect(sliced.result).toBeNull();
+        });
+        await expect(done).resolves.toBe(true);
+        expect(pauses).toBeGreaterThan(2);
+        expect(changes).toBe(1);
+        expect(sliced.pending).toBe(false);
+        expect(shown(sliced)).toEqual(shown(direct));
+      }
+    });
+
+    it('should give way to a result set or cleared while it was being prepared', async () => {
+      const model = new ResultsModel();
+      const later = analyze(plantedColumns(200, 5), { maxOrder: 2 });
+      const first = model.setResultInSlices(result, {}, async () => undefined);
+      model.setResult(later);
+      await expect(first).resolves.toBe(false);
+      expect(model.result).toBe(later);
+      const second = model.setResultInSlices(result, {}, async () => undefined);
+      model.clear();
+      await expect(second).resolves.toBe(false);
+      expect(model.result).toBeNull();
+      expect(model.pending).toBe(false);
+    });
+  });
+
   describe('#setResult', () => {
     it('should bin each order\'s co-information as numpy.histogram does', () => {
       const model = new ResultsModel();

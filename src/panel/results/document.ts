@@ -59,12 +59,22 @@ export class ResultsDocument extends MainAreaWidget<ResultsView> {
   /** Show a completed run. */
   showRun(run: IRunCompleted): void {
     const sample = run.frame.sampled ? { rows: run.frame.rows, originalRows: run.frame.originalRows, seed: run.frame.seed } : undefined;
-    this.model.setResult(run.result, {
-      frame: run.frame.name,
-      recordId: run.analysisId,
-      missing: run.options.missing,
-      sample,
-      ...(run.frame.columns ? { data: { columns: run.frame.columns, options: run.options } } : {})
+    // Built in slices: a full lattice's store, histograms and sorts would hold the page for seconds.
+    const shown = this.model.setResultInSlices(
+      run.result,
+      {
+        frame: run.frame.name,
+        recordId: run.analysisId,
+        missing: run.options.missing,
+        sample,
+        ...(run.frame.columns ? { data: { columns: run.frame.columns, options: run.options } } : {})
+      },
+      Private.pause
+    );
+    shown.catch(error => {
+      // a result the engine made always lists its columns; say so loudly if one does not
+      this.model.clear();
+      console.error('Polyadic: the results view could not show the run.', error);
     });
   }
 
@@ -85,7 +95,7 @@ export class ResultsDocument extends MainAreaWidget<ResultsView> {
 
   /** Whether the view shows a live run (not only the record). */
   get live(): boolean {
-    return this.model.result !== null && !this.model.context.restored;
+    return this.model.pending || (this.model.result !== null && !this.model.context.restored);
   }
 
   /** Dispose the view and its model. */
@@ -227,7 +237,8 @@ export class ResultsDocuments implements IDisposable {
       const record = state ? findAnalysis(state, doc.analysisId) : undefined;
       if (record) {
         doc.setTitle(record.source.frame, record.label);
-        if (doc.model.result === null) {
+        // a live run still being prepared for the view is not replaced by its record
+        if (doc.model.result === null && !doc.model.pending) {
           doc.showRecord(record);
         }
       }
@@ -304,5 +315,12 @@ export namespace ResultsDocuments {
     extras?: (model: ResultsModel) => Widget[];
     /** Translates the views' strings. */
     translator?: ITranslator;
+  }
+}
+
+namespace Private {
+  /** Let the page handle input and paint before the next slice of work. */
+  export function pause(): Promise<void> {
+    return new Promise(resolve => setTimeout(resolve, 0));
   }
 }

@@ -196,63 +196,93 @@ export class ResultsModel {
 
   /** Show a new result; filters, bar and chain start afresh. */
   setResult(result: IAnalysisResult, context: IResultsContext = {}): void {
+    this._ticket++;
     const store = new MultipletStore(result);
+    const parts = new Private.HistogramParts(store, result, context);
+    while (parts.step()) {
+      // every order at once
+    }
+    this._apply(result, context, store, parts.value(), null);
+  }
+
+  /**
+   * Show a new result as {@link setResult} does, its store, histograms and table sorts computed
+   * a slice at a time with `pause()` awaited between slices, so that a result of many
+   * multiplets never holds the page in one long task. The model changes once, when everything
+   * is ready; resolves to false when another result or a clear came first (nothing changes).
+   */
+  async setResultInSlices(result: IAnalysisResult, context: IResultsContext, pause: () => Promise<void>): Promise<boolean> {
+    const ticket = ++this._ticket;
+    this._pending = ticket;
+    try {
+      return await this._setInSlices(ticket, result, context, pause);
+    } finally {
+      if (this._pending === ticket) {
+        this._pending = 0;
+      }
+    }
+  }
+
+  /** Whether a result given to {@link setResultInSlices} is still being prepared. */
+  get pending(): boolean {
+    return this._pending !== 0 && this._pending === this._ticket;
+  }
+
+  private async _setInSlices(
+    ticket: number,
+    result: IAnalysisResult,
+    context: IResultsContext,
+    pause: () => Promise<void>
+  ): Promise<boolean> {
+    const store = await MultipletStore.build(result, pause);
+    if (ticket !== this._ticket) {
+      return false;
+    }
+    const parts = new Private.HistogramParts(store, result, context);
+    while (parts.step()) {
+      await pause();
+      if (ticket !== this._ticket) {
+        return false;
+      }
+    }
+    await pause();
+    const synergy = MultipletTable.prepare('synergy', store);
+    await pause();
+    const redundancy = MultipletTable.prepare('redundancy', store);
+    if (ticket !== this._ticket) {
+      return false;
+    }
+    this._apply(result, context, store, parts.value(), { synergy, redundancy });
+    return true;
+  }
+
+  private _apply(
+    result: IAnalysisResult,
+    context: IResultsContext,
+    store: MultipletStore,
+    parts: Private.IHistogramParts,
+    tables: { synergy: MultipletTable.IPrepared; redundancy: MultipletTable.IPrepared } | null
+  ): void {
     this._result = result;
     this._context = context;
     this._store = store;
     this._source = context.source ?? null;
-    this._histograms = [];
-    this._barOf = new Int16Array(store.size).fill(-1);
+    this._histograms = parts.histograms;
+    this._barOf = parts.barOf;
+    this._inadequate = parts.inadequate;
+    this._higher = parts.higher;
     this._bar = null;
     this._chain = null;
     this._chainError = null;
     this._selected = -1;
-    const byOrder = new Map<number, number[]>();
-    let inadequate = 0;
-    let higher = 0;
-    for (let i = 0; i < store.size; i++) {
-      const k = store.order[i];
-      if (k < 2) {
-        continue;
-      }
-      higher++;
-      if (store.adequacy[i] < 1) {
-        inadequate++;
-      }
-      let list = byOrder.get(k);
-      if (!list) {
-        list = [];
-        byOrder.set(k, list);
-      }
-      list.push(i);
-    }
-    this._inadequate = inadequate;
-    this._higher = higher;
-    for (const k of [...byOrder.keys()].sort((a, b) => a - b)) {
-      const members = byOrder.get(k)!;
-      const values = Float64Array.from(members, i => store.co_information[i]);
-      const recorded = context.histograms?.find(h => h.order === k);
-      const histogram = recorded ?? orderHistogram(k, values);
-      for (const i of members) {
-        this._barOf[i] = binIndexByEdges(histogram.edges, store.co_information[i]);
-      }
-      const band = result.statistics?.null_bands.find(b => b.order === k);
-      this._histograms.push({
-        order: k,
-        edges: histogram.edges,
-        counts: histogram.counts,
-        total: recorded ? recorded.counts.reduce((a, b) => a + b, 0) : members.length,
-        ...(band && band.values > 0 ? { band: { low: band.low, high: band.high, mean: band.mean } } : {}),
-        extremes: Private.extremes(members, store.co_information, ResultsModel.EXTREMES)
-      });
-    }
-    this.synergy.setStore(store);
-    this.redundancy.setStore(store);
+    this.synergy.setStore(store, tables?.synergy);
+    this.redundancy.setStore(store, tables?.redundancy);
     this._changed.emit();
   }
 
   /** Forget the result. */
   clear(): void {
+    this._ticket++;
     this._result = null;
     this._store = null;
     this._source = null;
@@ -434,7 +464,9 @@ export class ResultsModel {
   private _store: MultipletStore | null = null;
   private _source: IEntropySource | null = null;
   private _histograms: IResultsHistogram[] = [];
-  private _barOf = new Int16Array(0);
+  private _barOf: Int16Array = new Int16Array(0);
+  private _ticket = 0;
+  private _pending = 0;
   private _bar: IBarSelection | null = null;
   private _chain: IChainView | null = null;
   private _chainError: string | null = null;
@@ -458,6 +490,81 @@ export namespace ResultsModel {
 }
 
 namespace Private {
+  /** What the histograms of a result are made of, and which bar each multiplet falls in. */
+  export interface IHistogramParts {
+    histograms: IResultsHistogram[];
+    barOf: Int16Array;
+    inadequate: number;
+    higher: number;
+  }
+
+  /** Computes the order histograms of a store one order per {@link step}. */
+  export class HistogramParts {
+    constructor(
+      private readonly _store: MultipletStore,
+      private readonly _result: IAnalysisResult,
+      private readonly _context: IResultsContext
+    ) {
+      const store = _store;
+      this._barOf = new Int16Array(store.size).fill(-1);
+      const byOrder = new Map<number, number[]>();
+      for (let i = 0; i < store.size; i++) {
+        const k = store.order[i];
+        if (k < 2) {
+          continue;
+        }
+        this._higher++;
+        if (store.adequacy[i] < 1) {
+          this._inadequate++;
+        }
+        let list = byOrder.get(k);
+        if (!list) {
+          list = [];
+          byOrder.set(k, list);
+        }
+        list.push(i);
+      }
+      this._orders = [...byOrder.keys()].sort((a, b) => a - b).map(k => [k, byOrder.get(k)!] as const);
+    }
+
+    /** Compute the next order's histogram; false once every order is done. */
+    step(): boolean {
+      const next = this._orders[this._histograms.length];
+      if (next === undefined) {
+        return false;
+      }
+      const [k, members] = next;
+      const store = this._store;
+      const values = Float64Array.from(members, i => store.co_information[i]);
+      const recorded = this._context.histograms?.find(h => h.order === k);
+      const histogram = recorded ?? orderHistogram(k, values);
+      for (const i of members) {
+        this._barOf[i] = binIndexByEdges(histogram.edges, store.co_information[i]);
+      }
+      const band = this._result.statistics?.null_bands.find(b => b.order === k);
+      this._histograms.push({
+        order: k,
+        edges: histogram.edges,
+        counts: histogram.counts,
+        total: recorded ? recorded.counts.reduce((a, b) => a + b, 0) : members.length,
+        ...(band && band.values > 0 ? { band: { low: band.low, high: band.high, mean: band.mean } } : {}),
+        extremes: extremes(members, store.co_information, ResultsModel.EXTREMES)
+      });
+      return true;
+    }
+
+    /** The parts, once {@link step} has returned false. */
+    value(): IHistogramParts {
+      return { histograms: this._histograms, barOf: this._barOf, inadequate: this._inadequate, higher: this._higher };
+    }
+
+    private readonly _barOf: Int16Array;
+    private readonly _orders: (readonly [number, number[]])[];
+    private readonly _histograms: IResultsHistogram[] = [];
+    private _inadequate = 0;
+    private _higher = 0;
+  }
+
   /**
    * The `count` members of least value (most negative first) and then the `count` of greatest
    * value (most positive first), each member once; one pass with two small sorted lists.

@@ -60,29 +60,21 @@ export const RESULTS_COLUMNS: readonly { key: ResultsColumnKey; label: string }[
 /** Column-wise copy of a result's multiplet rows. */
 export class MultipletStore {
   /** Build the store of `result`; the row objects are kept by reference, not copied. */
-  constructor(result: IAnalysisResult) {
+  constructor(result: IAnalysisResult, filled = true) {
     const rows = result.multiplets;
     const n = rows.length;
     this.rows = rows;
+    this._rowsUsed = result.rows_used;
     this.columnNames = result.columns.map(column => column.name);
     this.bins = result.columns.map(column => column.bins);
-    const indexOfName = new Map<string, number>();
-    this.columnNames.forEach((name, i) => indexOfName.set(name, i));
-
+    this.columnNames.forEach((name, i) => this._indexOfName.set(name, i));
     this.order = new Uint8Array(n);
     this.co_information = new Float64Array(n);
     this.o_information = new Float64Array(n);
     this.total_correlation = new Float64Array(n);
     this.dual_total_correlation = new Float64Array(n);
     this.adequacy = new Float64Array(n);
-    const evidence = new Map<EvidenceColumnKey, Float64Array>();
-    for (const column of EVIDENCE_COLUMNS) {
-      if (rows.some(row => row[column.key] !== undefined)) {
-        // a value not computed for a row (null) is NaN: it sorts last and shows as a dash
-        evidence.set(column.key, Float64Array.from(rows, row => row[column.key] ?? Number.NaN));
-      }
-    }
-    this.evidence = evidence;
+    this.evidence = new Map<EvidenceColumnKey, Float64Array>();
     this.alpha = result.statistics?.alpha ?? null;
     this.memberStart = new Int32Array(n + 1);
     let memberTotal = 0;
@@ -90,8 +82,43 @@ export class MultipletStore {
       memberTotal += rows[i].columns.length;
     }
     this.members = new Int32Array(memberTotal);
-    let position = 0;
-    for (let i = 0; i < n; i++) {
+    this._candidates = EVIDENCE_COLUMNS.map(column => ({ key: column.key, values: new Float64Array(0), seen: false }));
+    if (filled) {
+      this._fill(n);
+    }
+  }
+
+  /**
+   * The store of `result`, its rows read in slices of about `sliceMs` milliseconds with
+   * `pause()` awaited between them, so that a result of many multiplets never holds the page.
+   */
+  static async build(
+    result: IAnalysisResult,
+    pause: () => Promise<void>,
+    options: { sliceMs?: number; now?: () => number } = {}
+  ): Promise<MultipletStore> {
+    const store = new MultipletStore(result, false);
+    const sliceMs = options.sliceMs ?? 20;
+    const now = options.now ?? (() => performance.now());
+    const n = result.multiplets.length;
+    for (;;) {
+      const until = now() + sliceMs;
+      do {
+        store._fill(Math.min(n, store._next + Private.SLICE_ROWS));
+      } while (store._next < n && now() < until);
+      if (store._next >= n) {
+        return store;
+      }
+      await pause();
+    }
+  }
+
+  /** Read the rows from the last one read up to (not including) `end`; the last row completes the store. */
+  private _fill(end: number): void {
+    const rows = this.rows;
+    const n = rows.length;
+    let position = this.memberStart[this._next];
+    for (let i = this._next; i < end; i++) {
       const row = rows[i];
       this.order[i] = row.order;
       this.co_information[i] = row.co_information;
@@ -99,9 +126,20 @@ export class MultipletStore {
       this.total_correlation[i] = row.total_correlation;
       this.dual_total_correlation[i] = row.dual_total_correlation;
       this.memberStart[i] = position;
+      for (const candidate of this._candidates) {
+        const value = row[candidate.key];
+        if (value !== undefined && !candidate.seen) {
+          // a value not computed for a row (null) is NaN: it sorts last and shows as a dash
+          candidate.seen = true;
+          candidate.values = new Float64Array(n).fill(Number.NaN);
+        }
+        if (candidate.seen) {
+          candidate.values[i] = value ?? Number.NaN;
+        }
+      }
       let cells = 1;
       for (const name of row.columns) {
-        const column = indexOfName.get(name);
+        const column = this._indexOfName.get(name);
         if (column === undefined) {
           throw new Error(`Multiplet ${i + 1} names a column '${name}' that the result does not list.`);
         }
@@ -109,10 +147,25 @@ export class MultipletStore {
         cells *= this.bins[column];
       }
       // Adequacy: rows used per possible joint cell (DESIGN.md §3).
-      this.adequacy[i] = result.rows_used / cells;
+      this.adequacy[i] = this._rowsUsed / cells;
     }
-    this.memberStart[n] = position;
+    this.memberStart[end] = position;
+    this._next = end;
+    if (end >= n) {
+      const evidence = this.evidence as Map<EvidenceColumnKey, Float64Array>;
+      for (const candidate of this._candidates) {
+        if (candidate.seen) {
+          evidence.set(candidate.key, candidate.values);
+        }
+      }
+      this._candidates = [];
+    }
   }
+
+  private readonly _rowsUsed: number;
+  private readonly _indexOfName = new Map<string, number>();
+  private _candidates: { key: EvidenceColumnKey; values: Float64Array; seen: boolean }[];
+  private _next = 0;
 
   /** The rows, as the result lists them. */
   readonly rows: readonly IMultipletRow[];
@@ -170,4 +223,9 @@ export class MultipletStore {
   namesOf(index: number): string[] {
     return this.rows[index].columns;
   }
+}
+
+namespace Private {
+  /** Rows read between two looks at the clock. */
+  export const SLICE_ROWS = 2048;
 }

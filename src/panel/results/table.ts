@@ -99,21 +99,21 @@ export class MultipletTable {
     return this._visible.subarray(start, Math.min(start + this._pageSize, this._visible.length));
   }
 
-  /** Show the rows of `store` on this side (order ≥ 2 and the side's sign), default sort, page 0. */
-  setStore(store: MultipletStore | null): void {
+  /**
+   * Show the rows of `store` on this side (order ≥ 2 and the side's sign), default sort, page 0;
+   * `prepared` is what {@link MultipletTable.prepare} computed for this side of the same store.
+   */
+  setStore(store: MultipletStore | null, prepared?: MultipletTable.IPrepared): void {
     this._store = store;
-    const side: number[] = [];
-    if (store) {
-      const sign = this.side === 'synergy' ? -1 : 1;
-      for (let i = 0; i < store.size; i++) {
-        if (store.order[i] >= 2 && Math.sign(store.co_information[i]) === sign) {
-          side.push(i);
-        }
-      }
-    }
-    this._side = Uint32Array.from(side);
     this._sort = MultipletTable.defaultSort(this.side);
     this._filter = { column: '', order: null, mask: null, qAtMost: null };
+    if (store !== null && prepared !== undefined) {
+      this._side = prepared.side;
+      this._sorted = prepared.sorted;
+      this._refilter();
+      return;
+    }
+    this._side = store === null ? new Uint32Array(0) : MultipletTable.sideOf(this.side, store);
     this._resort();
   }
 
@@ -263,6 +263,34 @@ export namespace MultipletTable {
     side: TableSide;
     /** Rows per page; default {@link DEFAULT_PAGE_SIZE}. */
     pageSize?: number;
+  }
+
+  /** A side's rows of a store and their default sort, computed ahead of {@link MultipletTable.setStore}. */
+  export interface IPrepared {
+    /** Store indices of the side's rows, in store order. */
+    side: Uint32Array;
+    /** The same in the side's default sort. */
+    sorted: Uint32Array;
+  }
+
+  /** Store indices of the rows of order ≥ 2 with the side's sign of co-information. */
+  export function sideOf(side: TableSide, store: MultipletStore): Uint32Array {
+    const sign = side === 'synergy' ? -1 : 1;
+    const out = new Uint32Array(store.size);
+    let count = 0;
+    for (let i = 0; i < store.size; i++) {
+      if (store.order[i] >= 2 && Math.sign(store.co_information[i]) === sign) {
+        out[count++] = i;
+      }
+    }
+    return out.slice(0, count);
+  }
+
+  /** The rows of `side` and their default sort (co-information, the side's strongest first). */
+  export function prepare(side: TableSide, store: MultipletStore): IPrepared {
+    const rows = sideOf(side, store);
+    const { descending } = defaultSort(side);
+    return { side: rows, sorted: argsortByValue(rows, store.co_information, descending) };
   }
 
   /** Rows per page unless told otherwise. */
