@@ -1,6 +1,6 @@
 /**
  * `polyadic analyze FILE --via duckdb`: DuckDB (its Node binding, embedded and out of core) scans
- * a Parquet file, bins every selected column in SQL with the edges the in-memory engine would
+ * a Parquet file (or a CSV/TSV file typed once into a temporary Parquet file, see duckdb-csv.ts), bins every selected column in SQL with the edges the in-memory engine would
  * compute, and `GROUP BY`s the binned columns into distinct joint rows with their counts. Node
  * never holds the file's rows: it receives column summaries (counts, extremes, exact order
  * statistics, and for scott/doane the column streamed in chunks for numpy's pairwise sums) and
@@ -44,6 +44,7 @@ import { cubeRounded } from '../engine/floatmath';
 import { unknownColumn } from '../engine/table';
 import { formatCount } from '../engine/text';
 import type { IAnalysisResult, IAnalyzeOptions, MissingPolicy } from '../engine/types';
+import { delimitedHeader, duckdbFormatOf, stageDelimitedText } from './duckdb-csv';
 
 /** The npm package and version the DuckDB path uses (package.json pins the same). */
 export const DUCKDB_PACKAGE = '@duckdb/node-api@1.5.6-r.1';
@@ -124,13 +125,20 @@ export async function aggregateWithDuckDB(
   limits: IDuckDBLimits = {}
 ): Promise<IDuckDBAggregate> {
   const maxDistinctRows = limits.maxDistinctRows ?? MAX_DISTINCT_ROWS;
-  Private.checkParquet(filePath);
+  const format = duckdbFormatOf(filePath);
   const duckdb = await loadDuckDB();
   const instance = await duckdb.DuckDBInstance.create(':memory:');
   const connection = await instance.connect();
+  // CSV/TSV: typed once into a temporary Parquet file, which the rest scans (see duckdb-csv.ts)
+  const staged = format === 'parquet' ? null : await stageDelimitedText(connection, filePath, format).catch(error => {
+    connection.closeSync();
+    instance.closeSync();
+    throw error;
+  });
+  const parquet = staged?.parquet ?? filePath;
   try {
-    const source = Private.sourceOf(filePath);
-    const schema = await Private.describe(connection, filePath);
+    const source = Private.sourceOf(parquet);
+    const schema = await Private.describe(connection, parquet);
     const names = schema.map(column => column.name);
     const selected = options.columns ?? names;
     for (const name of selected) {
@@ -172,12 +180,16 @@ export async function aggregateWithDuckDB(
   } finally {
     connection.closeSync();
     instance.closeSync();
+    await staged?.remove();
   }
 }
 
 /** The column names of a Parquet file as DuckDB reads them (for checking options before the run). */
 export async function duckdbColumnNames(filePath: string): Promise<string[]> {
-  Private.checkParquet(filePath);
+  const format = duckdbFormatOf(filePath);
+  if (format !== 'parquet') {
+    return await delimitedHeader(filePath, format);
+  }
   const duckdb = await loadDuckDB();
   const instance = await duckdb.DuckDBInstance.create(':memory:');
   const connection = await instance.connect();
@@ -238,17 +250,6 @@ export async function analyzeViaDuckDB(
 }
 
 namespace Private {
-  /** Refuse a file that is not Parquet. */
-  export function checkParquet(filePath: string): void {
-    if (path.extname(filePath).toLowerCase() !== '.parquet') {
-      throw new PolyadicError(
-        'usage',
-        `--via duckdb reads Parquet files (.parquet); '${filePath}' is not one. Convert it to Parquet, or leave out --via.`,
-        { option: '--via', value: filePath }
-      );
-    }
-  }
-
   /** The table function that reads the file, with each row's number in the file. */
   export function sourceOf(filePath: string): string {
     return `read_parquet(${quoteString(filePath)}, file_row_number = true)`;

@@ -78,7 +78,7 @@ Options:
                         multiplets of order 2 and above
   --threads N           worker threads (default: all cores); results are identical
                         for any number
-  --via duckdb          read a .parquet file with DuckDB (npm package @duckdb/node-api),
+  --via duckdb          read a .parquet, .csv or .tsv file with DuckDB (npm package @duckdb/node-api),
                         which bins every column with the same edges and counts the
                         distinct binned rows, which the walk takes with their counts:
                         the rows never enter this process, and the JSON is the same

@@ -130,7 +130,7 @@ describe('analyzeViaDuckDB', () => {
   it('should refuse what needs the rows, and files that are not Parquet', async () => {
     await expect(analyzeViaDuckDB(file, { statistics: { surrogates: 10 } })).rejects.toThrow(/--surrogates is not available/);
     await expect(analyzeViaDuckDB(file, { estimator: 'gaussian-copula' })).rejects.toThrow(/Gaussian-copula/);
-    await expect(analyzeViaDuckDB(path.join(dir, 'fixture.csv'), {})).rejects.toThrow(/reads Parquet files/);
+    await expect(analyzeViaDuckDB(path.join(dir, 'fixture.json'), {})).rejects.toThrow(/reads Parquet \(\.parquet\), CSV/);
   });
 
   describe('past the cap on distinct rows', () => {
