@@ -209,7 +209,7 @@ export async function analyzeViaDuckDB(
   filePath: string,
   options: IAnalyzeOptions,
   limits: IDuckDBLimits = {}
-): Promise<{ result: IAnalysisResult; note: string }> {
+): Promise<{ result: IAnalysisResult; note: string; scan: IDuckDBScan | null }> {
   if (options.estimator === 'gaussian-copula') {
     throw new PolyadicError(
       'usage',
@@ -221,20 +221,33 @@ export async function analyzeViaDuckDB(
   const statistics = options.statistics ?? {};
   for (const [key, flag] of [
     ['surrogates', '--surrogates'],
-    ['bootstrap', '--bootstrap'],
-    ['beyondPairs', '--beyond-pairs'],
     ['sharpen', '--sharpen']
   ] as const) {
     if ((statistics[key] ?? 0) > 0) {
       throw new PolyadicError(
         'usage',
-        `${flag} is not available with --via duckdb yet: surrogates shuffle each column's rows, which an aggregated ` +
-          'table no longer has, and the resampling of weighted rows is still to come; leave out --via for it.',
+        `${flag} is not available with --via duckdb: surrogates shuffle each column's rows on its own, which the ` +
+          'distinct joint rows with their counts no longer have; leave out --via for it (--bootstrap and ' +
+          '--beyond-pairs work with --via duckdb).',
         { option: flag }
       );
     }
   }
   const aggregate = await aggregateWithDuckDB(filePath, options, limits);
+  for (const [key, flag, verb] of [
+    ['bootstrap', '--bootstrap', 'resamples'],
+    ['beyondPairs', '--beyond-pairs', 'fits the counts of']
+  ] as const) {
+    if (aggregate.lattice !== null && (statistics[key] ?? 0) > 0) {
+      throw new PolyadicError(
+        'limit',
+        `${flag} ${verb} the distinct joint rows, and these columns have more than ` +
+          `${formatCount(limits.maxDistinctRows ?? MAX_DISTINCT_ROWS)} of them, so each multiplet was counted on its own ` +
+          'and there are no joint rows; select fewer columns or use fewer bins for it, or leave it out.',
+        { option: flag }
+      );
+    }
+  }
   const prepared = aggregate.prepared;
   const result = analyzeCodes(prepared, options, aggregate.lattice ?? undefined);
   const note =
@@ -246,7 +259,16 @@ export async function analyzeViaDuckDB(
         `${formatCount(aggregate.lattice.indexing.size - 1)} multiplets up to order ${aggregate.lattice.indexing.maxOrder} ` +
         `was counted in DuckDB on its own (GROUP BY … GROUPING SETS, ${formatCount(aggregate.queries)} ` +
         `${aggregate.queries === 1 ? 'query' : 'queries'}, each a scan of the file) instead of by the walk; the values are the same.`;
-  return { result, note };
+  const scan: IDuckDBScan | null =
+    aggregate.lattice === null ? { engine: { name: 'duckdb', version: aggregate.engineVersion }, table: prepared } : null;
+  return { result, note, scan };
+}
+
+/** What a record of a DuckDB run keeps of the scan: DuckDB's version and the weighted table walked. */
+export interface IDuckDBScan {
+  engine: { name: 'duckdb'; version: string };
+  /** The prepared weighted codes (after the missing-value policy), as the walk took them. */
+  table: IWeightedCodes;
 }
 
 namespace Private {
