@@ -300,9 +300,14 @@ namespace Private {
     if (changed) {
       return { ok: false, text: `DATA CHANGED: ${changed}` };
     }
+    return rerunOutcome(analysis, () => rerunDifferences(analysis, source.columns), 'reproduced');
+  }
+
+  /** The verdict of a re-run: its differences, or 'reproduced' (`reproduced`: the word, with how) and the count of values. */
+  function rerunOutcome(analysis: IAnalysisRecord, rerun: () => string[], reproduced: string): IOutcome {
     let differences: string[];
     try {
-      differences = rerunDifferences(analysis, source.columns);
+      differences = rerun();
     } catch (error) {
       if (isPolyadicError(error) && error.kind !== 'internal') {
         return { ok: false, text: `DIFFERS: the re-run with the recorded settings fails: ${error.message}` };
@@ -314,7 +319,7 @@ namespace Private {
       return { ok: false, text: `DIFFERS: ${differences.slice(0, 3).join('; ')}${more}` };
     }
     const exact = sameEngine(analysis) ? 'identical' : `within ${CROSS_VERSION_TOLERANCE} (recorded with ${analysis.engine.name} ${analysis.engine.version})`;
-    return { ok: true, text: `reproduced (${plural(countValues(analysis), 'value')} ${exact})` };
+    return { ok: true, text: `${reproduced} (${plural(countValues(analysis), 'value')} ${exact})` };
   }
 
   /** Why the data differs from the recorded fingerprint, or null when it matches. */
@@ -464,22 +469,8 @@ namespace Private {
         text: `DATA CHANGED: fingerprint ${recorded.slice(0, 12)}… recorded, ${now.sha256.slice(0, 12)}… now` + (reasons.length ? ` (${reasons.join('; ')})` : '')
       };
     }
-    let differences: string[];
-    try {
-      differences = rerunDifferences(analysis, null, prepared);
-    } catch (error) {
-      if (isPolyadicError(error) && error.kind !== 'internal') {
-        return { ok: false, text: `DIFFERS: the re-run with the recorded settings fails: ${error.message}` };
-      }
-      throw error;
-    }
-    if (differences.length > 0) {
-      const more = differences.length > 3 ? ` (and ${differences.length - 3} more)` : '';
-      return { ok: false, text: `DIFFERS: ${differences.slice(0, 3).join('; ')}${more}` };
-    }
-    const exact = sameEngine(analysis) ? 'identical' : `within ${CROSS_VERSION_TOLERANCE} (recorded with ${analysis.engine.name} ${analysis.engine.version})`;
     const how = via === 'duckdb' ? 'through DuckDB' : 'in memory';
-    return { ok: true, text: `reproduced ${how} (${plural(countValues(analysis), 'value')} ${exact})` };
+    return rerunOutcome(analysis, () => rerunDifferences(analysis, null, prepared), `reproduced ${how}`);
   }
 
   /**
