@@ -1,6 +1,6 @@
 /**
  * `polyadic analyze FILE --via duckdb`: DuckDB (its Node binding, embedded and out of core) scans
- * a Parquet file, bins every selected column in SQL with the edges the in-memory engine would
+ * a Parquet file (or a CSV/TSV file typed once into a temporary Parquet file, see duckdb-csv.ts), bins every selected column in SQL with the edges the in-memory engine would
  * compute, and `GROUP BY`s the binned columns into distinct joint rows with their counts. Node
  * never holds the file's rows: it receives column summaries (counts, extremes, exact order
  * statistics, and for scott/doane the column streamed in chunks for numpy's pairwise sums) and
@@ -44,6 +44,7 @@ import { cubeRounded } from '../engine/floatmath';
 import { unknownColumn } from '../engine/table';
 import { formatCount } from '../engine/text';
 import type { IAnalysisResult, IAnalyzeOptions, MissingPolicy } from '../engine/types';
+import { delimitedHeader, duckdbFormatOf, stageDelimitedText } from './duckdb-csv';
 
 /** The npm package and version the DuckDB path uses (package.json pins the same). */
 export const DUCKDB_PACKAGE = '@duckdb/node-api@1.5.6-r.1';
@@ -124,13 +125,20 @@ export async function aggregateWithDuckDB(
   limits: IDuckDBLimits = {}
 ): Promise<IDuckDBAggregate> {
   const maxDistinctRows = limits.maxDistinctRows ?? MAX_DISTINCT_ROWS;
-  Private.checkParquet(filePath);
+  const format = duckdbFormatOf(filePath);
   const duckdb = await loadDuckDB();
   const instance = await duckdb.DuckDBInstance.create(':memory:');
   const connection = await instance.connect();
+  // CSV/TSV: typed once into a temporary Parquet file, which the rest scans (see duckdb-csv.ts)
+  const staged = format === 'parquet' ? null : await stageDelimitedText(connection, filePath, format).catch(error => {
+    connection.closeSync();
+    instance.closeSync();
+    throw error;
+  });
+  const parquet = staged?.parquet ?? filePath;
   try {
-    const source = Private.sourceOf(filePath);
-    const schema = await Private.describe(connection, filePath);
+    const source = Private.sourceOf(parquet);
+    const schema = await Private.describe(connection, parquet);
     const names = schema.map(column => column.name);
     const selected = options.columns ?? names;
     for (const name of selected) {
@@ -172,12 +180,16 @@ export async function aggregateWithDuckDB(
   } finally {
     connection.closeSync();
     instance.closeSync();
+    await staged?.remove();
   }
 }
 
 /** The column names of a Parquet file as DuckDB reads them (for checking options before the run). */
 export async function duckdbColumnNames(filePath: string): Promise<string[]> {
-  Private.checkParquet(filePath);
+  const format = duckdbFormatOf(filePath);
+  if (format !== 'parquet') {
+    return await delimitedHeader(filePath, format);
+  }
   const duckdb = await loadDuckDB();
   const instance = await duckdb.DuckDBInstance.create(':memory:');
   const connection = await instance.connect();
@@ -197,7 +209,7 @@ export async function analyzeViaDuckDB(
   filePath: string,
   options: IAnalyzeOptions,
   limits: IDuckDBLimits = {}
-): Promise<{ result: IAnalysisResult; note: string }> {
+): Promise<{ result: IAnalysisResult; note: string; scan: IDuckDBScan | null }> {
   if (options.estimator === 'gaussian-copula') {
     throw new PolyadicError(
       'usage',
@@ -209,20 +221,33 @@ export async function analyzeViaDuckDB(
   const statistics = options.statistics ?? {};
   for (const [key, flag] of [
     ['surrogates', '--surrogates'],
-    ['bootstrap', '--bootstrap'],
-    ['beyondPairs', '--beyond-pairs'],
     ['sharpen', '--sharpen']
   ] as const) {
     if ((statistics[key] ?? 0) > 0) {
       throw new PolyadicError(
         'usage',
-        `${flag} is not available with --via duckdb yet: surrogates shuffle each column's rows, which an aggregated ` +
-          'table no longer has, and the resampling of weighted rows is still to come; leave out --via for it.',
+        `${flag} is not available with --via duckdb: surrogates shuffle each column's rows on its own, which the ` +
+          'distinct joint rows with their counts no longer have; leave out --via for it (--bootstrap and ' +
+          '--beyond-pairs work with --via duckdb).',
         { option: flag }
       );
     }
   }
   const aggregate = await aggregateWithDuckDB(filePath, options, limits);
+  for (const [key, flag, verb] of [
+    ['bootstrap', '--bootstrap', 'resamples'],
+    ['beyondPairs', '--beyond-pairs', 'fits the counts of']
+  ] as const) {
+    if (aggregate.lattice !== null && (statistics[key] ?? 0) > 0) {
+      throw new PolyadicError(
+        'limit',
+        `${flag} ${verb} the distinct joint rows, and these columns have more than ` +
+          `${formatCount(limits.maxDistinctRows ?? MAX_DISTINCT_ROWS)} of them, so each multiplet was counted on its own ` +
+          'and there are no joint rows; select fewer columns or use fewer bins for it, or leave it out.',
+        { option: flag }
+      );
+    }
+  }
   const prepared = aggregate.prepared;
   const result = analyzeCodes(prepared, options, aggregate.lattice ?? undefined);
   const note =
@@ -234,21 +259,19 @@ export async function analyzeViaDuckDB(
         `${formatCount(aggregate.lattice.indexing.size - 1)} multiplets up to order ${aggregate.lattice.indexing.maxOrder} ` +
         `was counted in DuckDB on its own (GROUP BY … GROUPING SETS, ${formatCount(aggregate.queries)} ` +
         `${aggregate.queries === 1 ? 'query' : 'queries'}, each a scan of the file) instead of by the walk; the values are the same.`;
-  return { result, note };
+  const scan: IDuckDBScan | null =
+    aggregate.lattice === null ? { engine: { name: 'duckdb', version: aggregate.engineVersion }, table: prepared } : null;
+  return { result, note, scan };
+}
+
+/** What a record of a DuckDB run keeps of the scan: DuckDB's version and the weighted table walked. */
+export interface IDuckDBScan {
+  engine: { name: 'duckdb'; version: string };
+  /** The prepared weighted codes (after the missing-value policy), as the walk took them. */
+  table: IWeightedCodes;
 }
 
 namespace Private {
-  /** Refuse a file that is not Parquet. */
-  export function checkParquet(filePath: string): void {
-    if (path.extname(filePath).toLowerCase() !== '.parquet') {
-      throw new PolyadicError(
-        'usage',
-        `--via duckdb reads Parquet files (.parquet); '${filePath}' is not one. Convert it to Parquet, or leave out --via.`,
-        { option: '--via', value: filePath }
-      );
-    }
-  }
-
   /** The table function that reads the file, with each row's number in the file. */
   export function sourceOf(filePath: string): string {
     return `read_parquet(${quoteString(filePath)}, file_row_number = true)`;

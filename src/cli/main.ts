@@ -78,14 +78,15 @@ Options:
                         multiplets of order 2 and above
   --threads N           worker threads (default: all cores); results are identical
                         for any number
-  --via duckdb          read a .parquet file with DuckDB (npm package @duckdb/node-api),
+  --via duckdb          read a .parquet, .csv or .tsv file with DuckDB (npm package @duckdb/node-api),
                         which bins every column with the same edges and counts the
                         distinct binned rows, which the walk takes with their counts:
                         the rows never enter this process, and the JSON is the same
                         as without --via, bit for bit. Numbers, booleans and
                         text only; at most ${formatCount(MAX_DISTINCT_ROWS)} distinct binned rows and
-                        ${formatCount(MAX_SQL_BINS)} bins per column; no --surrogates, --bootstrap,
-                        --beyond-pairs or gaussian-copula (they need the rows)
+                        ${formatCount(MAX_SQL_BINS)} bins per column; --bootstrap resamples the
+                        weighted rows (multinomial), --beyond-pairs fits their counts;
+                        no --surrogates, --sharpen or gaussian-copula (they need the rows)
   --chain a,b,c         add a conditioning chain along that ordering of columns (two
                         up to the maximum order) to the JSON as 'chains': the
                         co-information of each prefix from the pair on ('values') and

@@ -116,16 +116,7 @@ export function readDelimitedText(
     );
   }
   const names = rows[0];
-  names.forEach((name, index) => {
-    if (name.trim() === '') {
-      throw new PolyadicError(
-        'input',
-        `${label}, line 1: column ${index + 1} of the header has no name; give every column a name.`,
-        { line: 1, column: `#${index + 1}` }
-      );
-    }
-  });
-  checkUniqueNames(names);
+  checkHeaderNames(names, label);
   if (rows.length === 1) {
     throw new PolyadicError('input', `${label} has a header row but no data rows.`, { line: 2 });
   }
@@ -151,6 +142,20 @@ export function readDelimitedText(
   });
   const lineOfRow = (row: number): number => Private.lineOfRow(text, delimiter, row + 1);
   return { format, names, rows: rowCount, columns, lineOfRow };
+}
+
+/** Refuse a CSV/TSV header with an unnamed or a repeated column (the error names it). */
+export function checkHeaderNames(names: readonly string[], label: string): void {
+  names.forEach((name, index) => {
+    if (name.trim() === '') {
+      throw new PolyadicError(
+        'input',
+        `${label}, line 1: column ${index + 1} of the header has no name; give every column a name.`,
+        { line: 1, column: `#${index + 1}` }
+      );
+    }
+  });
+  checkUniqueNames(names);
 }
 
 /** Read Arrow IPC bytes (file or stream format, uncompressed). */

@@ -36,6 +36,8 @@ import type { ColumnView, IAnalysisResult, IColumnBinning, Units } from '../engi
 import { formatCount, plural, wordFor } from '../engine/text';
 import { ENGINE_NAME, ENGINE_VERSION } from '../engine/version';
 import { fingerprintColumns } from '../record/fingerprint';
+import { fingerprintScan, sortedWeightedTable } from '../record/scan-fingerprint';
+import type { IPreparedCodes } from '../engine/binning';
 import { compareFingerprint, optionsFromRecord, statisticsOptionsFromRecord } from '../record/settings';
 import { robustnessBlockOf, robustnessRerunOf } from '../record/robustness';
 import { readRecords } from '../record/store';
@@ -44,6 +46,7 @@ import { evidenceSummaryOf, multipletSummary, statisticsSettingsOf } from '../re
 import type { IAnalysisRecord, IMultipletSummary } from '../record/types';
 import { EVIDENCE_FIELDS } from '../results-format';
 import { EXIT, ICliStreams, oneLine, parseCommandLine, reportFailure } from './core';
+import { aggregateWithDuckDB, type IDuckDBAggregate } from './duckdb';
 import { readDataFile, type IDataSource } from './readers';
 
 /** The exit codes of verify (core.ts's, under verify's names). */
@@ -68,8 +71,14 @@ p, q, null, interval and band is compared the same way. An analysis that
 recorded a robustness run has it re-run with the recorded variants and N, and
 every verdict, Kendall's tau and top-10 overlap is compared the same way.
 
+An analysis of a scanned source (its record's origin is 'scan', e.g. from
+analyze --via duckdb) has its fingerprint over the sorted weighted table of
+distinct binned rows; it is re-derived in memory, or through DuckDB with
+--via duckdb (Parquet, CSV or TSV), and compared the same way.
+
 Options:
   --data NAME=PATH      the data file of frame NAME; repeat for several frames
+  --via duckdb          re-derive scanned analyses through DuckDB
   -h, --help            show this help
 
 Exit codes: 0 all analyses reproduce, 1 at least one does not, 2 bad input.
@@ -103,7 +112,11 @@ export async function runVerify(args: string[], io: ICliStreams): Promise<number
     const head = `${analysis.id}  ${oneLine(analysis.label)}  `;
     let outcome: Private.IOutcome;
     try {
-      outcome = await Private.verifyAnalysis(analysis, parsed.data.get(analysis.source.frame) as string, sources);
+      const file = parsed.data.get(analysis.source.frame) as string;
+      outcome =
+        analysis.source.origin?.kind === 'scan' || parsed.via === 'duckdb'
+          ? await Private.verifyScan(analysis, file, parsed.via, sources)
+          : await Private.verifyAnalysis(analysis, file, sources);
     } catch (error) {
       if (isPolyadicError(error) && error.kind !== 'internal') {
         badInput = true;
@@ -132,6 +145,8 @@ namespace Private {
     notebook: string;
     /** Frame name → data file path. */
     data: Map<string, string>;
+    /** Re-derive scanned records through DuckDB (else in memory). */
+    via?: 'duckdb';
   }
 
   /** The verdict on one analysis. */
@@ -142,7 +157,11 @@ namespace Private {
 
   /** Parse the arguments strictly; usage errors name the option or value at fault. */
   export function parseCommand(args: string[]): ICommand | 'help' {
-    const parsed = parseCommandLine(args, { data: { type: 'string', multiple: true }, help: { type: 'boolean', short: 'h' } }, 'verify');
+    const parsed = parseCommandLine(
+      args,
+      { data: { type: 'string', multiple: true }, via: { type: 'string' }, help: { type: 'boolean', short: 'h' } },
+      'verify'
+    );
     if (parsed.values.help) {
       return 'help';
     }
@@ -170,7 +189,11 @@ namespace Private {
       }
       data.set(name, text.slice(at + 1));
     }
-    return { notebook, data };
+    const via = parsed.values.via as string | undefined;
+    if (via !== undefined && via !== 'duckdb') {
+      throw new PolyadicError('usage', `--via takes duckdb, not '${via}'.`, { option: '--via', value: via });
+    }
+    return { notebook, data, via: via === 'duckdb' ? 'duckdb' : undefined };
   }
 
   /** The analyses recorded in a notebook file; errors name the file and, for a bad record, the path. */
@@ -277,9 +300,14 @@ namespace Private {
     if (changed) {
       return { ok: false, text: `DATA CHANGED: ${changed}` };
     }
+    return rerunOutcome(analysis, () => rerunDifferences(analysis, source.columns), 'reproduced');
+  }
+
+  /** The verdict of a re-run: its differences, or 'reproduced' (`reproduced`: the word, with how) and the count of values. */
+  function rerunOutcome(analysis: IAnalysisRecord, rerun: () => string[], reproduced: string): IOutcome {
     let differences: string[];
     try {
-      differences = rerunDifferences(analysis, source.columns);
+      differences = rerun();
     } catch (error) {
       if (isPolyadicError(error) && error.kind !== 'internal') {
         return { ok: false, text: `DIFFERS: the re-run with the recorded settings fails: ${error.message}` };
@@ -291,7 +319,7 @@ namespace Private {
       return { ok: false, text: `DIFFERS: ${differences.slice(0, 3).join('; ')}${more}` };
     }
     const exact = sameEngine(analysis) ? 'identical' : `within ${CROSS_VERSION_TOLERANCE} (recorded with ${analysis.engine.name} ${analysis.engine.version})`;
-    return { ok: true, text: `reproduced (${plural(countValues(analysis), 'value')} ${exact})` };
+    return { ok: true, text: `${reproduced} (${plural(countValues(analysis), 'value')} ${exact})` };
   }
 
   /** Why the data differs from the recorded fingerprint, or null when it matches. */
@@ -332,11 +360,11 @@ namespace Private {
   }
 
   /** Re-run with the recorded settings; every difference from the record, as text. */
-  function rerunDifferences(analysis: IAnalysisRecord, columns: ColumnView[]): string[] {
+  function rerunDifferences(analysis: IAnalysisRecord, columns: ColumnView[] | null, given?: IPreparedCodes): string[] {
     const equal = sameEngine(analysis) ? (a: number, b: number) => a === b : withinTolerance;
     const differences: string[] = [];
     const options = optionsFromRecord(analysis);
-    const prepared = prepareColumns(columns, options);
+    const prepared = given ?? prepareColumns(columns as ColumnView[], options);
     prepared.binnings.forEach((binning, i) => {
       differences.push(...binningDifferences(analysis.binning[i], binning, equal));
     });
@@ -368,8 +396,81 @@ namespace Private {
     const statistics = statisticsOptionsFromRecord(analysis);
     const result = analyzeCodes(prepared, { ...options, ...(statistics ? { statistics } : {}) }, lattice);
     differences.push(...evidenceDifferences(analysis, result, equal));
-    differences.push(...robustnessDifferences(analysis, columns, equal));
+    if (columns) {
+      differences.push(...robustnessDifferences(analysis, columns, equal));
+    } else if (analysis.robustness) {
+      differences.push('the robustness run re-bins the rows, which a scanned source does not give; verify it without --via');
+    }
     return differences;
+  }
+
+  /**
+   * Verify an analysis of a scanned source (origin 'scan'), or any analysis under --via duckdb:
+   * the weighted table from DuckDB (or, without --via, the file's rows binned in memory and
+   * grouped), its pdsc1 fingerprint against the record, then the values re-run from it.
+   */
+  export async function verifyScan(
+    analysis: IAnalysisRecord,
+    file: string,
+    via: 'duckdb' | undefined,
+    sources: Map<string, Promise<IDataSource>>
+  ): Promise<IOutcome> {
+    const scanned = analysis.source.origin?.kind === 'scan';
+    if (!scanned) {
+      return {
+        ok: false,
+        text: 'NOT CHECKED: recorded from rows (fingerprint pdfp1, which hashes every row); verify it without --via.'
+      };
+    }
+    const options = { ...optionsFromRecord(analysis), columns: analysis.columns };
+    let prepared: IPreparedCodes;
+    let columns: ColumnView[] | null = null;
+    if (via === 'duckdb') {
+      const statistics = statisticsOptionsFromRecord(analysis);
+      let aggregate: IDuckDBAggregate;
+      try {
+        aggregate = await aggregateWithDuckDB(file, { ...options, ...(statistics ? { statistics } : {}) });
+      } catch (error) {
+        if (isPolyadicError(error) && error.kind === 'usage' && typeof error.detail.column === 'string') {
+          return { ok: false, text: `DATA CHANGED: column '${error.detail.column}' is not in ${file}.` };
+        }
+        throw error;
+      }
+      if (aggregate.lattice !== null) {
+        return { ok: false, text: 'NOT CHECKED: past the cap on distinct rows there is no weighted table to fingerprint.' };
+      }
+      prepared = aggregate.prepared;
+    } else {
+      const key = `${file}\u0000${analysis.columns.join('\u0000')}`;
+      let pending = sources.get(key);
+      if (!pending) {
+        pending = readDataFile(file, { columns: analysis.columns });
+        sources.set(key, pending);
+      }
+      columns = (await pending).columns;
+      const rows = prepareColumns(columns, options);
+      // the rows grouped into the weighted table a scan gives (the bootstrap then resamples it as the scan's run did)
+      const grouped = sortedWeightedTable({ codes: rows.codes, weights: new Int32Array(rows.rowsUsed).fill(1) });
+      prepared = { ...rows, codes: [...grouped.codes], weights: grouped.weights, rowIndex: null };
+    }
+    const now = await fingerprintScan({ codes: prepared.codes, weights: prepared.weights as Int32Array }, prepared.rows, prepared.binnings);
+    const recorded = analysis.source.fingerprint.sha256;
+    if (now.sha256 !== recorded) {
+      const origin = analysis.source.origin;
+      const reasons: string[] = [];
+      if (origin?.kind === 'scan' && origin.input_rows !== prepared.rows) {
+        reasons.push(`${plural(origin.input_rows, 'input row')} recorded, ${formatCount(prepared.rows)} now`);
+      }
+      if (origin?.kind === 'scan' && origin.distinct_rows !== now.distinctRows) {
+        reasons.push(`${plural(origin.distinct_rows, 'distinct binned row')} recorded, ${formatCount(now.distinctRows)} now`);
+      }
+      return {
+        ok: false,
+        text: `DATA CHANGED: fingerprint ${recorded.slice(0, 12)}… recorded, ${now.sha256.slice(0, 12)}… now` + (reasons.length ? ` (${reasons.join('; ')})` : '')
+      };
+    }
+    const how = via === 'duckdb' ? 'through DuckDB' : 'in memory';
+    return rerunOutcome(analysis, () => rerunDifferences(analysis, null, prepared), `reproduced ${how}`);
   }
 
   /**

@@ -214,7 +214,7 @@ export function resolveOptions(options: IAnalyzeOptions, columnCount: number): I
 /** The lattice input of prepared codes under the options (what a worker pool splits). */
 export function latticeInput(prepared: IPreparedCodes, options: IAnalyzeOptions = {}): ILatticeInput {
   const resolved = resolveOptions(options, prepared.codes.length);
-  Private.checkWeighted(prepared, resolved.estimator, resolved.statistics !== null);
+  Private.checkWeighted(prepared, resolved.estimator, resolved.statistics);
   return {
     codes: prepared.codes,
     bins: prepared.bins,
@@ -242,7 +242,7 @@ export function analyzeCodes(
   const n = prepared.codes.length;
   const resolved = resolveOptions(options, n);
   const count = checkMultipletCount(n, resolved.maxOrder, resolved.maxMultiplets);
-  Private.checkWeighted(prepared, resolved.estimator, resolved.statistics !== null);
+  Private.checkWeighted(prepared, resolved.estimator, resolved.statistics);
   // a chain naming a column that is not there fails before the walk, not after it
   checkChainRequests(options.chains ?? [], prepared.names, resolved.maxOrder);
   const walked = lattice ?? walkLattice(latticeInput(prepared, options));
@@ -407,7 +407,12 @@ export function concludeRun(
         const fit = connectedInformation(
           ids.map(c => prepared.codes[c]),
           // Each multiplet draws from its own stream, a function of the seed and its index alone.
-          { names, draws: statistics.fitDraws, seed: (statistics.seed + Math.imul(index, 0x9e3779b1)) >>> 0 }
+          {
+            names,
+            draws: statistics.fitDraws,
+            seed: (statistics.seed + Math.imul(index, 0x9e3779b1)) >>> 0,
+            ...(prepared.weights ? { weights: prepared.weights } : {})
+          }
         );
         connected.set(index, { value: fit.value, pValue: fit.pValue });
       } catch (error) {
@@ -536,7 +541,7 @@ namespace Private {
    * Weighted rows (an aggregated source's distinct rows with counts) give the count estimators'
    * lattice exactly; what needs the rows one by one is refused with the reason.
    */
-  export function checkWeighted(prepared: IPreparedCodes, estimator: EstimatorName, statistics: boolean): void {
+  export function checkWeighted(prepared: IPreparedCodes, estimator: EstimatorName, statistics: IResolvedStatistics | null): void {
     if (!prepared.weights) {
       return;
     }
@@ -551,13 +556,21 @@ namespace Private {
         { option: 'estimator', value: estimator }
       );
     }
-    if (statistics) {
-      throw new PolyadicError(
-        'usage',
-        'Surrogates and bootstrap replicates resample the rows one by one, and this source gives distinct rows with ' +
-          'their counts, so statistics are not available on it. Run without statistics.',
-        { option: 'statistics' }
-      );
+    // The bootstrap resamples the weights (multinomial.ts) and the pairwise-preserving null fits
+    // count tables; surrogates (and sharpening, which draws fresh ones) shuffle each column's rows.
+    for (const [key, value] of [
+      ['sharpen', statistics?.sharpen ?? 0],
+      ['surrogates', statistics?.surrogates ?? 0]
+    ] as const) {
+      if (value > 0) {
+        throw new PolyadicError(
+          'usage',
+          `${key === 'surrogates' ? 'Independence surrogates' : 'Sharpening'} ${key === 'surrogates' ? 'shuffle' : 'draws fresh surrogates that shuffle'} ` +
+            "each column's rows on its own, and this source gives distinct joint rows with their counts, which cannot be " +
+            'shuffled column by column. Turn it off; the bootstrap and the pairwise-preserving null work on this source.',
+          { option: key, value: String(value) }
+        );
+      }
     }
   }
 

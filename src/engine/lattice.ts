@@ -960,7 +960,42 @@ namespace Private {
       const counts = this._counts;
       const members = this._members;
       let blocks = 0;
-      if (range <= TABLE_LIMIT) {
+      // few keys for many rows: the children may share this node's keys and rows (as in _count)
+      let share = false;
+      if (range <= SHARE_RANGE && parentCount >= 2 * range) {
+        // Count by key directly (no label lookup per row); labels are given in key order.
+        const membersByKey = this._tallyTable(range);
+        const weightByKey = this._keyWeightTable();
+        const touched = this._touched;
+        for (let q = 0; q < parentCount; q++) {
+          const row = parentActive[q];
+          const key = parentLabels[q] * K + code[row];
+          childLabel[q] = key;
+          weightByKey[key] += weights[row];
+          membersByKey[key]++;
+        }
+        let alone = 0;
+        for (let key = 0; key < range; key++) {
+          const m = membersByKey[key];
+          if (m > 0) {
+            counts[blocks] = weightByKey[key];
+            members[blocks] = m;
+            touched[blocks] = key;
+            alone += m === 1 ? 1 : 0;
+            membersByKey[key] = blocks++;
+            weightByKey[key] = 0;
+          }
+        }
+        share = descend && alone * SHARE_SINGLETONS <= parentCount;
+        if (!share) {
+          for (let q = 0; q < parentCount; q++) {
+            childLabel[q] = membersByKey[childLabel[q]];
+          }
+        }
+        for (let b = 0; b < blocks; b++) {
+          membersByKey[touched[b]] = 0;
+        }
+      } else if (range <= TABLE_LIMIT) {
         // slot[key] holds the key's label + 1 (0: not met yet)
         const slot = this._tallyTable(range);
         const touched = this._touched;
@@ -1036,7 +1071,7 @@ namespace Private {
         mid += partMid;
         lo += partLo;
         oneRow += members[b] === 1 ? 1 : 0;
-        if (members[b] >= least) {
+        if (share || members[b] >= least) {
           remap[b] = next++;
         } else {
           remap[b] = -1;
@@ -1079,6 +1114,23 @@ namespace Private {
       }
       if (fill) {
         return Below.fill;
+      }
+      if (share) {
+        // the keys are the children's labels as they are, every row stays active (none dropped
+        // here), and the parent's active rows serve again: no pass beyond the count
+        this._level(level);
+        this._scratchLabel = this._labels[level];
+        this._labels[level] = childLabel;
+        this._view[level] = parentActive;
+        this._activeCount[level] = parentCount;
+        this._labelCount[level] = range;
+        this._dropped[level] = this._dropped[parent];
+        this._droppedSingles[level] = this._droppedSingles[parent];
+        this._droppedHi[level] = this._droppedHi[parent];
+        this._droppedMid[level] = this._droppedMid[parent];
+        this._droppedLo[level] = this._droppedLo[parent];
+        this._dropLength[level] = this._needsCounts ? stackTop : 0;
+        return Below.walk;
       }
       const active = this._level(level);
       this._view[level] = active;
@@ -1180,6 +1232,14 @@ namespace Private {
       }
     }
 
+    /** Weights by key for key ranges up to SHARE_RANGE (all zero between uses), allocated on first use. */
+    private _keyWeightTable(): Int32Array {
+      if (this._keyWeights.length === 0) {
+        this._keyWeights = new Int32Array(SHARE_RANGE);
+      }
+      return this._keyWeights;
+    }
+
     /** The active-row array of a level, allocated on first use. */
     private _level(level: number): Int32Array {
       while (this._active.length <= level) {
@@ -1229,6 +1289,7 @@ namespace Private {
     private _scratchLabel: Int32Array;
     private _counts: Int32Array;
     private _byKey = new Int32Array(0);
+    private _keyWeights = new Int32Array(0);
     /** Scratch of {@link tallySmall}. */
     private _quarters = new Int32Array(4 * SMALL_RANGE);
     private _met = new Uint8Array(SMALL_RANGE);

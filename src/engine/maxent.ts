@@ -61,6 +61,11 @@ export interface IMaxEntFitOptions {
   tolerance?: number;
   /** Stop after this many cycles over the k marginals (default 10,000). */
   maxIterations?: number;
+  /**
+   * Weighted rows (an aggregated source's distinct rows): row i counts `weights[i]` times (each
+   * ≥ 1). The table, hence the fit and every draw from it, is that of the expanded rows.
+   */
+  weights?: Int32Array;
 }
 
 /** The pairwise-preserving null of one multiplet: the fitted joint table beside the data's. */
@@ -252,7 +257,7 @@ namespace Private {
       'The most cycles of the fit',
       1
     );
-    const table = tabulate(codes, names);
+    const table = tabulate(codes, names, options.weights);
     const fitter = new Fitter(table.shape);
     const outcome = fitter.fit(table.counts, table.rows, tolerance, maxIterations);
     return { table, fitter, outcome, tolerance, maxIterations };
@@ -262,7 +267,7 @@ namespace Private {
    * Check the columns and count the rows of each joint cell. Each column's codes are renumbered
    * densely in code order (not order of appearance), so the table does not depend on row order.
    */
-  function tabulate(codes: ArrayLike<number>[], names: string[]): ITable {
+  function tabulate(codes: ArrayLike<number>[], names: string[], weights?: Int32Array): ITable {
     const k = codes.length;
     const label = multipletLabel(names);
     if (k < 3) {
@@ -311,15 +316,21 @@ namespace Private {
         { value: String(cells), multiplet: names.slice(), cells, limit: MAX_FIT_CELLS }
       );
     }
+    if (weights && weights.length !== rows) {
+      throw new PolyadicError('internal', `${weights.length} row weights for ${rows} rows of the multiplet ${label}.`);
+    }
     const counts = new Float64Array(cells);
+    let total = 0;
     for (let i = 0; i < rows; i++) {
       let cell = 0;
       for (let c = 0; c < k; c++) {
         cell = cell * shape[c] + dense[c][i];
       }
-      counts[cell]++;
+      const weight = weights ? weights[i] : 1;
+      counts[cell] += weight;
+      total += weight;
     }
-    return { shape, levels, counts, rows };
+    return { shape, levels, counts, rows: total };
   }
 
   /** Largest code renumbered through a lookup array by code (4 bytes a code); larger ones are sorted. */

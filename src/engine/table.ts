@@ -662,3 +662,13 @@ namespace Private {
     }
   }
 }
+
+/**
+ * The patterns behind {@link parseNumberCell} and {@link parseBooleanCell} (also valid RE2, so a
+ * SQL engine can classify text cells by the same rules).
+ */
+export const TEXT_CELL_PATTERNS: Readonly<{ decimal: RegExp; special: RegExp; boolean: RegExp }> = {
+  decimal: Private.DECIMAL,
+  special: Private.SPECIAL,
+  boolean: Private.BOOLEAN
+};

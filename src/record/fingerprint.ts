@@ -25,6 +25,9 @@
  * The dtype is not encoded: an int64 column and a float64 column of the same values agree, so
  * the same data read from Arrow, Parquet or CSV gives the same fingerprint where the values
  * survive the format (docs/fingerprint.md lists the cases that do not).
+ *
+ * A scanned source (binned and grouped by DuckDB or Spark) has no rows to encode: its
+ * fingerprint is the encoding `pdsc1` over its weighted table, in scan-fingerprint.ts.
  */
 
 import { PolyadicError } from '../engine/errors';

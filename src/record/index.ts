@@ -5,6 +5,7 @@ export { RECORD_ID_PATTERN, RECORD_SCHEMA, RECORD_SCHEMA_ID } from './schema';
 export * from './validate';
 export * from './migrate';
 export * from './fingerprint';
+export * from './scan-fingerprint';
 export * from './ids';
 export * from './summary';
 export * from './markdown';

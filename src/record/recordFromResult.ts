@@ -8,21 +8,41 @@ import { PolyadicError } from '../engine/errors';
 import { plural } from '../engine/text';
 import type { ColumnView, IAnalysisResult, IAnalyzeOptions, IMultipletRow, MissingPolicy } from '../engine/types';
 import type { IFingerprint } from './fingerprint';
+import type { IScanFingerprint, IWeightedTable } from './scan-fingerprint';
 import { newRecordId } from './ids';
 import { DEFAULT_SUMMARY_SIZE, evidenceSummaryOf, histogramsOfRows, statisticsSettingsOf, topMultiplets } from './summary';
-import { MAX_LABEL_LENGTH, type IAnalysisRecord, type ISampleInfo } from './types';
+import {
+  FINGERPRINT_ENCODING,
+  MAX_LABEL_LENGTH,
+  SCAN_FINGERPRINT_ENCODING,
+  type IAnalysisRecord,
+  type ISampleInfo,
+  type ISourceOrigin
+} from './types';
 import { completeAnalysis, problemsError } from './validate';
+
+/** A scanned source: the engine that binned and grouped it, and the weighted table it gave. */
+export interface IRecordScan {
+  engine: { name: 'duckdb' | 'spark'; version: string };
+  /** The weighted codes the walk took (distinct binned rows after the missing-value policy). */
+  table: IWeightedTable;
+}
 
 /** Where the analysed data came from. */
 export interface IRecordSource {
   /** Dataframe name (kernel variable) or, for the CLI, the file name. */
   frame: string;
   /** The selected columns as the engine read them (name, dtype and kind are recorded). */
-  columns: readonly ColumnView[];
-  /** Fingerprint of those columns (`fingerprintColumns`). */
-  fingerprint: IFingerprint;
+  columns: readonly Pick<ColumnView, 'name' | 'dtype' | 'kind'>[];
+  /**
+   * Fingerprint of those columns (`fingerprintColumns`), or for a scanned source of its
+   * weighted table (`fingerprintScan`).
+   */
+  fingerprint: IFingerprint | IScanFingerprint;
   /** The row-cap sample, when the frame was sampled. */
   sample?: ISampleInfo;
+  /** Present when another engine scanned the source (the record's origin is then 'scan'). */
+  scan?: IRecordScan;
 }
 
 /** Everything a record is built from. */
@@ -47,7 +67,9 @@ export interface IRecordInput {
 export function recordFromResult(input: IRecordInput): IAnalysisRecord {
   const { result, source } = input;
   const selected = result.columns.map(column => column.name);
-  const fingerprinted = source.fingerprint.columns.map(column => column.name);
+  const origin = Private.originOf(source, result);
+  const digests = 'columns' in source.fingerprint ? source.fingerprint.columns : null;
+  const fingerprinted = digests ? digests.map(column => column.name) : selected;
   const read = source.columns.map(column => column.name);
   if (!Private.sameList(selected, fingerprinted) || !Private.sameList(selected, read)) {
     throw new PolyadicError(
@@ -70,10 +92,11 @@ export function recordFromResult(input: IRecordInput): IAnalysisRecord {
         name: column.name,
         dtype: column.dtype,
         kind: column.kind,
-        sha256: source.fingerprint.columns[i].sha256
+        ...(digests ? { sha256: digests[i].sha256 } : {})
       })),
       ...(source.sample ? { sample: { ...source.sample } } : {}),
-      fingerprint: { encoding: source.fingerprint.encoding, sha256: source.fingerprint.sha256 }
+      fingerprint: { encoding: source.fingerprint.encoding, sha256: source.fingerprint.sha256 },
+      origin
     },
     columns: selected,
     binning: result.columns.map(column => ({
@@ -155,6 +178,35 @@ namespace Private {
     };
     summaries.set(rows, fresh);
     return structuredClone({ summary: fresh.summary, histograms: fresh.histograms });
+  }
+
+  /** The source's origin block, checking that the fingerprint fits it. */
+  export function originOf(source: IRecordSource, result: IAnalysisResult): ISourceOrigin {
+    const scan = source.scan;
+    if (!scan) {
+      if (source.fingerprint.encoding !== FINGERPRINT_ENCODING) {
+        throw new PolyadicError('internal', `A source read row by row has a ${source.fingerprint.encoding} fingerprint.`);
+      }
+      return { kind: 'rows' };
+    }
+    if (source.fingerprint.encoding !== SCAN_FINGERPRINT_ENCODING || !('distinctRows' in source.fingerprint)) {
+      throw new PolyadicError('internal', `A scanned source needs a ${SCAN_FINGERPRINT_ENCODING} fingerprint of its weighted table.`);
+    }
+    let weight = 0;
+    scan.table.weights.forEach(w => (weight += w));
+    if (weight !== result.rows_used || scan.table.codes.length !== result.columns.length) {
+      throw new PolyadicError(
+        'internal',
+        `The weighted table (${scan.table.codes.length} columns, weights summing to ${weight}) is not the one the analysis ` +
+          `walked (${result.columns.length} columns, ${result.rows_used} rows used).`
+      );
+    }
+    return {
+      kind: 'scan',
+      engine: { name: scan.engine.name, version: scan.engine.version },
+      input_rows: result.rows,
+      distinct_rows: source.fingerprint.distinctRows
+    };
   }
 
   export function sameList(a: readonly string[], b: readonly string[]): boolean {

@@ -25,6 +25,9 @@ export const MAX_LABEL_LENGTH = 200;
 /** Name of the canonical encoding the fingerprint hashes (docs/fingerprint.md). */
 export const FINGERPRINT_ENCODING = 'pdfp1';
 
+/** Name of the encoding of a scanned source's sorted weighted table (docs/fingerprint.md). */
+export const SCAN_FINGERPRINT_ENCODING = 'pdsc1';
+
 /** The whole record: `{ "version": 2, "analyses": [...] }`. */
 export interface IRecordDocument {
   version: typeof RECORD_VERSION;
@@ -33,7 +36,7 @@ export interface IRecordDocument {
 
 /** The fingerprint of the selected columns. */
 export interface IFingerprintRef {
-  encoding: typeof FINGERPRINT_ENCODING;
+  encoding: typeof FINGERPRINT_ENCODING | typeof SCAN_FINGERPRINT_ENCODING;
   /** 64 lower-case hexadecimal digits. */
   sha256: string;
 }
@@ -54,6 +57,14 @@ export interface ISampleInfo {
   original_rows: number;
 }
 
+/**
+ * How the rows reached the engine: read one by one ('rows'), or binned and grouped by another
+ * engine into distinct binned rows with their counts ('scan').
+ */
+export type ISourceOrigin =
+  | { kind: 'rows' }
+  | { kind: 'scan'; engine: { name: 'duckdb' | 'spark'; version: string }; input_rows: number; distinct_rows: number };
+
 /** The data an analysis read. */
 export interface ISourceRecord {
   frame: string;
@@ -61,6 +72,8 @@ export interface ISourceRecord {
   columns: ISourceColumn[];
   sample?: ISampleInfo;
   fingerprint: IFingerprintRef;
+  /** Absent in records that predate it (they read rows). */
+  origin?: ISourceOrigin;
 }
 
 /** How one column was binned. */

@@ -127,10 +127,24 @@ describe('analyzeViaDuckDB', () => {
     await expect(analyzeViaDuckDB(file, options)).rejects.toThrow(message);
   });
 
-  it('should refuse what needs the rows, and files that are not Parquet', async () => {
+  it('should resample the weighted rows for --bootstrap and fit their counts for --beyond-pairs', async () => {
+    const columns = ['b', 'd', 'e'];
+    const fit = { maxOrder: 3, columns, statistics: { beyondPairs: 1, fitDraws: 30, seed: 5 } };
+    // the pairwise-preserving null needs the joint counts only: the in-memory JSON, bit for bit
+    expectSame(...(await both(fit)));
+    const options = { maxOrder: 3, columns, statistics: { bootstrap: 40, seed: 5 } };
+    const first = (await analyzeViaDuckDB(file, options)).result;
+    const again = (await analyzeViaDuckDB(file, options)).result;
+    expect(JSON.stringify(again)).toBe(JSON.stringify(first));
+    const triplet = first.multiplets.find(row => row.columns.length === 3)!;
+    expect(triplet.ci_low).not.toBeNull();
+    expect(triplet.ci_low! <= triplet.co_information && triplet.co_information <= triplet.ci_high!).toBe(true);
+  });
+
+  it('should refuse what needs the rows, and files it does not read', async () => {
     await expect(analyzeViaDuckDB(file, { statistics: { surrogates: 10 } })).rejects.toThrow(/--surrogates is not available/);
     await expect(analyzeViaDuckDB(file, { estimator: 'gaussian-copula' })).rejects.toThrow(/Gaussian-copula/);
-    await expect(analyzeViaDuckDB(path.join(dir, 'fixture.csv'), {})).rejects.toThrow(/reads Parquet files/);
+    await expect(analyzeViaDuckDB(path.join(dir, 'fixture.json'), {})).rejects.toThrow(/reads Parquet \(\.parquet\), CSV/);
   });
 
   describe('past the cap on distinct rows', () => {
@@ -173,6 +187,12 @@ describe('analyzeViaDuckDB', () => {
       }
       expect(message).toMatch(/row \d+/);
       await expect(analyzeViaDuckDB(file, { missing: 'error', maxOrder: 2, columns: source.names }, limits)).rejects.toThrow(message);
+    });
+
+    it('should refuse --bootstrap past the cap, where there are no joint rows to resample', async () => {
+      await expect(
+        analyzeViaDuckDB(file, { maxOrder: 2, bins: 'quantile:4', columns: ['a', 'c', 'f'], statistics: { bootstrap: 5 } }, limits)
+      ).rejects.toThrow(/--bootstrap resamples the distinct joint rows.*more than 50/);
     });
 
     it('should stop a full lattice at the cap and say how to go on', async () => {

@@ -212,12 +212,17 @@ describe('weighted walk', () => {
       }
     }
 
-    it('should refuse statistics and the Gaussian copula on weighted rows, saying why', () => {
+    it('should refuse surrogates, sharpening and the Gaussian copula on weighted rows, saying why', () => {
       const weighted = preparedOf(distinct.codes, bins, distinct.weights);
       expectPolyadic(
         () => analyzeCodes(weighted, { maxOrder: 3, statistics: { surrogates: 20 } }),
         'usage',
-        /resample the rows one by one/
+        /Independence surrogates shuffle each column's rows on its own.*distinct joint rows with their counts/
+      );
+      expectPolyadic(
+        () => analyzeCodes(weighted, { maxOrder: 3, statistics: { surrogates: 20, sharpen: 2 } }),
+        'usage',
+        /Sharpening draws fresh surrogates/
       );
       expectPolyadic(() => analyzeCodes(weighted, { maxOrder: 3, estimator: 'gaussian-copula' }), 'usage', /Gaussian-copula/);
     });

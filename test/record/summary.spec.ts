@@ -159,7 +159,8 @@ describe('recordFromResult', () => {
         kind: column.kind,
         sha256: fingerprint.columns[i].sha256
       })),
-      fingerprint: { encoding: 'pdfp1', sha256: fingerprint.sha256 }
+      fingerprint: { encoding: 'pdfp1', sha256: fingerprint.sha256 },
+      origin: { kind: 'rows' }
     });
     expect(record.columns).toEqual(table.header);
     expect(record.binning.map(b => [b.name, b.spec, b.bins])).toEqual(result.columns.map(c => [c.name, c.binning.spec, c.bins]));

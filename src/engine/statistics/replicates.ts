@@ -6,7 +6,8 @@
  * - A surrogate permutes each column's codes on its own (Fisher–Yates with a seeded
  *   xoroshiro128+ from pure-rand), which keeps every column's distribution and destroys all
  *   dependence between columns; its lattice is walked to the same maximum order.
- * - A bootstrap resample draws the rows with replacement (same generator).
+ * - A bootstrap resample draws the rows with replacement (same generator); on weighted rows it
+ *   draws new weights ~ Multinomial(N, w/N), the same law (multinomial.ts).
  *
  * Replicate r draws from its own generator, seeded by the r-th output of a master generator
  * seeded by the user's seed (one stream for surrogates, another for resamples), so a
@@ -19,11 +20,12 @@
 import { unsafeUniformIntDistribution, xoroshiro128plus } from 'pure-rand';
 
 import { PolyadicError } from '../errors';
-import type { ILatticeInput } from '../lattice';
+import type { ILattice, ILatticeInput } from '../lattice';
 import { coinformationAll, computeMeasures, multipletMeasures } from '../measures';
 import { membersOfIndex } from '../multiplets';
 import { walkLattice } from '../walk';
 import { MULTIPLET_MEASURES } from '../types';
+import { keepWeightedRows, multinomialWeights, sortedByCodes } from './multinomial';
 import type { IResolvedStatistics } from './options';
 
 /** Which replicates a block holds. */
@@ -166,6 +168,9 @@ export function runReplicateBlock(
   const total = block.kind === 'surrogate' ? statistics.surrogates : statistics.bootstrap;
   if (!(block.first >= 0 && block.count >= 1 && block.first + block.count <= total)) {
     throw new PolyadicError('internal', `Replicate block ${block.first} + ${block.count} is outside 0 … ${total}.`);
+  }
+  if (block.kind === 'surrogate' && input.weights) {
+    throw new PolyadicError('internal', 'Surrogates of weighted rows (they shuffle rows, which weighted rows are not).');
   }
   const seeds = replicateSeeds(statistics.seed, block.kind, block.first + block.count);
   const scratch = input.codes.map(() => new Int32Array(rows));
@@ -383,16 +388,26 @@ namespace Private {
     const members = new Int32Array(Math.max(1, input.maxOrder));
     // Co-information of many multiplets is cheaper from the whole-lattice transform than from subsets.
     const useAll = chosen.length * 8 > targets.coinformation.length;
+    const weights = input.weights ? new Int32Array(rows) : null;
+    // weighted rows in a fixed order (by codes), whatever order the scan gave them in
+    const sorted = input.weights ? sortedByCodes(input.codes, input.weights) : null;
     for (let r = 0; r < block.count; r++) {
-      resampleRows(rows, seeds[block.first + r], picks);
-      for (let c = 0; c < input.codes.length; c++) {
-        const from = input.codes[c];
-        const to = scratch[c];
-        for (let i = 0; i < rows; i++) {
-          to[i] = from[picks[i]];
+      let lattice: ILattice;
+      if (sorted && weights) {
+        // weighted rows: new weights by multinomial resampling, the codes unchanged (multinomial.ts)
+        multinomialWeights(sorted.weights, seeds[block.first + r], weights);
+        lattice = walkLattice({ ...input, ...keepWeightedRows(sorted.codes, weights, scratch, weights) });
+      } else {
+        resampleRows(rows, seeds[block.first + r], picks);
+        for (let c = 0; c < input.codes.length; c++) {
+          const from = input.codes[c];
+          const to = scratch[c];
+          for (let i = 0; i < rows; i++) {
+            to[i] = from[picks[i]];
+          }
         }
+        lattice = walkLattice({ ...input, codes: scratch });
       }
-      const lattice = walkLattice({ ...input, codes: scratch });
       const co = useAll ? coinformationAll(lattice) : undefined;
       let at = r * chosen.length * width;
       for (let j = 0; j < chosen.length; j++) {
