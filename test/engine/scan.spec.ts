@@ -81,6 +81,20 @@ describe('scanWeightedCodes', () => {
     });
   }
 
+  it('should give the in-memory warnings: merged levels, a constant column, an identifier', async () => {
+    const extra = [
+      ...columns,
+      columnFromValues('k', Float64Array.from({ length: 1500 }, () => 7), 'float64'),
+      columnFromValues('id', Array.from({ length: 1500 }, (_v, i) => `row-${i}`))
+    ];
+    const options: IAnalyzeOptions = { columns: ['b', 'k', 'id', 'd'], binsByColumn: { b: 'width:2' }, maxOrder: 2 };
+    const expected = analyze(extra, options);
+    expect(expected.warnings.join(' ')).toMatch(/merges them into 2 bins/);
+    expect(expected.warnings.length).toBeGreaterThanOrEqual(3);
+    const { prepared } = await scanWeightedCodes(new MemoryScanner(extra), options.columns!, options);
+    expect(JSON.stringify(analyzeCodes(prepared, options))).toBe(JSON.stringify(expected));
+  });
+
   it('should name the same row under the policy error', async () => {
     const expected = await messageOf(() => analyze(columns, { missing: 'error' }));
     expect(expected.message).toMatch(/row \d+/);
