@@ -248,7 +248,12 @@ namespace Private {
   } = {
     list: { progress: {}, final: { listing: true } },
     fetch: { progress: { fetch_chunk: true, fetch_file: true }, final: { fetch_done: true } },
-    results_chunk: { progress: {}, final: { results_ack: true, results_stored: true } }
+    results_chunk: { progress: {}, final: { results_ack: true, results_stored: true } },
+    scan: {
+      progress: { fetch_chunk: true, fetch_file: true, scan_progress: true },
+      final: { scan_facts: true, scan_details: true, scan_done: true }
+    },
+    cancel: { progress: {}, final: { cancel_done: true } }
   };
 
   /** A request waiting for its final reply. */

@@ -108,7 +108,7 @@ export class DataView extends SectionView<DataModel> {
             this.trans.__(
               '%1 (%2 × %3, %4)',
               frame.name,
-              this.trans._n('%2 row', '%2 rows', frame.rows, formatCount(frame.rows)),
+              frame.rows === null ? this.trans.__('rows unknown') : this.trans._n('%2 row', '%2 rows', frame.rows, formatCount(frame.rows)),
               this.trans._n('%2 column', '%2 columns', frame.columns.length, formatCount(frame.columns.length)),
               frame.kind
             )
