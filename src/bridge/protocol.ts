@@ -60,6 +60,14 @@ export function isScannedKind(kind: FrameKind): kind is ScannedFrameKind {
   return kind === 'duckdb' || kind === 'spark';
 }
 
+/** The product name of each scanning engine, as texts show it (a name: never translated). */
+export const SCAN_ENGINE_NAMES: Readonly<Record<ScannedFrameKind, string>> = { duckdb: 'DuckDB', spark: 'Spark' };
+
+/** The product name of a scanning engine named by the kernel (DuckDB unless it says Spark). */
+export function scanEngineName(name: string | undefined): string {
+  return name === 'spark' ? SCAN_ENGINE_NAMES.spark : SCAN_ENGINE_NAMES.duckdb;
+}
+
 /** Rows of a scanned frame the preview fetch samples (our choice): a seeded sample, never used by Run. */
 export const SCAN_PREVIEW_ROWS = 100_000;
 
