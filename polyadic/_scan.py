@@ -695,7 +695,7 @@ class DuckDBScan(ScanEngine):
         # Row positions are the order the relation yields its rows: read in batches until found.
         flag = self._missing(column) if what == "missing" else f"coalesce(isinf({self._double(column)}), false)"
         value = self._double(column) if column.numeric else "NULL"
-        reader = self._sql(f"SELECT {flag} AS f, {value} AS v FROM {self._VIEW}").fetch_record_batch(1 << 16)
+        reader = self._sql(f"SELECT {flag} AS f, {value} AS v FROM {self._VIEW}").to_arrow_reader(1 << 16)
         position = 0
         for batch in reader:
             self._check()
@@ -772,7 +772,7 @@ class DuckDBScan(ScanEngine):
         rows = self.row_count()
         picks = sample_indices(rows, row_cap, seed)
         select = ", ".join(quote_duckdb(c.name) for c in columns)
-        reader = self._sql(f"SELECT {select} FROM {self._VIEW}").fetch_record_batch(1 << 16)
+        reader = self._sql(f"SELECT {select} FROM {self._VIEW}").to_arrow_reader(1 << 16)
         if picks is None:
             table = pa.Table.from_batches(list(reader), schema=reader.schema)
             return table, rows
