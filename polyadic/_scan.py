@@ -607,6 +607,8 @@ class DuckDBScan(ScanEngine):
     # own fixed words are ever written into the text.
     def _sql(self, text: str) -> Any:
         self._locate()
+        # A cancel that came while the connection was being found had nothing to interrupt.
+        self._check()
         return self.frame.query(self._VIEW, text)
 
     def _locate(self) -> None:
@@ -752,6 +754,7 @@ class DuckDBScan(ScanEngine):
                 key = key.cast(duckdb.sqltype("INTEGER"))
             keys.append(key.alias(f"k{index}"))
         self._locate()
+        self._check()
         return self.frame.select(*keys)
 
     def _group(self, plan, limit: int) -> tuple[pa.Table, int]:
