@@ -195,7 +195,7 @@ export const isColumnFacts: ICheck<IColumnFacts> = shape<IColumnFacts>({
   first_missing_row: isRowOrNone,
   count: isCount,
   levels: isCount,
-  integer: isBoolean,
+  integer: orNull(isBoolean),
   rounded: isBoolean,
   infinite: orNull(shape<{ row: number; value: ScanDouble }>({ row: isCount, value: isScanDouble })),
   min: orNull(isScanDouble),

@@ -132,7 +132,7 @@ namespace Private {
       firstMissingRow: column.first_missing_row,
       count: column.count,
       levels: column.levels,
-      integer: column.integer,
+      integer: column.integer === true,
       rounded: column.rounded,
       infinite: column.infinite === null ? null : { row: column.infinite.row, value: double(column.infinite.value) },
       min: column.min === null ? null : double(column.min),

@@ -391,8 +391,8 @@ export interface IColumnFacts {
   count: number;
   /** Distinct non-missing values, counted only up to 11; −0 and 0 are one value. */
   levels: number;
-  /** Numeric and bool columns (bool read as 0/1); false for text. */
-  integer: boolean;
+  /** Numeric and bool columns (bool read as 0/1): numpy would see an integer dtype; null or false for text. */
+  integer: boolean | null;
   rounded: boolean;
   /** The first ±Inf in row order. */
   infinite: { row: number; value: ScanDouble } | null;
