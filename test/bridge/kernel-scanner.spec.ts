@@ -19,7 +19,7 @@ import { KernelScanner } from '../../src/bridge/kernel-scanner';
 import type { IScanDone } from '../../src/bridge/protocol';
 import { MemoryScanner } from '../engine/scan-helpers';
 import { runPython, tempFolder } from './helpers';
-import { ContractBridge } from './scan-fakes';
+import { ContractBridge, done } from './scan-fakes';
 
 /** pyarrow writes a group table: an int32 bin key with nulls, a float64 value key, a text key, int64 weights. */
 const WRITE_GROUPS = `
@@ -35,19 +35,6 @@ with pa.ipc.new_stream(sink, table.schema) as writer:
     writer.write_table(table, max_chunksize=2)
 open(sys.argv[1], "wb").write(sink.getvalue().to_pybytes())
 `;
-
-function done(rows: number, distinct: number, bytes: number): IScanDone {
-  return {
-    type: 'scan_done',
-    request_id: 'r1',
-    name: 'rel',
-    rows,
-    distinct_rows: distinct,
-    batch_count: 1,
-    bytes_total: bytes,
-    engine: { name: 'duckdb', version: '1.5.2' }
-  };
-}
 
 /** Decode bytes as a group table through the frame host, as the worker does. */
 function decodeGroups(bytes: Uint8Array, scanDone: IScanDone): FrameResponse {

@@ -87,8 +87,8 @@ function wire(value: number): ScanDouble {
   return value === Infinity ? 'Infinity' : value === -Infinity ? '-Infinity' : value;
 }
 
-/** A scan_done message. */
-function done(rows: number, distinct: number, bytes: number): IScanDone {
+/** A scan_done message of frame 'rel'. */
+export function done(rows: number, distinct: number, bytes: number): IScanDone {
   return {
     type: 'scan_done',
     request_id: 'r1',

@@ -330,26 +330,36 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
       if (repeated !== null) {
         completed.analysisId = repeated;
       }
-      this._latest = completed;
-      this._setRun({ state: 'done', progress: null, error: null });
-      this._resultChanged.emit(completed);
-      // The results view, the record and the upload each take their own task, so the page
-      // paints and answers input between them instead of in one long freeze.
-      await Private.yieldToPage();
-      this._runCompleted.emit(completed);
-      await Private.yieldToPage();
-      void this._sendToKernel(completed);
+      await this._finish(completed);
     } catch (error) {
-      if (ticket !== this._ticket) {
-        return;
-      }
-      const failure = asPolyadicError(error);
-      this._setRun({ state: isCancellation(failure) ? 'cancelled' : 'error', progress: null, error: failure });
-      // the column or binning at fault is marked in its section
-      if (!isCancellation(failure)) {
-        this.binning.setRunFault(failure);
-        this.data.setRunFault(failure);
-      }
+      this._fail(ticket, error);
+    }
+  }
+
+  /** Keep a completed run and announce it. */
+  private async _finish(completed: IRunCompleted): Promise<void> {
+    this._latest = completed;
+    this._setRun({ state: 'done', progress: null, error: null });
+    this._resultChanged.emit(completed);
+    // The results view, the record and the upload each take their own task, so the page
+    // paints and answers input between them instead of in one long freeze.
+    await Private.yieldToPage();
+    this._runCompleted.emit(completed);
+    await Private.yieldToPage();
+    void this._sendToKernel(completed);
+  }
+
+  /** End the run of `ticket` as cancelled or failed (unless a newer run took over). */
+  private _fail(ticket: number, error: unknown): void {
+    if (ticket !== this._ticket) {
+      return;
+    }
+    const failure = asPolyadicError(error);
+    this._setRun({ state: isCancellation(failure) ? 'cancelled' : 'error', progress: null, error: failure });
+    // the column or binning at fault is marked in its section
+    if (!isCancellation(failure)) {
+      this.binning.setRunFault(failure);
+      this.data.setRunFault(failure);
     }
   }
 
@@ -463,23 +473,9 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
         elapsedMs: this._now() - started,
         workers: outcome.workers
       };
-      this._latest = completed;
-      this._setRun({ state: 'done', progress: null, error: null });
-      this._resultChanged.emit(completed);
-      await Private.yieldToPage();
-      this._runCompleted.emit(completed);
-      await Private.yieldToPage();
-      void this._sendToKernel(completed);
+      await this._finish(completed);
     } catch (error) {
-      if (ticket !== this._ticket) {
-        return;
-      }
-      const failure = asPolyadicError(error);
-      this._setRun({ state: isCancellation(failure) ? 'cancelled' : 'error', progress: null, error: failure });
-      if (!isCancellation(failure)) {
-        this.binning.setRunFault(failure);
-        this.data.setRunFault(failure);
-      }
+      this._fail(ticket, error);
     } finally {
       if (this._scanner === scanner) {
         this._scanner = null;
