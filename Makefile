@@ -115,8 +115,19 @@ chromium:
 	fi
 	@"$(CHROMIUM)" --version 2>/dev/null | head -n 1
 
+# A Java 17 runtime for the Spark tests (pyspark runs Spark in a JVM); apt-get as root, else one line.
+.PHONY: java
+java:
+	@if ! command -v java >/dev/null 2>&1; then \
+	  if [ "$$(id -u)" = 0 ] && command -v apt-get >/dev/null 2>&1; then \
+	    echo "--- apt-get install openjdk-17-jre-headless"; \
+	    apt-get update -qq && apt-get install -y -qq --no-install-recommends openjdk-17-jre-headless >/dev/null || { \
+	      echo "error: apt-get could not install openjdk-17-jre-headless (see the messages above)" >&2; exit 1; }; \
+	  else echo "error: java is missing: the Spark tests need it (Debian: apt-get install openjdk-17-jre-headless)" >&2; exit 1; fi; \
+	fi
+
 .PHONY: install install-demo
-install: $(PY_TEST_STAMP) $(NPM_STAMP) chromium
+install: $(PY_TEST_STAMP) $(NPM_STAMP) chromium java
 install-demo: $(PY_DEMO_STAMP) $(NPM_STAMP)
 
 # ---------------------------------------------------------------------------------------------

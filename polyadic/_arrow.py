@@ -28,7 +28,8 @@ import pyarrow as pa
 
 from ._errors import BridgeError
 from ._handover import create_private, handover_dir, new_token, publish, sweep
-from ._listing import column_label, frame_kind
+from ._listing import SCANNED_KINDS, column_label, frame_kind
+from ._scan import ScanEngine, sample_indices
 
 #: Largest serialized record batch the kernel sends in one comm message.
 FETCH_BATCH_MAX_BYTES = 64 * 1024 * 1024
@@ -194,14 +195,6 @@ def _row_count(obj: Any, kind: str) -> int:
     if kind == "polars":
         return obj.height
     return obj.num_rows
-
-
-def sample_indices(rows: int, row_cap: int, seed: int) -> np.ndarray | None:
-    """Sorted row positions of a seeded random sample of ``row_cap`` rows, or None if all fit."""
-    if rows <= row_cap:
-        return None
-    rng = np.random.default_rng(seed)
-    return np.sort(rng.choice(rows, size=row_cap, replace=False))
 
 
 def _take(obj: Any, kind: str, indices: np.ndarray) -> Any:
@@ -376,10 +369,60 @@ def normalize_column(array: pa.Array | pa.ChunkedArray, name: str, dtype: str) -
     return array, meta
 
 
+def table_payload(
+    table: pa.Table, metas: list[dict[str, Any]], original_rows: int, sampled: bool, seed: int, max_batch_bytes: int
+) -> FetchPayload:
+    """A payload of an Arrow table already in the wire layout."""
+    batches = split_batches(table, max_batch_bytes)
+    return FetchPayload(
+        columns=metas,
+        rows=table.num_rows,
+        original_rows=original_rows,
+        sampled=sampled,
+        seed=seed,
+        schema=table.schema,
+        batches=batches,
+        bytes_total=stream_size(table.schema, batches),
+    )
+
+
+def scanned_to_ipc_batches(
+    engine: ScanEngine,
+    columns: Sequence[str] | None,
+    row_cap: Any,
+    seed: Any,
+    max_batch_bytes: int = FETCH_BATCH_MAX_BYTES,
+) -> FetchPayload:
+    """The preview of a scanned frame: a seeded sample of ``min(row_cap, rows)`` rows.
+
+    The engine converts its rows to Arrow itself (DuckDB's Arrow reader, Spark's ``toArrow``);
+    the columns are then brought to the wire contract like any other frame's.
+    """
+    if row_cap is None:
+        raise BridgeError("A fetch of a scanned frame needs 'row_cap'.", option="row_cap")
+    row_cap = _check_int(row_cap, "row_cap", 1)
+    seed = DEFAULT_SAMPLE_SEED if seed is None else _check_int(seed, "sample_seed", 0)
+    max_batch_bytes = _check_int(max_batch_bytes, "max_batch_bytes", 1)
+    if columns is not None:
+        columns = list(columns) if isinstance(columns, (list, tuple)) else columns
+    table, original_rows = engine.sample(columns, row_cap, seed)
+    dtypes = {c.name: c.dtype for c in engine.columns}
+    arrays: list[pa.Array] = []
+    metas: list[dict[str, Any]] = []
+    for position, name in enumerate(table.column_names):
+        array, meta = normalize_column(table.column(position), name, dtypes.get(name, str(table.schema.field(position).type)))
+        arrays.append(array)
+        metas.append(meta)
+    normalized = pa.Table.from_arrays(arrays, names=table.column_names)
+    return table_payload(
+        normalized, metas, original_rows, normalized.num_rows < original_rows, seed, max_batch_bytes
+    )
+
+
 def frame_to_table(obj: Any, columns: Sequence[str] | None = None) -> tuple[pa.Table, list[dict[str, Any]]]:
     """The selected columns of a pandas, polars or Arrow frame as a normalized Arrow table."""
     kind = frame_kind(obj)
-    if kind is None:
+    if kind is None or kind in SCANNED_KINDS:
         raise BridgeError(f"Not a pandas, polars or Arrow frame: {type(obj).__name__}.")
     selected, names = _select(obj, kind, columns)
     return _convert(selected, kind, names)
@@ -477,7 +520,7 @@ def frame_to_ipc_batches(
     seed = DEFAULT_SAMPLE_SEED if seed is None else _check_int(seed, "sample_seed", 0)
     max_batch_bytes = _check_int(max_batch_bytes, "max_batch_bytes", 1)
     kind = frame_kind(obj)
-    if kind is None:
+    if kind is None or kind in SCANNED_KINDS:
         raise BridgeError(f"Not a pandas, polars or Arrow frame: {type(obj).__name__}.")
     selected, names = _select(obj, kind, columns)
     original_rows = _row_count(selected, kind)

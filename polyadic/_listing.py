@@ -12,6 +12,8 @@ from typing import Any, Iterable, Mapping
 
 import pyarrow as pa
 
+from ._scan import duckdb_column_kind, duckdb_relation_type, spark_column_kind, spark_dataframe_types
+
 #: Column kinds the front end knows (src/bridge/protocol.ts, ``ColumnKind``).
 COLUMN_KINDS = ("numeric", "categorical", "string", "bool", "datetime", "timedelta", "other")
 
@@ -22,10 +24,15 @@ IPYTHON_NAMES = frozenset({"In", "Out", "exit", "quit", "get_ipython"})
 OBJECT_SNIFF_ROWS = 1000
 
 
-def frame_kind(obj: Any) -> str | None:
-    """'pandas', 'polars' or 'arrow' when ``obj`` is a frame the bridge can send, else None.
+#: Frame kinds whose rows stay in an engine that scans them (scanned frames).
+SCANNED_KINDS = ("duckdb", "spark")
 
-    polars is only consulted when the user already imported it: listing must not import it.
+
+def frame_kind(obj: Any) -> str | None:
+    """'pandas', 'polars', 'arrow', 'duckdb' or 'spark' when ``obj`` is a frame the bridge knows.
+
+    polars, DuckDB and PySpark are only consulted when the user already imported them: listing
+    must not import them (it runs after every cell).
     """
     pd = sys.modules.get("pandas")
     if pd is not None and isinstance(obj, pd.DataFrame):
@@ -35,6 +42,12 @@ def frame_kind(obj: Any) -> str | None:
         return "polars"
     if isinstance(obj, pa.Table):
         return "arrow"
+    relation = duckdb_relation_type()
+    if relation is not None and isinstance(obj, relation):
+        return "duckdb"
+    spark_types = spark_dataframe_types()
+    if spark_types and isinstance(obj, spark_types):
+        return "spark"
     return None
 
 
@@ -125,12 +138,37 @@ def column_label(key: Any) -> str:
     return key if isinstance(key, str) else str(key)
 
 
+def describe_scanned(obj: Any, kind: str) -> dict[str, Any]:
+    """Describe a scanned frame from its schema alone: no query, no Spark job.
+
+    Its rows and bytes are unknown (null): counting them is a query or a job.
+    """
+    if kind == "duckdb":
+        import duckdb
+
+        columns = [
+            {"name": name, "dtype": str(dtype), "kind": duckdb_column_kind(str(dtype))}
+            for name, dtype in zip(obj.columns, obj.types)
+        ]
+        engine = {"name": "duckdb", "version": str(duckdb.__version__)}
+    else:
+        columns = [
+            {"name": f.name, "dtype": f.dataType.simpleString(), "kind": spark_column_kind(f.dataType)}
+            for f in obj.schema.fields
+        ]
+        engine = {"name": "spark", "version": str(obj.sparkSession.version)}
+    return {"kind": kind, "rows": None, "columns": columns, "memory_bytes": None, "engine": engine}
+
+
 def describe_frame(obj: Any) -> dict[str, Any]:
     """Describe one frame: kind, rows, columns (name, dtype, kind) and approximate bytes.
 
-    Raises TypeError when ``obj`` is not a pandas, polars or Arrow frame.
+    Scanned frames (DuckDB, Spark) have null rows and bytes and name their engine.
+    Raises TypeError when ``obj`` is not a frame the bridge knows.
     """
     kind = frame_kind(obj)
+    if kind in SCANNED_KINDS:
+        return describe_scanned(obj, kind)
     if kind == "pandas":
         columns = []
         for i, (key, dtype) in enumerate(zip(obj.columns, obj.dtypes)):

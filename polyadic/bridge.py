@@ -12,6 +12,11 @@ The front end opens a comm to the target ``polyadic`` and sends JSON requests, e
   the pieces come on the comm as usual.
 * ``results_chunk`` → ``results_ack`` per chunk, ``results_stored`` when a table is complete;
   :func:`results` then returns it as a pandas DataFrame.
+* ``scan`` (scanned frames: DuckDB relations, Spark DataFrames) → ``scan_facts``,
+  ``scan_details``, or the grouped table as a fetch's pieces then ``scan_done``. A scan runs
+  on a background thread (one per frame at a time) and replies from it; ``cancel`` stops it
+  (Spark job group, DuckDB interrupt) and answers ``cancel_done``. The numbers come from
+  polyadic/_scan.py.
 
 Anything that goes wrong is an ``error`` reply; no exception reaches the notebook's output.
 The work is done by pure functions in ``_listing``, ``_arrow`` and ``_results``; this module
@@ -26,16 +31,24 @@ import threading
 import traceback
 from typing import Any, Callable, Mapping
 
-from ._arrow import FETCH_BATCH_MAX_BYTES, FILE_BATCH_MAX_BYTES, frame_to_ipc_batches, write_handover
+from ._arrow import (
+    FETCH_BATCH_MAX_BYTES,
+    FILE_BATCH_MAX_BYTES,
+    frame_to_ipc_batches,
+    scanned_to_ipc_batches,
+    table_payload,
+    write_handover,
+)
 from ._errors import BridgeError
 from ._handover import HandoverUnavailable
-from ._listing import IPYTHON_NAMES, frame_kind, list_frames
+from ._listing import IPYTHON_NAMES, SCANNED_KINDS, frame_kind, list_frames
 from ._results import ResultsNotFound, ResultStore
+from ._scan import SCAN_STEPS, EngineFailure, ScanCancelled, ScanEngine, duckdb_connections, first_line, scan_engine
 
 #: Name of the comm target the front end opens (DESIGN.md glossary).
 COMM_TARGET = "polyadic"
 #: Version of the message protocol; the front end compares it with its own.
-PROTOCOL_VERSION = 1
+PROTOCOL_VERSION = 2
 
 _log = logging.getLogger("polyadic.bridge")
 
@@ -106,6 +119,9 @@ class KernelBridge:
         self._comms: dict[str, Any] = {}
         # The frames part of the listing last pushed to each comm, to skip unchanged pushes.
         self._pushed: dict[str, Any] = {}
+        # Running scans by request id, and the frames they scan (one scan per frame at a time).
+        self._scans: dict[Any, ScanEngine] = {}
+        self._scanning: dict[str, Any] = {}
 
     # --- comm life cycle ---------------------------------------------------------------------
 
@@ -176,10 +192,16 @@ class KernelBridge:
                 self._fetch(comm, data, request_id)
             elif kind == "results_chunk":
                 self._results_chunk(comm, data, msg.get("buffers") or [], request_id)
+            elif kind == "scan":
+                self._scan(comm, data, request_id)
+            elif kind == "cancel":
+                self._cancel(comm, data, request_id)
             else:
                 raise BridgeError(f"Unknown request type {kind!r}.", option="type")
         except BridgeError as error:
             self._send_error(comm, request_id, error.message, error.detail)
+        except EngineFailure as failure:
+            self._send_engine_failure(comm, request_id, data.get("name"), failure)
         except Exception as error:  # noqa: BLE001 - must never reach the user's notebook
             _log.debug("polyadic request failed", exc_info=True)
             self._send_error(
@@ -189,10 +211,10 @@ class KernelBridge:
                 {"traceback": traceback.format_exc()},
             )
 
-    def _fetch(self, comm: Any, data: Mapping[str, Any], request_id: Any) -> None:
+    def _frame(self, data: Mapping[str, Any], what: str) -> tuple[str, Any]:
         name = data.get("name")
         if not isinstance(name, str) or not name:
-            raise BridgeError("A fetch request needs the frame's 'name'.", option="name")
+            raise BridgeError(f"A {what} request needs the frame's 'name'.", option="name")
         namespace = self._namespace()
         # Only names the listing could show: private names and IPython's history stay private.
         frame = None if name.startswith("_") or name in IPYTHON_NAMES else namespace.get(name)
@@ -202,29 +224,54 @@ class KernelBridge:
                 "the listing); refresh the list.",
                 frame=name,
             )
+        return name, frame
+
+    def _engine(self, name: str, frame: Any) -> ScanEngine:
+        return scan_engine(frame, name, lambda: duckdb_connections(self._namespace()))
+
+    @staticmethod
+    def _delivery(data: Mapping[str, Any]) -> str:
         delivery = data.get("delivery", "comm")
         if delivery not in ("comm", "file"):
             raise BridgeError(f"'delivery' must be 'comm' or 'file', got {delivery!r}.", option="delivery")
-        payload = frame_to_ipc_batches(
-            frame,
-            data.get("columns"),
-            row_cap=data.get("row_cap"),
-            seed=data.get("sample_seed"),
-            max_batch_bytes=FILE_BATCH_MAX_BYTES if delivery == "file" else self._max_batch_bytes,
-        )
+        return delivery
+
+    def _fetch(self, comm: Any, data: Mapping[str, Any], request_id: Any) -> None:
+        name, frame = self._frame(data, "fetch")
+        delivery = self._delivery(data)
+        if frame_kind(frame) in SCANNED_KINDS:
+            engine = self._engine(name, frame)
+
+            def build(max_batch_bytes: int) -> Any:
+                return scanned_to_ipc_batches(
+                    engine, data.get("columns"), data.get("row_cap"), data.get("sample_seed"), max_batch_bytes
+                )
+
+        else:
+
+            def build(max_batch_bytes: int) -> Any:
+                return frame_to_ipc_batches(
+                    frame,
+                    data.get("columns"),
+                    row_cap=data.get("row_cap"),
+                    seed=data.get("sample_seed"),
+                    max_batch_bytes=max_batch_bytes,
+                )
+
+        payload, batch_count, bytes_total = self._deliver(comm, request_id, name, delivery, build)
+        self._send_done(comm, request_id, name, payload, batch_count, bytes_total)
+
+    def _deliver(
+        self, comm: Any, request_id: Any, name: str, delivery: str, build: Callable[[int], Any]
+    ) -> tuple[Any, int, int]:
+        """Send a payload's stream as one handover file or as comm pieces; (payload, batches, bytes)."""
         if delivery == "file":
+            payload = build(FILE_BATCH_MAX_BYTES)
             try:
                 token, size = write_handover(payload)
             except (HandoverUnavailable, OSError):
                 _log.debug("polyadic handover file unavailable; sending on the comm", exc_info=True)
                 # Rare (no private runtime folder): convert again in comm-sized batches.
-                payload = frame_to_ipc_batches(
-                    frame,
-                    data.get("columns"),
-                    row_cap=data.get("row_cap"),
-                    seed=data.get("sample_seed"),
-                    max_batch_bytes=self._max_batch_bytes,
-                )
             else:
                 comm.send(
                     data={
@@ -235,8 +282,8 @@ class KernelBridge:
                         "bytes_total": size,
                     }
                 )
-                self._send_done(comm, request_id, name, payload, batch_count=1, bytes_total=size)
-                return
+                return payload, 1, size
+        payload = build(self._max_batch_bytes)
         sent = 0
         for index, piece in enumerate(payload.iter_pieces()):
             sent += len(piece)
@@ -252,7 +299,129 @@ class KernelBridge:
                 },
                 buffers=[piece],
             )
-        self._send_done(comm, request_id, name, payload, payload.batch_count, payload.bytes_total)
+        return payload, payload.batch_count, payload.bytes_total
+
+    # --- scans ---------------------------------------------------------------------------------
+
+    def _scan(self, comm: Any, data: Mapping[str, Any], request_id: Any) -> None:
+        name, frame = self._frame(data, "scan")
+        if frame_kind(frame) not in SCANNED_KINDS:
+            raise BridgeError(
+                f"{name!r} is not a scanned frame (a DuckDB relation or a Spark DataFrame); fetch it instead.",
+                frame=name,
+            )
+        step = data.get("step")
+        if step not in SCAN_STEPS:
+            raise BridgeError(f"'step' must be one of {', '.join(SCAN_STEPS)}, got {step!r}.", option="step")
+        delivery = self._delivery(data) if step == "group" else "comm"
+        engine = self._engine(name, frame)
+        with self._lock:
+            if name in self._scanning:
+                raise BridgeError(
+                    f"A scan of {name!r} is already running; wait for it or cancel it.",
+                    frame=name,
+                    running=self._scanning[name],
+                )
+            if request_id in self._scans:
+                raise BridgeError(f"A scan with request id {request_id!r} is already running.", option="request_id")
+            self._scanning[name] = request_id
+            self._scans[request_id] = engine
+        thread = threading.Thread(
+            target=self._run_scan,
+            args=(comm, dict(data), request_id, name, engine, step, delivery),
+            name=f"polyadic-scan-{name}",
+            daemon=True,
+        )
+        try:
+            thread.start()
+        except BaseException:
+            self._end_scan(request_id, name)
+            raise
+
+    def _end_scan(self, request_id: Any, name: str) -> None:
+        with self._lock:
+            self._scans.pop(request_id, None)
+            if self._scanning.get(name) == request_id:
+                del self._scanning[name]
+
+    def _run_scan(
+        self, comm: Any, data: dict[str, Any], request_id: Any, name: str, engine: ScanEngine, step: str, delivery: str
+    ) -> None:
+        try:
+            self._send(comm, {"type": "scan_progress", "request_id": request_id, "name": name, "stage": step})
+            if step == "facts":
+                body = engine.facts(data.get("columns"))
+                reply = {"type": "scan_facts", "request_id": request_id, "name": name, **body}
+            elif step == "details":
+                body = engine.details(data.get("columns"))
+                reply = {"type": "scan_details", "request_id": request_id, "name": name, **body}
+            else:
+                table, rows = engine.group(data.get("columns"), data.get("max_distinct_rows"))
+                if engine.cancelled:
+                    raise ScanCancelled()
+
+                def build(max_batch_bytes: int) -> Any:
+                    return table_payload(table, [], rows, False, 0, max_batch_bytes)
+
+                _, batch_count, bytes_total = self._deliver(comm, request_id, name, delivery, build)
+                reply = {
+                    "type": "scan_done",
+                    "request_id": request_id,
+                    "name": name,
+                    "rows": int(rows),
+                    "distinct_rows": int(table.num_rows),
+                    "batch_count": batch_count,
+                    "bytes_total": bytes_total,
+                    "engine": engine.engine_info(),
+                }
+            if engine.cancelled:
+                raise ScanCancelled()
+            self._send(comm, reply)
+        except ScanCancelled:
+            self._send_error(
+                comm,
+                request_id,
+                f"The scan of {name!r} was cancelled.",
+                {"cancelled": True, "engine": engine.name, "frame": name},
+            )
+        except EngineFailure as failure:
+            self._send_engine_failure(comm, request_id, name, failure)
+        except BridgeError as error:
+            self._send_error(comm, request_id, error.message, error.detail)
+        except Exception as error:  # noqa: BLE001 - a scan thread must never die silently
+            _log.debug("polyadic scan failed", exc_info=True)
+            self._send_error(
+                comm,
+                request_id,
+                f"Polyadic could not scan {name!r} ({type(error).__name__}: {error}).",
+                {"traceback": traceback.format_exc(), "engine": engine.name},
+            )
+        finally:
+            self._end_scan(request_id, name)
+
+    def _cancel(self, comm: Any, data: Mapping[str, Any], request_id: Any) -> None:
+        target = data.get("target")
+        with self._lock:
+            engine = self._scans.get(target)
+        cancelled = False
+        if engine is not None:
+            engine.cancel()
+            cancelled = True
+        self._send(comm, {"type": "cancel_done", "request_id": request_id, "target": target, "cancelled": cancelled})
+
+    def running_scans(self) -> list[Any]:
+        """Request ids of the scans running now."""
+        with self._lock:
+            return list(self._scans)
+
+    def _send_engine_failure(self, comm: Any, request_id: Any, name: Any, failure: EngineFailure) -> None:
+        label = {"duckdb": "DuckDB", "spark": "Spark"}.get(failure.engine, failure.engine)
+        self._send_error(
+            comm,
+            request_id,
+            f"{label} stopped the scan of {name!r}: {first_line(failure.engine_message)}",
+            {"engine": failure.engine, "engine_message": failure.engine_message, "frame": name},
+        )
 
     def _send_done(
         self, comm: Any, request_id: Any, name: str, payload: Any, batch_count: int, bytes_total: int

@@ -86,11 +86,16 @@ export class RequestChannel {
           this._texts.unexpectedReply(String(replyType), [...Object.keys(expected.progress), ...Object.keys(expected.final)])
         );
       };
-      this._send({ ...body, request_id: this._nextId() }, options.buffers ?? [], {
+      const requestId = this._nextId();
+      this._send({ ...body, request_id: requestId }, options.buffers ?? [], {
         label: options.label,
         read,
-        reject
+        reject,
+        background: options.background === true
       });
+      if (this._pending.has(requestId)) {
+        options.sent?.(requestId);
+      }
     });
   }
 
@@ -125,7 +130,7 @@ export class RequestChannel {
     }
     const settle = (cancelled: boolean): void => {
       const still = this._pending.get(id);
-      if (still === undefined) {
+      if (still === undefined || (!cancelled && still.background)) {
         return;
       }
       this._pending.delete(id);
@@ -231,6 +236,13 @@ export namespace RequestChannel {
     progress?(reply: ProgressReply<K>, buffers: readonly unknown[]): void;
     /** The request's result, made from its final reply as it arrives; a throw rejects the request. */
     final(reply: FinalReply<K>): R;
+    /** Called with the request's id once it is sent (a scan's id is what a cancel names). */
+    sent?(requestId: string): void;
+    /**
+     * The kernel answers on a thread of its own (a scan): its going idle after taking the
+     * request does not end it; a restart, a closed comm or the final reply still do.
+     */
+    background?: boolean;
   }
 }
 
@@ -248,7 +260,12 @@ namespace Private {
   } = {
     list: { progress: {}, final: { listing: true } },
     fetch: { progress: { fetch_chunk: true, fetch_file: true }, final: { fetch_done: true } },
-    results_chunk: { progress: {}, final: { results_ack: true, results_stored: true } }
+    results_chunk: { progress: {}, final: { results_ack: true, results_stored: true } },
+    scan: {
+      progress: { fetch_chunk: true, fetch_file: true, scan_progress: true },
+      final: { scan_facts: true, scan_details: true, scan_done: true }
+    },
+    cancel: { progress: {}, final: { cancel_done: true } }
   };
 
   /** A request waiting for its final reply. */
@@ -259,6 +276,8 @@ namespace Private {
     read(data: JSONObject, buffers: readonly unknown[]): boolean;
     /** Settle the request as failed. */
     reject(error: unknown): void;
+    /** Answered on a kernel thread: the kernel's idle does not end it. */
+    background?: boolean;
   }
 
   /** A request as the comm sends it: plain JSON (every field of a request is JSON by type). */

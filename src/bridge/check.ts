@@ -58,6 +58,19 @@ export const isCount: ICheck<number> = primitive<number>(
   value => typeof value === 'number' && Number.isSafeInteger(value) && value >= 0
 );
 
+/** A finite number (JSON has no NaN or Inf). */
+export const isFiniteNumber: ICheck<number> = primitive<number>(value => typeof value === 'number' && Number.isFinite(value));
+
+/** A row position, or −1 for none. */
+export const isRowOrNone: ICheck<number> = primitive<number>(
+  value => typeof value === 'number' && Number.isSafeInteger(value) && value >= -1
+);
+
+/** A value one of two checks accepts (the problem is the first check's). */
+export function either<A, B>(first: ICheck<A>, second: ICheck<B>): ICheck<A | B> {
+  return check<A | B>(value => (second(value) ? null : first.problem(value)));
+}
+
 /** Exactly this string. */
 export function literal<T extends string>(expected: T): ICheck<T> {
   return primitive<T>(value => value === expected);

@@ -21,7 +21,20 @@ import { FetchAssembler, IFetchedFrame, IFetchProgress } from './decode';
 import { MultipletColumnsBuilder, splitBytes } from './encode';
 import { BridgeError, isBridgeError } from './errors';
 import type { IBridgeSession } from './kernel';
-import { FetchDelivery, IFetchDone, IResultsAck, IResultsStored, RESULTS_CHUNK_MAX_BYTES } from './protocol';
+import type { IScannedGroups } from '../engine/aggregate/scan';
+import {
+  FetchDelivery,
+  IDetailRequest,
+  IFetchDone,
+  IGroupKey,
+  IResultsAck,
+  IResultsStored,
+  IScanDetails,
+  IScanDone,
+  IScanFacts,
+  KernelMessage,
+  RESULTS_CHUNK_MAX_BYTES
+} from './protocol';
 import { FrameCodec, IFetchTransport, IFrameStream } from './transport';
 import { BridgeTexts } from './texts';
 import { translationBundle, type ITranslator } from '../translation';
@@ -36,6 +49,14 @@ export interface IFetchOptions {
   seed?: number;
   /** Called after every piece received. */
   onProgress?: (progress: IFetchProgress) => void;
+}
+
+/** Options of the scan requests of {@link KernelBridge}. */
+export interface IScanCallOptions {
+  /** Called with each stage the kernel reports (`scan_progress`). */
+  onStage?: (stage: string) => void;
+  /** Called with the request's id once sent (what {@link KernelBridge.cancelScan} names). */
+  sent?: (requestId: string) => void;
 }
 
 /** How far an upload of results has come. */
@@ -190,7 +211,7 @@ export class KernelBridge implements IDisposable {
     let decoded;
     const announced = file as { token: string; total: number } | null;
     if (announced !== null) {
-      decoded = await this._download(name, announced, done, options);
+      decoded = await this._download(name, announced, done, options, stream => stream.decode(done, false));
     } else {
       assembler.verify(done);
       stream ??= codec.open(0);
@@ -202,12 +223,13 @@ export class KernelBridge implements IDisposable {
   }
 
   /** Stream a handover file from the server into the codec; a failure of the route is a {@link Private.FileFailed}. */
-  private async _download(
+  private async _download<T>(
     name: string,
     file: { token: string; total: number },
-    done: IFetchDone,
-    options: IFetchOptions
-  ) {
+    done: { bytes_total: number },
+    options: IFetchOptions,
+    finish: (stream: IFrameStream) => Promise<T>
+  ): Promise<T> {
     const route = this._transport.route;
     const stream = this._transport.codec.open(file.total);
     let received = 0;
@@ -236,7 +258,122 @@ export class KernelBridge implements IDisposable {
       stream.drop();
       throw new Private.FileFailed(new BridgeError('connection', `${received} of ${file.total} bytes arrived.`));
     }
-    return stream.decode(done, false);
+    return finish(stream);
+  }
+
+  /** The facts of columns of a scanned frame (scan-protocol.md, facts step). */
+  scanFacts(name: string, columns: readonly string[], options: IScanCallOptions = {}): Promise<IScanFacts> {
+    return this._connection.readyChannel().request(
+      { type: 'scan', name, step: 'facts', columns: [...columns] },
+      {
+        label: this._texts.scanRequest(name),
+        background: true,
+        sent: options.sent,
+        progress: reply => Private.stage(reply, options),
+        final: reply => (reply.type === 'scan_facts' ? reply : Private.wrongReply(reply.type, 'scan_facts'))
+      }
+    );
+  }
+
+  /** The details binning rules need of numeric columns of a scanned frame (details step). */
+  scanDetails(name: string, columns: readonly IDetailRequest[], options: IScanCallOptions = {}): Promise<IScanDetails> {
+    return this._connection.readyChannel().request(
+      { type: 'scan', name, step: 'details', columns: columns.map(column => ({ ...column, ranks: [...column.ranks] })) },
+      {
+        label: this._texts.scanRequest(name),
+        background: true,
+        sent: options.sent,
+        progress: reply => Private.stage(reply, options),
+        final: reply => (reply.type === 'scan_details' ? reply : Private.wrongReply(reply.type, 'scan_details'))
+      }
+    );
+  }
+
+  /**
+   * The grouped binned table of a scanned frame (group step): the Arrow stream through the same
+   * delivery as a fetch (the server's handover route, else comm pieces), decoded in the frame
+   * worker into key columns and weights.
+   */
+  async scanGroup(
+    name: string,
+    keys: readonly IGroupKey[],
+    options: IScanCallOptions & { maxDistinctRows?: number } = {}
+  ): Promise<{ done: IScanDone; groups: IScannedGroups }> {
+    const route = this._transport.route;
+    const byFile = route !== null && this._fileWorks && (await route.available());
+    try {
+      return await this._scanGroupOnce(name, keys, options, byFile ? 'file' : 'comm');
+    } catch (error) {
+      if (byFile && error instanceof Private.FileFailed) {
+        this._fileWorks = false;
+        return this._scanGroupOnce(name, keys, options, 'comm');
+      }
+      throw error;
+    }
+  }
+
+  /** Ask the kernel to stop the running scan `target` of frame `name`; resolves with whether one was stopped. */
+  cancelScan(name: string, target: string): Promise<boolean> {
+    return this._connection.readyChannel().request(
+      { type: 'cancel', target },
+      { label: this._texts.cancelRequest(name), final: reply => reply.cancelled }
+    );
+  }
+
+  private async _scanGroupOnce(
+    name: string,
+    keys: readonly IGroupKey[],
+    options: IScanCallOptions & { maxDistinctRows?: number },
+    delivery: FetchDelivery
+  ): Promise<{ done: IScanDone; groups: IScannedGroups }> {
+    const channel = this._connection.readyChannel();
+    const assembler = new FetchAssembler(name);
+    const codec = this._transport.codec;
+    let stream: IFrameStream | null = null;
+    let file: { token: string; total: number } | null = null;
+    let done: IScanDone;
+    try {
+      done = await channel.request(
+        {
+          type: 'scan',
+          name,
+          step: 'group',
+          columns: keys.map(key => (key.edges === null ? { name: key.name, edges: null } : { name: key.name, edges: [...key.edges] })),
+          ...(options.maxDistinctRows !== undefined ? { max_distinct_rows: options.maxDistinctRows } : {}),
+          ...(delivery === 'file' ? { delivery } : {})
+        },
+        {
+          label: this._texts.scanRequest(name),
+          background: true,
+          sent: options.sent,
+          progress: (reply, buffers) => {
+            if (reply.type === 'scan_progress') {
+              options.onStage?.(reply.stage);
+              return;
+            }
+            if (reply.type === 'fetch_file') {
+              file = { token: reply.token, total: reply.bytes_total };
+              return;
+            }
+            const { piece } = assembler.accept(reply, buffers[0]);
+            stream ??= codec.open(reply.bytes_total);
+            stream.push(piece, false);
+          },
+          final: reply => (reply.type === 'scan_done' ? reply : Private.wrongReply(reply.type, 'scan_done'))
+        }
+      );
+    } catch (error) {
+      (stream as IFrameStream | null)?.drop();
+      throw error;
+    }
+    const announced = file as { token: string; total: number } | null;
+    if (announced !== null) {
+      const groups = await this._download(name, announced, done, {}, opened => opened.decodeGroups(done, false));
+      return { done, groups };
+    }
+    assembler.verify(done);
+    stream ??= codec.open(0);
+    return { done, groups: await (stream as IFrameStream).decodeGroups(done, true) };
   }
 
   /**
@@ -376,6 +513,18 @@ namespace Private {
   }
 
   /** The handover route failed for this fetch: fetch again over the comm. */
+  /** Pass a scan's stage on (its other progress replies carry the group table's bytes). */
+  export function stage(reply: KernelMessage, options: IScanCallOptions): void {
+    if (reply.type === 'scan_progress') {
+      options.onStage?.(reply.stage);
+    }
+  }
+
+  /** A final reply of another step than the one asked. */
+  export function wrongReply(type: string, expected: string): never {
+    throw new BridgeError('protocol', `The kernel answered a scan with '${type}' where '${expected}' was expected.`);
+  }
+
   export class FileFailed extends Error {
     constructor(readonly cause: unknown) {
       super(errorMessage(cause));

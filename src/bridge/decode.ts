@@ -226,7 +226,7 @@ export class FetchAssembler {
   }
 
   /** Check that every announced piece and byte came, once the kernel says the fetch is done. */
-  verify(done: IFetchDone): void {
+  verify(done: Pick<IFetchDone, 'batch_count' | 'bytes_total'>): void {
     const count = Private.count(done.batch_count, 'batch_count');
     const total = Private.count(done.bytes_total, 'bytes_total');
     if (count !== this._accepted || total !== this._received) {

@@ -8,6 +8,7 @@ import { columnStats } from '../panel/data/stats';
 import { addColumn, TransferList } from '../worker/transfer';
 import { fetchedFrame, decodePieces } from './decode';
 import { encodeMultipletColumns } from './encode';
+import { scannedGroups } from './scan-decode';
 import { BridgeError, isBridgeError } from './errors';
 import type { FrameRequest, FrameResponse } from './frame-protocol';
 import { errorMessage } from '../engine/errors';
@@ -33,19 +34,23 @@ export class FrameHost {
         case 'drop':
           this._streams.delete(request.id);
           return;
+        case 'decode-groups': {
+          const groups = scannedGroups(decodePieces(this._complete(request)), request.done);
+          const transfer: ArrayBuffer[] = [groups.weights.buffer as ArrayBuffer];
+          for (const keys of groups.keys) {
+            if (keys.kind !== 'texts') {
+              transfer.push((keys.kind === 'bins' ? keys.codes : keys.values).buffer as ArrayBuffer);
+              if (keys.valid !== null) {
+                transfer.push(keys.valid.buffer as ArrayBuffer);
+              }
+            }
+          }
+          this._reply({ type: 'groups', id: request.id, groups }, transfer);
+          return;
+        }
         case 'decode': {
           const stream = this._stream(request.id);
-          this._streams.delete(request.id);
-          if (stream.received !== stream.total) {
-            throw new BridgeError(
-              'protocol',
-              `The data of '${request.done.name}' arrived incomplete (${stream.received} of ${stream.total} bytes); fetch again.`,
-              { frame: request.done.name }
-            );
-          }
-          // A file's bytes arrive in arbitrary cuts: joined into one buffer, a column of one
-          // record batch stays a view of it. Comm pieces are whole IPC messages each.
-          const pieces = request.pieces || stream.parts.length <= 1 ? stream.parts : [Private.join(stream.parts, stream.total)];
+          const pieces = this._complete(request);
           const frame = fetchedFrame(decodePieces(pieces), request.done, stream.received);
           const stats = frame.columns.map(column => columnStats(column));
           const transfer = new TransferList();
@@ -71,6 +76,24 @@ export class FrameHost {
         []
       );
     }
+  }
+
+  /**
+   * The bytes of a finished stream, checked complete and forgotten. A file's bytes arrive in
+   * arbitrary cuts: joined into one buffer, a column of one record batch stays a view of it.
+   * Comm pieces are whole IPC messages each.
+   */
+  private _complete(request: { id: number; done: { name: string }; pieces: boolean }): Uint8Array[] {
+    const stream = this._stream(request.id);
+    this._streams.delete(request.id);
+    if (stream.received !== stream.total) {
+      throw new BridgeError(
+        'protocol',
+        `The data of '${request.done.name}' arrived incomplete (${stream.received} of ${stream.total} bytes); fetch again.`,
+        { frame: request.done.name }
+      );
+    }
+    return request.pieces || stream.parts.length <= 1 ? stream.parts : [Private.join(stream.parts, stream.total)];
   }
 
   private _stream(id: number): Private.IStream {

@@ -5,7 +5,8 @@
  * id that its one reply echoes.
  */
 import type { IColumnStats } from '../panel/data/stats';
-import type { IBridgeErrorDetail, IFetchDone } from './protocol';
+import type { IScannedGroups } from '../engine/aggregate/scan';
+import type { IBridgeErrorDetail, IFetchDone, IScanDone } from './protocol';
 import type { BridgeFailure } from './errors';
 import type { IFetchedFrame } from './decode';
 import type { IMultipletColumns } from './encode';
@@ -33,6 +34,14 @@ export interface IStreamDecode {
   pieces: boolean;
 }
 
+/** Every byte of stream `id` is in: decode it as the grouped table of a scan that `done` ended. */
+export interface IStreamDecodeGroups {
+  type: 'decode-groups';
+  id: number;
+  done: IScanDone;
+  pieces: boolean;
+}
+
 /** Forget stream `id` (the download failed or was abandoned). */
 export interface IStreamDrop {
   type: 'drop';
@@ -47,7 +56,7 @@ export interface IEncodeRequest {
 }
 
 /** Any message the page sends to the frame worker. */
-export type FrameRequest = IStreamOpen | IStreamBytes | IStreamDecode | IStreamDrop | IEncodeRequest;
+export type FrameRequest = IStreamOpen | IStreamBytes | IStreamDecode | IStreamDecodeGroups | IStreamDrop | IEncodeRequest;
 
 /** The decoded frame of stream `id`, its typed arrays transferred, with each column's checklist facts. */
 export interface IFrameDecoded {
@@ -55,6 +64,13 @@ export interface IFrameDecoded {
   id: number;
   frame: IFetchedFrame;
   stats: IColumnStats[];
+}
+
+/** The key columns and weights of stream `id`'s grouped table, their typed arrays transferred. */
+export interface IGroupsDecoded {
+  type: 'groups';
+  id: number;
+  groups: IScannedGroups;
 }
 
 /** The IPC stream of an encode request, transferred. */
@@ -74,4 +90,4 @@ export interface IFrameFailed {
 }
 
 /** Any message the frame worker sends. */
-export type FrameResponse = IFrameDecoded | IEncoded | IFrameFailed;
+export type FrameResponse = IFrameDecoded | IGroupsDecoded | IEncoded | IFrameFailed;

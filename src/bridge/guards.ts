@@ -20,8 +20,18 @@ import {
   IFetchDone,
   IFetchedColumn,
   IFetchFile,
+  ICancelDone,
+  IColumnDetails,
+  IColumnFacts,
   IFrameInfo,
   IListedColumn,
+  IScanDetails,
+  IScanDone,
+  IScanEngineInfo,
+  IScanFacts,
+  IScanProgress,
+  ScanDouble,
+  ScannedFrameKind,
   IListingMessage,
   IResultsAck,
   IResultsStored,
@@ -33,9 +43,12 @@ import {
 } from './protocol';
 import {
   arrayOf,
+  either,
   ICheck,
   isBoolean,
   isCount,
+  isFiniteNumber,
+  isRowOrNone,
   isKeyOf,
   isString,
   Known,
@@ -48,28 +61,38 @@ import {
 } from './check';
 import { BRIDGE_TEXTS, type BridgeTexts } from './texts';
 
+/** How the engine reads a column. */
+export const isColumnKind: ICheck<ColumnKind> = oneOf<ColumnKind>({
+  numeric: true,
+  categorical: true,
+  string: true,
+  bool: true,
+  datetime: true,
+  timedelta: true,
+  other: true
+});
+
 /** A listed column: name, the library's dtype and its kind. */
 export const isListedColumn: ICheck<IListedColumn> = shape<IListedColumn>({
   name: isString,
   dtype: isString,
-  kind: oneOf<ColumnKind>({
-    numeric: true,
-    categorical: true,
-    string: true,
-    bool: true,
-    datetime: true,
-    timedelta: true,
-    other: true
-  })
+  kind: isColumnKind
+});
+
+/** The engine of a scanned frame and its version. */
+export const isScanEngineInfo: ICheck<IScanEngineInfo> = shape<IScanEngineInfo>({
+  name: oneOf<ScannedFrameKind>({ duckdb: true, spark: true }),
+  version: isString
 });
 
 /** A frame of a listing. */
 export const isFrameInfo: ICheck<IFrameInfo> = shape<IFrameInfo>({
   name: isString,
-  kind: oneOf<FrameKind>({ pandas: true, polars: true, arrow: true }),
-  rows: isCount,
+  kind: oneOf<FrameKind>({ pandas: true, polars: true, arrow: true, duckdb: true, spark: true }),
+  rows: orNull(isCount),
   columns: arrayOf(isListedColumn),
-  memory_bytes: isCount
+  memory_bytes: orNull(isCount),
+  engine: optional(isScanEngineInfo)
 });
 
 /** A frame the listing could not describe. */
@@ -157,6 +180,88 @@ export const isResultsStored: ICheck<IResultsStored> = shape<IResultsStored>({
   rows: isCount
 });
 
+/** A double of a scan reply: a finite JSON number, or 'Infinity' / '-Infinity'. */
+export const isScanDouble: ICheck<ScanDouble> = either<number, 'Infinity' | '-Infinity'>(
+  isFiniteNumber,
+  oneOf<'Infinity' | '-Infinity'>({ Infinity: true, '-Infinity': true })
+);
+
+/** One column's facts in a `scan_facts` message. */
+export const isColumnFacts: ICheck<IColumnFacts> = shape<IColumnFacts>({
+  name: isString,
+  dtype: isString,
+  kind: isColumnKind,
+  missing_count: isCount,
+  first_missing_row: isRowOrNone,
+  count: isCount,
+  levels: isCount,
+  integer: orNull(isBoolean),
+  rounded: isBoolean,
+  infinite: orNull(shape<{ row: number; value: ScanDouble }>({ row: isCount, value: isScanDouble })),
+  min: orNull(isScanDouble),
+  max: orNull(isScanDouble)
+});
+
+/** A `scan_facts` message. */
+export const isScanFacts: ICheck<IScanFacts> = shape<IScanFacts>({
+  type: literal('scan_facts'),
+  request_id: isString,
+  name: isString,
+  rows: isCount,
+  engine: isScanEngineInfo,
+  columns: arrayOf(isColumnFacts)
+});
+
+/** One column's details in a `scan_details` message. */
+export const isColumnDetails: ICheck<IColumnDetails> = shape<IColumnDetails>({
+  name: isString,
+  order_statistics: arrayOf(isScanDouble),
+  std: orNull(isFiniteNumber),
+  skewness: orNull(isFiniteNumber),
+  distinct: orNull(
+    shape<{ values: (ScanDouble | string)[]; counts: number[] }>({
+      values: arrayOf(either<ScanDouble, string>(isScanDouble, isString)),
+      counts: arrayOf(isCount)
+    })
+  )
+});
+
+/** A `scan_details` message. */
+export const isScanDetails: ICheck<IScanDetails> = shape<IScanDetails>({
+  type: literal('scan_details'),
+  request_id: isString,
+  name: isString,
+  columns: arrayOf(isColumnDetails)
+});
+
+/** A `scan_done` message. */
+export const isScanDone: ICheck<IScanDone> = shape<IScanDone>({
+  type: literal('scan_done'),
+  request_id: isString,
+  name: isString,
+  rows: isCount,
+  distinct_rows: isCount,
+  batch_count: isCount,
+  bytes_total: isCount,
+  engine: isScanEngineInfo
+});
+
+/** A `scan_progress` message. */
+export const isScanProgress: ICheck<IScanProgress> = shape<IScanProgress>({
+  type: literal('scan_progress'),
+  request_id: isString,
+  name: isString,
+  stage: isString
+});
+
+/** A `cancel_done` message. */
+export const isCancelDone: ICheck<ICancelDone> = shape<ICancelDone>({
+  type: literal('cancel_done'),
+  request_id: isString,
+  target: isString,
+  cancelled: isBoolean
+});
+
 /** Where an error lies: a JSON object whose known fields have their declared types (others are free). */
 export const isErrorDetail: ICheck<IBridgeErrorDetail> = withIndex<IBridgeErrorDetail>(
   shape<Known<IBridgeErrorDetail>>({
@@ -187,6 +292,11 @@ export const KERNEL_MESSAGE_CHECKS: { readonly [T in KernelMessage['type']]: ICh
   fetch_done: isFetchDone,
   results_ack: isResultsAck,
   results_stored: isResultsStored,
+  scan_facts: isScanFacts,
+  scan_details: isScanDetails,
+  scan_done: isScanDone,
+  scan_progress: isScanProgress,
+  cancel_done: isCancelDone,
   error: isErrorMessage
 };
 

@@ -22,7 +22,7 @@ import type { JSONObject } from '@lumino/coreutils';
 export const COMM_TARGET = 'polyadic';
 
 /** Version of this protocol; the kernel states its own in every listing. */
-export const PROTOCOL_VERSION = 1;
+export const PROTOCOL_VERSION = 2;
 
 /** Largest serialized record batch in one `fetch_chunk` (64 MiB). */
 export const FETCH_BATCH_MAX_BYTES = 64 * 1024 * 1024;
@@ -46,8 +46,39 @@ export type ColumnKind =
   | 'timedelta'
   | 'other';
 
-/** The library a frame comes from. */
-export type FrameKind = 'pandas' | 'polars' | 'arrow';
+/**
+ * The library a frame comes from. `duckdb` (a DuckDBPyRelation) and `spark` (a PySpark
+ * DataFrame) are scanned frames: their rows stay in that engine, which scans them.
+ */
+export type FrameKind = 'pandas' | 'polars' | 'arrow' | 'duckdb' | 'spark';
+
+/** The frame kinds whose rows stay in an engine that scans them (DESIGN.md glossary: scanned frame). */
+export type ScannedFrameKind = Extract<FrameKind, 'duckdb' | 'spark'>;
+
+/** Whether frames of a kind are scanned frames. */
+export function isScannedKind(kind: FrameKind): kind is ScannedFrameKind {
+  return kind === 'duckdb' || kind === 'spark';
+}
+
+/** The product name of each scanning engine, as texts show it (a name: never translated). */
+export const SCAN_ENGINE_NAMES: Readonly<Record<ScannedFrameKind, string>> = { duckdb: 'DuckDB', spark: 'Spark' };
+
+/** The product name of a scanning engine named by the kernel (DuckDB unless it says Spark). */
+export function scanEngineName(name: string | undefined): string {
+  return name === 'spark' ? SCAN_ENGINE_NAMES.spark : SCAN_ENGINE_NAMES.duckdb;
+}
+
+/** Rows of a scanned frame the preview fetch samples (our choice): a seeded sample, never used by Run. */
+export const SCAN_PREVIEW_ROWS = 100_000;
+
+/** Distinct rows a group scan may return unless the request says otherwise (the kernel's default). */
+export const SCAN_MAX_DISTINCT_ROWS_DEFAULT = 5_000_000;
+
+/** The engine that scans a frame, and its version. */
+export interface IScanEngineInfo {
+  name: ScannedFrameKind;
+  version: string;
+}
 
 /**
  * Resolution of a datetime or timedelta column: int64 counts of 's' … 'ns', or 'day' for a
@@ -69,10 +100,13 @@ export interface IFrameInfo {
   /** Variable name in the user's namespace. */
   name: string;
   kind: FrameKind;
-  rows: number;
+  /** Rows; null for a scanned frame (counting them is a query or a job). */
+  rows: number | null;
   columns: IListedColumn[];
-  /** Approximate size in bytes (shallow: Python strings counted as pointers). */
-  memory_bytes: number;
+  /** Approximate size in bytes (shallow: Python strings counted as pointers); null for a scanned frame. */
+  memory_bytes: number | null;
+  /** Only on scanned frames: the engine and its version. */
+  engine?: IScanEngineInfo;
 }
 
 /** A frame that exists but could not be described, with the reason. */
@@ -145,8 +179,69 @@ export interface IResultsChunk {
   meta?: JSONObject;
 }
 
+// --- scans of a scanned frame (front end → kernel) -----------------------------------------
+
+/** What a binning rule needs of one numeric column beyond its facts. */
+export type IDetailRequest = {
+  name: string;
+  /** 0-based ranks among the non-missing values. */
+  ranks: number[];
+  std: boolean;
+  skewness: boolean;
+  distinct: boolean;
+};
+
+/** One key of the group scan: the bin by `edges` (ascending, at least 2), or the value itself. */
+export type IGroupKey = { name: string; edges: number[] } | { name: string; edges: null };
+
+/** Ask for the facts of columns of a scanned frame; answered by {@link IScanFacts}. */
+export interface IScanFactsRequest {
+  type: 'scan';
+  request_id: string;
+  /** Frame variable name, as listed. */
+  name: string;
+  step: 'facts';
+  columns: string[];
+}
+
+/** Ask for column details (order statistics, std, skewness, distinct values); answered by {@link IScanDetails}. */
+export interface IScanDetailsRequest {
+  type: 'scan';
+  request_id: string;
+  name: string;
+  step: 'details';
+  columns: IDetailRequest[];
+}
+
+/**
+ * Ask for the grouped binned table: Arrow pieces or a handover file as a fetch's (echoing this
+ * request), then {@link IScanDone}. Key columns `k0`, `k1`, … in request order (int32 for edge
+ * keys, float64 for numeric and bool value keys, utf8 for text), then `weight` (int64 ≥ 1).
+ */
+export interface IScanGroupRequest {
+  type: 'scan';
+  request_id: string;
+  name: string;
+  step: 'group';
+  columns: IGroupKey[];
+  delivery?: FetchDelivery;
+  /** Default {@link SCAN_MAX_DISTINCT_ROWS_DEFAULT}; above it an error with `detail.limit = 'distinct_rows'`. */
+  max_distinct_rows?: number;
+}
+
+/** Any scan request. */
+export type IScanRequest = IScanFactsRequest | IScanDetailsRequest | IScanGroupRequest;
+
+/** Stop a running scan; answered by {@link ICancelDone} (the scan itself ends with an error, `detail.cancelled`). */
+export interface ICancelRequest {
+  type: 'cancel';
+  request_id: string;
+  /** The request_id of the running scan. */
+  target: string;
+}
+
 /** Any message the front end sends. */
-export type FrontEndRequest = IListRequest | IFetchRequest | IResultsChunk;
+export type FrontEndRequest = IListRequest | IFetchRequest | IResultsChunk | IScanRequest | ICancelRequest;
 
 // --- kernel → front end --------------------------------------------------------------------
 
@@ -279,6 +374,92 @@ export interface IBridgeErrorDetail {
   [key: string]: unknown;
 }
 
+/** A double that may be infinite (JSON has no Inf); NaN never appears (NaN is missing). */
+export type ScanDouble = number | 'Infinity' | '-Infinity';
+
+/** What a scan knows of one column before binning. */
+export interface IColumnFacts {
+  name: string;
+  /** The engine's own type name (DuckDB `DOUBLE`, Spark `double`, …). */
+  dtype: string;
+  kind: ColumnKind;
+  /** Nulls, plus NaN in float columns. */
+  missing_count: number;
+  /** 0-based position in the frame's row order, −1 if none. */
+  first_missing_row: number;
+  /** Non-missing values. */
+  count: number;
+  /** Distinct non-missing values, counted only up to 11; −0 and 0 are one value. */
+  levels: number;
+  /** Numeric and bool columns (bool read as 0/1): numpy would see an integer dtype; null or false for text. */
+  integer: boolean | null;
+  rounded: boolean;
+  /** The first ±Inf in row order. */
+  infinite: { row: number; value: ScanDouble } | null;
+  min: ScanDouble | null;
+  max: ScanDouble | null;
+}
+
+/** The answer to a facts scan. */
+export interface IScanFacts {
+  type: 'scan_facts';
+  request_id: string;
+  name: string;
+  rows: number;
+  engine: IScanEngineInfo;
+  columns: IColumnFacts[];
+}
+
+/** The answer for one {@link IDetailRequest}. */
+export interface IColumnDetails {
+  name: string;
+  /** The rank-th smallest non-missing value, per requested rank. */
+  order_statistics: ScanDouble[];
+  /** Exactly numpy.std of the non-missing values as float64 in row order. */
+  std: number | null;
+  /** Exactly numpy.mean(((x − x.mean()) / std) ** 3); null if not asked or std is 0. */
+  skewness: number | null;
+  /** Ascending numbers (−0 as 0) or texts by code point, with the rows holding each. */
+  distinct: { values: (ScanDouble | string)[]; counts: number[] } | null;
+}
+
+/** The answer to a details scan. */
+export interface IScanDetails {
+  type: 'scan_details';
+  request_id: string;
+  name: string;
+  columns: IColumnDetails[];
+}
+
+/** The last message of a group scan, after its Arrow pieces or handover file. */
+export interface IScanDone {
+  type: 'scan_done';
+  request_id: string;
+  name: string;
+  /** Input rows. */
+  rows: number;
+  distinct_rows: number;
+  batch_count: number;
+  bytes_total: number;
+  engine: IScanEngineInfo;
+}
+
+/** A stage of a running scan, for the run line. */
+export interface IScanProgress {
+  type: 'scan_progress';
+  request_id: string;
+  name: string;
+  stage: string;
+}
+
+/** The answer to a cancel: whether a scan was running and was stopped. */
+export interface ICancelDone {
+  type: 'cancel_done';
+  request_id: string;
+  target: string;
+  cancelled: boolean;
+}
+
 /** Any message the kernel sends. */
 export type KernelMessage =
   | IListingMessage
@@ -287,6 +468,11 @@ export type KernelMessage =
   | IFetchDone
   | IResultsAck
   | IResultsStored
+  | IScanFacts
+  | IScanDetails
+  | IScanDone
+  | IScanProgress
+  | ICancelDone
   | IErrorMessage;
 
 /** The kernel message of one type. */
@@ -300,4 +486,6 @@ export interface IRequestReplies {
   list: { progress: never; final: 'listing' };
   fetch: { progress: 'fetch_chunk' | 'fetch_file'; final: 'fetch_done' };
   results_chunk: { progress: never; final: 'results_ack' | 'results_stored' };
+  scan: { progress: 'fetch_chunk' | 'fetch_file' | 'scan_progress'; final: 'scan_facts' | 'scan_details' | 'scan_done' };
+  cancel: { progress: never; final: 'cancel_done' };
 }

@@ -75,6 +75,16 @@ export class BridgeTexts {
     return { what: this._trans.__("the fetch of '%1'", name), again: this._trans.__("fetch '%1' again", name) };
   }
 
+  /** The label of a scan of frame `name` (its facts, details or grouped table). */
+  scanRequest(name: string): IRequestLabel {
+    return { what: this._trans.__("the scan of '%1'", name), again: this._trans.__('run again') };
+  }
+
+  /** The label of a cancel of a scan of frame `name`. */
+  cancelRequest(name: string): IRequestLabel {
+    return { what: this._trans.__("stopping the scan of '%1'", name), again: this._trans.__('interrupt the kernel') };
+  }
+
   /** The label of the upload of an analysis's results. */
   resultsRequest(analysisId: string): IRequestLabel {
     return { what: this._trans.__("the upload of the results of analysis '%1'", analysisId), again: this._trans.__('send them again') };

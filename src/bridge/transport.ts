@@ -12,7 +12,8 @@ import type { IMultipletColumns } from './encode';
 import { BridgeError } from './errors';
 import { FrameHost } from './frame-host';
 import type { FrameRequest, FrameResponse } from './frame-protocol';
-import type { IFetchDone } from './protocol';
+import type { IFetchDone, IScanDone } from './protocol';
+import type { IScannedGroups } from '../engine/aggregate/scan';
 
 /** A decoded fetch: the frame and each column's checklist facts, computed beside the decoding. */
 export interface IDecodedFrame {
@@ -26,6 +27,8 @@ export interface IFrameStream {
   push(bytes: Uint8Array, transfer: boolean): void;
   /** Decode what was pushed; `pieces` when the bytes came as comm pieces (whole IPC messages each). */
   decode(done: IFetchDone, pieces: boolean): Promise<IDecodedFrame>;
+  /** Decode what was pushed as the grouped table of a scan (src/bridge/scan-decode.ts). */
+  decodeGroups(done: IScanDone, pieces: boolean): Promise<IScannedGroups>;
   /** Forget the stream. */
   drop(): void;
 }
@@ -85,6 +88,12 @@ export class FrameCodec implements IDisposable {
         open = false;
         return this._ask<IDecodedFrame>({ type: 'decode', id, done, pieces }, response =>
           response.type === 'decoded' ? { frame: response.frame, stats: response.stats } : null
+        );
+      },
+      decodeGroups: (done, pieces) => {
+        open = false;
+        return this._ask<IScannedGroups>({ type: 'decode-groups', id, done, pieces }, response =>
+          response.type === 'groups' ? response.groups : null
         );
       },
       drop: () => {

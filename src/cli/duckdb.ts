@@ -19,25 +19,32 @@
 
 import * as path from 'path';
 
-import { parseBinSpec, formatBinSpec, MAX_BIN_COUNT } from '../engine/binning';
-import { checkCategoricalSpec } from '../engine/binning/categorical';
-import { occupancyWarning } from '../engine/binning/column';
-import {
-  INumericSummary,
-  mergedLevelsWarning,
-  NumericPlan,
-  planNumeric,
-  summaryNeeds
-} from '../engine/binning/numeric';
-import { AUTO_MAX_LEVELS } from '../engine/binning/spec';
-import { compareCodePoints, refuseAllMissing } from '../engine/binning/shared';
 import type { IBinnedColumn } from '../engine/binning/types';
 import { CellCountLattice, IMultipletToCount } from '../engine/aggregate/cells';
+import {
+  binnedColumns,
+  IColumnScanner,
+  IOutsideValue,
+  IScanDetailRequest,
+  IScanGroupKey,
+  IScannedColumnDetails,
+  IScannedColumnFacts,
+  IScannedFacts,
+  IScannedGroups,
+  IScanPlan,
+  MAX_DISTINCT_ROWS,
+  MAX_SCAN_BINS,
+  planScan,
+  ScannedKeys,
+  ScannedKind,
+  weightedCodes
+} from '../engine/aggregate/scan';
 import { StreamingNumpySum } from '../engine/aggregate/stream-sum';
-import { applyWeightedMissingPolicy, IWeightedCodes } from '../engine/aggregate/weighted';
+import type { IWeightedCodes } from '../engine/aggregate/weighted';
 import { analyzeCodes, IResolvedOptions, resolveOptions } from '../engine/analyze';
 import { applyMissingPolicy } from '../engine/binning';
 import { droppedRowsWarning, nothingLeftError } from '../engine/binning/missing';
+import { AUTO_MAX_LEVELS } from '../engine/binning/spec';
 import type { ILattice } from '../engine/lattice';
 import { errorMessage, PolyadicError } from '../engine/errors';
 import { cubeRounded } from '../engine/floatmath';
@@ -49,11 +56,8 @@ import { delimitedHeader, duckdbFormatOf, stageDelimitedText } from './duckdb-cs
 /** The npm package and version the DuckDB path uses (package.json pins the same). */
 export const DUCKDB_PACKAGE = '@duckdb/node-api@1.5.6-r.1';
 
-/**
- * Most distinct joint rows the DuckDB path hands to the walk (our choice: 5 million rows of
- * 20 Int32 codes and a weight are about 420 MB); above it the run stops and says so.
- */
-export const MAX_DISTINCT_ROWS = 5_000_000;
+/** Most distinct joint rows the DuckDB path hands to the walk (the scan driver's cap); above it the run stops and says so. */
+export { MAX_DISTINCT_ROWS };
 
 /**
  * Grouping sets (multiplets) per query when the fallback counts each multiplet on its own (our
@@ -69,8 +73,8 @@ export interface IDuckDBLimits {
   setsPerQuery?: number;
 }
 
-/** Most edges of one column binned in SQL (a nested CASE of that many comparisons). */
-export const MAX_SQL_BINS = 4096;
+/** Most edges of one column binned in SQL (a nested CASE of that many comparisons): the scan driver's cap. */
+export const MAX_SQL_BINS = MAX_SCAN_BINS;
 
 /**
  * What the DuckDB path hands over: the weighted distinct rows and what the file held; past the
@@ -116,8 +120,10 @@ export async function loadBindings(): Promise<typeof import('@duckdb/node-bindin
 }
 
 /**
- * Bin and aggregate the selected columns of a Parquet file in DuckDB (see the file comment).
- * Options as for `analyze`; errors name the column, row, spec or limit at fault.
+ * Bin and aggregate the selected columns of a Parquet file in DuckDB (see the file comment):
+ * the engine's scan driver (src/engine/aggregate/scan.ts) plans and bins through a
+ * {@link DuckDBScanner}; past the cap, the GROUPING SETS fallback. Options as for `analyze`;
+ * errors name the column, row, spec or limit at fault.
  */
 export async function aggregateWithDuckDB(
   filePath: string,
@@ -146,22 +152,17 @@ export async function aggregateWithDuckDB(
         throw unknownColumn(name, names);
       }
     }
-    const rowsResult = await connection.runAndReadAll(`SELECT count(*) FROM ${source}`);
-    const rows = Number(rowsResult.getRowsJS()[0][0]);
-    if (rows === 0) {
-      throw new PolyadicError('input', `${path.basename(filePath)} has columns but no rows.`, {});
-    }
-    const missing: MissingPolicy = options.missing ?? 'drop';
-    const columns: Private.IColumnPlan[] = [];
-    for (const name of selected) {
-      const type = schema[names.indexOf(name)].type;
-      columns.push(await Private.planColumn(connection, source, name, type, rows, options));
-    }
     const engineVersion = duckdb.version();
-    const grouped = await Private.groupRows(connection, source, columns, maxDistinctRows);
+    const scanner = new DuckDBScanner(connection, source, schema, path.basename(filePath), engineVersion);
+    const missing: MissingPolicy = options.missing ?? 'drop';
+    const plan = await planScan(scanner, selected, options);
+    const grouped = await scanner.group(
+      plan.columns.map(column => column.key),
+      maxDistinctRows
+    );
     if (grouped === null) {
-      const resolved = resolveOptions(options, columns.length);
-      if (resolved.maxOrder >= columns.length) {
+      const resolved = resolveOptions(options, plan.columns.length);
+      if (resolved.maxOrder >= plan.columns.length) {
         throw new PolyadicError(
           'limit',
           `The selected columns have more than ${formatCount(maxDistinctRows)} distinct binned rows, above what the ` +
@@ -170,12 +171,10 @@ export async function aggregateWithDuckDB(
           { option: '--via', value: 'duckdb' }
         );
       }
-      const counted = await Private.countEachMultiplet(connection, source, columns, rows, missing, resolved, limits);
+      const counted = await Private.countEachMultiplet(scanner, plan, missing, resolved, limits);
       return { ...counted, names, engineVersion };
     }
-    const binned = Private.binnedColumns(columns, grouped);
-    const prepared = applyWeightedMissingPolicy(binned, grouped.weights, missing);
-    prepared.warnings = [...binned.flatMap(column => column.warnings), ...prepared.warnings];
+    const prepared = weightedCodes(plan, grouped, missing);
     return { prepared, lattice: null, queries: 0, names, engineVersion };
   } finally {
     connection.closeSync();
@@ -271,6 +270,232 @@ export interface IDuckDBScan {
   table: IWeightedCodes;
 }
 
+/**
+ * DuckDB as a scanner of a Parquet file (src/engine/aggregate/scan.ts): each step is SQL over
+ * `read_parquet` with each row's number in the file; the engine's driver decides the binning.
+ */
+export class DuckDBScanner implements IColumnScanner {
+  /** A scanner over `source` (a table function) whose columns and DuckDB types are `schema`. */
+  constructor(
+    connection: Connection,
+    source: string,
+    schema: { name: string; type: string }[],
+    readonly label: string,
+    engineVersion: string
+  ) {
+    this._connection = connection;
+    this._source = source;
+    this._schema = schema;
+    this._engineVersion = engineVersion;
+  }
+
+  /** Counts, missing rows, extremes, levels and the first ±Inf of each column. */
+  async facts(columns: string[]): Promise<IScannedFacts> {
+    const rowsResult = await this._connection.runAndReadAll(`SELECT count(*) FROM ${this._source}`);
+    const rows = Number(rowsResult.getRowsJS()[0][0]);
+    const found: IScannedColumnFacts[] = [];
+    for (const name of columns) {
+      found.push(await this._columnFacts(name, rows));
+    }
+    return { rows, engine: { name: 'duckdb', version: this._engineVersion }, columns: found };
+  }
+
+  /** Exact order statistics, numpy's std and skewness (streamed sums), distinct values with counts. */
+  async details(requests: IScanDetailRequest[]): Promise<IScannedColumnDetails[]> {
+    const answers: IScannedColumnDetails[] = [];
+    for (const request of requests) {
+      const { value, present, float } = this._sql(request.name);
+      const count = Number((await Private.one(this._connection, `SELECT count(*) FROM ${this._source} WHERE ${present}`))[0]);
+      const ranks = new Map<number, number>();
+      if (request.ranks.length > 0) {
+        await Private.orderStatistics(this._connection, this._source, value, present, count, request.ranks, ranks);
+      }
+      let std: number | null = null;
+      let skewness: number | null = null;
+      if (request.std) {
+        const mean = (await Private.streamSum(this._connection, this._source, value, present, count, !float)) / count;
+        const squares = `(${value} - ${Private.double(mean)}) * (${value} - ${Private.double(mean)})`;
+        std = Math.sqrt((await Private.streamSum(this._connection, this._source, squares, present, count, false)) / count);
+        if (request.skewness && std > 0) {
+          const deviation = `(${value} - ${Private.double(mean)}) / ${Private.double(std)}`;
+          skewness = (await Private.streamSum(this._connection, this._source, deviation, present, count, false, cubeRounded)) / count;
+        }
+      }
+      let distinct: IScannedColumnDetails['distinct'] = null;
+      if (request.distinct) {
+        const result = await this._connection.runAndReadAll(
+          `SELECT ${value} AS v, count(*) FROM ${this._source} WHERE ${present} GROUP BY v ORDER BY v`
+        );
+        const pairs = result.getRowsJS();
+        distinct = {
+          values: Float64Array.from(pairs, pair => Number(pair[0])),
+          counts: Float64Array.from(pairs, pair => Number(pair[1]))
+        };
+      }
+      answers.push({ name: request.name, orderStatistics: request.ranks.map(rank => ranks.get(rank) as number), std, skewness, distinct });
+    }
+    return answers;
+  }
+
+  /** The first value outside [lo, hi] in file order. */
+  async firstOutside(name: string, lo: number, hi: number): Promise<IOutsideValue | null> {
+    const { value, present } = this._sql(name);
+    const outside = await Private.one(
+      this._connection,
+      `SELECT file_row_number, ${value} FROM ${this._source} WHERE ${present} AND (${value} < ${Private.double(lo)} OR ${value} > ${Private.double(hi)}) ORDER BY file_row_number LIMIT 1`,
+      true
+    );
+    return outside.length > 0 ? { row: Number(outside[0]), value: Number(outside[1]) } : null;
+  }
+
+  /**
+   * The SQL giving a key: the bin code (numpy's equal-width rule for uniform edges, else the
+   * search over the edges; the driver refused values outside `edges:` first), the number
+   * itself, or the text ('true'/'false' for booleans); NULL when missing.
+   */
+  expression(key: IScanGroupKey): string {
+    const { x, value, present, dtype, kind } = this._sql(key.name);
+    if (kind !== 'numeric') {
+      return dtype === 'bool' ? `CASE WHEN ${x} THEN 'true' WHEN NOT ${x} THEN 'false' END` : x;
+    }
+    if (key.edges === null) {
+      return `CASE WHEN ${present} THEN ${value} END`;
+    }
+    const code = key.uniform
+      ? Private.uniformCode(value, key.edges, key.uniform.first, key.uniform.last)
+      : Private.searchCode(value, key.edges, 0, key.edges.length - 2);
+    return `CASE WHEN ${present} THEN ${code} END`;
+  }
+
+  /** `GROUP BY` of the keys' SQL expressions, counting rows; null past `maxDistinctRows`. */
+  async group(keys: IScanGroupKey[], maxDistinctRows: number): Promise<IScannedGroups | null> {
+    const selects = keys.map((key, i) => `${this.expression(key)} AS c${i}`).join(', ');
+    const groups = keys.map((_key, i) => `c${i}`).join(', ');
+    const result = await this._connection.stream(`SELECT ${selects}, count(*) AS n FROM ${this._source} GROUP BY ${groups}`);
+    const values: unknown[][] = keys.map(() => []);
+    const weights: number[] = [];
+    for (;;) {
+      const chunk = await result.fetchChunk();
+      if (!chunk || chunk.rowCount === 0) {
+        break;
+      }
+      const data = chunk.getColumns();
+      for (let c = 0; c < keys.length; c++) {
+        for (const item of data[c]) {
+          values[c].push(item);
+        }
+      }
+      for (const n of data[keys.length]) {
+        weights.push(Number(n));
+      }
+      if (weights.length > maxDistinctRows) {
+        return null;
+      }
+    }
+    return { keys: keys.map((key, c) => this._keys(key, values[c])), weights: Int32Array.from(weights) };
+  }
+
+  /** The rows' binned keys as a subquery (columns c0, c1, …), for the GROUPING SETS fallback. */
+  binnedRows(keys: IScanGroupKey[]): string {
+    return `(SELECT ${keys.map((key, i) => `${this.expression(key)} AS c${i}`).join(', ')} FROM ${this._source})`;
+  }
+
+  /** DuckDB's answer to one SQL query (its first row). */
+  one(sql: string, optional = false): Promise<unknown[]> {
+    return Private.one(this._connection, sql, optional);
+  }
+
+  /** DuckDB's connection (the fallback streams from it). */
+  get connection(): Connection {
+    return this._connection;
+  }
+
+  /** The SQL pieces of a column: the name, the value as DOUBLE, the missing and present tests. */
+  private _sql(name: string): {
+    x: string;
+    value: string;
+    missing: string;
+    present: string;
+    float: boolean;
+    dtype: string;
+    kind: 'numeric' | 'categorical';
+  } {
+    const column = this._schema.find(c => c.name === name);
+    if (column === undefined) {
+      throw unknownColumn(name, this._schema.map(c => c.name));
+    }
+    const { dtype, kind } = Private.dtypeOf(name, column.type);
+    const x = Private.quoteName(name);
+    const float = dtype === 'float64' || dtype === 'float32';
+    const missing = float ? `(${x} IS NULL OR isnan(${x}))` : `(${x} IS NULL)`;
+    return { x, value: `CAST(${x} AS DOUBLE)`, missing, present: `NOT ${missing}`, float, dtype, kind };
+  }
+
+  private async _columnFacts(name: string, rows: number): Promise<IScannedColumnFacts> {
+    const { x, value, missing, present, float, dtype, kind } = this._sql(name);
+    const counted = await Private.one(
+      this._connection,
+      `SELECT count(*) FILTER (WHERE ${missing}), min(file_row_number) FILTER (WHERE ${missing}) FROM ${this._source}`
+    );
+    const missingCount = Number(counted[0]);
+    const base = {
+      name,
+      dtype,
+      kind: (kind === 'numeric' ? 'numeric' : dtype === 'bool' ? 'bool' : 'string') as ScannedKind,
+      missingCount,
+      firstMissingRow: counted[1] === null ? -1 : Number(counted[1]),
+      count: rows - missingCount
+    };
+    if (kind !== 'numeric' || missingCount === rows) {
+      return { ...base, levels: 0, integer: dtype === 'bool', rounded: false, infinite: null, min: null, max: null };
+    }
+    const basics = await Private.one(
+      this._connection,
+      `SELECT count(*), min(${value}), max(${value}),
+         min(file_row_number) FILTER (WHERE isinf(${value})),
+         ${dtype === 'int64' || dtype === 'uint64' ? `bool_or(CAST(${value} AS HUGEINT) <> CAST(${x} AS HUGEINT))` : 'false'}
+       FROM ${this._source} WHERE ${present}`
+    );
+    const levelsRow = await Private.one(
+      this._connection,
+      `SELECT count(*) FROM (SELECT DISTINCT ${value} FROM ${this._source} WHERE ${present} LIMIT ${AUTO_MAX_LEVELS + 1})`
+    );
+    let infinite: { row: number; value: number } | null = null;
+    if (basics[3] !== null) {
+      const row = Number(basics[3]);
+      const found = await Private.one(this._connection, `SELECT ${value} FROM ${this._source} WHERE file_row_number = ${row}`);
+      infinite = { row, value: Number(found[0]) };
+    }
+    return {
+      ...base,
+      count: Number(basics[0]),
+      levels: Number(levelsRow[0]),
+      integer: !float,
+      rounded: basics[4] === true,
+      infinite,
+      min: Number(basics[1]),
+      max: Number(basics[2])
+    };
+  }
+
+  /** One key column from DuckDB's values (codes, numbers or texts; NULL missing). */
+  private _keys(key: IScanGroupKey, values: unknown[]): ScannedKeys {
+    const valid = Uint8Array.from(values, v => (v === null ? 0 : 1));
+    if (this._sql(key.name).kind !== 'numeric') {
+      return { kind: 'texts', values: values.map(v => (v === null ? null : String(v))) };
+    }
+    if (key.edges === null) {
+      return { kind: 'numbers', values: Float64Array.from(values, v => (v === null ? 0 : Number(v))), valid };
+    }
+    return { kind: 'bins', codes: Int32Array.from(values, v => (v === null ? -1 : Number(v))), valid };
+  }
+
+  private _connection: Connection;
+  private _source: string;
+  private _schema: { name: string; type: string }[];
+  private _engineVersion: string;
+}
+
 namespace Private {
   /** The table function that reads the file, with each row's number in the file. */
   export function sourceOf(filePath: string): string {
@@ -289,20 +514,6 @@ namespace Private {
       });
     }
     return schema.filter(column => column.name !== 'file_row_number');
-  }
-
-  /** How one column is read and binned in SQL. */
-  export interface IColumnPlan {
-    name: string;
-    dtype: string;
-    /** The spec as the record keeps it. */
-    specText: string;
-    /** SQL giving the bin code (numeric plans) or the value (categories), NULL when missing. */
-    expression: string;
-    missingCount: number;
-    firstMissingRow: number;
-    /** Numeric binning, or null for text and boolean categories. */
-    plan: NumericPlan | null;
   }
 
   /** A SQL identifier in double quotes. */
@@ -352,174 +563,6 @@ namespace Private {
         'and text only); leave it out with --columns, or leave out --via.',
       { column: name, value: type }
     );
-  }
-
-  /** Summarize and plan one column (see the file comment). */
-  export async function planColumn(
-    connection: Connection,
-    source: string,
-    name: string,
-    type: string,
-    rows: number,
-    options: IAnalyzeOptions
-  ): Promise<IColumnPlan> {
-    const { dtype, kind } = dtypeOf(name, type);
-    const column = { name, dtype };
-    const x = quoteName(name);
-    const float = dtype === 'float64' || dtype === 'float32';
-    const missingSql = float ? `(${x} IS NULL OR isnan(${x}))` : `(${x} IS NULL)`;
-    const text = options.binsByColumn?.[name];
-    const given =
-      text !== undefined
-        ? parseBinSpec(text)
-        : kind === 'numeric' && options.bins !== undefined
-          ? parseBinSpec(options.bins)
-          : kind === 'categorical'
-            ? { method: 'categorical' as const }
-            : { method: 'auto' as const };
-    const specText = formatBinSpec(given);
-    const counted = await one(
-      connection,
-      `SELECT count(*) FILTER (WHERE ${missingSql}), min(file_row_number) FILTER (WHERE ${missingSql}) FROM ${source}`
-    );
-    const missingCount = Number(counted[0]);
-    const firstMissingRow = counted[1] === null ? -1 : Number(counted[1]);
-    if (missingCount === rows) {
-      refuseAllMissing({ kind: 'numeric', name, dtype, values: new Float64Array(0), missing: null }, rows);
-    }
-    if (kind === 'categorical') {
-      checkCategoricalSpec(column, given.method === 'auto' ? { method: 'categorical' } : given, specText);
-      const value = dtype === 'bool' ? `CASE WHEN ${x} THEN 'true' WHEN NOT ${x} THEN 'false' END` : x;
-      return { name, dtype, specText, expression: value, missingCount, firstMissingRow, plan: null };
-    }
-    const value = `CAST(${x} AS DOUBLE)`;
-    const present = `NOT ${missingSql}`;
-    const basics = await one(
-      connection,
-      `SELECT count(*), min(${value}), max(${value}),
-         min(file_row_number) FILTER (WHERE isinf(${value})),
-         ${dtype === 'int64' || dtype === 'uint64' ? `bool_or(CAST(${value} AS HUGEINT) <> CAST(${x} AS HUGEINT))` : 'false'}
-       FROM ${source} WHERE ${present}`
-    );
-    const count = Number(basics[0]);
-    const levelsRow = await one(
-      connection,
-      `SELECT count(*) FROM (SELECT DISTINCT ${value} FROM ${source} WHERE ${present} LIMIT ${AUTO_MAX_LEVELS + 1})`
-    );
-    const levels = Number(levelsRow[0]);
-    let infinite: { row: number; value: number } | null = null;
-    if (basics[3] !== null) {
-      const row = Number(basics[3]);
-      const found = await one(connection, `SELECT ${value} FROM ${source} WHERE file_row_number = ${row}`);
-      infinite = { row, value: Number(found[0]) };
-    }
-    const needs = summaryNeeds(given, count, levels);
-    const ranks = new Map<number, number>();
-    if (needs.ranks.length > 0 && infinite === null) {
-      await orderStatistics(connection, source, value, present, count, needs.ranks, ranks);
-    }
-    let std: number | null = null;
-    let skewness: number | null = null;
-    const integer = !float;
-    if (needs.std && infinite === null) {
-      const mean = (await streamSum(connection, source, value, present, count, integer)) / count;
-      const squares = `(${value} - ${double(mean)}) * (${value} - ${double(mean)})`;
-      std = Math.sqrt((await streamSum(connection, source, squares, present, count, false)) / count);
-      if (needs.skewness && std > 0) {
-        const sigma = std;
-        skewness =
-          (await streamSum(connection, source, `(${value} - ${double(mean)}) / ${double(sigma)}`, present, count, false, cubeRounded)) /
-          count;
-      }
-    }
-    let distinct: { values: Float64Array; counts: Float64Array } | null = null;
-    if (needs.distinct) {
-      const result = await connection.runAndReadAll(
-        `SELECT ${value} AS v, count(*) FROM ${source} WHERE ${present} GROUP BY v ORDER BY v`
-      );
-      const pairs = result.getRowsJS();
-      if (pairs.length > MAX_DISTINCT_ROWS) {
-        throw new PolyadicError(
-          'limit',
-          `Column '${name}' has ${formatCount(pairs.length)} distinct values, above the ${formatCount(MAX_DISTINCT_ROWS)} ` +
-            `the DuckDB path takes for ${specText}; choose quantile:K or width:K for it.`,
-          { column: name, option: 'bins', value: specText }
-        );
-      }
-      distinct = {
-        values: Float64Array.from(pairs, pair => Number(pair[0])),
-        counts: Float64Array.from(pairs, pair => Number(pair[1]))
-      };
-    }
-    const summary: INumericSummary = {
-      count,
-      missingCount,
-      firstMissingRow,
-      integer,
-      rounded: basics[4] === true,
-      levels,
-      infinite,
-      min: Number(basics[1]),
-      max: Number(basics[2]),
-      orderStatistic: rank => {
-        const found = ranks.get(rank);
-        if (found === undefined) {
-          throw new PolyadicError('internal', `Order statistic ${rank} of column '${name}' was not fetched.`);
-        }
-        return found;
-      },
-      std: () => {
-        if (std === null) {
-          throw new PolyadicError('internal', `The standard deviation of column '${name}' was not computed.`);
-        }
-        return std;
-      },
-      skewness: () => {
-        if (skewness === null) {
-          throw new PolyadicError('internal', `The skewness of column '${name}' was not computed.`);
-        }
-        return skewness;
-      },
-      distinct: () => {
-        if (distinct === null) {
-          throw new PolyadicError('internal', `The distinct values of column '${name}' were not fetched.`);
-        }
-        return distinct;
-      }
-    };
-    const plan = planNumeric(column, given, specText, MAX_BIN_COUNT, summary);
-    if (plan.kind === 'categorical') {
-      return { name, dtype, specText, expression: `CASE WHEN ${present} THEN ${value} END`, missingCount, firstMissingRow, plan };
-    }
-    if (plan.edges.length - 1 > MAX_SQL_BINS) {
-      throw new PolyadicError(
-        'limit',
-        `Column '${name}': ${plan.specText} gives ${formatCount(plan.edges.length - 1)} bins, above the ` +
-          `${formatCount(MAX_SQL_BINS)} the DuckDB path bins in SQL; choose fewer bins for this column.`,
-        { column: name, option: 'bins', value: specText }
-      );
-    }
-    if (plan.kind === 'edges') {
-      const edges = plan.edges;
-      const outside = await one(
-        connection,
-        `SELECT file_row_number, ${value} FROM ${source} WHERE ${present} AND (${value} < ${double(edges[0])} OR ${value} > ${double(edges[edges.length - 1])}) ORDER BY file_row_number LIMIT 1`,
-        true
-      );
-      if (outside.length > 0) {
-        const row = Number(outside[0]);
-        const bad = Number(outside[1]);
-        throw new PolyadicError(
-          'input',
-          `Column '${name}' has the value ${bad} at row ${row}, outside the edges ` +
-            `${edges[0]} … ${edges[edges.length - 1]} of ${plan.specText}; widen the edges or choose ` +
-            'another binning.',
-          { column: name, row, value: String(bad), option: 'bins' }
-        );
-      }
-    }
-    const code = plan.kind === 'uniform' ? uniformCode(value, plan.edges, plan.first, plan.last) : searchCode(value, plan.edges, 0, plan.edges.length - 2);
-    return { name, dtype, specText, expression: `CASE WHEN ${present} THEN ${code} END`, missingCount, firstMissingRow, plan };
   }
 
   /**
@@ -621,144 +664,6 @@ namespace Private {
     return sum.result();
   }
 
-  /** The distinct joint rows of the binned columns and their counts. */
-  export async function groupRows(
-    connection: Connection,
-    source: string,
-    columns: IColumnPlan[],
-    maxDistinctRows: number
-  ): Promise<{ keys: unknown[][]; weights: Int32Array } | null> {
-    const selects = columns.map((column, i) => `${column.expression} AS c${i}`).join(', ');
-    const groups = columns.map((_column, i) => `c${i}`).join(', ');
-    const result = await connection.stream(`SELECT ${selects}, count(*) AS n FROM ${source} GROUP BY ${groups}`);
-    const keys: unknown[][] = columns.map(() => []);
-    const weights: number[] = [];
-    for (;;) {
-      const chunk = await result.fetchChunk();
-      if (!chunk || chunk.rowCount === 0) {
-        break;
-      }
-      const data = chunk.getColumns();
-      for (let c = 0; c < columns.length; c++) {
-        for (const item of data[c]) {
-          keys[c].push(item);
-        }
-      }
-      for (const n of data[columns.length]) {
-        weights.push(Number(n));
-      }
-      if (weights.length > maxDistinctRows) {
-        return null;
-      }
-    }
-    return { keys, weights: Int32Array.from(weights) };
-  }
-
-  /**
-   * The binned columns over the distinct rows: categories mapped to codes in the engine's order
-   * (code points for text, ascending numbers), equal joint rows merged, and the warnings of the
-   * in-memory binning from weighted counts.
-   */
-  export function binnedColumns(
-    columns: IColumnPlan[],
-    grouped: { keys: unknown[][]; weights: Int32Array }
-  ): IBinnedColumn[] {
-    const distinct = grouped.weights.length;
-    const binned = columns.map((column, c) => {
-      const keys = grouped.keys[c];
-      const codes = new Int32Array(distinct).fill(-1);
-      let bins: number;
-      const binning: IBinnedColumn['binning'] = {
-        name: column.name,
-        bins: 0,
-        binning: { method: column.plan?.method ?? 'categorical', spec: column.specText }
-      };
-      if (column.plan === null) {
-        const texts = [...new Set(keys.filter(key => key !== null).map(String))].sort(compareCodePoints);
-        const rank = new Map(texts.map((text, i) => [text, i]));
-        keys.forEach((key, i) => {
-          if (key !== null) {
-            codes[i] = rank.get(String(key)) as number;
-          }
-        });
-        bins = texts.length;
-        binning.binning.categories = texts;
-      } else if (column.plan.kind === 'categorical') {
-        const codeOf = new Map<number, number>();
-        column.plan.values.forEach((value, code) => codeOf.set(value, code));
-        keys.forEach((key, i) => {
-          if (key !== null) {
-            codes[i] = codeOf.get(Number(key)) as number;
-          }
-        });
-        bins = column.plan.values.length;
-        binning.binning.categories = column.plan.categories;
-      } else {
-        keys.forEach((key, i) => {
-          if (key !== null) {
-            codes[i] = Number(key);
-          }
-        });
-        bins = column.plan.edges.length - 1;
-        binning.binning.edges = column.plan.edges;
-      }
-      binning.bins = bins;
-      return { name: column.name, codes, bins, binning, missingCount: column.missingCount, firstMissingRow: column.firstMissingRow, warnings: [...(column.plan?.warnings ?? [])] };
-    });
-    const { columns: merged, weights } = mergeRows(binned, grouped.weights);
-    merged.forEach((column, c) => {
-      const occupiedWeights = new Float64Array(column.bins);
-      column.codes.forEach((code, i) => {
-        if (code >= 0) {
-          occupiedWeights[code] += weights[i];
-        }
-      });
-      let occupied = 0;
-      let present = 0;
-      occupiedWeights.forEach(w => {
-        occupied += w > 0 ? 1 : 0;
-        present += w;
-      });
-      const plan = columns[c].plan;
-      if (plan !== null) {
-        const warning = mergedLevelsWarning(column.name, plan, occupied);
-        if (warning) {
-          column.warnings.push(warning);
-        }
-      }
-      const categorical = column.binning.binning.method === 'categorical';
-      // As many occupied codes as present rows means each weight is 1: an identifier.
-      const warning = occupancyWarning(column.name, categorical, occupied, present);
-      if (warning) {
-        column.warnings.push(warning);
-      }
-    });
-    grouped.weights = weights;
-    return merged;
-  }
-
-  /** Merge distinct rows whose codes coincide after mapping (e.g. −0 and 0), adding their weights. */
-  function mergeRows(columns: IBinnedColumn[], weights: Int32Array): { columns: IBinnedColumn[]; weights: Int32Array } {
-    const index = new Map<string, number>();
-    const keep: number[] = [];
-    const merged: number[] = [];
-    for (let i = 0; i < weights.length; i++) {
-      const key = columns.map(column => column.codes[i]).join(',');
-      const at = index.get(key);
-      if (at === undefined) {
-        index.set(key, keep.length);
-        keep.push(i);
-        merged.push(weights[i]);
-      } else {
-        merged[at] += weights[i];
-      }
-    }
-    return {
-      columns: columns.map(column => ({ ...column, codes: Int32Array.from(keep, i => column.codes[i]) })),
-      weights: Int32Array.from(merged)
-    };
-  }
-
   /**
    * The fallback past the cap (see the file comment): each column's binning and warnings from
    * its own `GROUP BY`, the missing-value policy from the columns' counts (`drop` counts the
@@ -766,18 +671,18 @@ namespace Private {
    * sets per query.
    */
   export async function countEachMultiplet(
-    connection: Connection,
-    source: string,
-    columns: IColumnPlan[],
-    rows: number,
+    scanner: DuckDBScanner,
+    plan: IScanPlan,
     missing: MissingPolicy,
     resolved: IResolvedOptions,
     limits: IDuckDBLimits
   ): Promise<{ prepared: IWeightedCodes; lattice: ILattice; queries: number }> {
+    const columns = plan.columns;
+    const rows = plan.rows;
     const binned: IBinnedColumn[] = [];
     for (const column of columns) {
-      const marginal = await groupRows(connection, source, [column], Number.MAX_SAFE_INTEGER);
-      binned.push(binnedColumns([column], marginal as { keys: unknown[][]; weights: Int32Array })[0]);
+      const marginal = await scanner.group([column.key], Number.MAX_SAFE_INTEGER);
+      binned.push(binnedColumns([column], marginal as IScannedGroups).columns[0]);
     }
     // The policy on columns without rows: it reads only their counts (and `drop` is done in SQL).
     const shape = applyMissingPolicy(
@@ -785,12 +690,11 @@ namespace Private {
       missing
     );
     const complete = columns.map((_column, i) => `c${i} IS NOT NULL`).join(' AND ');
-    const selects = columns.map((column, i) => `${column.expression} AS c${i}`).join(', ');
-    const binnedRows = `(SELECT ${selects} FROM ${source})` + (missing === 'drop' ? ` WHERE ${complete}` : '');
+    const binnedRows = scanner.binnedRows(columns.map(column => column.key)) + (missing === 'drop' ? ` WHERE ${complete}` : '');
     const warnings = binned.flatMap(column => column.warnings);
     let rowsUsed = rows;
     if (missing === 'drop' && columns.some(column => column.missingCount > 0)) {
-      rowsUsed = Number((await one(connection, `SELECT count(*) FROM ${binnedRows}`))[0]);
+      rowsUsed = Number((await scanner.one(`SELECT count(*) FROM ${binnedRows}`))[0]);
       if (rowsUsed === 0) {
         throw nothingLeftError(rows, columns);
       }
@@ -801,7 +705,7 @@ namespace Private {
     const perQuery = limits.setsPerQuery ?? GROUPING_SETS_PER_QUERY;
     let queries = 0;
     for (let start = 0; start < multiplets.length; start += perQuery) {
-      await countBatch(connection, binnedRows, multiplets.slice(start, start + perQuery), lattice);
+      await countBatch(scanner.connection, binnedRows, multiplets.slice(start, start + perQuery), lattice);
       queries++;
     }
     const prepared: IWeightedCodes = {

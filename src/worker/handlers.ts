@@ -55,8 +55,8 @@ export interface IPreparedRun {
 }
 
 /** Step 1 of an analysis: select, bin, apply the missing-value policy, check the options and the multiplet count. */
-export function prepareRun(columns: ColumnView[], options: IAnalyzeOptions = {}): IPreparedRun {
-  const prepared = prepareColumns(columns, options);
+export function prepareRun(columns: ColumnView[], options: IAnalyzeOptions = {}, binned?: IPreparedCodes): IPreparedRun {
+  const prepared = binned ?? prepareColumns(columns, options);
   const input = latticeInput(prepared, options);
   const multiplets = checkMultipletCount(
     input.codes.length,
@@ -194,7 +194,7 @@ export class WorkerHost {
   private _dispatch(request: EngineRequest): void {
     switch (request.type) {
       case 'prepare': {
-        const prepared = prepareRun(request.columns, request.options);
+        const prepared = prepareRun(request.columns, request.options, request.prepared);
         this._prepared.set(request.run, prepared);
         this._inputs.set(request.run, prepared.input);
         const transfer = new TransferList();

@@ -25,6 +25,7 @@ import {
   ReplicateBlockResult
 } from '../engine/statistics/replicates';
 import type { ColumnView, IAnalysisResult, IAnalyzeOptions } from '../engine/types';
+import type { IPreparedCodes } from '../engine/binning';
 import type { IRobustnessResult, IRobustnessVariant } from '../engine/robustness';
 import { deserializeError } from './errors';
 import {
@@ -145,6 +146,28 @@ export class EnginePool {
     options: IAnalyzeOptions = {},
     runOptions: EnginePool.IRunOptions = {}
   ): Promise<IRunResult> {
+    return this._analyze(columns, null, options, runOptions);
+  }
+
+  /**
+   * Analyze columns already binned elsewhere, as `analyzeCodes` does, in the workers: the
+   * weighted distinct rows of a scanned frame (their weights go into every walk). The codes
+   * are copied. Rejects as {@link analyze} does.
+   */
+  analyzePrepared(
+    prepared: IPreparedCodes,
+    options: IAnalyzeOptions = {},
+    runOptions: EnginePool.IRunOptions = {}
+  ): Promise<IRunResult> {
+    return this._analyze([], prepared, { ...options, columns: prepared.names }, runOptions);
+  }
+
+  private _analyze(
+    columns: ColumnView[],
+    prepared: IPreparedCodes | null,
+    options: IAnalyzeOptions,
+    runOptions: EnginePool.IRunOptions
+  ): Promise<IRunResult> {
     if (this._disposed) {
       return Promise.reject(new RunCancelled('The engine pool is disposed.'));
     }
@@ -213,6 +236,7 @@ export class EnginePool {
         protocol: PROTOCOL_VERSION,
         run: run.id,
         columns: packed,
+        ...(prepared !== null ? { prepared } : {}),
         options,
         shareCodes: slots.length > 1
       };

@@ -34,6 +34,7 @@ import type { IResolvedStatistics } from '../engine/statistics/options';
 import type { IReplicateBlock, IReplicateTargets, ReplicateBlockResult } from '../engine/statistics/replicates';
 import type { IRobustnessResult, IRobustnessVariant } from '../engine/robustness';
 import type { ColumnView, IAnalysisResult, IAnalyzeOptions, IColumnBinning } from '../engine/types';
+import type { IPreparedCodes } from '../engine/binning';
 import type { IPackedRows } from './rows';
 
 /** Version of this protocol; a worker bundle answers requests of another version with an error. */
@@ -69,6 +70,8 @@ export interface IPrepareRequest extends IRequestBase {
   type: 'prepare';
   run: number;
   columns: ColumnView[];
+  /** Codes binned elsewhere (a scanned frame's weighted distinct rows): used instead of binning `columns`. */
+  prepared?: IPreparedCodes;
   options: IAnalyzeOptions;
   /** Send a copy of the codes back, for the other workers of the pool. */
   shareCodes: boolean;

@@ -164,6 +164,26 @@ describe('RequestChannel', () => {
       expect(error.message).toBe('The kernel stopped before answering the test request (was it interrupted?); try it again.');
     });
 
+    it('should keep a background request (a scan) past the kernel going idle, until its final reply, and tell its id', async () => {
+      const { kernel, comm, channel } = channelOn();
+      let answer: (() => void) | null = null;
+      kernel.respond = (from, sent) => {
+        // the kernel takes the scan, starts its thread and goes idle; the reply comes later
+        sent.future.finish();
+        answer = () => from.push({ type: 'scan_done', request_id: sent.data.request_id, name: 'rel', rows: 4, distinct_rows: 2, batch_count: 1, bytes_total: 8, engine: { name: 'duckdb', version: '1' } });
+      };
+      let id = '';
+      const scan = channel.request(
+        { type: 'scan', name: 'rel', step: 'group', columns: [{ name: 'x', edges: null }] },
+        { label: LABEL, background: true, sent: requestId => (id = requestId), final: reply => reply.type }
+      );
+      await new Promise(resolve => setTimeout(resolve, 5));
+      expect(channel.pendingCount).toBe(1);
+      expect(id).toBe(comm.sent[0].data.request_id);
+      (answer as unknown as () => void)();
+      expect(await scan).toBe('scan_done');
+    });
+
     it('should reject at once when the comm cannot send', async () => {
       const { comm, channel } = channelOn();
       comm.dispose();

@@ -149,10 +149,10 @@ describe('KernelBridge', () => {
 
     it("should refuse a kernel package that speaks another protocol version", async () => {
       const kernel = pythonKernel();
-      kernel.protocol = 2;
+      kernel.protocol = 1;
       const { bridge } = await connected(kernel);
       expect(bridge.status.state).toBe('error');
-      expect(bridge.status.message).toMatch(/protocol 2 .* speaks 1/);
+      expect(bridge.status.message).toMatch(/protocol 1 .* speaks 2/);
       expect(kernel.comm.closedByFrontEnd).toBe(true);
     });
   });

@@ -11,7 +11,7 @@ import { Signal } from '@lumino/signaling';
 
 import { BridgeError } from '../../src/bridge/errors';
 import type { IBridgeComm, IBridgeKernel, IBridgeSession, MessageBuffers } from '../../src/bridge/kernel';
-import type { IFetchDone, IFrameInfo } from '../../src/bridge/protocol';
+import { IFetchDone, IFrameInfo, PROTOCOL_VERSION } from '../../src/bridge/protocol';
 
 /** Let queued replies and promise callbacks run. */
 export async function flush(rounds = 5): Promise<void> {
@@ -156,7 +156,7 @@ export class FakeKernel implements IBridgeKernel {
   /** Version the import reports and listings carry. */
   version = '0.1.0';
   /** Protocol version the listings carry. */
-  protocol = 1;
+  protocol = PROTOCOL_VERSION;
   /** Frames in the namespace. */
   frames: Record<string, IFakeFrame> = {};
   /** Every execute request. */

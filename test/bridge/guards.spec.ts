@@ -13,6 +13,7 @@ import {
   isErrorMessage,
   isFetchChunk,
   isFetchDone,
+  isFrameInfo,
   isKernelMessageType,
   isListingMessage,
   isResultsAck,
@@ -20,7 +21,7 @@ import {
   KERNEL_MESSAGE_CHECKS,
   readKernelMessage
 } from '../../src/bridge/guards';
-import type { IFetchChunk, IFrameInfo, KernelMessage } from '../../src/bridge/protocol';
+import { IFetchChunk, IFrameInfo, KernelMessage, PROTOCOL_VERSION } from '../../src/bridge/protocol';
 import type { IMultipletRow } from '../../src/engine/types';
 import { runPython, tempFolder } from './helpers';
 
@@ -125,8 +126,9 @@ function refusal(type: KernelMessage['type'], data: Record<string, unknown>): Br
 describe('KERNEL_MESSAGE_CHECKS', () => {
   it("should accept every message the kernel's bridge sends, of every type", () => {
     const types = new Set(sent.map(message => message.type));
-    // Each type the protocol knows appears in the recording: the guards are checked on all of them.
-    expect([...types].sort()).toEqual(Object.keys(KERNEL_MESSAGE_CHECKS).sort());
+    // Each type the protocol knows appears in the recording (the scan replies in the scan
+    // recording below): the guards are checked on all of them.
+    expect([...types, ...SCAN_REPLY_TYPES].sort()).toEqual(Object.keys(KERNEL_MESSAGE_CHECKS).sort());
     for (const message of sent) {
       const problem = KERNEL_MESSAGE_CHECKS[message.type].problem(message);
       expect({ type: message.type, problem }).toEqual({ type: message.type, problem: null });
@@ -148,6 +150,104 @@ describe('KERNEL_MESSAGE_CHECKS', () => {
   });
 });
 
+/** The replies of a scan (scan-protocol.md), as the contract writes them. */
+const SCAN_REPLY_TYPES = ['scan_facts', 'scan_details', 'scan_done', 'scan_progress', 'cancel_done'] as const;
+
+const SCAN_REPLIES: Record<(typeof SCAN_REPLY_TYPES)[number], Record<string, unknown>> = {
+  scan_facts: {
+    type: 'scan_facts',
+    request_id: 's1',
+    name: 'rel',
+    rows: 3,
+    engine: { name: 'duckdb', version: '1.5.2' },
+    columns: [
+      {
+        name: 'x',
+        dtype: 'DOUBLE',
+        kind: 'numeric',
+        missing_count: 1,
+        first_missing_row: 2,
+        count: 2,
+        levels: 2,
+        integer: false,
+        rounded: false,
+        infinite: { row: 0, value: '-Infinity' },
+        min: '-Infinity',
+        max: 2.5
+      },
+      {
+        name: 's',
+        dtype: 'VARCHAR',
+        kind: 'string',
+        missing_count: 0,
+        first_missing_row: -1,
+        count: 3,
+        levels: 3,
+        integer: false,
+        rounded: false,
+        infinite: null,
+        min: null,
+        max: null
+      }
+    ]
+  },
+  scan_details: {
+    type: 'scan_details',
+    request_id: 's2',
+    name: 'rel',
+    columns: [
+      { name: 'x', order_statistics: [0.5, 'Infinity'], std: 0.25, skewness: null, distinct: { values: [0, 2.5], counts: [1, 2] } }
+    ]
+  },
+  scan_done: {
+    type: 'scan_done',
+    request_id: 's3',
+    name: 'rel',
+    rows: 3,
+    distinct_rows: 2,
+    batch_count: 1,
+    bytes_total: 640,
+    engine: { name: 'spark', version: '3.5.1' }
+  },
+  scan_progress: { type: 'scan_progress', request_id: 's3', name: 'rel', stage: 'grouping' },
+  cancel_done: { type: 'cancel_done', request_id: 'c1', target: 's3', cancelled: true }
+};
+
+describe('scan replies', () => {
+  for (const type of SCAN_REPLY_TYPES) {
+    it(`should accept a ${type} message as the scan contract writes it`, () => {
+      expect(KERNEL_MESSAGE_CHECKS[type].problem(SCAN_REPLIES[type])).toBeNull();
+    });
+  }
+
+  it('should refuse NaN written as a string, a first missing row below −1 and an unknown engine, naming the field', () => {
+    const facts = JSON.parse(JSON.stringify(SCAN_REPLIES.scan_facts));
+    facts.columns[0].min = 'NaN';
+    expect(refusal('scan_facts', facts).detail.field).toBe('columns[0].min');
+    const early = JSON.parse(JSON.stringify(SCAN_REPLIES.scan_facts));
+    early.columns[1].first_missing_row = -2;
+    expect(refusal('scan_facts', early).detail.field).toBe('columns[1].first_missing_row');
+    const done = { ...SCAN_REPLIES.scan_done, engine: { name: 'sqlite', version: '3' } };
+    expect(refusal('scan_done', done).detail.field).toBe('engine.name');
+    const details = JSON.parse(JSON.stringify(SCAN_REPLIES.scan_details));
+    details.columns[0].std = 'Infinity';
+    expect(refusal('scan_details', details).detail.field).toBe('columns[0].std');
+  });
+
+  it('should accept a scanned frame in a listing: rows and memory unknown, its engine named', () => {
+    const frame: IFrameInfo = {
+      name: 'rel',
+      kind: 'duckdb',
+      rows: null,
+      columns: [{ name: 'x', dtype: 'DOUBLE', kind: 'numeric' }],
+      memory_bytes: null,
+      engine: { name: 'duckdb', version: '1.5.2' }
+    };
+    expect(isFrameInfo.problem(frame)).toBeNull();
+    expect(isFrameInfo.problem({ ...frame, rows: -1 })).toBe('rows');
+  });
+});
+
 describe('isKernelMessageType', () => {
   it('should know the message types of the protocol and nothing else', () => {
     expect(['listing', 'fetch_chunk', 'fetch_done', 'results_ack', 'results_stored', 'error'].every(isKernelMessageType)).toBe(
@@ -164,7 +264,7 @@ describe('isListingMessage', () => {
     ['frames', (m: Record<string, any>) => delete m.frames],
     ['frames[0].rows', (m: Record<string, any>) => (m.frames[0].rows = '50')],
     ['frames[0].rows', (m: Record<string, any>) => (m.frames[0].rows = -1)],
-    ['frames[0].kind', (m: Record<string, any>) => (m.frames[0].kind = 'spark')],
+    ['frames[0].kind', (m: Record<string, any>) => (m.frames[0].kind = 'sqlite')],
     ['frames[0].columns[1].kind', (m: Record<string, any>) => (m.frames[0].columns[1].kind = 'complex')],
     ['frames[0].memory_bytes', (m: Record<string, any>) => delete m.frames[0].memory_bytes],
     ['skipped', (m: Record<string, any>) => (m.skipped = null)],
@@ -261,14 +361,15 @@ describe('readKernelMessage', () => {
       field: 'chunk_count'
     });
     const frames: unknown = [];
-    const error = refusal('listing', { ...sentOf('listing'), frames: [frames, 'x'] });
+    const error = refusal('listing', { ...sentOf('listing'), protocol: PROTOCOL_VERSION, frames: [frames, 'x'] });
     expect(error.detail.field).toBe('frames[0]');
   });
 
   it("should refuse a listing of another protocol version for its version, whatever its shape", () => {
-    const error = refusal('listing', { type: 'listing', request_id: null, protocol: 2 });
+    const error = refusal('listing', { type: 'listing', request_id: null, protocol: 1 });
     expect(error.reason).toBe('protocol');
-    expect(error.message).toMatch(/speaks bridge protocol 2 and this extension speaks 1: install/);
+    expect(PROTOCOL_VERSION).toBe(2);
+    expect(error.message).toMatch(/speaks bridge protocol 1 and this extension speaks 2: install/);
   });
 });
 

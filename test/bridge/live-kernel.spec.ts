@@ -16,7 +16,10 @@ import { Signal } from '@lumino/signaling';
 import { IBridgeStatus, KernelBridge } from '../../src/bridge/connector';
 import { failure } from './fakes';
 import type { IBridgeSession } from '../../src/bridge/kernel';
-import type { IMultipletRow } from '../../src/engine/types';
+import { KernelScanner } from '../../src/bridge/kernel-scanner';
+import { scanWeightedCodes } from '../../src/engine/aggregate/scan';
+import { analyze, analyzeCodes } from '../../src/engine/analyze';
+import type { IAnalyzeOptions, IMultipletRow } from '../../src/engine/types';
 import { manifestValues, python, ROOT, tempFolder } from './helpers';
 
 jest.setTimeout(120_000);
@@ -280,6 +283,39 @@ describe('KernelBridge with a real kernel', () => {
     );
     expect(back.rows).toEqual(rows);
     expect(back.attrs).toEqual({ analysis_id: 'live-1', frame: 'greenhouse' });
+  });
+
+  it('should scan a DuckDB relation to the JSON of the same frame analysed in memory, and refuse a date column by name', async () => {
+    // A relation over the seeded frame: NaN and nulls in a float, nullable integers, booleans, text.
+    await cell(
+      'import duckdb\n' +
+        'scan_con = duckdb.connect()\n' +
+        'rel = scan_con.from_df(greenhouse[["air_temperature", "humidity_a", "fan_on", "operator", "logged_at"]])'
+    );
+    await waitFor('the relation in the listing', () => (bridge.listing?.frames ?? []).some(frame => frame.name === 'rel'));
+    const listed = bridge.listing!.frames.find(frame => frame.name === 'rel')!;
+    expect(listed).toMatchObject({ kind: 'duckdb', rows: null, memory_bytes: null, engine: { name: 'duckdb' } });
+    const names = ['air_temperature', 'humidity_a', 'fan_on', 'operator'];
+    const inMemory = await bridge.fetch('greenhouse', names);
+    for (const options of [
+      { bins: 'quantile:4', missing: 'category', estimator: 'miller-madow' },
+      { bins: 'doane', missing: 'drop', estimator: 'plugin', maxOrder: 3 }
+    ] as IAnalyzeOptions[]) {
+      const stages: string[] = [];
+      const scanner = new KernelScanner({ bridge, name: 'rel', onStage: stage => stages.push(stage) });
+      const { prepared } = await scanWeightedCodes(scanner, names, options);
+      const viaScan = analyzeCodes(prepared, { ...options, columns: names });
+      const expected = analyze(inMemory.columns, { ...options, columns: names });
+      expect(viaScan.rows).toBe(5000);
+      expect(JSON.stringify(viaScan.multiplets)).toBe(JSON.stringify(expected.multiplets));
+      expect(viaScan.columns.map(column => column.binning)).toEqual(expected.columns.map(column => column.binning));
+    }
+    const refused = await scanWeightedCodes(new KernelScanner({ bridge, name: 'rel' }), ['logged_at'], {}).catch(error => error);
+    expect(refused.detail.column).toBe('logged_at');
+    expect(refused.message).toMatch(/logged_at/);
+    // the kernel stays usable after the refused scan
+    expect((await cell('print(1 + 1)')).stdout.trim()).toBe('2');
+    await cell('del rel, scan_con');
   });
 
   it('should fetch while a cell runs (the comm has its own subshell) and stay ready after an interrupt', async () => {

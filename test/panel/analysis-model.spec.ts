@@ -11,7 +11,8 @@ import type { KernelBridge } from '../../src/bridge/connector';
 import type { IFetchedFrame } from '../../src/bridge/decode';
 import type { IFrameInfo } from '../../src/bridge/protocol';
 import { readDataFile } from '../../src/cli/readers';
-import { analyze } from '../../src/engine/analyze';
+import { analyze, analyzeCodes } from '../../src/engine/analyze';
+import type { IPreparedCodes } from '../../src/engine/binning';
 import type { ColumnView, IAnalyzeOptions } from '../../src/engine/types';
 import { AnalysisModel, type IEngineRunner } from '../../src/panel/analysis/model';
 import { EstimatorModel } from '../../src/panel/estimator/model';
@@ -22,6 +23,16 @@ import type { IPolyadicSettings } from '../../src/tokens';
 import type { IRunResult } from '../../src/worker/pool';
 import { previewColumn } from '../../src/worker/handlers';
 import { greenhouseTable, tempFolder, toCsv } from '../record/helpers';
+import { BridgeError } from '../../src/bridge/errors';
+import { MemoryScanner } from '../engine/scan-helpers';
+import { ContractBridge } from '../bridge/scan-fakes';
+
+/** The first `rows` rows of a column (a stand-in for the kernel's seeded sample). */
+function sliceColumn(column: ColumnView, rows: number): ColumnView {
+  return column.kind === 'numeric'
+    ? { ...column, values: column.values.slice(0, rows), missing: column.missing?.slice(0, rows) ?? null }
+    : { ...column, codes: column.codes.slice(0, rows), missing: column.missing?.slice(0, rows) ?? null };
+}
 
 /** The settings as the Settings Editor gives them with nothing changed: the schema's defaults. */
 function defaultSettings(): IPolyadicSettings {
@@ -34,6 +45,7 @@ function defaultSettings(): IPolyadicSettings {
 /** An engine that is never asked to run here. */
 const idleEngine: IEngineRunner = {
   analyze: (_columns, _options: IAnalyzeOptions) => Promise.reject(new Error('not in this test')),
+  analyzePrepared: () => Promise.reject(new Error('not in this test')),
   preview: () => Promise.reject(new Error('not in this test')),
   cancel: () => undefined
 };
@@ -91,6 +103,8 @@ function engine(): IEngineRunner & { hold: boolean; release: () => void } {
       }
       return new Promise<IRunResult>(resolve => (waiting = () => resolve(result)));
     },
+    analyzePrepared: (prepared: IPreparedCodes, options: IAnalyzeOptions): Promise<IRunResult> =>
+      Promise.resolve({ result: analyzeCodes(prepared, options), workers: 1, elapsedMs: 1 }),
     preview: (column: ColumnView, spec?: string) => Promise.resolve(previewColumn(column, spec)),
     cancel: () => undefined
   };
@@ -241,6 +255,108 @@ describe('AnalysisModel', () => {
       );
       expect(analysis.binning.specOf('air_temp_c')).toBe('width:3');
       analysis.dispose();
+    });
+  });
+
+  describe('#start on a scanned frame', () => {
+    /** A kernel whose frame `rel` is a DuckDB relation: listed without rows, previewed by a sample, run by scans. */
+    class ScanKernel extends FakeKernel {
+      constructor(columns: ColumnView[]) {
+        super(columns);
+        this.scans = new ContractBridge(new MemoryScanner(columns));
+      }
+      readonly scans: ContractBridge;
+      readonly fetches: { rowCap?: number; seed?: number }[] = [];
+
+      get listing(): { frames: IFrameInfo[]; skipped: [] } {
+        const frame: IFrameInfo = {
+          name: 'rel',
+          kind: 'duckdb',
+          rows: null,
+          memory_bytes: null,
+          engine: { name: 'duckdb', version: '1.5.2' },
+          columns: this.columns.map(column => ({ name: column.name, dtype: column.dtype, kind: column.kind }))
+        };
+        return { frames: [frame], skipped: [] };
+      }
+
+      fetch(name: string, names: string[], options: { rowCap?: number; seed?: number } = {}): Promise<IFetchedFrame> {
+        this.fetches.push({ rowCap: options.rowCap, seed: options.seed });
+        // the kernel's seeded sample: here the first 200 of 300 rows
+        const columns = names.map(wanted => sliceColumn(this.columns.find(column => column.name === wanted)!, 200));
+        return Promise.resolve({ name, columns, fields: [], rows: 200, originalRows: 300, sampled: true, seed: options.seed ?? 0, bytes: 1 });
+      }
+
+      scanFacts = (...args: Parameters<ContractBridge['scanFacts']>) => this.scans.scanFacts(...args);
+      scanDetails = (...args: Parameters<ContractBridge['scanDetails']>) => this.scans.scanDetails(...args);
+      scanGroup = (...args: Parameters<ContractBridge['scanGroup']>) => this.scans.scanGroup(...args);
+      cancelScan = (...args: Parameters<ContractBridge['cancelScan']>) => this.scans.cancelScan(...args);
+    }
+
+    async function scannedPanel(): Promise<{ analysis: AnalysisModel; kernel: ScanKernel }> {
+      const kernel = new ScanKernel(await greenhouseColumns());
+      const analysis = new AnalysisModel({ engine: engine(), previewDebounceMs: 0 });
+      analysis.applySettings({ ...defaultSettings(), estimator: 'miller-madow', surrogates: 20 });
+      analysis.data.bridge = kernel as unknown as KernelBridge;
+      await analysis.data.pick('rel');
+      await settle();
+      return { analysis, kernel };
+    }
+
+    it('should preview a seeded sample and run on every row through the scans, as the in-memory engine does', async () => {
+      const { analysis, kernel } = await scannedPanel();
+      expect(kernel.fetches).toEqual([{ rowCap: 100_000, seed: 0 }]);
+      expect(analysis.data.isScanned).toBe(true);
+      expect(analysis.blocker).toBeNull();
+      const options = analysis.options();
+      // statistics are off for a scanned frame, whatever the settings say
+      expect(options.statistics).toBeUndefined();
+      const stages: string[] = [];
+      analysis.runChanged.connect((_sender, status) => status.stage && stages.push(status.stage));
+      await analysis.start();
+      expect(analysis.run.error).toBeNull();
+      expect(analysis.runState).toBe('done');
+      const latest = analysis.latest!;
+      expect(latest.frame.rows).toBe(300);
+      expect(latest.frame.scan).toEqual({ engine: 'duckdb', version: '1', distinctRows: expect.any(Number) });
+      expect(JSON.stringify(latest.result)).toBe(JSON.stringify(analyze(kernel.columns, options)));
+      expect(stages[0]).toBe('DuckDB counts the rows, missing values and extremes of each column…');
+      expect(stages).toContain('DuckDB bins and groups every row…');
+    });
+
+    it('should send a cancel for the running scan and end as cancelled, the panel usable after', async () => {
+      const { analysis, kernel } = await scannedPanel();
+      kernel.scans.holdGroup = true;
+      const run = analysis.start();
+      while (analysis.run.stage !== 'DuckDB bins and groups every row…') {
+        await new Promise(resolve => setTimeout(resolve, 1));
+      }
+      analysis.cancel();
+      await run;
+      expect(analysis.runState).toBe('cancelled');
+      await settle();
+      expect(kernel.scans.cancels).toEqual(['g1']);
+      kernel.scans.holdGroup = false;
+      await analysis.start();
+      expect(analysis.runState).toBe('done');
+    });
+
+    it("should show the engine's message of a failed scan and mark the column it names", async () => {
+      const { analysis, kernel } = await scannedPanel();
+      const column = analysis.data.selected[0];
+      kernel.scans.scanFacts = async () => {
+        throw new BridgeError('kernel', `Column '${column}' holds datetime values, cast it in DuckDB first.`, { column });
+      };
+      await analysis.start();
+      expect(analysis.runState).toBe('error');
+      expect(analysis.run.error?.message).toBe(`Column '${column}' holds datetime values, cast it in DuckDB first.`);
+      expect(analysis.data.fault?.detail.column).toBe(column);
+    });
+
+    it('should refuse the Gaussian copula on a scanned frame, saying why', async () => {
+      const { analysis } = await scannedPanel();
+      analysis.estimator.estimator = 'gaussian-copula';
+      expect(analysis.blocker).toMatch(/needs the ranks of every row/);
     });
   });
 

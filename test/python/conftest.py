@@ -57,3 +57,34 @@ def polyadic_analyze(polyadic_cli):
         return json.loads(done.stdout)
 
     return analyze
+
+
+@pytest.fixture(scope="session")
+def spark():
+    """One real local[2] SparkSession for the whole pytest session (Java 17 and pyspark needed).
+
+    Small and quiet: no UI, two shuffle partitions, Python workers on this interpreter.
+    """
+    import os
+    import sys
+
+    if shutil.which("java") is None:
+        pytest.fail("java is not on PATH: the Spark tests need a Java 17 runtime (apt-get install openjdk-17-jre-headless)")
+    os.environ.setdefault("PYSPARK_PYTHON", sys.executable)
+    os.environ.setdefault("PYSPARK_DRIVER_PYTHON", sys.executable)
+    from pyspark.sql import SparkSession
+
+    session = (
+        SparkSession.builder.master("local[2]")
+        .appName("polyadic-tests")
+        .config("spark.ui.enabled", "false")
+        .config("spark.sql.shuffle.partitions", "2")
+        .config("spark.default.parallelism", "2")
+        .config("spark.driver.memory", "1g")
+        .config("spark.sql.execution.arrow.pyspark.enabled", "true")
+        .config("spark.python.worker.reuse", "true")
+        .getOrCreate()
+    )
+    session.sparkContext.setLogLevel("ERROR")
+    yield session
+    session.stop()

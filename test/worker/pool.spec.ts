@@ -1,4 +1,6 @@
+import { scanWeightedCodes } from '../../src/engine/aggregate/scan';
 import { analyze, latticeInput, prepareColumns } from '../../src/engine/analyze';
+import { MemoryScanner } from '../engine/scan-helpers';
 import { isPolyadicError, PolyadicError } from '../../src/engine/errors';
 import { computeLattice } from '../../src/engine/lattice';
 import type { ColumnView, IAnalyzeOptions } from '../../src/engine/types';
@@ -64,6 +66,22 @@ describe('EnginePool', () => {
   afterEach(() => {
     pools.forEach(pool => pool.dispose());
     pools = [];
+  });
+
+  describe('#analyzePrepared', () => {
+    it("should walk a scan's weighted distinct rows to the in-memory result, with 1 and 2 workers", async () => {
+      const columns = makeColumns(1200, 6);
+      const options: IAnalyzeOptions = { ...OPTIONS, bins: 'quantile:3' };
+      const names = columns.map(column => column.name);
+      const { prepared } = await scanWeightedCodes(new MemoryScanner(columns), names, options);
+      // fewer distinct rows than rows: the weights carry the counts
+      expect(prepared.weights.length).toBeLessThan(prepared.rows);
+      const direct = JSON.stringify(analyze(columns, options));
+      for (const workers of [1, 2]) {
+        const run = await poolOf(workers).analyzePrepared(prepared, options);
+        expect([workers, JSON.stringify(run.result) === direct]).toEqual([workers, true]);
+      }
+    });
   });
 
   describe('#analyze', () => {

@@ -8,6 +8,10 @@ import type { JSONObject } from '@lumino/coreutils';
 import { ISignal, Signal } from '@lumino/signaling';
 
 import type { IFetchedFrame } from '../../bridge/decode';
+import { KernelScanner } from '../../bridge/kernel-scanner';
+import { scanEngineName } from '../../bridge/protocol';
+import { scanWeightedCodes, ScanStage } from '../../engine/aggregate/scan';
+import type { IPreparedCodes } from '../../engine/binning';
 import { asPolyadicError, errorMessage, isCancellation, PolyadicError } from '../../engine/errors';
 import { formatCount, plural, wordFor } from '../../engine/text';
 import type { ColumnView, IAnalyzeOptions } from '../../engine/types';
@@ -26,6 +30,8 @@ import type { IRunCompleted, IRunStatus, RunState } from './types';
 /** What the model needs of the engine pool (an {@link EnginePool} in the panel). */
 export interface IEngineRunner {
   analyze(columns: ColumnView[], options: IAnalyzeOptions, runOptions: EnginePool.IRunOptions): Promise<IRunResult>;
+  /** Walk codes binned elsewhere: a scanned frame's weighted distinct rows. */
+  analyzePrepared(prepared: IPreparedCodes, options: IAnalyzeOptions, runOptions: EnginePool.IRunOptions): Promise<IRunResult>;
   preview(column: ColumnView, spec?: string): Promise<IColumnPreview>;
   cancel(): void;
 }
@@ -203,7 +209,12 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
     if (bad !== undefined) {
       return trans.__('The binning of column "%1" is not valid.', bad);
     }
-    const statistics = this.statistics.problem;
+    if (this.data.isScanned && this.estimator.estimator === 'gaussian-copula') {
+      return trans.__(
+        'A scanned frame is binned and counted in its engine, and the Gaussian-copula estimator needs the ranks of every row; choose a count estimator.'
+      );
+    }
+    const statistics = this.data.isScanned ? null : this.statistics.problem;
     if (statistics !== null) {
       return `Statistics: ${statistics.message}`;
     }
@@ -228,7 +239,8 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
       maxOrder: this.maxOrder
     };
     // the blocker has refused invalid statistics before a run asks for the options
-    const statistics = this.statistics.problem === null ? this.statistics.options() : undefined;
+    // a scanned frame's run has no statistics yet (the Statistics section says why)
+    const statistics = this.statistics.problem === null && !this.data.isScanned ? this.statistics.options() : undefined;
     if (statistics !== undefined) {
       options.statistics = statistics;
     }
@@ -260,6 +272,10 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
     this._setRun({ state: 'fetching', progress: null, error: null });
     this.binning.setRunFault(null);
     this.data.setRunFault(null);
+    if (this.data.isScanned) {
+      await this._startScan(ticket, started, frameName, options);
+      return;
+    }
     try {
       const fetched: IFetchedFrame = await bridge.fetch(frameName, options.columns ?? [], {
         rowCap: this._settings?.rowCap,
@@ -314,36 +330,53 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
       if (repeated !== null) {
         completed.analysisId = repeated;
       }
-      this._latest = completed;
-      this._setRun({ state: 'done', progress: null, error: null });
-      this._resultChanged.emit(completed);
-      // The results view, the record and the upload each take their own task, so the page
-      // paints and answers input between them instead of in one long freeze.
-      await Private.yieldToPage();
-      this._runCompleted.emit(completed);
-      await Private.yieldToPage();
-      void this._sendToKernel(completed);
+      await this._finish(completed);
     } catch (error) {
-      if (ticket !== this._ticket) {
-        return;
-      }
-      const failure = asPolyadicError(error);
-      this._setRun({ state: isCancellation(failure) ? 'cancelled' : 'error', progress: null, error: failure });
-      // the column or binning at fault is marked in its section
-      if (!isCancellation(failure)) {
-        this.binning.setRunFault(failure);
-        this.data.setRunFault(failure);
-      }
+      this._fail(ticket, error);
     }
   }
 
-  /** Cancel the run in progress: the engine's workers stop at once; a fetch is abandoned. */
+  /** Keep a completed run and announce it. */
+  private async _finish(completed: IRunCompleted): Promise<void> {
+    this._latest = completed;
+    this._setRun({ state: 'done', progress: null, error: null });
+    this._resultChanged.emit(completed);
+    // The results view, the record and the upload each take their own task, so the page
+    // paints and answers input between them instead of in one long freeze.
+    await Private.yieldToPage();
+    this._runCompleted.emit(completed);
+    await Private.yieldToPage();
+    void this._sendToKernel(completed);
+  }
+
+  /** End the run of `ticket` as cancelled or failed (unless a newer run took over). */
+  private _fail(ticket: number, error: unknown): void {
+    if (ticket !== this._ticket) {
+      return;
+    }
+    const failure = asPolyadicError(error);
+    this._setRun({ state: isCancellation(failure) ? 'cancelled' : 'error', progress: null, error: failure });
+    // the column or binning at fault is marked in its section
+    if (!isCancellation(failure)) {
+      this.binning.setRunFault(failure);
+      this.data.setRunFault(failure);
+    }
+  }
+
+  /**
+   * Cancel the run in progress: the engine's workers stop at once; a fetch is abandoned; a
+   * scan is stopped in the kernel (a `cancel` naming it).
+   */
   cancel(): void {
     if (!this.isRunning) {
       return;
     }
     this._ticket++;
     this._engine.cancel();
+    const scanner = this._scanner;
+    this._scanner = null;
+    // the kernel's answer does not matter to the run, which ends here as cancelled
+    scanner?.cancel().catch(() => undefined);
     this._setRun({ state: 'cancelled', progress: null, error: new PolyadicError('cancelled', this._trans.__('The analysis was cancelled.')) });
   }
 
@@ -374,6 +407,80 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
     this.estimator.dispose();
     this.statistics.dispose();
     Signal.clearData(this);
+  }
+
+  /**
+   * Run on a scanned frame: the engine's scan driver plans the binning from the kernel's
+   * facts and details, the kernel groups the binned rows, and the workers walk the weighted
+   * distinct rows. The run line shows each stage.
+   */
+  private async _startScan(ticket: number, started: number, frameName: string, options: IAnalyzeOptions): Promise<void> {
+    const bridge = this.data.bridge;
+    const listed = this.data.frameInfo;
+    if (bridge === null) {
+      return;
+    }
+    const trans = this._trans;
+    const engine = scanEngineName(listed?.engine?.name);
+    const stageText: Record<ScanStage, string> = {
+      facts: trans.__('%1 counts the rows, missing values and extremes of each column…', engine),
+      details: trans.__('%1 computes the order statistics and moments the binning needs…', engine),
+      group: trans.__('%1 bins and groups every row…', engine),
+      binning: trans.__('Reading the grouped table…')
+    };
+    const show = (stage: string): void => {
+      if (ticket === this._ticket) {
+        this._setRun({ state: 'fetching', progress: null, error: null, stage });
+      }
+    };
+    const scanner = new KernelScanner({ bridge, name: frameName, onStage: stage => show(trans.__('%1: %2', engine, stage)) });
+    this._scanner = scanner;
+    try {
+      const { prepared, plan } = await scanWeightedCodes(scanner, options.columns ?? [], options, {
+        maxDistinctRows: AnalysisModel.SCAN_MAX_DISTINCT_ROWS,
+        onStage: stage => show(stageText[stage])
+      });
+      if (ticket !== this._ticket) {
+        return;
+      }
+      this._setRun({ state: 'running', progress: null, error: null });
+      const outcome = await this._engine.analyzePrepared(prepared, options, {
+        onProgress: progress => {
+          if (ticket === this._ticket) {
+            this._setRun({ state: 'running', progress, error: null });
+          }
+        }
+      });
+      if (ticket !== this._ticket) {
+        return;
+      }
+      const completed: IRunCompleted = {
+        analysisId: newRecordId(),
+        result: outcome.result,
+        options,
+        frame: {
+          name: frameName,
+          listed,
+          fields: [],
+          rows: prepared.rows,
+          originalRows: prepared.rows,
+          sampled: false,
+          seed: 0,
+          bytes: 0,
+          scan: { engine: plan.engine.name, version: plan.engine.version, distinctRows: prepared.weights.length }
+        },
+        finished: new Date().toISOString(),
+        elapsedMs: this._now() - started,
+        workers: outcome.workers
+      };
+      await this._finish(completed);
+    } catch (error) {
+      this._fail(ticket, error);
+    } finally {
+      if (this._scanner === scanner) {
+        this._scanner = null;
+      }
+    }
   }
 
   private async _sendToKernel(completed: IRunCompleted): Promise<void> {
@@ -452,6 +559,7 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
   }
 
   private _engine: IEngineRunner;
+  private _scanner: KernelScanner | null = null;
   private readonly _trans: TranslationBundle;
   private _now: () => number;
   private _recordIdFor: ((run: IRunCompleted) => Promise<string | null>) | null;
@@ -476,6 +584,13 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
 
 /** The statics of {@link AnalysisModel}. */
 export namespace AnalysisModel {
+  /**
+   * Most distinct binned rows a scanned frame's run hands to the walk (our choice: 5 million
+   * rows of 20 Int32 codes and a weight are about 420 MB in the page); above it the run stops
+   * and says so.
+   */
+  export const SCAN_MAX_DISTINCT_ROWS = 5_000_000;
+
   /** Options of an {@link AnalysisModel}. */
   export interface IOptions {
     /** Runs analyses and previews (the engine pool). */

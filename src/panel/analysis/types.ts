@@ -37,6 +37,8 @@ export interface IAnalysisFrameInfo {
    * fingerprints them (src/record/fingerprint.ts); without them a run is not recorded.
    */
   columns?: readonly ColumnView[];
+  /** A scanned frame's run: the engine that scanned it and the distinct binned rows walked. */
+  scan?: { engine: string; version: string; distinctRows: number };
 }
 
 /** Everything a finished run leaves behind; carried by `runCompleted`. */
@@ -89,4 +91,6 @@ export interface IRunStatus {
    * sentences for the user, its `detail` the column, row or option at fault.
    */
   error: PolyadicError | null;
+  /** While a scanned frame is scanned: the scan's stage (the driver's or the kernel's words). */
+  stage?: string;
 }

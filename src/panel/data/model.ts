@@ -11,7 +11,7 @@ import { ISignal, Signal } from '@lumino/signaling';
 
 import type { IBridgeStatus, IListing, KernelBridge } from '../../bridge/connector';
 import type { IFetchedFrame, IFetchProgress } from '../../bridge/decode';
-import type { ColumnKind, IFrameInfo } from '../../bridge/protocol';
+import { ColumnKind, IFrameInfo, isScannedKind, SCAN_PREVIEW_ROWS } from '../../bridge/protocol';
 import { sameColumnData } from '../../engine/table';
 import type { ColumnView } from '../../engine/types';
 import { columnStats, IColumnStats } from './stats';
@@ -97,6 +97,15 @@ export class DataModel {
   /** The picked frame's listing entry, or null. */
   get frameInfo(): IFrameInfo | null {
     return this.frames.find(frame => frame.name === this._frame) ?? null;
+  }
+
+  /**
+   * Whether the picked frame is a scanned frame (DuckDB, Spark): its preview is a seeded sample
+   * and Run scans every row in its engine.
+   */
+  get isScanned(): boolean {
+    const info = this.frameInfo;
+    return info !== null && isScannedKind(info.kind);
   }
 
   /** The picked frame's columns, in frame order. */
@@ -262,8 +271,11 @@ export class DataModel {
     }
     const fetchable = info.columns.filter(column => column.kind !== 'other').map(column => column.name);
     try {
+      // A scanned frame's preview is always a seeded sample (Run never uses it).
+      const scanned = isScannedKind(info.kind);
       const fetched = await bridge.fetch(name, fetchable, {
-        rowCap: this._rowCap,
+        rowCap: scanned ? SCAN_PREVIEW_ROWS : this._rowCap,
+        ...(scanned ? { seed: DataModel.PREVIEW_SEED } : {}),
         onProgress: progress => {
           if (ticket === this._ticket) {
             this._load = { ...this._load, fraction: DataModel.FETCH_SHARE * Private.fraction(progress) };
@@ -353,6 +365,9 @@ export namespace DataModel {
    * and counted, so the bar is full only when the columns are ready.
    */
   export const FETCH_SHARE = 0.9;
+
+  /** Seed of a scanned frame's preview sample (our choice: the same rows every time). */
+  export const PREVIEW_SEED = 0;
 
   /** Options of a {@link DataModel}. */
   export interface IOptions {

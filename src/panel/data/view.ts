@@ -4,6 +4,7 @@
  * are untrusted text and only ever reach the DOM through `textContent`.
  */
 import { formatCount } from '../../engine/text';
+import { scanEngineName } from '../../bridge/protocol';
 import { translationBundle, type ITranslator } from '../../translation';
 import { textElement } from '../dom';
 import { SectionView } from '../section';
@@ -33,7 +34,8 @@ export class DataView extends SectionView<DataModel> {
     this._progress.setAttribute('aria-label', trans.__('Loading the dataframe'));
     this._message = textElement('p', 'pd-Data-message');
     this._list = textElement('div', 'pd-Data-columns');
-    this.node.append(this._status, this._pickerRow, this._progress, this._message, this._list);
+    this._sample = textElement('p', 'pd-Data-sample');
+    this.node.append(this._status, this._pickerRow, this._progress, this._message, this._sample, this._list);
     this.render();
   }
 
@@ -62,7 +64,31 @@ export class DataView extends SectionView<DataModel> {
       this._message.textContent = '';
     }
     this._message.hidden = this._message.textContent === '';
+    this._renderSample();
     this._renderColumns();
+  }
+
+  /** Say plainly when the checklist and the binning previews read a sample, and what Run reads. */
+  private _renderSample(): void {
+    const fetched = this.model.fetched;
+    const info = this.model.frameInfo;
+    const trans = this.trans;
+    let text = '';
+    if (fetched !== null && fetched.sampled) {
+      const sample = trans.__(
+        'The distinct and missing counts and the binning previews show a seeded sample of %1 of %2 rows (seed %3).',
+        formatCount(fetched.rows),
+        formatCount(fetched.originalRows),
+        fetched.seed
+      );
+      text = this.model.isScanned
+        ? trans.__('%1 Run scans every row in %2.', sample, scanEngineName(info?.engine?.name))
+        : trans.__('%1 Run reads the same sample.', sample);
+    } else if (fetched !== null && this.model.isScanned) {
+      text = trans.__('The previews show all %1 rows; Run scans them in %2.', formatCount(fetched.rows), scanEngineName(info?.engine?.name));
+    }
+    this._sample.textContent = text;
+    this._sample.hidden = text === '';
   }
 
   private _renderStatus(): void {
@@ -108,7 +134,7 @@ export class DataView extends SectionView<DataModel> {
             this.trans.__(
               '%1 (%2 × %3, %4)',
               frame.name,
-              this.trans._n('%2 row', '%2 rows', frame.rows, formatCount(frame.rows)),
+              frame.rows === null ? this.trans.__('rows unknown') : this.trans._n('%2 row', '%2 rows', frame.rows, formatCount(frame.rows)),
               this.trans._n('%2 column', '%2 columns', frame.columns.length, formatCount(frame.columns.length)),
               frame.kind
             )
@@ -206,6 +232,7 @@ export class DataView extends SectionView<DataModel> {
   private _pickerRow: HTMLElement;
   private _progress: HTMLProgressElement;
   private _message: HTMLElement;
+  private _sample: HTMLElement;
   private _list: HTMLElement;
   private _boxes = new Map<string, HTMLInputElement>();
   private _pickerKey = '';

@@ -161,6 +161,15 @@ export class RecordsModel extends SignalOwner implements IPolyadicPanel.IRecords
     if (notebook === null) {
       return this._fail(this._trans.__('No notebook is open, so the run was not recorded.'));
     }
+    if (run.frame.scan !== undefined) {
+      // the fingerprint of a scanned source (over its sorted weighted table) is still to come
+      return this._fail(
+        this._trans.__(
+          "The run was not recorded: records of scanned frames (DuckDB, Spark) need a fingerprint of the weighted table, which is still to come. The results view and polyadic.results('%1') in the kernel have the multiplets.",
+          run.analysisId
+        )
+      );
+    }
     if (run.frame.columns === undefined) {
       return this._fail(this._trans.__('The run was not recorded: the analysis section did not pass on the columns it read.'));
     }

@@ -5,6 +5,7 @@
 import { Widget } from '@lumino/widgets';
 
 import { formatCount, formatFixed } from '../../engine/text';
+import { scanEngineName } from '../../bridge/protocol';
 import { translationBundle, type ITranslator, type TranslationBundle } from '../../translation';
 import type { AnalysisModel } from '../analysis/model';
 import { textElement } from '../dom';
@@ -67,7 +68,11 @@ export class RunView extends Widget {
     this.node.dataset.state = run.state;
     this._bar.hidden = !running;
     this._progressText.hidden = !running;
-    if (run.state === 'fetching') {
+    if (run.state === 'fetching' && run.stage !== undefined) {
+      // a scan reports stages, not bytes
+      this._bar.removeAttribute('value');
+      this._progressText.textContent = run.stage;
+    } else if (run.state === 'fetching') {
       this._bar.value = model.fetchFraction;
       this._progressText.textContent = trans.__('Fetching the columns from the kernel… %1%', Math.round(model.fetchFraction * 100));
     } else if (run.state === 'running') {
@@ -88,7 +93,18 @@ export class RunView extends Widget {
       const multiplets = trans._n('%2 multiplet', '%2 multiplets', count, formatCount(count));
       const rows = trans._n('%2 row', '%2 rows', frame.rows, formatCount(frame.rows));
       const took = Private.duration(latest.elapsedMs, trans);
-      this._line.textContent = frame.sampled
+      this._line.textContent = frame.scan
+        ? trans.__(
+            '%1 computed from every one of %2 of %3 in %4, scanned in %5 %6 into %7.',
+            multiplets,
+            rows,
+            frame.name,
+            took,
+            scanEngineName(frame.scan.engine),
+            frame.scan.version,
+            trans._n('%2 distinct binned row', '%2 distinct binned rows', frame.scan.distinctRows, formatCount(frame.scan.distinctRows))
+          )
+        : frame.sampled
         ? trans.__(
             '%1 computed from %2 of %3 in %4 (a seeded sample of %5, seed %6).',
             multiplets,

@@ -77,7 +77,16 @@ export class StatisticsView extends Widget {
     this._problem.hidden = true;
     this._estimate = textElement('p', 'pd-Statistics-estimate');
     this._estimate.setAttribute('aria-live', 'polite');
-    this.node.append(intro, ...rows, this._problem, this._estimate);
+    this._scanNote = textElement('p', 'pd-Statistics-scanned pd-mod-warning');
+    this._scanNote.textContent = trans.__(
+      'A scanned frame allows the count estimators only, without statistics for now: its rows stay in DuckDB or Spark, ' +
+        'which hand over the distinct binned rows with their counts. The Gaussian copula needs the ranks of every row; ' +
+        'surrogates shuffle each column on its own, which needs the rows themselves; bootstrap intervals by multinomial ' +
+        'resampling of the weighted rows are still to come. Runs on this frame compute no evidence.'
+    );
+    this._scanNote.hidden = true;
+    this.node.append(intro, this._scanNote, ...rows, this._problem, this._estimate);
+    this._rows = rows;
     this._model.changed.connect(this._render, this);
     this._model.statistics.changed.connect(this._render, this);
     this._render();
@@ -96,6 +105,19 @@ export class StatisticsView extends Widget {
   private _render(): void {
     const trans = this._trans;
     const statistics = this._model.statistics;
+    const scanned = this._model.data.isScanned;
+    this._scanNote.hidden = !scanned;
+    for (const row of this._rows) {
+      row.classList.toggle('jp-mod-disabled', scanned);
+    }
+    for (const input of [...this._inputs.values(), this._tail]) {
+      input.disabled = scanned;
+    }
+    if (scanned) {
+      this._problem.hidden = true;
+      this._estimate.textContent = '';
+      return;
+    }
     const values = statistics.values;
     for (const [field, input] of this._inputs) {
       if (document.activeElement !== input && input.value !== values[field]) {
@@ -148,6 +170,8 @@ export class StatisticsView extends Widget {
     }
   }
 
+  private _scanNote: HTMLElement;
+  private _rows: HTMLElement[] = [];
   private _model: AnalysisModel;
   private readonly _trans: TranslationBundle;
   private _workers: () => number;

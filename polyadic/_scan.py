@@ -1,0 +1,1051 @@
+"""Scans of scanned frames: the engine that holds the rows (DuckDB, Spark) computes the numbers.
+
+A *scanned frame* keeps its rows in the engine (a DuckDB relation, a PySpark DataFrame); a
+*scan* asks that engine for column facts, column details or the grouped binned table (the
+contract: the scan protocol shared with src/bridge/protocol.ts). The front end plans bin edges
+from these numbers with the code of the in-memory engine, so every number equals what numpy
+computes on the same column read in the frame's row order:
+
+* counts, minimum, maximum, level counts, distinct values and the grouped table are exact
+  aggregates in the engine;
+* order statistics are exact ranks of the sorted values (no approximate percentiles);
+* standard deviation and skewness are numpy's own, on the column's non-missing values read as
+  float64 in row order (numpy's pairwise summation depends on the order and the length);
+* bin codes are computed in the engine from the edges as exact double constants (DuckDB
+  constant expressions, Spark literal Columns): no number is ever written into SQL text.
+
+Row order is the order in which the engine returns the frame's rows: DuckDB's insertion order
+(its default ``preserve_insertion_order``), Spark's partition order (``collect()``).
+
+Each backend is one class behind :class:`ScanEngine`; the shared logic (validation, numpy,
+reply shapes) lives in the module functions, so tests call them without a kernel.
+"""
+
+from __future__ import annotations
+
+import math
+import sys
+import threading
+import uuid
+from dataclasses import dataclass
+from typing import Any, Callable, Iterable, Mapping, Sequence
+
+import numpy as np
+import pyarrow as pa
+import pyarrow.compute as pc
+
+from ._errors import BridgeError
+
+#: Highest level count the automatic binning keeps as categories (src/engine's AUTO_MAX_LEVELS);
+#: facts count distinct values up to one more than this.
+AUTO_MAX_LEVELS = 10
+#: Default cap of distinct rows of a grouped table (the contract's ``max_distinct_rows``).
+DEFAULT_MAX_DISTINCT_ROWS = 5_000_000
+#: Longest engine message carried in an error's detail.
+ENGINE_MESSAGE_MAX = 4000
+#: Column kinds a scan supports.
+SCAN_KINDS = ("numeric", "bool", "string", "categorical")
+#: Steps of a scan request.
+SCAN_STEPS = ("facts", "details", "group")
+
+ScanDouble = Any  # float | 'Infinity' | '-Infinity'
+
+
+class ScanCancelled(Exception):
+    """The scan was cancelled from the front end."""
+
+
+class EngineFailure(Exception):
+    """The engine refused or failed a query or job; carries the engine's own message."""
+
+    def __init__(self, engine: str, message: str) -> None:
+        super().__init__(message)
+        self.engine = engine
+        self.engine_message = message
+
+
+def scan_double(value: float) -> ScanDouble:
+    """A double for JSON: ±Inf as text, −0 as 0 (NaN never reaches here: NaN is missing)."""
+    value = float(value)
+    if math.isinf(value):
+        return "Infinity" if value > 0 else "-Infinity"
+    return value + 0.0
+
+
+def quote_duckdb(name: str) -> str:
+    """A DuckDB identifier in double quotes, inner quotes doubled (SQL's quoting)."""
+    return '"' + name.replace('"', '""') + '"'
+
+
+def quote_spark(name: str) -> str:
+    """A Spark column name in backticks, inner backticks doubled (Spark SQL's quoting)."""
+    return "`" + name.replace("`", "``") + "`"
+
+
+# --- column kinds of the engines' types ----------------------------------------------------
+
+_DUCKDB_NUMERIC = frozenset(
+    "TINYINT SMALLINT INTEGER BIGINT HUGEINT UTINYINT USMALLINT UINTEGER UBIGINT UHUGEINT FLOAT DOUBLE".split()
+)
+_DUCKDB_INTEGERS = frozenset("TINYINT SMALLINT INTEGER BIGINT HUGEINT UTINYINT USMALLINT UINTEGER UBIGINT UHUGEINT".split())
+#: Integer types whose values may not all be doubles exactly (beyond ±2^53).
+_DUCKDB_WIDE = frozenset("BIGINT HUGEINT UBIGINT UHUGEINT".split())
+
+
+def duckdb_column_kind(type_name: str) -> str:
+    """The column kind of a DuckDB type, by its name (``str(type)``)."""
+    name = type_name.upper()
+    if name == "BOOLEAN":
+        return "bool"
+    if name in _DUCKDB_NUMERIC or name.startswith("DECIMAL"):
+        return "numeric"
+    if name == "VARCHAR":
+        return "string"
+    if name.startswith("ENUM"):
+        return "categorical"
+    if name == "DATE" or name.startswith("TIMESTAMP"):
+        return "datetime"
+    if name == "INTERVAL":
+        return "timedelta"
+    return "other"
+
+
+def spark_column_kind(data_type: Any) -> str:
+    """The column kind of a Spark ``DataType``."""
+    from pyspark.sql import types as T
+
+    if isinstance(data_type, T.BooleanType):
+        return "bool"
+    if isinstance(data_type, (T.ByteType, T.ShortType, T.IntegerType, T.LongType, T.FloatType, T.DoubleType, T.DecimalType)):
+        return "numeric"
+    string_types = tuple(getattr(T, n) for n in ("StringType", "VarcharType", "CharType") if hasattr(T, n))
+    if isinstance(data_type, string_types):
+        return "string"
+    datetime_types = tuple(getattr(T, n) for n in ("DateType", "TimestampType", "TimestampNTZType") if hasattr(T, n))
+    if isinstance(data_type, datetime_types):
+        return "datetime"
+    interval_types = tuple(getattr(T, n) for n in ("DayTimeIntervalType", "YearMonthIntervalType") if hasattr(T, n))
+    if interval_types and isinstance(data_type, interval_types):
+        return "timedelta"
+    return "other"
+
+
+def spark_dataframe_types() -> tuple[type, ...]:
+    """The PySpark DataFrame classes already imported (classic and Spark Connect); never imports."""
+    found: list[type] = []
+    sql = sys.modules.get("pyspark.sql")
+    if sql is not None and hasattr(sql, "DataFrame"):
+        found.append(sql.DataFrame)
+    connect = sys.modules.get("pyspark.sql.connect.dataframe")
+    if connect is not None and hasattr(connect, "DataFrame"):
+        found.append(connect.DataFrame)
+    return tuple(found)
+
+
+def duckdb_relation_type() -> type | None:
+    """DuckDB's relation class when the user already imported duckdb; never imports."""
+    duckdb = sys.modules.get("duckdb")
+    return getattr(duckdb, "DuckDBPyRelation", None) if duckdb is not None else None
+
+
+# --- the shared part ------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class ScanColumn:
+    """One column of a scanned frame as a scan reads it."""
+
+    name: str
+    dtype: str
+    kind: str
+    #: numpy would see an integer dtype (integers and booleans).
+    integer: bool
+    #: An integer type some of whose values may change when read as float64.
+    wide: bool
+    #: A floating-point type: NaN counts as missing.
+    floating: bool
+
+    @property
+    def numeric(self) -> bool:
+        """Read as numbers (numeric and bool columns)."""
+        return self.kind in ("numeric", "bool")
+
+
+@dataclass
+class ColumnAggregate:
+    """What one aggregate pass gives per column."""
+
+    missing: int
+    count: int
+    minimum: float | None
+    maximum: float | None
+    has_infinite: bool
+    rounded: bool
+
+
+class ScanEngine:
+    """One scanned frame behind one small interface; a subclass per engine.
+
+    The primitives (``_aggregate`` … ``_sample``) each run one query or job; the public
+    methods build the contract's replies from them.
+    """
+
+    #: 'duckdb' or 'spark'.
+    name = ""
+
+    def __init__(self, frame: Any, frame_name: str) -> None:
+        self.frame = frame
+        self.frame_name = frame_name
+        self._cancelled = threading.Event()
+        self._columns = self._read_columns()
+
+    # -- subclass primitives --
+    def version(self) -> str:  # pragma: no cover - abstract
+        raise NotImplementedError
+
+    def _read_columns(self) -> list[ScanColumn]:  # pragma: no cover - abstract
+        raise NotImplementedError
+
+    def row_count(self) -> int:  # pragma: no cover - abstract
+        raise NotImplementedError
+
+    def _aggregate(self, columns: Sequence[ScanColumn]) -> list[ColumnAggregate]:  # pragma: no cover
+        raise NotImplementedError
+
+    def _levels(self, column: ScanColumn, cap: int) -> int:  # pragma: no cover
+        raise NotImplementedError
+
+    def _first(self, column: ScanColumn, what: str) -> tuple[int, Any]:  # pragma: no cover
+        """Row position and value of the first missing ('missing') or ±Inf ('infinite') value."""
+        raise NotImplementedError
+
+    def _values(self, column: ScanColumn) -> np.ndarray:  # pragma: no cover
+        """The non-missing values as float64 in row order."""
+        raise NotImplementedError
+
+    def _order_statistics(self, column: ScanColumn, ranks: Sequence[int]) -> dict[int, float]:  # pragma: no cover
+        raise NotImplementedError
+
+    def _distinct(self, column: ScanColumn) -> list[tuple[Any, int]]:  # pragma: no cover
+        raise NotImplementedError
+
+    def _group(self, keys: Sequence[tuple[ScanColumn, list[float] | None]], limit: int) -> tuple[pa.Table, int]:  # pragma: no cover
+        """The grouped table (at most ``limit + 1`` rows) and the input row count."""
+        raise NotImplementedError
+
+    def _count_groups(self, keys: Sequence[tuple[ScanColumn, list[float] | None]]) -> int:  # pragma: no cover
+        raise NotImplementedError
+
+    def _sample(self, columns: Sequence[ScanColumn], row_cap: int, seed: int) -> tuple[pa.Table, int]:  # pragma: no cover
+        """A seeded sample of ``min(row_cap, rows)`` rows in row order, and the row count."""
+        raise NotImplementedError
+
+    def _interrupt(self) -> None:  # pragma: no cover
+        raise NotImplementedError
+
+    def _engine_errors(self) -> tuple[type, ...]:  # pragma: no cover
+        raise NotImplementedError
+
+    # -- cancelling --
+    def cancel(self) -> None:
+        """Stop the running query or job; the scan then raises ScanCancelled."""
+        self._cancelled.set()
+        self._interrupt()
+
+    @property
+    def cancelled(self) -> bool:
+        """Whether :meth:`cancel` was called."""
+        return self._cancelled.is_set()
+
+    def _check(self) -> None:
+        if self._cancelled.is_set():
+            raise ScanCancelled()
+
+    def run(self, step: Callable[[], Any]) -> Any:
+        """Run one step, turning the engine's failures into EngineFailure or ScanCancelled."""
+        self._check()
+        try:
+            result = step()
+        except (ScanCancelled, BridgeError):
+            raise
+        except self._engine_errors() as error:
+            if self._cancelled.is_set():
+                raise ScanCancelled() from None
+            raise EngineFailure(self.name, engine_message(error)) from None
+        self._check()
+        return result
+
+    # -- columns --
+    @property
+    def columns(self) -> list[ScanColumn]:
+        """Every column of the frame."""
+        return list(self._columns)
+
+    def listing_columns(self) -> list[dict[str, str]]:
+        """The columns as the listing shows them."""
+        return [{"name": c.name, "dtype": c.dtype, "kind": c.kind} for c in self._columns]
+
+    def engine_info(self) -> dict[str, str]:
+        """``{name, version}`` of the engine."""
+        return {"name": self.name, "version": self.version()}
+
+    def column(self, name: Any, scanned: bool = True) -> ScanColumn:
+        """The column named ``name``; with ``scanned``, refuse kinds a scan cannot read."""
+        if not isinstance(name, str):
+            raise BridgeError("A column must be named by a string.", option="columns")
+        matches = [c for c in self._columns if c.name == name]
+        if not matches:
+            raise BridgeError(f"The frame {self.frame_name!r} has no column {name!r}.", column=name)
+        if len(matches) > 1:
+            raise BridgeError(
+                f"The frame {self.frame_name!r} has {len(matches)} columns named {name!r}; rename them "
+                "to tell them apart.",
+                column=name,
+            )
+        column = matches[0]
+        if scanned and column.kind not in SCAN_KINDS:
+            hint = (
+                " (for example to epoch seconds)" if column.kind in ("datetime", "timedelta") else ""
+            )
+            raise BridgeError(
+                f"Column {name!r} has type {column.dtype} ({column.kind}), which a scan cannot read; "
+                f"cast it to numbers or strings in {self.label()}{hint} and list the frame again.",
+                column=name,
+                dtype=column.dtype,
+                kind=column.kind,
+            )
+        return column
+
+    def label(self) -> str:
+        """The engine's name as people write it."""
+        return {"duckdb": "DuckDB", "spark": "Spark"}.get(self.name, self.name)
+
+    # -- steps --
+    def facts(self, names: Sequence[str]) -> dict[str, Any]:
+        """The ``scan_facts`` reply body (without type and request_id)."""
+        columns = _distinct_columns(self, names)
+        rows = self.run(self.row_count)
+        aggregates = self.run(lambda: self._aggregate(columns))
+        out = []
+        for column, agg in zip(columns, aggregates):
+            first_missing = self.run(lambda: self._first(column, "missing"))[0] if agg.missing else -1
+            infinite = None
+            if column.numeric and agg.has_infinite:
+                row, value = self.run(lambda: self._first(column, "infinite"))
+                infinite = {"row": int(row), "value": scan_double(value)}
+            levels = self.run(lambda: self._levels(column, AUTO_MAX_LEVELS + 1)) if agg.count else 0
+            out.append(
+                {
+                    "name": column.name,
+                    "dtype": column.dtype,
+                    "kind": column.kind,
+                    "missing_count": int(agg.missing),
+                    "first_missing_row": int(first_missing),
+                    "count": int(agg.count),
+                    "levels": int(levels),
+                    "integer": bool(column.integer) if column.numeric else None,
+                    "rounded": bool(agg.rounded) if column.numeric else False,
+                    "infinite": infinite,
+                    "min": scan_double(agg.minimum) if column.numeric and agg.minimum is not None else None,
+                    "max": scan_double(agg.maximum) if column.numeric and agg.maximum is not None else None,
+                }
+            )
+        return {"rows": int(rows), "engine": self.engine_info(), "columns": out}
+
+    def details(self, requests: Any) -> dict[str, Any]:
+        """The ``scan_details`` reply body."""
+        if not isinstance(requests, list) or not requests:
+            raise BridgeError("'columns' must be a non-empty list of detail requests.", option="columns")
+        out = []
+        for request in requests:
+            if not isinstance(request, dict):
+                raise BridgeError("Each detail request must be a JSON object.", option="columns")
+            column = self.column(request.get("name"))
+            ranks = request.get("ranks", [])
+            if not isinstance(ranks, list) or not all(
+                isinstance(r, int) and not isinstance(r, bool) and r >= 0 for r in ranks
+            ):
+                raise BridgeError(
+                    f"'ranks' of column {column.name!r} must be a list of whole numbers from 0.",
+                    column=column.name,
+                    option="ranks",
+                )
+            if ranks and not column.numeric:
+                raise BridgeError(
+                    f"Column {column.name!r} holds text: it has no order statistics.", column=column.name
+                )
+            want_std = request.get("std") is True
+            want_skew = request.get("skewness") is True
+            std = skewness = None
+            if want_std and column.numeric:
+                values = self.run(lambda: self._values(column))
+                std, skewness = numpy_moments(values, want_skew)
+            order: list[ScanDouble] = []
+            if ranks:
+                found = self.run(lambda: self._order_statistics(column, sorted(set(ranks))))
+                missing = [r for r in ranks if r not in found]
+                if missing:
+                    raise BridgeError(
+                        f"Rank {missing[0]} is past the last non-missing value of column {column.name!r}.",
+                        column=column.name,
+                        option="ranks",
+                    )
+                order = [scan_double(found[r]) for r in ranks]
+            distinct = None
+            if request.get("distinct") is True:
+                pairs = self.run(lambda: self._distinct(column))
+                distinct = distinct_reply(column, pairs)
+            out.append(
+                {
+                    "name": column.name,
+                    "order_statistics": order,
+                    "std": std,
+                    "skewness": skewness,
+                    "distinct": distinct,
+                }
+            )
+        return {"columns": out}
+
+    def group(self, keys: Any, max_distinct_rows: Any = None) -> tuple[pa.Table, int]:
+        """The grouped table in the contract's Arrow layout, and the input row count."""
+        limit = DEFAULT_MAX_DISTINCT_ROWS if max_distinct_rows is None else max_distinct_rows
+        if isinstance(limit, bool) or not isinstance(limit, int) or limit < 1:
+            raise BridgeError(
+                f"'max_distinct_rows' must be a whole number of at least 1, got {limit!r}.",
+                option="max_distinct_rows",
+            )
+        plan = group_plan(self, keys)
+        table, rows = self.run(lambda: self._group(plan, limit))
+        if table.num_rows > limit:
+            count = self.run(lambda: self._count_groups(plan))
+            raise BridgeError(
+                f"The binned columns of {self.frame_name!r} have {count} distinct rows, more than the "
+                f"limit of {limit}; choose fewer columns or fewer bins.",
+                limit="distinct_rows",
+                count=int(count),
+                max_distinct_rows=limit,
+            )
+        return conform_group_table(table, plan), rows
+
+    def sample(self, names: Sequence[str] | None, row_cap: int, seed: int) -> tuple[pa.Table, int]:
+        """The preview sample of the named columns (every column when None) and the row count."""
+        if names is None:
+            columns = [self.column(c.name, scanned=False) for c in self._columns]
+        else:
+            columns = [self.column(n, scanned=False) for n in _checked_names(names)]
+        return self.run(lambda: self._sample(columns, row_cap, seed))
+
+
+def sample_indices(rows: int, row_cap: int, seed: int) -> np.ndarray | None:
+    """Sorted row positions of a seeded random sample of ``row_cap`` rows, or None if all fit."""
+    if rows <= row_cap:
+        return None
+    rng = np.random.default_rng(seed)
+    return np.sort(rng.choice(rows, size=row_cap, replace=False))
+
+
+def _checked_names(names: Any) -> list[str]:
+    if isinstance(names, (str, bytes)) or not isinstance(names, list) or not all(isinstance(n, str) for n in names):
+        raise BridgeError("'columns' must be a list of column names.", option="columns")
+    if not names:
+        raise BridgeError("Choose at least one column.", option="columns")
+    seen: set[str] = set()
+    for name in names:
+        if name in seen:
+            raise BridgeError(f"Column {name!r} is requested twice.", column=name)
+        seen.add(name)
+    return list(names)
+
+
+def _distinct_columns(engine: ScanEngine, names: Any) -> list[ScanColumn]:
+    return [engine.column(name) for name in _checked_names(names)]
+
+
+def numpy_moments(values: np.ndarray, skewness: bool) -> tuple[float | None, float | None]:
+    """``numpy.std(x)`` and ``numpy.mean(((x - x.mean()) / s) ** 3)`` (None when s == 0)."""
+    x = np.asarray(values, dtype=np.float64)
+    if x.size == 0:
+        return None, None
+    s = float(np.std(x))
+    if not skewness or s == 0 or not math.isfinite(s):
+        return s if math.isfinite(s) else None, None
+    return s, float(np.mean(((x - x.mean()) / s) ** 3))
+
+
+def distinct_reply(column: ScanColumn, pairs: Iterable[tuple[Any, int]]) -> dict[str, list[Any]]:
+    """Distinct values ascending (numbers, −0 as 0) or by code point (text), with their counts."""
+    merged: dict[Any, int] = {}
+    for value, count in pairs:
+        key = float(value) + 0.0 if column.numeric else str(value)
+        merged[key] = merged.get(key, 0) + int(count)
+    ordered = sorted(merged)  # floats numerically; str by code point
+    return {
+        "values": [scan_double(v) if column.numeric else v for v in ordered],
+        "counts": [merged[v] for v in ordered],
+    }
+
+
+def check_edges(column: ScanColumn, edges: Any) -> list[float]:
+    """Validated bin edges: at least two, numeric, ascending, no NaN."""
+    if not isinstance(edges, list) or len(edges) < 2:
+        raise BridgeError(f"The edges of column {column.name!r} must be a list of at least 2 numbers.", column=column.name)
+    out: list[float] = []
+    for edge in edges:
+        if edge in ("Infinity", "-Infinity"):
+            edge = math.inf if edge == "Infinity" else -math.inf
+        if isinstance(edge, bool) or not isinstance(edge, (int, float)) or math.isnan(edge):
+            raise BridgeError(f"The edges of column {column.name!r} must be numbers.", column=column.name)
+        out.append(float(edge))
+    if any(b < a for a, b in zip(out, out[1:])):
+        raise BridgeError(f"The edges of column {column.name!r} must be ascending.", column=column.name)
+    return out
+
+
+def group_plan(engine: ScanEngine, keys: Any) -> list[tuple[ScanColumn, list[float] | None]]:
+    """The validated keys of a group request: each column with its edges (None: its values)."""
+    if not isinstance(keys, list) or not keys:
+        raise BridgeError("'columns' must be a non-empty list of group keys.", option="columns")
+    plan = []
+    seen: set[str] = set()
+    for key in keys:
+        if not isinstance(key, dict) or "edges" not in key:
+            raise BridgeError("Each group key must be an object with 'name' and 'edges'.", option="columns")
+        column = engine.column(key.get("name"))
+        if column.name in seen:
+            raise BridgeError(f"Column {column.name!r} is requested twice.", column=column.name)
+        seen.add(column.name)
+        edges = key["edges"]
+        if edges is not None:
+            if not column.numeric:
+                raise BridgeError(f"Column {column.name!r} holds text: it cannot be cut at edges.", column=column.name)
+            edges = check_edges(column, edges)
+        plan.append((column, edges))
+    return plan
+
+
+def group_schema(plan: Sequence[tuple[ScanColumn, list[float] | None]]) -> pa.Schema:
+    """The Arrow layout of a grouped table: k0, k1, … then weight."""
+    fields = []
+    for index, (column, edges) in enumerate(plan):
+        kind = pa.int32() if edges is not None else (pa.float64() if column.numeric else pa.string())
+        fields.append(pa.field(f"k{index}", kind, nullable=True))
+    fields.append(pa.field("weight", pa.int64(), nullable=False))
+    return pa.schema(fields)
+
+
+def conform_group_table(table: pa.Table, plan: Sequence[tuple[ScanColumn, list[float] | None]]) -> pa.Table:
+    """The engine's grouped table cast to the contract's exact types and names."""
+    schema = group_schema(plan)
+    arrays = [table.column(i).cast(schema.field(i).type) for i in range(len(schema))]
+    return pa.Table.from_arrays(arrays, schema=schema)
+
+
+def engine_message(error: BaseException) -> str:
+    """The engine's own message of a failure, at most ENGINE_MESSAGE_MAX characters."""
+    text = str(error).strip() or type(error).__name__
+    return text[:ENGINE_MESSAGE_MAX]
+
+
+def first_line(text: str) -> str:
+    """The first non-empty line of an engine message."""
+    for line in text.splitlines():
+        if line.strip():
+            return line.strip()
+    return text.strip()
+
+
+# --- DuckDB ----------------------------------------------------------------------------------
+
+
+class DuckDBScan(ScanEngine):
+    """Scans of a ``duckdb.DuckDBPyRelation`` on its own connection.
+
+    Queries run through the relation (``query``, ``select``, ``aggregate``), so they see the
+    relation's connection and tables. For cancelling, the connection is found among
+    ``connections`` (DuckDB's default one and those in the user's namespace) at the first query:
+    each is given a probe variable that the relation's connection then reads back.
+    """
+
+    name = "duckdb"
+    _VIEW = "polyadic_scanned"
+
+    def __init__(self, frame: Any, frame_name: str, connections: Callable[[], Iterable[Any]] | None = None) -> None:
+        super().__init__(frame, frame_name)
+        self._connections = connections or (lambda: ())
+        self._connection: Any = None
+        self._located = False
+
+    def version(self) -> str:
+        import duckdb
+
+        return str(duckdb.__version__)
+
+    def _engine_errors(self) -> tuple[type, ...]:
+        import duckdb
+
+        return (duckdb.Error,)
+
+    def _read_columns(self) -> list[ScanColumn]:
+        columns = []
+        for name, dtype in zip(self.frame.columns, self.frame.types):
+            type_name = str(dtype)
+            upper = type_name.upper()
+            kind = duckdb_column_kind(type_name)
+            columns.append(
+                ScanColumn(
+                    name=name,
+                    dtype=type_name,
+                    kind=kind,
+                    integer=kind == "bool" or upper in _DUCKDB_INTEGERS,
+                    wide=upper in _DUCKDB_WIDE,
+                    floating=upper in ("FLOAT", "DOUBLE"),
+                )
+            )
+        return columns
+
+    # The relation as a view named _VIEW inside one SQL text; only quoted identifiers and our
+    # own fixed words are ever written into the text.
+    def _sql(self, text: str) -> Any:
+        self._locate()
+        # A cancel that came while the connection was being found had nothing to interrupt.
+        self._check()
+        return self.frame.query(self._VIEW, text)
+
+    def _locate(self) -> None:
+        if self._located:
+            return
+        self._located = True
+        token = uuid.uuid4().hex
+        candidates = []
+        seen: set[int] = set()
+        for connection in self._connections():
+            if id(connection) in seen:
+                continue
+            seen.add(id(connection))
+            candidates.append(connection)
+        for index, connection in enumerate(candidates):
+            try:
+                connection.execute(f"SET VARIABLE polyadic_probe = '{token}-{index}'")
+            except Exception:  # noqa: BLE001 - a closed connection is simply not it
+                continue
+        try:
+            found = self.frame.query(self._VIEW, "SELECT getvariable('polyadic_probe')").fetchone()[0]
+        except Exception:  # noqa: BLE001 - then cancel cannot interrupt; the scan still works
+            found = None
+        for index, connection in enumerate(candidates):
+            if found == f"{token}-{index}":
+                self._connection = connection
+            try:
+                connection.execute("RESET VARIABLE polyadic_probe")
+            except Exception:  # noqa: BLE001
+                pass
+
+    def _interrupt(self) -> None:
+        if self._connection is not None:
+            self._connection.interrupt()
+
+    def _missing(self, column: ScanColumn) -> str:
+        ref = quote_duckdb(column.name)
+        return f"({ref} IS NULL OR isnan({ref}))" if column.floating else f"({ref} IS NULL)"
+
+    def _double(self, column: ScanColumn) -> str:
+        return f"CAST({quote_duckdb(column.name)} AS DOUBLE)"
+
+    def row_count(self) -> int:
+        return int(self._sql(f"SELECT count(*) FROM {self._VIEW}").fetchone()[0])
+
+    def _aggregate(self, columns: Sequence[ScanColumn]) -> list[ColumnAggregate]:
+        parts = []
+        for column in columns:
+            miss = self._missing(column)
+            parts.append(f"count(*) FILTER (WHERE {miss})")
+            parts.append(f"count(*) FILTER (WHERE NOT {miss})")
+            if column.numeric:
+                value = self._double(column)
+                parts.append(f"min({value}) FILTER (WHERE NOT {miss})")
+                parts.append(f"max({value}) FILTER (WHERE NOT {miss})")
+                parts.append(f"coalesce(bool_or(isinf({value})) FILTER (WHERE NOT {miss}), false)")
+                if column.wide:
+                    ref = quote_duckdb(column.name)
+                    parts.append(
+                        f"coalesce(bool_or(CAST({value} AS HUGEINT) <> CAST({ref} AS HUGEINT)), false)"
+                        if column.dtype.upper() != "UHUGEINT"
+                        else f"coalesce(bool_or(CAST({value} AS UHUGEINT) <> {ref}), false)"
+                    )
+                else:
+                    parts.append("false")
+            else:
+                parts.extend(["NULL", "NULL", "false", "false"])
+        row = self._sql(f"SELECT {', '.join(parts)} FROM {self._VIEW}").fetchone()
+        out = []
+        for i in range(len(columns)):
+            missing, count, lo, hi, inf, rounded = row[6 * i : 6 * i + 6]
+            out.append(ColumnAggregate(int(missing), int(count), lo, hi, bool(inf), bool(rounded)))
+        return out
+
+    def _value_expr(self, column: ScanColumn) -> str:
+        return self._double(column) + " + 0.0" if column.numeric else f"CAST({quote_duckdb(column.name)} AS VARCHAR)"
+
+    def _levels(self, column: ScanColumn, cap: int) -> int:
+        sql = (
+            f"SELECT count(*) FROM (SELECT DISTINCT {self._value_expr(column)} FROM {self._VIEW} "
+            f"WHERE NOT {self._missing(column)} LIMIT {int(cap)})"
+        )
+        return int(self._sql(sql).fetchone()[0])
+
+    def _first(self, column: ScanColumn, what: str) -> tuple[int, Any]:
+        # Row positions are the order the relation yields its rows: read in batches until found.
+        flag = self._missing(column) if what == "missing" else f"coalesce(isinf({self._double(column)}), false)"
+        value = self._double(column) if column.numeric else "NULL"
+        reader = self._sql(f"SELECT {flag} AS f, {value} AS v FROM {self._VIEW}").to_arrow_reader(1 << 16)
+        position = 0
+        for batch in reader:
+            self._check()
+            flags = batch.column(0)
+            hit = pc.index(flags, True).as_py()
+            if hit >= 0:
+                return position + hit, batch.column(1)[hit].as_py()
+            position += batch.num_rows
+        raise BridgeError(f"Column {column.name!r} changed while it was scanned.", column=column.name)
+
+    def _values(self, column: ScanColumn) -> np.ndarray:
+        sql = f"SELECT {self._double(column)} FROM {self._VIEW} WHERE NOT {self._missing(column)}"
+        table = self._sql(sql).to_arrow_table()
+        return table.column(0).to_numpy()
+
+    def _order_statistics(self, column: ScanColumn, ranks: Sequence[int]) -> dict[int, float]:
+        wanted = ", ".join(str(int(r)) for r in ranks)
+        value = self._double(column)
+        sql = (
+            f"SELECT r, v FROM (SELECT {value} AS v, row_number() OVER (ORDER BY {value}) - 1 AS r "
+            f"FROM {self._VIEW} WHERE NOT {self._missing(column)}) WHERE r IN ({wanted})"
+        )
+        return {int(r): float(v) for r, v in self._sql(sql).fetchall()}
+
+    def _distinct(self, column: ScanColumn) -> list[tuple[Any, int]]:
+        sql = (
+            f"SELECT {self._value_expr(column)} AS v, count(*) FROM {self._VIEW} "
+            f"WHERE NOT {self._missing(column)} GROUP BY v"
+        )
+        return [(v, int(n)) for v, n in self._sql(sql).fetchall()]
+
+    def _keyed(self, plan: Sequence[tuple[ScanColumn, list[float] | None]]) -> Any:
+        import duckdb
+        from duckdb import CaseExpression, ConstantExpression, SQLExpression
+
+        keys = []
+        for index, (column, edges) in enumerate(plan):
+            missing = SQLExpression(self._missing(column))
+            if edges is None:
+                value = SQLExpression(self._value_expr(column))
+                key = CaseExpression(missing, ConstantExpression(None)).otherwise(value)
+            else:
+                x = SQLExpression(self._double(column))
+                bins = len(edges) - 1
+                # numpy.histogram's rule: the highest j with edges[j] <= x; x == edges[-1] in the
+                # last bin; outside [edges[0], edges[-1]] → -1. Edges are double constants.
+                key = CaseExpression(missing, ConstantExpression(None)).when(
+                    (x < ConstantExpression(edges[0])) | (x > ConstantExpression(edges[-1])),
+                    ConstantExpression(-1),
+                )
+                for j in range(bins - 1, 0, -1):
+                    key = key.when(x >= ConstantExpression(edges[j]), ConstantExpression(j))
+                key = key.otherwise(ConstantExpression(0))
+                key = key.cast(duckdb.sqltype("INTEGER"))
+            keys.append(key.alias(f"k{index}"))
+        self._locate()
+        self._check()
+        return self.frame.select(*keys)
+
+    def _group(self, plan, limit: int) -> tuple[pa.Table, int]:
+        names = ", ".join(f"k{i}" for i in range(len(plan)))
+        keyed = self._keyed(plan)
+        grouped = keyed.aggregate(f"{names}, CAST(count(*) AS BIGINT) AS weight", names)
+        table = grouped.limit(int(limit) + 1).to_arrow_table()
+        rows = int(pc.sum(table.column("weight")).as_py() or 0) if table.num_rows <= limit else -1
+        if rows < 0:
+            rows = self.row_count()
+        return table, rows
+
+    def _count_groups(self, plan) -> int:
+        names = ", ".join(f"k{i}" for i in range(len(plan)))
+        return int(self._keyed(plan).aggregate("count(*) AS n", names).aggregate("count(*)").fetchone()[0])
+
+    def _sample(self, columns: Sequence[ScanColumn], row_cap: int, seed: int) -> tuple[pa.Table, int]:
+        rows = self.row_count()
+        picks = sample_indices(rows, row_cap, seed)
+        select = ", ".join(quote_duckdb(c.name) for c in columns)
+        reader = self._sql(f"SELECT {select} FROM {self._VIEW}").to_arrow_reader(1 << 16)
+        if picks is None:
+            table = pa.Table.from_batches(list(reader), schema=reader.schema)
+            return table, rows
+        taken = []
+        start = 0
+        for batch in reader:
+            self._check()
+            end = start + batch.num_rows
+            lo, hi = np.searchsorted(picks, [start, end])
+            if hi > lo:
+                taken.append(batch.take(pa.array(picks[lo:hi] - start)))
+            start = end
+        return pa.Table.from_batches(taken, schema=reader.schema), rows
+
+
+# --- Spark -----------------------------------------------------------------------------------
+
+
+class SparkScan(ScanEngine):
+    """Scans of a PySpark DataFrame on the user's own SparkSession.
+
+    Every job of a scan runs in the job group ``polyadic-<uuid>``, set on the scan's thread with
+    ``interruptOnCancel=True``, so cancel stops it with ``cancelJobGroup``.
+    """
+
+    name = "spark"
+
+    def __init__(self, frame: Any, frame_name: str) -> None:
+        super().__init__(frame, frame_name)
+        self.job_group = f"polyadic-{uuid.uuid4().hex}"
+        self._partition_offsets: list[int] | None = None
+
+    def version(self) -> str:
+        return str(self.frame.sparkSession.version)
+
+    def _engine_errors(self) -> tuple[type, ...]:
+        errors: list[type] = []
+        try:
+            from pyspark.errors import PySparkException
+
+            errors.append(PySparkException)
+        except ImportError:  # pragma: no cover - older PySpark
+            pass
+        try:
+            from py4j.protocol import Py4JError
+
+            errors.append(Py4JError)
+        except ImportError:  # pragma: no cover - Spark Connect without py4j
+            pass
+        return tuple(errors) or (Exception,)
+
+    def _read_columns(self) -> list[ScanColumn]:
+        from pyspark.sql import types as T
+
+        columns = []
+        for field in self.frame.schema.fields:
+            kind = spark_column_kind(field.dataType)
+            integer_types = (T.ByteType, T.ShortType, T.IntegerType, T.LongType)
+            columns.append(
+                ScanColumn(
+                    name=field.name,
+                    dtype=field.dataType.simpleString(),
+                    kind=kind,
+                    integer=kind == "bool" or isinstance(field.dataType, integer_types),
+                    wide=isinstance(field.dataType, T.LongType),
+                    floating=isinstance(field.dataType, (T.FloatType, T.DoubleType)),
+                )
+            )
+        return columns
+
+    def _context(self) -> Any:
+        try:
+            return self.frame.sparkSession.sparkContext
+        except Exception:  # noqa: BLE001 - Spark Connect has no SparkContext
+            return None
+
+    def run(self, step: Callable[[], Any]) -> Any:
+        context = self._context()
+        if context is not None:
+            context.setJobGroup(self.job_group, f"Polyadic scan of {self.frame_name}", interruptOnCancel=True)
+        return super().run(step)
+
+    def _interrupt(self) -> None:
+        context = self._context()
+        if context is not None:
+            context.cancelJobGroup(self.job_group)
+
+    def _col(self, column: ScanColumn) -> Any:
+        from pyspark.sql import functions as F
+
+        return F.col(quote_spark(column.name))
+
+    def _missing(self, column: ScanColumn) -> Any:
+        from pyspark.sql import functions as F
+
+        ref = self._col(column)
+        return (ref.isNull() | F.isnan(ref)) if column.floating else ref.isNull()
+
+    def _double(self, column: ScanColumn) -> Any:
+        return self._col(column).cast("double")
+
+    def _value(self, column: ScanColumn) -> Any:
+        from pyspark.sql import functions as F
+
+        return self._double(column) + F.lit(0.0) if column.numeric else self._col(column).cast("string")
+
+    def row_count(self) -> int:
+        return int(self.frame.count())
+
+    def _aggregate(self, columns: Sequence[ScanColumn]) -> list[ColumnAggregate]:
+        from pyspark.sql import functions as F
+
+        exprs = []
+        for column in columns:
+            miss = self._missing(column)
+            exprs.append(F.count(F.when(miss, 1)))
+            exprs.append(F.count(F.when(~miss, 1)))
+            if column.numeric:
+                value = F.when(~miss, self._double(column))
+                exprs.append(F.min(value))
+                exprs.append(F.max(value))
+                inf = F.when(~miss, F.abs(self._double(column)) == F.lit(math.inf))
+                exprs.append(F.coalesce(F.max(inf), F.lit(False)))
+                if column.wide:
+                    back = self._double(column).cast("decimal(38,0)") != self._col(column).cast("decimal(38,0)")
+                    exprs.append(F.coalesce(F.max(back), F.lit(False)))
+                else:
+                    exprs.append(F.lit(False))
+            else:
+                exprs.extend([F.lit(None), F.lit(None), F.lit(False), F.lit(False)])
+        row = self.frame.agg(*exprs).collect()[0]
+        out = []
+        for i in range(len(columns)):
+            missing, count, lo, hi, inf, rounded = tuple(row)[6 * i : 6 * i + 6]
+            out.append(ColumnAggregate(int(missing), int(count), lo, hi, bool(inf), bool(rounded)))
+        return out
+
+    def _levels(self, column: ScanColumn, cap: int) -> int:
+        values = self.frame.where(~self._missing(column)).select(self._value(column).alias("v"))
+        return int(values.distinct().limit(int(cap)).count())
+
+    def _offsets(self) -> list[int]:
+        """Rows before each partition: monotonically_increasing_id() puts the partition in its
+        upper 31 bits and the row within the partition in its lower 33 bits."""
+        if self._partition_offsets is None:
+            from pyspark.sql import functions as F
+
+            counts = dict(
+                (int(p), int(n))
+                for p, n in self.frame.groupBy(F.spark_partition_id().alias("p")).count().collect()
+            )
+            offsets = []
+            total = 0
+            for p in range(max(counts) + 1 if counts else 0):
+                offsets.append(total)
+                total += counts.get(p, 0)
+            self._partition_offsets = offsets
+        return self._partition_offsets
+
+    def _position(self, row_id: int) -> int:
+        partition, within = row_id >> 33, row_id & ((1 << 33) - 1)
+        return self._offsets()[partition] + within
+
+    def _first(self, column: ScanColumn, what: str) -> tuple[int, Any]:
+        from pyspark.sql import functions as F
+
+        if what == "missing":
+            flag = self._missing(column)
+        else:
+            flag = F.coalesce(F.abs(self._double(column)) == F.lit(math.inf), F.lit(False))
+        value = self._double(column) if column.numeric else F.lit(None)
+        hit = (
+            self.frame.select(F.monotonically_increasing_id().alias("i"), flag.alias("f"), value.alias("v"))
+            .where(F.col("f"))
+            .orderBy("i")
+            .limit(1)
+            .collect()
+        )
+        if not hit:
+            raise BridgeError(f"Column {column.name!r} changed while it was scanned.", column=column.name)
+        return self._position(int(hit[0]["i"])), hit[0]["v"]
+
+    def _values(self, column: ScanColumn) -> np.ndarray:
+        table = self.frame.where(~self._missing(column)).select(self._double(column).alias("v")).toArrow()
+        return table.column(0).to_numpy()
+
+    def _order_statistics(self, column: ScanColumn, ranks: Sequence[int]) -> dict[int, float]:
+        # An exact distributed sort, then the wanted ranks by position (no approximate percentile).
+        wanted = frozenset(int(r) for r in ranks)
+        ordered = self.frame.where(~self._missing(column)).select(self._double(column).alias("v")).orderBy("v")
+        found = ordered.rdd.zipWithIndex().filter(lambda pair: pair[1] in wanted).collect()
+        return {int(index): float(row[0]) for row, index in found}
+
+    def _distinct(self, column: ScanColumn) -> list[tuple[Any, int]]:
+        grouped = self.frame.where(~self._missing(column)).groupBy(self._value(column).alias("v")).count()
+        return [(row["v"], int(row["count"])) for row in grouped.collect()]
+
+    def _keyed(self, plan) -> Any:
+        from pyspark.sql import functions as F
+
+        keys = []
+        for index, (column, edges) in enumerate(plan):
+            missing = self._missing(column)
+            if edges is None:
+                key = F.when(missing, F.lit(None)).otherwise(self._value(column))
+            else:
+                x = self._double(column)
+                key = F.when(missing, F.lit(None).cast("int")).when(
+                    (x < F.lit(edges[0])) | (x > F.lit(edges[-1])), F.lit(-1)
+                )
+                for j in range(len(edges) - 2, 0, -1):
+                    key = key.when(x >= F.lit(edges[j]), F.lit(j))
+                key = key.otherwise(F.lit(0)).cast("int")
+            keys.append(key.alias(f"k{index}"))
+        return self.frame.select(*keys)
+
+    def _group(self, plan, limit: int) -> tuple[pa.Table, int]:
+        from pyspark.sql import functions as F
+
+        names = [f"k{i}" for i in range(len(plan))]
+        grouped = self._keyed(plan).groupBy(*names).agg(F.count(F.lit(1)).cast("long").alias("weight"))
+        table = grouped.limit(int(limit) + 1).toArrow()
+        rows = int(pc.sum(table.column("weight")).as_py() or 0) if table.num_rows <= limit else self.row_count()
+        return table, rows
+
+    def _count_groups(self, plan) -> int:
+        names = [f"k{i}" for i in range(len(plan))]
+        return int(self._keyed(plan).select(*names).distinct().count())
+
+    def _sample(self, columns: Sequence[ScanColumn], row_cap: int, seed: int) -> tuple[pa.Table, int]:
+        from pyspark.sql import functions as F
+
+        rows = self.row_count()
+        picked = [self._col(c).alias(c.name) for c in columns]
+        if rows <= row_cap:
+            return self.frame.select(*picked).toArrow(), rows
+        # The row_cap rows with the smallest seeded hash of their row id, back in row order:
+        # the same rows for the same frame (same partitions) and seed.
+        ids = self.frame.select(F.monotonically_increasing_id().alias("__polyadic_row"), *picked)
+        chosen = ids.orderBy(F.xxhash64(F.lit(int(seed)), F.col("__polyadic_row")), F.col("__polyadic_row")).limit(row_cap)
+        table = chosen.orderBy("__polyadic_row").toArrow()
+        return table.drop_columns(["__polyadic_row"]), rows
+
+
+def scan_engine(frame: Any, frame_name: str, connections: Callable[[], Iterable[Any]] | None = None) -> ScanEngine:
+    """The scan engine of a scanned frame; BridgeError for any other object."""
+    relation = duckdb_relation_type()
+    if relation is not None and isinstance(frame, relation):
+        return DuckDBScan(frame, frame_name, connections)
+    spark_types = spark_dataframe_types()
+    if spark_types and isinstance(frame, spark_types):
+        return SparkScan(frame, frame_name)
+    raise BridgeError(
+        f"{frame_name!r} is not a scanned frame (a DuckDB relation or a Spark DataFrame).", frame=frame_name
+    )
+
+
+def duckdb_connections(namespace: Mapping[str, Any]) -> list[Any]:
+    """DuckDB's default connection and every DuckDB connection in ``namespace``."""
+    duckdb = sys.modules.get("duckdb")
+    if duckdb is None:
+        return []
+    found = []
+    default = getattr(duckdb, "default_connection", None)
+    if callable(default):
+        try:
+            found.append(default())
+        except Exception:  # noqa: BLE001
+            pass
+    kind = getattr(duckdb, "DuckDBPyConnection", None)
+    if kind is not None:
+        found.extend(v for v in list(namespace.values()) if isinstance(v, kind))
+    return found
