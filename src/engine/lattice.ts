@@ -32,6 +32,7 @@ import {
   sumCountLogCount
 } from './estimators';
 import { PolyadicError } from './errors';
+import { denseCells, denseCost, fillDense, forEachDenseSubset, walkOrderPositions } from './marginals';
 import {
   checkMultipletCount,
   createIndexing,
@@ -64,6 +65,13 @@ export interface ILatticeInput {
   /** The two shortcuts, both on by default; tests turn them off to compare. */
   dropSingletons?: boolean;
   fillDistinct?: boolean;
+  /**
+   * A subtree is counted through dense tables (marginals.ts) when that costs at most
+   * 1/denseMargin of one pass over its active rows per multiplet (default 4: the passes often
+   * touch fewer rows as rows drop out); tests set 0 (whenever the table fits) and Infinity (never)
+   * to compare.
+   */
+  denseMargin?: number;
 }
 
 /** Joint entropies of every multiplet up to the maximum order. */
@@ -243,6 +251,9 @@ export function jointEntropyOfCodes(
   };
 }
 
+/** Default of ILatticeInput.denseMargin. */
+const DENSE_MARGIN = 4;
+
 /** Codes as the walk reads them. */
 type CodeArray = Uint8Array | Uint16Array | Int32Array;
 
@@ -269,6 +280,7 @@ interface IPrepared {
   estimator: EstimatorName;
   dropSingletons: boolean;
   fillDistinct: boolean;
+  denseMargin: number;
 }
 
 function prepareInput(input: ILatticeInput): IPrepared {
@@ -342,7 +354,8 @@ function prepareInput(input: ILatticeInput): IPrepared {
     bins: input.bins,
     estimator: input.estimator,
     dropSingletons: input.dropSingletons ?? true,
-    fillDistinct: input.fillDistinct ?? true
+    fillDistinct: input.fillDistinct ?? true,
+    denseMargin: input.denseMargin ?? DENSE_MARGIN
   };
 }
 
@@ -833,6 +846,9 @@ namespace Private {
     private _visit(level: number, column: number): void {
       const next = this._count(level, column, true);
       if (next === Below.walk) {
+        if (this._denseSubtree(level, column)) {
+          return;
+        }
         for (let child = column + 1; child < this._p.n; child++) {
           this._visit(level + 1, child);
         }
@@ -1108,8 +1124,84 @@ namespace Private {
       this._occupied[position] = occupied;
     }
 
-    /** Estimate the entropy of the node just counted and write it at the next position. */
-    private _record(blocks: number, dropped: number, singletons: number, sum: number, possible: number): void {
+    /**
+     * Walk the subtree below the node just counted (level, column) through dense count tables
+     * (see marginals.ts) when its cells are few beside its active rows and that costs less than
+     * a pass over the rows per multiplet; returns whether it did. The counts are the walk's
+     * exactly, so the values are too.
+     */
+    private _denseSubtree(level: number, column: number): boolean {
+      const p = this._p;
+      if (p.weights !== null || p.denseMargin === Infinity) {
+        return false;
+      }
+      const from = column + 1;
+      const later = p.n - from;
+      const limit = p.m - level;
+      const labels = this._labelCount[level];
+      const rows = this._activeCount[level];
+      const cells = denseCells(labels, p.used, from);
+      if (cells === Infinity) {
+        return false;
+      }
+      const below = subsetsUpTo(p.indexing, later, limit) - 1;
+      if (p.denseMargin * denseCost(rows, labels, p.used, from) > below * rows) {
+        return false;
+      }
+      if (this._denseTable.length < cells) {
+        this._denseTable = new Int32Array(cells);
+      }
+      fillDense(this._view[level], this._labels[level], rows, p.dense, p.used, from, cells, this._denseTable);
+      const key = later * 64 + limit;
+      let positions = this._denseOrder.get(key);
+      if (positions === undefined) {
+        positions = walkOrderPositions(later, limit);
+        this._denseOrder.set(key, positions);
+      }
+      const order = positions;
+      const base = this._position;
+      const dropped = this._dropped[level];
+      const possibleAbove = this._possible[level];
+      const { parts, single } = this._tables;
+      const counts = this._needsCounts ? this._counts : null;
+      forEachDenseSubset(this._denseTable, labels, p.used.slice(from), this._denseScratch, (mask, table, size) => {
+        const at = order[mask];
+        if (at < 0) {
+          return;
+        }
+        let possible = possibleAbove;
+        for (let c = 0; c < later; c++) {
+          if (mask & (1 << c)) {
+            possible *= p.bins[from + c];
+          }
+        }
+        let blocks = 0;
+        let singletons = 0;
+        let hi = 0;
+        let mid = 0;
+        let lo = 0;
+        for (let cell = 0; cell < size; cell++) {
+          const count = table[cell];
+          if (count === 0) {
+            continue;
+          }
+          if (counts !== null) {
+            counts[blocks] = count;
+          }
+          blocks++;
+          singletons += single[count];
+          hi += parts[3 * count];
+          mid += parts[3 * count + 1];
+          lo += parts[3 * count + 2];
+        }
+        this._record(blocks, dropped, singletons, joinParts(hi, mid, lo), possible, base + at);
+      });
+      this._position = base + below;
+      return true;
+    }
+
+    /** Estimate the entropy of the node just counted and write it at position `at` (default: the next). */
+    private _record(blocks: number, dropped: number, singletons: number, sum: number, possible: number, at = -1): void {
       const summary = this._summary;
       summary.occupied = blocks + dropped;
       summary.singletons = singletons + dropped;
@@ -1118,7 +1210,7 @@ namespace Private {
       const cells = this._cells;
       cells.length = blocks;
       cells.extraSingletons = dropped;
-      const position = this._position++;
+      const position = at < 0 ? this._position++ : at;
       this._entropy[position] = entropyNats(this._p.estimator, summary, cells);
       this._occupied[position] = blocks + dropped;
     }
@@ -1205,6 +1297,10 @@ namespace Private {
     }
 
     private _p: IPrepared;
+    /** The dense table of a subtree walked by {@link _denseSubtree}, its subsets' tables by depth, and walk-order positions by (later columns, order left). */
+    private _denseTable = new Int32Array(0);
+    private _denseScratch: Int32Array[] = [];
+    private _denseOrder = new Map<number, Int32Array>();
     private _tables: ICountTables;
     /** Weighted rows: parts of n·ln n up to _partsMax (larger counts are computed), scratch for one. */
     private _weightParts: Float64Array = new Float64Array(0);
