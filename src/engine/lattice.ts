@@ -566,6 +566,60 @@ function tallyByKey(
   return met;
 }
 
+/** Leaves counted together in one pass ({@link tallyFour}). */
+const LEAF_GROUP = 4;
+
+/** Largest key range of a leaf counted with others, and the rows per key it needs at least. */
+const LEAF_RANGE = 4096;
+const LEAF_ROWS_PER_KEY = 4;
+
+/**
+ * Tally four leaves at once, the children of one node with columns c … c + 3: one pass over the
+ * node's active rows (`identity`: rows 0 … count − 1 in order, read without the row index) reads
+ * each row's label once and adds 1 at label × K + code in each child's region of `tallies`
+ * (LEAF_RANGE keys apart).
+ */
+function tallyFour(
+  active: Int32Array,
+  identity: boolean,
+  labels: Int32Array,
+  count: number,
+  codes: readonly CodeArray[],
+  used: readonly number[],
+  c: number,
+  tallies: Int32Array
+): void {
+  const code0 = codes[c];
+  const code1 = codes[c + 1];
+  const code2 = codes[c + 2];
+  const code3 = codes[c + 3];
+  const K0 = used[c];
+  const K1 = used[c + 1];
+  const K2 = used[c + 2];
+  const K3 = used[c + 3];
+  const at1 = LEAF_RANGE;
+  const at2 = 2 * LEAF_RANGE;
+  const at3 = 3 * LEAF_RANGE;
+  if (identity) {
+    for (let q = 0; q < count; q++) {
+      const label = labels[q];
+      tallies[label * K0 + code0[q]]++;
+      tallies[at1 + label * K1 + code1[q]]++;
+      tallies[at2 + label * K2 + code2[q]]++;
+      tallies[at3 + label * K3 + code3[q]]++;
+    }
+    return;
+  }
+  for (let q = 0; q < count; q++) {
+    const label = labels[q];
+    const row = active[q];
+    tallies[label * K0 + code0[row]]++;
+    tallies[at1 + label * K1 + code1[row]]++;
+    tallies[at2 + label * K2 + code2[row]]++;
+    tallies[at3 + label * K3 + code3[row]]++;
+  }
+}
+
 /** Largest key range tallied by {@link tallySmall}. */
 const SMALL_RANGE = 1024;
 
@@ -849,7 +903,11 @@ namespace Private {
         if (this._denseSubtree(level, column)) {
           return;
         }
-        for (let child = column + 1; child < this._p.n; child++) {
+        let child = column + 1;
+        if (level + 1 === this._p.m) {
+          child = this._countLeaves(level, child);
+        }
+        for (; child < this._p.n; child++) {
           this._visit(level + 1, child);
         }
       } else if (next === Below.fill) {
@@ -1200,6 +1258,65 @@ namespace Private {
       return true;
     }
 
+    /**
+     * The children of the node at `parent` are leaves (at the order limit): count them four at
+     * a time, in one pass over the node's active rows each four, when every child's key range
+     * (labels × K) is small beside the rows; the cells of each are read off its tally in key
+     * order (Σ n·ln n and the estimators do not depend on the cells' order). Returns the first
+     * child column left to count one by one.
+     */
+    private _countLeaves(parent: number, from: number): number {
+      const p = this._p;
+      const rows = this._activeCount[parent];
+      const labels = this._labelCount[parent];
+      if (p.weights !== null || p.n - from < LEAF_GROUP) {
+        return from;
+      }
+      for (let c = from; c < p.n; c++) {
+        const range = labels * p.used[c];
+        if (range > LEAF_RANGE || LEAF_ROWS_PER_KEY * range > rows) {
+          return from;
+        }
+      }
+      const active = this._view[parent];
+      const parentLabels = this._labels[parent];
+      const identity = active === this._active[0];
+      const tallies = this._leafTallies;
+      const { parts, single } = this._tables;
+      const counts = this._needsCounts ? this._counts : null;
+      const dropped = this._dropped[parent];
+      let c = from;
+      for (; c + LEAF_GROUP <= p.n; c += LEAF_GROUP) {
+        tallyFour(active, identity, parentLabels, rows, p.dense, p.used, c, tallies);
+        for (let g = 0; g < LEAF_GROUP; g++) {
+          const range = labels * p.used[c + g];
+          const base = g * LEAF_RANGE;
+          let blocks = 0;
+          let singletons = 0;
+          let hi = 0;
+          let mid = 0;
+          let lo = 0;
+          for (let key = base; key < base + range; key++) {
+            const count = tallies[key];
+            if (count === 0) {
+              continue;
+            }
+            tallies[key] = 0;
+            if (counts !== null) {
+              counts[blocks] = count;
+            }
+            blocks++;
+            singletons += single[count];
+            hi += parts[3 * count];
+            mid += parts[3 * count + 1];
+            lo += parts[3 * count + 2];
+          }
+          this._record(blocks, dropped, singletons, joinParts(hi, mid, lo), this._possible[parent] * p.bins[c + g]);
+        }
+      }
+      return c;
+    }
+
     /** Estimate the entropy of the node just counted and write it at position `at` (default: the next). */
     private _record(blocks: number, dropped: number, singletons: number, sum: number, possible: number, at = -1): void {
       const summary = this._summary;
@@ -1297,6 +1414,8 @@ namespace Private {
     }
 
     private _p: IPrepared;
+    /** Tallies of {@link _countLeaves}: LEAF_GROUP regions of LEAF_RANGE keys, all zero between uses. */
+    private _leafTallies = new Int32Array(LEAF_GROUP * LEAF_RANGE);
     /** The dense table of a subtree walked by {@link _denseSubtree}, its subsets' tables by depth, and walk-order positions by (later columns, order left). */
     private _denseTable = new Int32Array(0);
     private _denseScratch: Int32Array[] = [];

@@ -211,6 +211,32 @@ describe('lattice', () => {
       }
     });
 
+    it('should count the leaves at the order limit four at a time as one by one', () => {
+      // 9 columns, 2,000 rows: {a, b} has up to 7 leaf children of 2 … 4 codes, counted in
+      // groups of four (the rest one by one); column 0 leaves some rows alone, so below it the
+      // active rows are a subset (read through their row numbers), above it all rows in order.
+      const rows = 2000;
+      const codes = [Int32Array.from({ length: rows }, (_, i) => (i >= 400 ? i % 8 : 8 + i))];
+      const bins = [rows + 8];
+      for (let j = 1; j < 9; j++) {
+        const K = 2 + (j % 3);
+        codes.push(Int32Array.from({ length: rows }, (_, i) => ((i * (j + 3) + (i >> j)) ^ (i >> 3)) % K));
+        bins.push(K);
+      }
+      for (const maxOrder of [2, 3]) {
+        for (const estimator of ESTIMATORS) {
+          const lattice = computeLattice({ codes, bins, maxOrder, estimator });
+          const slices = walkSubtree({ codes, bins, maxOrder, estimator }, 0, [1, 8]);
+          for (const members of subsetsOf(9, maxOrder)) {
+            const index = indexOfColumns(lattice.indexing, members);
+            expect(lattice.entropy[index]).toBeCloseTo(naive(codes, bins, members, estimator), 11);
+            expect(lattice.occupied[index]).toBe(naiveCounts(codes, members).length);
+          }
+          expect(Array.from(slices.entropy)).toEqual(Array.from(walkSubtree({ codes, bins, maxOrder, estimator }, 0).entropy));
+        }
+      }
+    });
+
     it('should refuse a lattice above the multiplet cap', () => {
       const codes = Array.from({ length: 40 }, () => new Int32Array(3));
       expectPolyadic(
