@@ -1198,6 +1198,10 @@ namespace Private {
       const limit = p.m - level;
       const labels = this._labelCount[level];
       const rows = this._activeCount[level];
+      // denseCost ≥ 2 · labels · 2^later > 2 · labels · below: a cheap refusal of most nodes
+      if (p.denseMargin > 0 && 2 * p.denseMargin * labels >= rows) {
+        return false;
+      }
       const cells = denseCells(labels, p.used, from);
       if (cells === Infinity) {
         return false;
