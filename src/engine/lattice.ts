@@ -748,6 +748,47 @@ function scanKeys(
   return next;
 }
 
+/**
+ * Occupied cells, singletons and Σ n·ln n of the counts table[from … to − 1] into `stats`, the
+ * non-zero counts into `counts` when given; `clear` zeroes the table as it goes.
+ */
+function scanTable(
+  table: Int32Array,
+  from: number,
+  to: number,
+  clear: boolean,
+  tables: ICountTables,
+  stats: Float64Array,
+  counts: Int32Array | null
+): void {
+  const { parts, single } = tables;
+  let blocks = 0;
+  let singletons = 0;
+  let hi = 0;
+  let mid = 0;
+  let lo = 0;
+  for (let key = from; key < to; key++) {
+    const count = table[key];
+    if (count === 0) {
+      continue;
+    }
+    if (clear) {
+      table[key] = 0;
+    }
+    if (counts !== null) {
+      counts[blocks] = count;
+    }
+    blocks++;
+    singletons += single[count];
+    hi += parts[3 * count];
+    mid += parts[3 * count + 1];
+    lo += parts[3 * count + 2];
+  }
+  stats[0] = blocks;
+  stats[1] = singletons;
+  stats[2] = joinParts(hi, mid, lo);
+}
+
 /** Lookup tables indexed by a cell count 0 … rows. */
 interface ICountTables {
   /** The three exact parts of n·ln n (0 for n ≤ 1) at 3n, 3n + 1, 3n + 2 (see countLogCountParts). */
@@ -1224,7 +1265,7 @@ namespace Private {
       const base = this._position;
       const dropped = this._dropped[level];
       const possibleAbove = this._possible[level];
-      const { parts, single } = this._tables;
+      const stats = this._stats;
       const counts = this._needsCounts ? this._counts : null;
       forEachDenseSubset(this._denseTable, labels, p.used.slice(from), this._denseScratch, (mask, table, size) => {
         const at = order[mask];
@@ -1237,26 +1278,8 @@ namespace Private {
             possible *= p.bins[from + c];
           }
         }
-        let blocks = 0;
-        let singletons = 0;
-        let hi = 0;
-        let mid = 0;
-        let lo = 0;
-        for (let cell = 0; cell < size; cell++) {
-          const count = table[cell];
-          if (count === 0) {
-            continue;
-          }
-          if (counts !== null) {
-            counts[blocks] = count;
-          }
-          blocks++;
-          singletons += single[count];
-          hi += parts[3 * count];
-          mid += parts[3 * count + 1];
-          lo += parts[3 * count + 2];
-        }
-        this._record(blocks, dropped, singletons, joinParts(hi, mid, lo), possible, base + at);
+        scanTable(table, 0, size, false, this._tables, stats, counts);
+        this._record(stats[0], dropped, stats[1], stats[2], possible, base + at);
       });
       this._position = base + below;
       return true;
@@ -1286,7 +1309,6 @@ namespace Private {
       const parentLabels = this._labels[parent];
       const identity = active === this._active[0];
       const tallies = this._leafTallies;
-      const { parts, single } = this._tables;
       const counts = this._needsCounts ? this._counts : null;
       const dropped = this._dropped[parent];
       let c = from;
@@ -1295,27 +1317,8 @@ namespace Private {
         for (let g = 0; g < LEAF_GROUP; g++) {
           const range = labels * p.used[c + g];
           const base = g * LEAF_RANGE;
-          let blocks = 0;
-          let singletons = 0;
-          let hi = 0;
-          let mid = 0;
-          let lo = 0;
-          for (let key = base; key < base + range; key++) {
-            const count = tallies[key];
-            if (count === 0) {
-              continue;
-            }
-            tallies[key] = 0;
-            if (counts !== null) {
-              counts[blocks] = count;
-            }
-            blocks++;
-            singletons += single[count];
-            hi += parts[3 * count];
-            mid += parts[3 * count + 1];
-            lo += parts[3 * count + 2];
-          }
-          this._record(blocks, dropped, singletons, joinParts(hi, mid, lo), this._possible[parent] * p.bins[c + g]);
+          scanTable(tallies, base, base + range, true, this._tables, this._stats, counts);
+          this._record(this._stats[0], dropped, this._stats[1], this._stats[2], this._possible[parent] * p.bins[c + g]);
         }
       }
       return c;
