@@ -32,6 +32,7 @@ import {
   sumCountLogCount
 } from './estimators';
 import { PolyadicError } from './errors';
+import { denseCells, denseCost, fillDense, forEachDenseSubset, walkOrderPositions } from './marginals';
 import {
   checkMultipletCount,
   createIndexing,
@@ -64,6 +65,13 @@ export interface ILatticeInput {
   /** The two shortcuts, both on by default; tests turn them off to compare. */
   dropSingletons?: boolean;
   fillDistinct?: boolean;
+  /**
+   * A subtree is counted through dense tables (marginals.ts) when that costs at most
+   * 1/denseMargin of one pass over its active rows per multiplet (default 4: the passes often
+   * touch fewer rows as rows drop out); tests set 0 (whenever the table fits) and Infinity (never)
+   * to compare.
+   */
+  denseMargin?: number;
 }
 
 /** Joint entropies of every multiplet up to the maximum order. */
@@ -243,6 +251,9 @@ export function jointEntropyOfCodes(
   };
 }
 
+/** Default of ILatticeInput.denseMargin. */
+const DENSE_MARGIN = 4;
+
 /** Codes as the walk reads them. */
 type CodeArray = Uint8Array | Uint16Array | Int32Array;
 
@@ -269,6 +280,7 @@ interface IPrepared {
   estimator: EstimatorName;
   dropSingletons: boolean;
   fillDistinct: boolean;
+  denseMargin: number;
 }
 
 function prepareInput(input: ILatticeInput): IPrepared {
@@ -342,7 +354,8 @@ function prepareInput(input: ILatticeInput): IPrepared {
     bins: input.bins,
     estimator: input.estimator,
     dropSingletons: input.dropSingletons ?? true,
-    fillDistinct: input.fillDistinct ?? true
+    fillDistinct: input.fillDistinct ?? true,
+    denseMargin: input.denseMargin ?? DENSE_MARGIN
   };
 }
 
@@ -553,6 +566,60 @@ function tallyByKey(
   return met;
 }
 
+/** Leaves counted together in one pass ({@link tallyFour}). */
+const LEAF_GROUP = 4;
+
+/** Largest key range of a leaf counted with others, and the rows per key it needs at least. */
+const LEAF_RANGE = 4096;
+const LEAF_ROWS_PER_KEY = 4;
+
+/**
+ * Tally four leaves at once, the children of one node with columns c … c + 3: one pass over the
+ * node's active rows (`identity`: rows 0 … count − 1 in order, read without the row index) reads
+ * each row's label once and adds 1 at label × K + code in each child's region of `tallies`
+ * (LEAF_RANGE keys apart).
+ */
+function tallyFour(
+  active: Int32Array,
+  identity: boolean,
+  labels: Int32Array,
+  count: number,
+  codes: readonly CodeArray[],
+  used: readonly number[],
+  c: number,
+  tallies: Int32Array
+): void {
+  const code0 = codes[c];
+  const code1 = codes[c + 1];
+  const code2 = codes[c + 2];
+  const code3 = codes[c + 3];
+  const K0 = used[c];
+  const K1 = used[c + 1];
+  const K2 = used[c + 2];
+  const K3 = used[c + 3];
+  const at1 = LEAF_RANGE;
+  const at2 = 2 * LEAF_RANGE;
+  const at3 = 3 * LEAF_RANGE;
+  if (identity) {
+    for (let q = 0; q < count; q++) {
+      const label = labels[q];
+      tallies[label * K0 + code0[q]]++;
+      tallies[at1 + label * K1 + code1[q]]++;
+      tallies[at2 + label * K2 + code2[q]]++;
+      tallies[at3 + label * K3 + code3[q]]++;
+    }
+    return;
+  }
+  for (let q = 0; q < count; q++) {
+    const label = labels[q];
+    const row = active[q];
+    tallies[label * K0 + code0[row]]++;
+    tallies[at1 + label * K1 + code1[row]]++;
+    tallies[at2 + label * K2 + code2[row]]++;
+    tallies[at3 + label * K3 + code3[row]]++;
+  }
+}
+
 /** Largest key range tallied by {@link tallySmall}. */
 const SMALL_RANGE = 1024;
 
@@ -679,6 +746,47 @@ function scanKeys(
   stats[1] = singletons;
   stats[2] = joinParts(hi, mid, lo);
   return next;
+}
+
+/**
+ * Occupied cells, singletons and Σ n·ln n of the counts table[from … to − 1] into `stats`, the
+ * non-zero counts into `counts` when given; `clear` zeroes the table as it goes.
+ */
+function scanTable(
+  table: Int32Array,
+  from: number,
+  to: number,
+  clear: boolean,
+  tables: ICountTables,
+  stats: Float64Array,
+  counts: Int32Array | null
+): void {
+  const { parts, single } = tables;
+  let blocks = 0;
+  let singletons = 0;
+  let hi = 0;
+  let mid = 0;
+  let lo = 0;
+  for (let key = from; key < to; key++) {
+    const count = table[key];
+    if (count === 0) {
+      continue;
+    }
+    if (clear) {
+      table[key] = 0;
+    }
+    if (counts !== null) {
+      counts[blocks] = count;
+    }
+    blocks++;
+    singletons += single[count];
+    hi += parts[3 * count];
+    mid += parts[3 * count + 1];
+    lo += parts[3 * count + 2];
+  }
+  stats[0] = blocks;
+  stats[1] = singletons;
+  stats[2] = joinParts(hi, mid, lo);
 }
 
 /** Lookup tables indexed by a cell count 0 … rows. */
@@ -833,7 +941,14 @@ namespace Private {
     private _visit(level: number, column: number): void {
       const next = this._count(level, column, true);
       if (next === Below.walk) {
-        for (let child = column + 1; child < this._p.n; child++) {
+        if (this._denseSubtree(level, column)) {
+          return;
+        }
+        let child = column + 1;
+        if (level + 1 === this._p.m) {
+          child = this._countLeaves(level, child);
+        }
+        for (; child < this._p.n; child++) {
           this._visit(level + 1, child);
         }
       } else if (next === Below.fill) {
@@ -1160,8 +1275,109 @@ namespace Private {
       this._occupied[position] = occupied;
     }
 
-    /** Estimate the entropy of the node just counted and write it at the next position. */
-    private _record(blocks: number, dropped: number, singletons: number, sum: number, possible: number): void {
+    /**
+     * Walk the subtree below the node just counted (level, column) through dense count tables
+     * (see marginals.ts) when its cells are few beside its active rows and that costs less than
+     * a pass over the rows per multiplet; returns whether it did. The counts are the walk's
+     * exactly, so the values are too.
+     */
+    private _denseSubtree(level: number, column: number): boolean {
+      const p = this._p;
+      if (p.weights !== null || p.denseMargin === Infinity) {
+        return false;
+      }
+      const from = column + 1;
+      const later = p.n - from;
+      const limit = p.m - level;
+      const labels = this._labelCount[level];
+      const rows = this._activeCount[level];
+      // denseCost ≥ 2 · labels · 2^later > 2 · labels · below: a cheap refusal of most nodes
+      if (p.denseMargin > 0 && 2 * p.denseMargin * labels >= rows) {
+        return false;
+      }
+      const cells = denseCells(labels, p.used, from);
+      if (cells === Infinity) {
+        return false;
+      }
+      const below = subsetsUpTo(p.indexing, later, limit) - 1;
+      if (p.denseMargin * denseCost(rows, labels, p.used, from) > below * rows) {
+        return false;
+      }
+      if (this._denseTable.length < cells) {
+        this._denseTable = new Int32Array(cells);
+      }
+      fillDense(this._view[level], this._labels[level], rows, p.dense, p.used, from, cells, this._denseTable);
+      const key = later * 64 + limit;
+      let positions = this._denseOrder.get(key);
+      if (positions === undefined) {
+        positions = walkOrderPositions(later, limit);
+        this._denseOrder.set(key, positions);
+      }
+      const order = positions;
+      const base = this._position;
+      const dropped = this._dropped[level];
+      const possibleAbove = this._possible[level];
+      const stats = this._stats;
+      const counts = this._needsCounts ? this._counts : null;
+      forEachDenseSubset(this._denseTable, labels, p.used.slice(from), this._denseScratch, (mask, table, size) => {
+        const at = order[mask];
+        if (at < 0) {
+          return;
+        }
+        let possible = possibleAbove;
+        for (let c = 0; c < later; c++) {
+          if (mask & (1 << c)) {
+            possible *= p.bins[from + c];
+          }
+        }
+        scanTable(table, 0, size, false, this._tables, stats, counts);
+        this._record(stats[0], dropped, stats[1], stats[2], possible, base + at);
+      });
+      this._position = base + below;
+      return true;
+    }
+
+    /**
+     * The children of the node at `parent` are leaves (at the order limit): count them four at
+     * a time, in one pass over the node's active rows each four, when every child's key range
+     * (labels × K) is small beside the rows; the cells of each are read off its tally in key
+     * order (Σ n·ln n and the estimators do not depend on the cells' order). Returns the first
+     * child column left to count one by one.
+     */
+    private _countLeaves(parent: number, from: number): number {
+      const p = this._p;
+      const rows = this._activeCount[parent];
+      const labels = this._labelCount[parent];
+      if (p.weights !== null || p.n - from < LEAF_GROUP) {
+        return from;
+      }
+      for (let c = from; c < p.n; c++) {
+        const range = labels * p.used[c];
+        if (range > LEAF_RANGE || LEAF_ROWS_PER_KEY * range > rows) {
+          return from;
+        }
+      }
+      const active = this._view[parent];
+      const parentLabels = this._labels[parent];
+      const identity = active === this._active[0];
+      const tallies = this._leafTallies;
+      const counts = this._needsCounts ? this._counts : null;
+      const dropped = this._dropped[parent];
+      let c = from;
+      for (; c + LEAF_GROUP <= p.n; c += LEAF_GROUP) {
+        tallyFour(active, identity, parentLabels, rows, p.dense, p.used, c, tallies);
+        for (let g = 0; g < LEAF_GROUP; g++) {
+          const range = labels * p.used[c + g];
+          const base = g * LEAF_RANGE;
+          scanTable(tallies, base, base + range, true, this._tables, this._stats, counts);
+          this._record(this._stats[0], dropped, this._stats[1], this._stats[2], this._possible[parent] * p.bins[c + g]);
+        }
+      }
+      return c;
+    }
+
+    /** Estimate the entropy of the node just counted and write it at position `at` (default: the next). */
+    private _record(blocks: number, dropped: number, singletons: number, sum: number, possible: number, at = -1): void {
       const summary = this._summary;
       summary.occupied = blocks + dropped;
       summary.singletons = singletons + dropped;
@@ -1170,7 +1386,7 @@ namespace Private {
       const cells = this._cells;
       cells.length = blocks;
       cells.extraSingletons = dropped;
-      const position = this._position++;
+      const position = at < 0 ? this._position++ : at;
       this._entropy[position] = entropyNats(this._p.estimator, summary, cells);
       this._occupied[position] = blocks + dropped;
     }
@@ -1265,6 +1481,12 @@ namespace Private {
     }
 
     private _p: IPrepared;
+    /** Tallies of {@link _countLeaves}: LEAF_GROUP regions of LEAF_RANGE keys, all zero between uses. */
+    private _leafTallies = new Int32Array(LEAF_GROUP * LEAF_RANGE);
+    /** The dense table of a subtree walked by {@link _denseSubtree}, its subsets' tables by depth, and walk-order positions by (later columns, order left). */
+    private _denseTable = new Int32Array(0);
+    private _denseScratch: Int32Array[] = [];
+    private _denseOrder = new Map<number, Int32Array>();
     private _tables: ICountTables;
     /** Weighted rows: parts of n·ln n up to _partsMax (larger counts are computed), scratch for one. */
     private _weightParts: Float64Array = new Float64Array(0);

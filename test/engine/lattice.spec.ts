@@ -211,6 +211,32 @@ describe('lattice', () => {
       }
     });
 
+    it('should count the leaves at the order limit four at a time as one by one', () => {
+      // 9 columns, 2,000 rows: {a, b} has up to 7 leaf children of 2 … 4 codes, counted in
+      // groups of four (the rest one by one); column 0 leaves some rows alone, so below it the
+      // active rows are a subset (read through their row numbers), above it all rows in order.
+      const rows = 2000;
+      const codes = [Int32Array.from({ length: rows }, (_, i) => (i >= 400 ? i % 8 : 8 + i))];
+      const bins = [rows + 8];
+      for (let j = 1; j < 9; j++) {
+        const K = 2 + (j % 3);
+        codes.push(Int32Array.from({ length: rows }, (_, i) => ((i * (j + 3) + (i >> j)) ^ (i >> 3)) % K));
+        bins.push(K);
+      }
+      for (const maxOrder of [2, 3]) {
+        for (const estimator of ESTIMATORS) {
+          const lattice = computeLattice({ codes, bins, maxOrder, estimator });
+          const slices = walkSubtree({ codes, bins, maxOrder, estimator }, 0, [1, 8]);
+          for (const members of subsetsOf(9, maxOrder)) {
+            const index = indexOfColumns(lattice.indexing, members);
+            expect(lattice.entropy[index]).toBeCloseTo(naive(codes, bins, members, estimator), 11);
+            expect(lattice.occupied[index]).toBe(naiveCounts(codes, members).length);
+          }
+          expect(Array.from(slices.entropy)).toEqual(Array.from(walkSubtree({ codes, bins, maxOrder, estimator }, 0).entropy));
+        }
+      }
+    });
+
     it('should refuse a lattice above the multiplet cap', () => {
       const codes = Array.from({ length: 40 }, () => new Int32Array(3));
       expectPolyadic(
@@ -218,6 +244,86 @@ describe('lattice', () => {
         'limit',
         /1,099,511,627,775/
       );
+    });
+  });
+
+  describe('dense tables', () => {
+    /** A table with many rows per cell: columns of 1 … 4 codes, some copies of the one before. */
+    const denseTable = (seed: number, columns: number, rows: number): { codes: Int32Array[]; bins: number[] } => {
+      let state = seed >>> 0 || 1;
+      const next = (k: number): number => {
+        state = (Math.imul(state, 1103515245) + 12345) >>> 0;
+        return (state >>> 8) % k;
+      };
+      const codes: Int32Array[] = [];
+      const bins: number[] = [];
+      for (let j = 0; j < columns; j++) {
+        const K = 1 + next(4);
+        const column = new Int32Array(rows);
+        for (let i = 0; i < rows; i++) {
+          column[i] = j > 0 && next(3) === 0 ? codes[j - 1][i] % K : next(K);
+        }
+        codes.push(column);
+        bins.push(K + next(2));
+      }
+      return { codes, bins };
+    };
+
+    it('should give the row passes\' values bit for bit, whole, by subtree and in slices (property)', () => {
+      fc.assert(
+        fc.property(
+          fc.integer({ min: 1, max: 2 ** 30 }),
+          fc.integer({ min: 1, max: 7 }),
+          fc.integer({ min: 1, max: 600 }),
+          fc.integer({ min: 1, max: 7 }),
+          fc.constantFrom(...ESTIMATORS),
+          fc.boolean(),
+          fc.boolean(),
+          (seed, columns, rows, order, estimator, dropSingletons, fillDistinct) => {
+            const table = denseTable(seed, columns, rows);
+            const input: ILatticeInput = { ...table, maxOrder: Math.min(order, columns), estimator, dropSingletons, fillDistinct };
+            const passes = computeLattice({ ...input, denseMargin: Infinity });
+            const dense = computeLattice({ ...input, denseMargin: 0 });
+            const parts: ISubtreeResult[] = [];
+            for (let root = 0; root < columns; root++) {
+              if (root + 2 < columns && input.maxOrder >= 2) {
+                parts.push(walkSubtree({ ...input, denseMargin: 0 }, root, [root + 1, root + 1]));
+                parts.push(walkSubtree({ ...input, denseMargin: 0 }, root, [root + 2, columns - 1]));
+              } else {
+                parts.push(walkSubtree({ ...input, denseMargin: 0 }, root));
+              }
+            }
+            const split = assembleLattice(input, parts);
+            for (let i = 0; i < passes.entropy.length; i++) {
+              expect(Object.is(dense.entropy[i], passes.entropy[i])).toBe(true);
+              expect(dense.occupied[i]).toBe(passes.occupied[i]);
+              expect(Object.is(split.entropy[i], passes.entropy[i])).toBe(true);
+            }
+          }
+        ),
+        { numRuns: 200 }
+      );
+    });
+
+    it('should equal a naive histogram per multiplet below a node with rows dropped', () => {
+      // Column 0 has 300 codes over 900 rows: {0} drops its lone rows and walks the rest of its
+      // subtree (three columns of 2 codes) through one dense table of its labels.
+      const rows = 900;
+      const codes = [
+        Int32Array.from({ length: rows }, (_, i) => (i < 600 ? i % 300 : i)),
+        Int32Array.from({ length: rows }, (_, i) => (i >> 1) & 1),
+        Int32Array.from({ length: rows }, (_, i) => (i * 7) % 2),
+        Int32Array.from({ length: rows }, (_, i) => ((i * i) >> 2) % 2)
+      ];
+      const bins = [900, 2, 2, 3];
+      for (const estimator of ESTIMATORS) {
+        const lattice = computeLattice({ codes, bins, maxOrder: 4, estimator, denseMargin: 0 });
+        for (const members of subsetsOf(4)) {
+          const index = indexOfColumns(lattice.indexing, members);
+          expect(lattice.entropy[index]).toBeCloseTo(naive(codes, bins, members, estimator), 11);
+          expect(lattice.occupied[index]).toBe(naiveCounts(codes, members).length);
+        }
+      }
     });
   });
 
