@@ -31,6 +31,7 @@ import { ChartView } from '../panel/charts/chart';
 import { histogramFigure } from '../panel/charts/histogram';
 import { textElement } from '../panel/dom';
 import { exportFileName } from '../panel/results/export';
+import { scanOriginText } from '../panel/records/origin';
 import { lookupAnalysisCell } from './lookup';
 
 /** Multiplets per table in a analysis cell. */
@@ -145,6 +146,11 @@ namespace Private {
     host: HTMLElement;
   }
 
+  /** A paragraph of `text`, or nothing without it. */
+  export function optional(text: string | null, className: string): HTMLElement[] {
+    return text === null ? [] : [textElement('p', className, text)];
+  }
+
   /** The parts of a drawn analysis; its charts are added to `charts`, to be attached into their hosts. */
   export function analysis(record: IAnalysisRecord, charts: IPlacedChart[], trans: TranslationBundle, translator?: ITranslator): HTMLElement[] {
     const counted = (count: number, one: string, many: string): string => trans._n(one, many, count, formatCount(count));
@@ -167,6 +173,7 @@ namespace Private {
           record.id
         )
       ),
+      ...Private.optional(scanOriginText(record, trans), 'pd-AnalysisCell-origin'),
       textElement(
         'p',
         'pd-AnalysisCell-sign',

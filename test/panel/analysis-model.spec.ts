@@ -11,7 +11,8 @@ import type { KernelBridge } from '../../src/bridge/connector';
 import type { IFetchedFrame } from '../../src/bridge/decode';
 import type { IFrameInfo } from '../../src/bridge/protocol';
 import { readDataFile } from '../../src/cli/readers';
-import { analyze, analyzeCodes } from '../../src/engine/analyze';
+import { runVerify, VERIFY_EXIT } from '../../src/cli/verify';
+import { analyze, analyzeCodes, prepareColumns } from '../../src/engine/analyze';
 import type { IPreparedCodes } from '../../src/engine/binning';
 import type { ColumnView, IAnalyzeOptions } from '../../src/engine/types';
 import { AnalysisModel, type IEngineRunner } from '../../src/panel/analysis/model';
@@ -22,7 +23,9 @@ import { followRestores } from '../../src/panel/records/restore';
 import type { IPolyadicSettings } from '../../src/tokens';
 import type { IRunResult } from '../../src/worker/pool';
 import { previewColumn } from '../../src/worker/handlers';
-import { greenhouseTable, tempFolder, toCsv } from '../record/helpers';
+import { fingerprintScan, sortedWeightedTable } from '../../src/record/scan-fingerprint';
+import { validateRecord } from '../../src/record/validate';
+import { greenhouseTable, notebookWith, tempFolder, toCsv } from '../record/helpers';
 import { BridgeError } from '../../src/bridge/errors';
 import { MemoryScanner } from '../engine/scan-helpers';
 import { ContractBridge } from '../bridge/scan-fakes';
@@ -51,10 +54,9 @@ const idleEngine: IEngineRunner = {
 };
 
 /** The greenhouse helper table as column views, with `change` applied to its cells first. */
-async function greenhouseColumns(change?: (rows: string[][]) => void): Promise<ColumnView[]> {
+async function greenhouseColumns(change?: (rows: string[][]) => void, file = path.join(tempFolder(), 'greenhouse.csv')): Promise<ColumnView[]> {
   const table = greenhouseTable(300, 11);
   change?.(table.rows);
-  const file = path.join(tempFolder(), 'greenhouse.csv');
   fs.writeFileSync(file, toCsv(table));
   return (await readDataFile(file)).columns;
 }
@@ -293,14 +295,28 @@ describe('AnalysisModel', () => {
       cancelScan = (...args: Parameters<ContractBridge['cancelScan']>) => this.scans.cancelScan(...args);
     }
 
-    async function scannedPanel(): Promise<{ analysis: AnalysisModel; kernel: ScanKernel }> {
-      const kernel = new ScanKernel(await greenhouseColumns());
-      const analysis = new AnalysisModel({ engine: engine(), previewDebounceMs: 0 });
+    /** The panel on a scanned frame, wired to a records model over `metadata` as PanelModel wires them. */
+    async function scannedPanel(
+      metadata: Record<string, unknown> = {}
+    ): Promise<{ analysis: AnalysisModel; kernel: ScanKernel; records: RecordsModel; csv: string }> {
+      const csv = path.join(tempFolder(), 'rel.csv');
+      const kernel = new ScanKernel(await greenhouseColumns(undefined, csv));
+      const records = new RecordsModel();
+      const analysis = new AnalysisModel({ engine: engine(), previewDebounceMs: 0, recordIdFor: run => records.rerunOf(run) });
       analysis.applySettings({ ...defaultSettings(), estimator: 'miller-madow', surrogates: 20 });
+      records.setNotebook({ path: 'a.ipynb', metadata: { get: key => metadata[key], set: (key, value) => (metadata[key] = value) } });
+      recordCompletedRuns(analysis, records);
       analysis.data.bridge = kernel as unknown as KernelBridge;
       await analysis.data.pick('rel');
       await settle();
-      return { analysis, kernel };
+      return { analysis, kernel, records, csv };
+    }
+
+    /** The selected columns binned in memory and grouped into the weighted table a scan gives (as `polyadic verify` does). */
+    function groupedInMemory(columns: ColumnView[], options: IAnalyzeOptions): IPreparedCodes {
+      const rows = prepareColumns(columns, options);
+      const grouped = sortedWeightedTable({ codes: rows.codes, weights: new Int32Array(rows.rowsUsed).fill(1) });
+      return { ...rows, codes: [...grouped.codes], weights: grouped.weights, rowIndex: null };
     }
 
     it('should preview a seeded sample and run on every row through the scans, as the in-memory engine does', async () => {
@@ -309,7 +325,7 @@ describe('AnalysisModel', () => {
       expect(analysis.data.isScanned).toBe(true);
       expect(analysis.blocker).toBeNull();
       const options = analysis.options();
-      // statistics are off for a scanned frame, whatever the settings say
+      // the settings' 20 surrogates do not reach a scanned frame's run, and nothing else is asked for
       expect(options.statistics).toBeUndefined();
       const stages: string[] = [];
       analysis.runChanged.connect((_sender, status) => status.stage && stages.push(status.stage));
@@ -318,7 +334,7 @@ describe('AnalysisModel', () => {
       expect(analysis.runState).toBe('done');
       const latest = analysis.latest!;
       expect(latest.frame.rows).toBe(300);
-      expect(latest.frame.scan).toEqual({ engine: 'duckdb', version: '1', distinctRows: expect.any(Number) });
+      expect(latest.frame.scan).toMatchObject({ engine: 'duckdb', version: '1', distinctRows: expect.any(Number) });
       expect(JSON.stringify(latest.result)).toBe(JSON.stringify(analyze(kernel.columns, options)));
       expect(stages[0]).toBe('DuckDB counts the rows, missing values and extremes of each column…');
       expect(stages).toContain('DuckDB bins and groups every row…');
@@ -352,6 +368,67 @@ describe('AnalysisModel', () => {
       expect(analysis.run.error?.message).toBe(`Column '${column}' holds datetime values, cast it in DuckDB first.`);
       expect(analysis.data.fault?.detail.column).toBe(column);
     });
+
+    it('should give the bootstrap intervals of analyzeCodes on the same weighted rows with the same seed, without surrogates', async () => {
+      const { analysis, kernel } = await scannedPanel();
+      expect(analysis.statisticsScope).toBe('weighted');
+      analysis.statistics.set('bootstrap', '40');
+      analysis.statistics.set('seed', '7');
+      analysis.statistics.set('beyondPairs', '1');
+      // order 3 keeps the fits of the pairwise-preserving null quick
+      analysis.estimator.setChoices({ estimator: 'miller-madow', units: 'bits', maxOrder: 3 });
+      // typed, but not for this frame: the section disables the field and the run leaves it out
+      analysis.statistics.set('sharpen', '5');
+      expect(analysis.blocker).toBeNull();
+      const options = analysis.options();
+      expect(options.statistics).toMatchObject({ surrogates: 0, sharpen: 0, bootstrap: 40, seed: 7, beyondPairs: 1 });
+      await analysis.start();
+      expect(analysis.run.error).toBeNull();
+      const result = analysis.latest!.result;
+      // outside the scan path: the kernel's columns binned in memory, grouped, then the engine itself
+      const reference = analyzeCodes(groupedInMemory(kernel.columns, options), options);
+      expect(result.statistics).toMatchObject({ surrogates: 0, bootstrap: 40, seed: 7 });
+      const intervals = (rows: typeof result.multiplets) => rows.map(row => [row.columns, row.ci_low, row.ci_high, row.o_information_ci_low]);
+      expect(intervals(result.multiplets)).toEqual(intervals(reference.multiplets));
+      expect(result.multiplets.filter(row => typeof row.ci_low === 'number' && row.ci_low < row.ci_high!).length).toBeGreaterThan(0);
+      expect(result.multiplets.some(row => row.connected_information !== undefined && row.connected_information !== null)).toBe(true);
+      expect(result.multiplets.map(row => row.connected_information ?? null)).toEqual(reference.multiplets.map(row => row.connected_information ?? null));
+      expect(result.multiplets.every(row => row.p_value === undefined || row.p_value === null)).toBe(true);
+    }, 60_000);
+
+    it('should record a scanned run with its pdsc1 fingerprint and origin, which polyadic verify reproduces', async () => {
+      const metadata: Record<string, unknown> = {};
+      const { analysis, records, kernel, csv } = await scannedPanel(metadata);
+      analysis.statistics.set('bootstrap', '20');
+      await analysis.start();
+      await settle();
+      expect(records.error).toBeNull();
+      const run = analysis.latest!;
+      const recorded = records.selected!;
+      expect(recorded.id).toBe(run.analysisId);
+      expect(validateRecord(metadata.polyadic).ok).toBe(true);
+      const prepared = groupedInMemory(kernel.columns, run.options);
+      const expected = await fingerprintScan({ codes: prepared.codes, weights: prepared.weights! }, prepared.rows, prepared.binnings);
+      expect(recorded.source.fingerprint).toEqual({ encoding: 'pdsc1', sha256: expected.sha256 });
+      expect(recorded.source.origin).toEqual({
+        kind: 'scan',
+        engine: { name: 'duckdb', version: '1' },
+        input_rows: 300,
+        distinct_rows: expected.distinctRows
+      });
+      expect(recorded.statistics).toMatchObject({ surrogates: 0, bootstrap: 20 });
+      // the same run again replaces the analysis instead of adding one
+      await analysis.start();
+      await settle();
+      expect((metadata.polyadic as { analyses: unknown[] }).analyses).toHaveLength(1);
+      // the CLI checks the record against the rows (binned in memory, grouped, fingerprinted, re-run)
+      const notebook = path.join(path.dirname(csv), 'scan.ipynb');
+      fs.writeFileSync(notebook, JSON.stringify(notebookWith(metadata.polyadic)));
+      let out = '';
+      const io = { stdout: { write: (t: string) => (out += t) }, stderr: { write: (t: string) => (out += t) } };
+      expect(await runVerify([notebook, '--data', `rel=${csv}`], io)).toBe(VERIFY_EXIT.reproduced);
+      expect(out).toMatch(new RegExp(`${recorded.id} .* reproduced in memory`));
+    }, 60_000);
 
     it('should refuse the Gaussian copula on a scanned frame, saying why', async () => {
       const { analysis } = await scannedPanel();

@@ -23,7 +23,7 @@ import type { EnginePool, IRunProgress, IRunResult } from '../../worker/pool';
 import type { IColumnPreview } from '../../worker/protocol';
 import { BinningModel } from '../binning/model';
 import { DataModel } from '../data/model';
-import { StatisticsModel } from '../statistics/model';
+import { StatisticsModel, type StatisticsScope } from '../statistics/model';
 import { adequacyOf, EstimatorModel, IAdequacy, type IEstimatorChoices, type IOrderClamp } from '../estimator/model';
 import type { IRunCompleted, IRunStatus, RunState } from './types';
 
@@ -189,6 +189,14 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
     return adequacyOf(fetched.rows, counts as number[], this.maxOrder);
   }
 
+  /**
+   * The rows the statistics go over: a scanned frame's weighted distinct rows (no surrogates
+   * nor sharpening, see {@link StatisticsScope}) or the fetched rows.
+   */
+  get statisticsScope(): StatisticsScope {
+    return this.data.isScanned ? 'weighted' : 'rows';
+  }
+
   /** Why Run cannot start now, or null. */
   get blocker(): string | null {
     const trans = this._trans;
@@ -214,7 +222,7 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
         'A scanned frame is binned and counted in its engine, and the Gaussian-copula estimator needs the ranks of every row; choose a count estimator.'
       );
     }
-    const statistics = this.data.isScanned ? null : this.statistics.problem;
+    const statistics = this.statistics.problemOf(this.statisticsScope);
     if (statistics !== null) {
       return `Statistics: ${statistics.message}`;
     }
@@ -238,9 +246,10 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
       units: this.estimator.units,
       maxOrder: this.maxOrder
     };
-    // the blocker has refused invalid statistics before a run asks for the options
-    // a scanned frame's run has no statistics yet (the Statistics section says why)
-    const statistics = this.statistics.problem === null && !this.data.isScanned ? this.statistics.options() : undefined;
+    // the blocker has refused invalid statistics before a run asks for the options; a scanned
+    // frame's run takes the bootstrap and the pairwise-preserving null, never surrogates
+    const scope = this.statisticsScope;
+    const statistics = this.statistics.problemOf(scope) === null ? this.statistics.options(scope) : undefined;
     if (statistics !== undefined) {
       options.statistics = statistics;
     }
@@ -322,18 +331,27 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
         elapsedMs: this._now() - started,
         workers: outcome.workers
       };
-      // a re-run of a recorded analysis keeps that analysis' id, in the kernel and the exports too
-      const repeated = this._recordIdFor === null ? null : await this._recordIdFor(completed);
-      if (ticket !== this._ticket) {
-        return;
+      if (await this._keepsRecordedId(ticket, completed)) {
+        await this._finish(completed);
       }
-      if (repeated !== null) {
-        completed.analysisId = repeated;
-      }
-      await this._finish(completed);
     } catch (error) {
       this._fail(ticket, error);
     }
+  }
+
+  /**
+   * Give a re-run of a recorded analysis that analysis' id (in the kernel and the exports too);
+   * false when a newer run took over meanwhile.
+   */
+  private async _keepsRecordedId(ticket: number, completed: IRunCompleted): Promise<boolean> {
+    const repeated = this._recordIdFor === null ? null : await this._recordIdFor(completed);
+    if (ticket !== this._ticket) {
+      return false;
+    }
+    if (repeated !== null) {
+      completed.analysisId = repeated;
+    }
+    return true;
   }
 
   /** Keep a completed run and announce it. */
@@ -467,13 +485,26 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
           sampled: false,
           seed: 0,
           bytes: 0,
-          scan: { engine: plan.engine.name, version: plan.engine.version, distinctRows: prepared.weights.length }
+          scan: {
+            engine: plan.engine.name,
+            version: plan.engine.version,
+            distinctRows: prepared.weights.length,
+            // the page keeps its own copy (the pool clones what it sends to the workers)
+            table: { codes: prepared.codes, weights: prepared.weights },
+            columns: plan.columns.map(column => ({
+              name: column.name,
+              dtype: column.dtype,
+              kind: column.kind === 'numeric' ? 'numeric' : 'categorical'
+            }))
+          }
         },
         finished: new Date().toISOString(),
         elapsedMs: this._now() - started,
         workers: outcome.workers
       };
-      await this._finish(completed);
+      if (await this._keepsRecordedId(ticket, completed)) {
+        await this._finish(completed);
+      }
     } catch (error) {
       this._fail(ticket, error);
     } finally {

@@ -9,6 +9,7 @@ import type { PolyadicError } from '../../engine/errors';
 import type { IFetchedField } from '../../bridge/decode';
 import type { IFrameInfo } from '../../bridge/protocol';
 import type { ColumnView, IAnalysisResult, IAnalyzeOptions } from '../../engine/types';
+import type { IWeightedTable } from '../../record/scan-fingerprint';
 import type { IRunProgress } from '../../worker/pool';
 
 /** Where a run stands. */
@@ -38,7 +39,20 @@ export interface IAnalysisFrameInfo {
    */
   columns?: readonly ColumnView[];
   /** A scanned frame's run: the engine that scanned it and the distinct binned rows walked. */
-  scan?: { engine: string; version: string; distinctRows: number };
+  scan?: IScannedRun;
+}
+
+/** What a scanned frame's run keeps of its scan: enough to record it (src/record/scan-fingerprint.ts). */
+export interface IScannedRun {
+  /** The engine's name as the kernel gives it (`duckdb`, `spark`) and its version. */
+  engine: string;
+  version: string;
+  /** Distinct binned rows the walk took (after the missing-value policy). */
+  distinctRows: number;
+  /** Those rows' codes, one array per selected column, and each row's count: the record's `pdsc1` fingerprint covers them. */
+  table: IWeightedTable;
+  /** The selected columns as the scan read them: name, the engine's type, and how they were binned. */
+  columns: { name: string; dtype: string; kind: 'numeric' | 'categorical' }[];
 }
 
 /** Everything a finished run leaves behind; carried by `runCompleted`. */

@@ -8,10 +8,12 @@
  */
 import { ISignal, Signal } from '@lumino/signaling';
 
+import { scanEngineName } from '../../bridge/protocol';
 import { asPolyadicError, errorMessage, PolyadicError } from '../../engine/errors';
 import { formatCount } from '../../engine/text';
 import { fingerprintColumns, type IFingerprint } from '../../record/fingerprint';
 import { recordFromResult } from '../../record/recordFromResult';
+import { fingerprintScan, type IScanFingerprint } from '../../record/scan-fingerprint';
 import { withRobustness } from '../../record/robustness';
 import type { IRobustnessResult } from '../../engine/robustness';
 import { compareFingerprint, optionsFromRecord } from '../../record/settings';
@@ -29,7 +31,7 @@ import {
 import type { IAnalysisRecord, ISampleInfo } from '../../record/types';
 import type { IPolyadicPanel } from '../../tokens';
 import { translationBundle, type ITranslator, type TranslationBundle } from '../../translation';
-import type { IRunCompleted } from '../analysis/types';
+import type { IRunCompleted, IScannedRun } from '../analysis/types';
 import type { IDataCheck, IRecordsNotebook, IRestoreRequest, IRunFrame } from './types';
 import { SignalOwner } from '../disposable';
 
@@ -137,7 +139,7 @@ export class RecordsModel extends SignalOwner implements IPolyadicPanel.IRecords
    */
   async rerunOf(run: IRunCompleted): Promise<string | null> {
     const state = this._state;
-    if (state === null || state.readOnly || run.frame.columns === undefined) {
+    if (state === null || state.readOnly || (run.frame.columns === undefined && run.frame.scan === undefined)) {
       return null;
     }
     try {
@@ -161,16 +163,7 @@ export class RecordsModel extends SignalOwner implements IPolyadicPanel.IRecords
     if (notebook === null) {
       return this._fail(this._trans.__('No notebook is open, so the run was not recorded.'));
     }
-    if (run.frame.scan !== undefined) {
-      // the fingerprint of a scanned source (over its sorted weighted table) is still to come
-      return this._fail(
-        this._trans.__(
-          "The run was not recorded: records of scanned frames (DuckDB, Spark) need a fingerprint of the weighted table, which is still to come. The results view and polyadic.results('%1') in the kernel have the multiplets.",
-          run.analysisId
-        )
-      );
-    }
-    if (run.frame.columns === undefined) {
+    if (run.frame.columns === undefined && run.frame.scan === undefined) {
       return this._fail(this._trans.__('The run was not recorded: the analysis section did not pass on the columns it read.'));
     }
     let analysis: IAnalysisRecord;
@@ -300,6 +293,9 @@ export class RecordsModel extends SignalOwner implements IPolyadicPanel.IRecords
 
   /** The record of a run (not yet written), its fingerprint computed once per run. */
   private async _analysisOf(run: IRunCompleted): Promise<IAnalysisRecord> {
+    if (run.frame.scan !== undefined) {
+      return this._scannedAnalysisOf(run, run.frame.scan);
+    }
     const fetched = run.frame.columns ?? [];
     const selected = run.result.columns.map(column => column.name);
     const byName = new Map(fetched.map(column => [column.name, column]));
@@ -324,6 +320,34 @@ export class RecordsModel extends SignalOwner implements IPolyadicPanel.IRecords
     });
   }
 
+  /**
+   * The record of a scanned frame's run: the `pdsc1` fingerprint of the weighted table the walk
+   * took, and the origin block (the engine, the input rows, the distinct binned rows), as
+   * `polyadic verify --via duckdb` re-derives them.
+   */
+  private async _scannedAnalysisOf(run: IRunCompleted, scan: IScannedRun): Promise<IAnalysisRecord> {
+    const engine = scan.engine;
+    if (engine !== 'duckdb' && engine !== 'spark') {
+      throw new PolyadicError('input', this._trans.__("The run was scanned by an engine the record does not know ('%1').", engine.slice(0, 40)));
+    }
+    if (this._fingerprinted?.run !== run) {
+      this._fingerprinted = { run, fingerprint: fingerprintScan(scan.table, run.result.rows, run.result.columns) };
+    }
+    const fingerprint = await this._fingerprinted.fingerprint;
+    return recordFromResult({
+      options: run.options,
+      result: run.result,
+      source: {
+        frame: run.frame.name,
+        columns: scan.columns,
+        fingerprint,
+        scan: { engine: { name: engine, version: scan.version }, table: scan.table }
+      },
+      id: run.analysisId,
+      created: Private.dateOf(run.finished)
+    });
+  }
+
   /** Keep a failure: `message` says what was not done; `cause`, if any, gives its kind and detail. */
   private _fail(message: string, cause?: unknown): null {
     const origin = cause === undefined ? null : asPolyadicError(cause);
@@ -339,7 +363,7 @@ export class RecordsModel extends SignalOwner implements IPolyadicPanel.IRecords
   private _checks = new Map<string, IDataCheck>();
   /** Record id each run of this session was recorded under (a repeated run keeps the old id). */
   private _recordedAs = new Map<string, string>();
-  private _fingerprinted: { run: IRunCompleted; fingerprint: Promise<IFingerprint> } | null = null;
+  private _fingerprinted: { run: IRunCompleted; fingerprint: Promise<IFingerprint | IScanFingerprint> } | null = null;
   private _error: PolyadicError | null = null;
   private _changed = new Signal<this, void>(this);
   private _restoreRequested = new Signal<this, IRestoreRequest>(this);
@@ -370,6 +394,20 @@ namespace Private {
     const rowsText = (rows: number): string => trans._n('%2 row', '%2 rows', rows, formatCount(rows));
     const quoted = (names: string[]): string => names.map(name => `'${name}'`).join(', ');
     const id = analysis.id;
+    const origin = analysis.source.origin;
+    if (origin?.kind === 'scan') {
+      // the panel holds a preview sample of a scanned frame, never the weighted table
+      return {
+        id,
+        status: 'not-comparable',
+        comparison: null,
+        message: trans.__(
+          'This analysis was recorded from a %1 scan of every row of \'%2\'; run it again to compare the data, or check it with polyadic verify.',
+          scanEngineName(origin.engine.name),
+          frame.name
+        )
+      };
+    }
     const recorded = analysis.source.sample;
     const sampleNow = sampleOf(frame);
     const sameSample =

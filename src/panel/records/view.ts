@@ -9,6 +9,7 @@ import type { IAnalysisRecord, IRecordProblem } from '../../record/types';
 import { textElement } from '../dom';
 import { SectionView } from '../section';
 import { RecordsModel } from './model';
+import { scanOriginText } from './origin';
 
 /** Shows a {@link RecordsModel}. Labels, frame and column names go in through `textContent` only. */
 export class RecordsView extends SectionView<RecordsModel> {
@@ -91,6 +92,11 @@ export class RecordsView extends SectionView<RecordsModel> {
         )
       )
     );
+
+    const scanned = scanOriginText(analysis, trans);
+    if (scanned !== null) {
+      item.append(textElement('p', 'pd-Records-origin', scanned));
+    }
 
     const check = model.dataCheckOf(analysis.id);
     if (check !== null && check.status !== 'same') {

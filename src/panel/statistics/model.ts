@@ -25,6 +25,17 @@ export type StatisticsField = 'surrogates' | 'seed' | 'bootstrap' | 'tail' | 'al
  */
 export const WALK_NS_PER_MULTIPLET_ROW = 6.3;
 
+/**
+ * Which rows a run's statistics go over: `rows`, the rows themselves (every part), or
+ * `weighted`, a scanned frame's distinct binned rows with their counts, which the bootstrap
+ * (multinomial resampling of the weights) and the pairwise-preserving null take, but surrogates
+ * and sharpening do not (they shuffle each column's rows on its own, and those rows are merged).
+ */
+export type StatisticsScope = 'rows' | 'weighted';
+
+/** The fields a run on weighted rows leaves out (see {@link StatisticsScope}). */
+export const ROWS_ONLY_FIELDS: readonly StatisticsField[] = ['surrogates', 'sharpen'];
+
 /** The choices of the Statistics section. */
 export class StatisticsModel {
   /** Fires when a choice changes. */
@@ -80,27 +91,35 @@ export class StatisticsModel {
 
   /**
    * The engine options of the choices, or undefined when they ask for no evidence. Throws the
-   * engine's PolyadicError (its detail names the option) when a choice is not valid.
+   * engine's PolyadicError (its detail names the option) when a choice is not valid. With
+   * scope `weighted` the fields of {@link ROWS_ONLY_FIELDS} are 0, whatever they hold.
    */
-  options(): IStatisticsOptions | undefined {
+  options(scope: StatisticsScope = 'rows'): IStatisticsOptions | undefined {
     const v = this._values;
+    const number = (field: StatisticsField): number =>
+      scope === 'weighted' && ROWS_ONLY_FIELDS.includes(field) ? 0 : Private.number(field, v[field]);
     const options: IStatisticsOptions = {
-      surrogates: Private.number('surrogates', v.surrogates),
-      seed: Private.number('seed', v.seed),
-      bootstrap: Private.number('bootstrap', v.bootstrap),
+      surrogates: number('surrogates'),
+      seed: number('seed'),
+      bootstrap: number('bootstrap'),
       tail: v.tail as StatisticsTail,
-      alpha: Private.number('alpha', v.alpha),
-      beyondPairs: Private.number('beyondPairs', v.beyondPairs),
+      alpha: number('alpha'),
+      beyondPairs: number('beyondPairs'),
       fitDraws: this._fitDraws,
-      sharpen: Private.number('sharpen', v.sharpen)
+      sharpen: number('sharpen')
     };
     return resolveStatistics(options) === null ? undefined : options;
   }
 
   /** What is wrong with the choices (the engine's error, naming the option), or null. */
   get problem(): PolyadicError | null {
+    return this.problemOf('rows');
+  }
+
+  /** What is wrong with the choices a run of `scope` takes, or null. */
+  problemOf(scope: StatisticsScope): PolyadicError | null {
     try {
-      this.options();
+      this.options(scope);
       return null;
     } catch (error) {
       return isPolyadicError(error) ? error : new PolyadicError('usage', String(error));
@@ -113,10 +132,10 @@ export class StatisticsModel {
    * Sharpening and the pairwise-preserving null are not in it (their cost depends on the
    * multiplets they reach); the section says so.
    */
-  estimateMs(multiplets: number, rows: number, workers: number): number | null {
+  estimateMs(multiplets: number, rows: number, workers: number, scope: StatisticsScope = 'rows'): number | null {
     let options: IStatisticsOptions | undefined;
     try {
-      options = this.options();
+      options = this.options(scope);
     } catch {
       return null;
     }

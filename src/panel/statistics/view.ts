@@ -10,7 +10,7 @@ import { formatCount } from '../../engine/text';
 import { translationBundle, type ITranslator, type TranslationBundle } from '../../translation';
 import type { AnalysisModel } from '../analysis/model';
 import { labelledSelect, textElement, uniqueId } from '../dom';
-import type { StatisticsField } from './model';
+import { ROWS_ONLY_FIELDS, type StatisticsField } from './model';
 
 /** Shows the {@link StatisticsModel} of an {@link AnalysisModel}. */
 export class StatisticsView extends Widget {
@@ -79,14 +79,14 @@ export class StatisticsView extends Widget {
     this._estimate.setAttribute('aria-live', 'polite');
     this._scanNote = textElement('p', 'pd-Statistics-scanned pd-mod-warning');
     this._scanNote.textContent = trans.__(
-      'A scanned frame allows the count estimators only, without statistics for now: its rows stay in DuckDB or Spark, ' +
-        'which hand over the distinct binned rows with their counts. The Gaussian copula needs the ranks of every row; ' +
-        'surrogates shuffle each column on its own, which needs the rows themselves; bootstrap intervals by multinomial ' +
-        'resampling of the weighted rows are still to come. Runs on this frame compute no evidence.'
+      'A scanned frame keeps its rows in DuckDB or Spark, which hand over the distinct binned rows with their counts. ' +
+        'Bootstrap intervals resample those counts (multinomial resampling, the same law as resampling every row) and ' +
+        'the pairwise-preserving null fits them, so both are available. Surrogates and sharpening are off: they shuffle ' +
+        "each column's rows on its own, and a scanned frame does not send its rows, so runs on it give no p or q. " +
+        'The Gaussian copula needs the ranks of every row and is refused.'
     );
     this._scanNote.hidden = true;
     this.node.append(intro, this._scanNote, ...rows, this._problem, this._estimate);
-    this._rows = rows;
     this._model.changed.connect(this._render, this);
     this._model.statistics.changed.connect(this._render, this);
     this._render();
@@ -106,17 +106,13 @@ export class StatisticsView extends Widget {
     const trans = this._trans;
     const statistics = this._model.statistics;
     const scanned = this._model.data.isScanned;
+    const scope = this._model.statisticsScope;
     this._scanNote.hidden = !scanned;
-    for (const row of this._rows) {
-      row.classList.toggle('jp-mod-disabled', scanned);
-    }
-    for (const input of [...this._inputs.values(), this._tail]) {
-      input.disabled = scanned;
-    }
-    if (scanned) {
-      this._problem.hidden = true;
-      this._estimate.textContent = '';
-      return;
+    // the tail and the level serve only the p and q of surrogates
+    const off = new Set<string>(scope === 'weighted' ? [...ROWS_ONLY_FIELDS, 'tail'] : []);
+    for (const [field, input] of [...this._inputs, ['tail', this._tail] as const]) {
+      input.disabled = off.has(field);
+      input.closest('.pd-Field')?.classList.toggle('jp-mod-disabled', input.disabled);
     }
     const values = statistics.values;
     for (const [field, input] of this._inputs) {
@@ -125,7 +121,7 @@ export class StatisticsView extends Widget {
       }
     }
     this._tail.value = values.tail;
-    const problem = statistics.problem;
+    const problem = statistics.problemOf(scope);
     const fault = problem === null ? null : String(problem.detail.option ?? '');
     for (const [field, input] of this._inputs) {
       const bad = field === fault;
@@ -139,10 +135,11 @@ export class StatisticsView extends Widget {
     const multiplets = Number(this._model.multipletCount);
     const rows = fetched?.rows ?? 0;
     const workers = this._workers();
-    const estimate = problem === null && rows > 0 ? statistics.estimateMs(multiplets, rows, workers) : null;
+    // a scanned frame's walk takes its distinct binned rows, unknown before the scan
+    const estimate = problem === null && rows > 0 && !scanned ? statistics.estimateMs(multiplets, rows, workers) : null;
     let options: ReturnType<typeof statistics.options> | undefined;
     try {
-      options = statistics.options();
+      options = statistics.options(scope);
     } catch {
       options = undefined;
     }
@@ -150,6 +147,10 @@ export class StatisticsView extends Widget {
       this._estimate.textContent = '';
     } else if (options === undefined) {
       this._estimate.textContent = trans.__('No evidence is computed: the tables rank raw estimates.');
+    } else if (scanned) {
+      this._estimate.textContent = trans.__(
+        'The time depends on the distinct binned rows the scan gives, so it is not estimated before the run.'
+      );
     } else if (estimate === null) {
       this._estimate.textContent = trans.__('The estimated time shows once the dataframe has loaded.');
     } else {
@@ -171,7 +172,6 @@ export class StatisticsView extends Widget {
   }
 
   private _scanNote: HTMLElement;
-  private _rows: HTMLElement[] = [];
   private _model: AnalysisModel;
   private readonly _trans: TranslationBundle;
   private _workers: () => number;
