@@ -121,7 +121,11 @@ def files(frame, tmp_path_factory) -> dict[str, Path]:
 
 
 def _bundle(tmp: Path, entry: str, outfile: Path, platform: str) -> None:
-    """Bundle TypeScript source given as text with esbuild (the repository's dev dependency)."""
+    """Bundle TypeScript source given as text with esbuild (the repository's dev dependency).
+
+    DuckDB's Node binding stays outside the bundle, as in scripts/build-cli.mjs: verify loads it
+    only for `--via duckdb`, and its native `.node` files cannot be bundled.
+    """
     node = shutil.which("node")
     if node is None:
         pytest.fail("node is not on PATH: the cross-language fingerprint test runs the TypeScript code with node")
@@ -129,7 +133,7 @@ def _bundle(tmp: Path, entry: str, outfile: Path, platform: str) -> None:
         "require('esbuild').build({stdin: {contents: process.env.ENTRY, resolveDir: process.env.ROOT, "
         "loader: 'ts', sourcefile: 'entry.ts'}, bundle: true, platform: process.env.PLATFORM, "
         "format: process.env.PLATFORM === 'node' ? 'cjs' : 'iife', conditions: process.env.PLATFORM === 'node' ? ['node'] : [], "
-        "outfile: process.env.OUT, logLevel: 'error'}).catch(e => { console.error(e.message); process.exit(1); });"
+        "outfile: process.env.OUT, logLevel: 'error', external: ['@duckdb/node-api', '@duckdb/node-bindings']}).catch(e => { console.error(e.message); process.exit(1); });"
     )
     env = {"ENTRY": entry, "ROOT": str(ROOT), "PLATFORM": platform, "OUT": str(outfile), "PATH": str(Path(node).parent)}
     done = subprocess.run([node, "-e", script], cwd=ROOT, env=env, capture_output=True, text=True)
