@@ -376,8 +376,12 @@ class KernelBridge:
                 }
             if engine.cancelled:
                 raise ScanCancelled()
+            # The frame is free again before its last message leaves: a client that answers the
+            # reply with the next scan of the same frame must not find this one still running.
+            self._end_scan(request_id, name)
             self._send(comm, reply)
         except ScanCancelled:
+            self._end_scan(request_id, name)
             self._send_error(
                 comm,
                 request_id,
@@ -385,11 +389,14 @@ class KernelBridge:
                 {"cancelled": True, "engine": engine.name, "frame": name},
             )
         except EngineFailure as failure:
+            self._end_scan(request_id, name)
             self._send_engine_failure(comm, request_id, name, failure)
         except BridgeError as error:
+            self._end_scan(request_id, name)
             self._send_error(comm, request_id, error.message, error.detail)
         except Exception as error:  # noqa: BLE001 - a scan thread must never die silently
             _log.debug("polyadic scan failed", exc_info=True)
+            self._end_scan(request_id, name)
             self._send_error(
                 comm,
                 request_id,

@@ -2,8 +2,9 @@
  * KernelBridge against a real Jupyter server and IPython kernel (the repository's Python),
  * through JupyterLab's own kernel connection (@jupyterlab/services, over a websocket): the
  * silent import, the comm on a subshell, listings pushed after cells, fetched values compared
- * with pandas and numpy in the same kernel, results read back with `polyadic.results`, and a
- * restart in the middle of a fetch.
+ * with pandas and numpy in the same kernel, results read back with `polyadic.results`, scans of
+ * a DuckDB relation and of a Spark DataFrame (local[2]) against the same frame analysed in
+ * memory, and a restart in the middle of a fetch.
  */
 import { ChildProcess, spawn } from 'child_process';
 import { randomBytes } from 'crypto';
@@ -316,6 +317,87 @@ describe('KernelBridge with a real kernel', () => {
     // the kernel stays usable after the refused scan
     expect((await cell('print(1 + 1)')).stdout.trim()).toBe('2');
     await cell('del rel, scan_con');
+  });
+
+  it('should scan a Spark DataFrame to the JSON of the same frame analysed in memory, for every count estimator', async () => {
+    // A local[2] SparkSession in the kernel, small and quiet, its Python workers on this interpreter.
+    const started = Date.now();
+    await cell(
+      'import os, sys\n' +
+        'os.environ.setdefault("PYSPARK_PYTHON", sys.executable)\n' +
+        'os.environ.setdefault("PYSPARK_DRIVER_PYTHON", sys.executable)\n' +
+        'from pyspark.sql import SparkSession, functions as F\n' +
+        'spark = (SparkSession.builder.master("local[2]").appName("polyadic-live-kernel")\n' +
+        '    .config("spark.ui.enabled", "false").config("spark.ui.showConsoleProgress", "false")\n' +
+        '    .config("spark.sql.shuffle.partitions", "2")\n' +
+        '    .config("spark.default.parallelism", "2").config("spark.driver.memory", "512m")\n' +
+        '    .config("spark.sql.execution.arrow.pyspark.enabled", "true").getOrCreate())\n' +
+        'spark.sparkContext.setLogLevel("ERROR")\n' +
+        '# The seeded frame: NaN and nulls in a float, nullable integers, booleans, text. From pandas\n' +
+        '# through Arrow, Spark slices the rows into its two partitions in order; collect() keeps them.\n' +
+        'sdf = spark.createDataFrame(greenhouse[["air_temperature", "humidity_a", "fan_on", "operator"]]).cache()'
+    );
+    try {
+      // The row order Spark keeps is the pandas frame's, and missing values stay missing.
+      await cell(
+        'spark_back = sdf.toPandas().astype(object)\n' +
+          'pandas_side = greenhouse[list(spark_back.columns)].astype(object)\n' +
+          'spark_back, pandas_side = spark_back.where(spark_back.notna(), None), pandas_side.where(pandas_side.notna(), None)'
+      );
+      const order = await evaluate<{ partitions: number; same: boolean }>(
+        '{"partitions": sdf.rdd.getNumPartitions(), "same": bool(spark_back.equals(pandas_side))}'
+      );
+      console.log(`Spark session and frame ready: ${((Date.now() - started) / 1000).toFixed(1)} s`);
+      expect(order).toEqual({ partitions: 2, same: true });
+      await waitFor('the Spark frame in the listing', () => (bridge.listing?.frames ?? []).some(frame => frame.name === 'sdf'));
+      const listed = bridge.listing!.frames.find(frame => frame.name === 'sdf')!;
+      expect(listed).toMatchObject({ kind: 'spark', rows: null, memory_bytes: null, engine: { name: 'spark' } });
+      const names = ['air_temperature', 'humidity_a', 'fan_on', 'operator'];
+      const inMemory = await bridge.fetch('greenhouse', names);
+      // The full lattice with missing values as their own code, and an order-limited run dropping
+      // them. The scan reads no estimator (src/engine/aggregate/scan.ts), so each run is scanned
+      // once and every count estimator is checked on the same scanned codes.
+      const runs: IAnalyzeOptions[] = [
+        { bins: 'quantile:4', missing: 'category' },
+        { bins: 'doane', missing: 'drop', maxOrder: 2 }
+      ];
+      for (const run of runs) {
+        const scanTimer = Date.now();
+        const { prepared } = await scanWeightedCodes(new KernelScanner({ bridge, name: 'sdf' }), names, run);
+        console.log(`Spark scan (${run.bins}, ${run.missing}): ${((Date.now() - scanTimer) / 1000).toFixed(1)} s`);
+        for (const estimator of ['plugin', 'miller-madow', 'chao-shen', 'shrinkage'] as const) {
+          const options: IAnalyzeOptions = { ...run, estimator, columns: names };
+          const viaScan = analyzeCodes(prepared, options);
+          const expected = analyze(inMemory.columns, options);
+          expect(viaScan.rows).toBe(5000);
+          expect(viaScan.multiplets.length).toBe(expected.multiplets.length);
+          expect(JSON.stringify(viaScan.multiplets)).toBe(JSON.stringify(expected.multiplets));
+          expect(viaScan.columns.map(column => column.binning)).toEqual(expected.columns.map(column => column.binning));
+          // The text column came through as its three categories; the order limit held.
+          expect(viaScan.columns.find(column => column.name === 'operator')?.binning.categories).toHaveLength(3);
+          expect(Math.max(...viaScan.multiplets.map(row => row.order))).toBe(run.maxOrder ?? names.length);
+        }
+      }
+      // A Spark job failing mid-scan: some rows raise; the scan is rejected with Spark's own message.
+      await cell(
+        'bad = sdf.select(F.when(F.col("humidity_a") > 85, F.raise_error(F.lit("live test: humidity refused")))' +
+          '.otherwise(F.col("air_temperature")).alias("air_temperature"))'
+      );
+      await waitFor('the failing frame in the listing', () => (bridge.listing?.frames ?? []).some(frame => frame.name === 'bad'));
+      const failed = await scanWeightedCodes(new KernelScanner({ bridge, name: 'bad' }), ['air_temperature'], {
+        bins: 'quantile:4'
+      }).catch(error => error);
+      expect(failed).toBeInstanceOf(Error);
+      expect(failed.reason).toBe('kernel');
+      expect(failed.message).toMatch(/^Spark stopped the scan of 'bad': /);
+      expect(failed.detail.engine).toBe('spark');
+      expect(failed.detail.engine_message).toContain('live test: humidity refused');
+      // A later cell still runs, and the session still answers.
+      expect((await cell('print(sdf.count())')).stdout.trim()).toBe('5000');
+    } finally {
+      await cell('spark.stop()\nfor _name in ("sdf", "bad", "spark_back", "pandas_side"):\n    globals().pop(_name, None)');
+      console.log(`Spark scans in the live kernel: ${((Date.now() - started) / 1000).toFixed(1)} s`);
+    }
   });
 
   it('should fetch while a cell runs (the comm has its own subshell) and stay ready after an interrupt', async () => {
