@@ -302,7 +302,13 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
       // the chosen record) follows at once, before the engine has finished
       this.data.adopt(fetched);
       this._setRun({ state: 'running', progress: null, error: null });
-      const outcome = await this._engine.analyze(fetched.columns, options, this._walkProgress(ticket));
+      const outcome = await this._engine.analyze(fetched.columns, options, {
+        onProgress: progress => {
+          if (ticket === this._ticket) {
+            this._setRun({ state: 'running', progress, error: null });
+          }
+        }
+      });
       if (ticket !== this._ticket) {
         return;
       }
@@ -456,7 +462,13 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
         return;
       }
       this._setRun({ state: 'running', progress: null, error: null });
-      const outcome = await this._engine.analyzePrepared(prepared, options, this._walkProgress(ticket));
+      const outcome = await this._engine.analyzePrepared(prepared, options, {
+        onProgress: progress => {
+          if (ticket === this._ticket) {
+            this._setRun({ state: 'running', progress, error: null });
+          }
+        }
+      });
       if (ticket !== this._ticket) {
         return;
       }
@@ -520,17 +532,6 @@ export class AnalysisModel implements IPolyadicPanel.IAnalysis {
       this._kernelMessage = this._trans.__('The results could not be sent to the kernel: %1', errorMessage(error));
     }
     this._changed.emit();
-  }
-
-  /** The engine's progress shown as the running state, while `ticket` is still the current run. */
-  private _walkProgress(ticket: number): { onProgress: (progress: IRunProgress) => void } {
-    return {
-      onProgress: progress => {
-        if (ticket === this._ticket) {
-          this._setRun({ state: 'running', progress, error: null });
-        }
-      }
-    };
   }
 
   private _setRun(status: IRunStatus): void {
