@@ -71,7 +71,32 @@ export interface IDuckDBLimits {
   maxDistinctRows?: number;
   /** Default {@link GROUPING_SETS_PER_QUERY}. */
   setsPerQuery?: number;
+  /** Default {@link RANK_BUCKETS}. */
+  rankBuckets?: number;
+  /** Default {@link RANK_FETCH_LIMIT}. */
+  rankFetchLimit?: number;
+  /** Default {@link LEVEL_SAMPLE_ROWS}. */
+  levelSampleRows?: number;
 }
+
+/**
+ * Equal-width buckets over a column's range for its exact order statistics (our choice): one
+ * `GROUP BY` of the bucket counts each bucket's values and their extremes; a wanted rank is then
+ * its bucket's minimum or maximum, or the values of the few buckets holding ranks are fetched and
+ * sorted in Node. DuckDB's `quantile_disc` instead holds and sorts the whole column (400 MB and
+ * tens of seconds for 5·10^7 doubles).
+ */
+export const RANK_BUCKETS = 65_536;
+
+/**
+ * Most values fetched into Node to sort for the order statistics of one column (our choice:
+ * 8 MB of doubles); a bucket above it (a heavy cluster of distinct values) is ranked inside
+ * DuckDB by `quantile_disc` over that bucket alone.
+ */
+export const RANK_FETCH_LIMIT = 1 << 20;
+
+/** Rows of the start of a file whose distinct values decide most columns' level counts at once (our choice). */
+export const LEVEL_SAMPLE_ROWS = 65_536;
 
 /** Most edges of one column binned in SQL (a nested CASE of that many comparisons): the scan driver's cap. */
 export const MAX_SQL_BINS = MAX_SCAN_BINS;
@@ -153,7 +178,7 @@ export async function aggregateWithDuckDB(
       }
     }
     const engineVersion = duckdb.version();
-    const scanner = new DuckDBScanner(connection, source, schema, path.basename(filePath), engineVersion);
+    const scanner = new DuckDBScanner(connection, source, schema, path.basename(filePath), engineVersion, limits);
     const missing: MissingPolicy = options.missing ?? 'drop';
     const plan = await planScan(scanner, selected, options);
     const grouped = await scanner.group(
@@ -281,21 +306,84 @@ export class DuckDBScanner implements IColumnScanner {
     source: string,
     schema: { name: string; type: string }[],
     readonly label: string,
-    engineVersion: string
+    engineVersion: string,
+    limits: IDuckDBLimits = {}
   ) {
     this._connection = connection;
     this._source = source;
     this._schema = schema;
     this._engineVersion = engineVersion;
+    this._limits = limits;
   }
 
-  /** Counts, missing rows, extremes, levels and the first ±Inf of each column. */
+  /**
+   * Counts, missing rows, extremes and the first ±Inf of every column in one scan of the file;
+   * levels (distinct values up to AUTO_MAX_LEVELS + 1) from the start of the file, checked
+   * against the whole file (see {@link Private.levels}).
+   */
   async facts(columns: string[]): Promise<IScannedFacts> {
-    const rowsResult = await this._connection.runAndReadAll(`SELECT count(*) FROM ${this._source}`);
-    const rows = Number(rowsResult.getRowsJS()[0][0]);
+    const sql = columns.map(name => this._sql(name));
+    const parts = ['count(*)'];
+    sql.forEach(({ x, value, missing, present, dtype, kind }) => {
+      parts.push(`count(*) FILTER (WHERE ${missing})`, `min(file_row_number) FILTER (WHERE ${missing})`);
+      if (kind === 'numeric') {
+        const rounded = dtype === 'int64' || dtype === 'uint64' ? `bool_or(CAST(${value} AS HUGEINT) <> CAST(${x} AS HUGEINT)) FILTER (WHERE ${present})` : 'false';
+        parts.push(
+          `min(${value}) FILTER (WHERE ${present})`,
+          `max(${value}) FILTER (WHERE ${present})`,
+          `min(file_row_number) FILTER (WHERE ${present} AND isinf(${value}))`,
+          rounded
+        );
+      }
+    });
+    const answer = await Private.one(this._connection, `SELECT ${parts.join(', ')} FROM ${this._source}`);
+    const rows = Number(answer[0]);
+    let at = 1;
     const found: IScannedColumnFacts[] = [];
-    for (const name of columns) {
-      found.push(await this._columnFacts(name, rows));
+    const numeric: number[] = [];
+    for (let i = 0; i < columns.length; i++) {
+      const { dtype, kind, float } = sql[i];
+      const missingCount = Number(answer[at]);
+      const firstMissing = answer[at + 1];
+      at += 2;
+      const base = {
+        name: columns[i],
+        dtype,
+        kind: (kind === 'numeric' ? 'numeric' : dtype === 'bool' ? 'bool' : 'string') as ScannedKind,
+        missingCount,
+        firstMissingRow: firstMissing === null ? -1 : Number(firstMissing),
+        count: rows - missingCount
+      };
+      if (kind !== 'numeric') {
+        found.push({ ...base, levels: 0, integer: dtype === 'bool', rounded: false, infinite: null, min: null, max: null });
+        continue;
+      }
+      const [min, max, firstInfinite, rounded] = answer.slice(at, at + 4);
+      at += 4;
+      if (missingCount === rows) {
+        found.push({ ...base, levels: 0, integer: false, rounded: false, infinite: null, min: null, max: null });
+        continue;
+      }
+      let infinite: { row: number; value: number } | null = null;
+      if (firstInfinite !== null) {
+        const row = Number(firstInfinite);
+        const value = await Private.one(this._connection, `SELECT ${sql[i].value} FROM ${this._source} WHERE file_row_number = ${row}`);
+        infinite = { row, value: Number(value[0]) };
+      }
+      numeric.push(found.length);
+      found.push({ ...base, levels: 0, integer: !float, rounded: rounded === true, infinite, min: Number(min), max: Number(max) });
+    }
+    const levels = await Private.levels(
+      this._connection,
+      this._source,
+      numeric.map(i => this._sql(found[i].name)),
+      this._limits.levelSampleRows ?? LEVEL_SAMPLE_ROWS
+    );
+    numeric.forEach((i, k) => {
+      found[i].levels = levels[k];
+    });
+    for (const column of found) {
+      this._facts.set(column.name, column);
     }
     return { rows, engine: { name: 'duckdb', version: this._engineVersion }, columns: found };
   }
@@ -305,10 +393,14 @@ export class DuckDBScanner implements IColumnScanner {
     const answers: IScannedColumnDetails[] = [];
     for (const request of requests) {
       const { value, present, float } = this._sql(request.name);
-      const count = Number((await Private.one(this._connection, `SELECT count(*) FROM ${this._source} WHERE ${present}`))[0]);
+      const facts = this._facts.get(request.name) ?? (await this.facts([request.name])).columns[0];
+      const count = facts.count;
       const ranks = new Map<number, number>();
       if (request.ranks.length > 0) {
-        await Private.orderStatistics(this._connection, this._source, value, present, count, request.ranks, ranks);
+        await Private.rankedValues(this._connection, this._source, value, present, facts, request.ranks, ranks, {
+          buckets: this._limits.rankBuckets ?? RANK_BUCKETS,
+          fetchLimit: this._limits.rankFetchLimit ?? RANK_FETCH_LIMIT
+        });
       }
       let std: number | null = null;
       let skewness: number | null = null;
@@ -431,53 +523,6 @@ export class DuckDBScanner implements IColumnScanner {
     return { x, value: `CAST(${x} AS DOUBLE)`, missing, present: `NOT ${missing}`, float, dtype, kind };
   }
 
-  private async _columnFacts(name: string, rows: number): Promise<IScannedColumnFacts> {
-    const { x, value, missing, present, float, dtype, kind } = this._sql(name);
-    const counted = await Private.one(
-      this._connection,
-      `SELECT count(*) FILTER (WHERE ${missing}), min(file_row_number) FILTER (WHERE ${missing}) FROM ${this._source}`
-    );
-    const missingCount = Number(counted[0]);
-    const base = {
-      name,
-      dtype,
-      kind: (kind === 'numeric' ? 'numeric' : dtype === 'bool' ? 'bool' : 'string') as ScannedKind,
-      missingCount,
-      firstMissingRow: counted[1] === null ? -1 : Number(counted[1]),
-      count: rows - missingCount
-    };
-    if (kind !== 'numeric' || missingCount === rows) {
-      return { ...base, levels: 0, integer: dtype === 'bool', rounded: false, infinite: null, min: null, max: null };
-    }
-    const basics = await Private.one(
-      this._connection,
-      `SELECT count(*), min(${value}), max(${value}),
-         min(file_row_number) FILTER (WHERE isinf(${value})),
-         ${dtype === 'int64' || dtype === 'uint64' ? `bool_or(CAST(${value} AS HUGEINT) <> CAST(${x} AS HUGEINT))` : 'false'}
-       FROM ${this._source} WHERE ${present}`
-    );
-    const levelsRow = await Private.one(
-      this._connection,
-      `SELECT count(*) FROM (SELECT DISTINCT ${value} FROM ${this._source} WHERE ${present} LIMIT ${AUTO_MAX_LEVELS + 1})`
-    );
-    let infinite: { row: number; value: number } | null = null;
-    if (basics[3] !== null) {
-      const row = Number(basics[3]);
-      const found = await Private.one(this._connection, `SELECT ${value} FROM ${this._source} WHERE file_row_number = ${row}`);
-      infinite = { row, value: Number(found[0]) };
-    }
-    return {
-      ...base,
-      count: Number(basics[0]),
-      levels: Number(levelsRow[0]),
-      integer: !float,
-      rounded: basics[4] === true,
-      infinite,
-      min: Number(basics[1]),
-      max: Number(basics[2])
-    };
-  }
-
   /** One key column from DuckDB's values (codes, numbers or texts; NULL missing). */
   private _keys(key: IScanGroupKey, values: unknown[]): ScannedKeys {
     const valid = Uint8Array.from(values, v => (v === null ? 0 : 1));
@@ -494,6 +539,9 @@ export class DuckDBScanner implements IColumnScanner {
   private _source: string;
   private _schema: { name: string; type: string }[];
   private _engineVersion: string;
+  private _limits: IDuckDBLimits;
+  /** The facts of each column this scanner has read (details need their counts and extremes). */
+  private _facts = new Map<string, IScannedColumnFacts>();
 }
 
 namespace Private {
@@ -532,6 +580,11 @@ namespace Private {
       throw new PolyadicError('internal', `A bin edge ${value} is not finite.`);
     }
     return `CAST('${Object.is(value, -0) ? '-0.0' : String(value)}' AS DOUBLE)`;
+  }
+
+  /** A column's value as SQL: {@link double}, and ±Inf (a value, never an edge) as DuckDB spells it. */
+  export function valueConstant(value: number): string {
+    return Number.isFinite(value) ? double(value) : `CAST('${value > 0 ? 'inf' : '-inf'}' AS DOUBLE)`;
   }
 
   /** The engine's dtype name of a DuckDB column type (as the in-memory Parquet reader names it). */
@@ -588,6 +641,156 @@ namespace Private {
     // DuckDB lists are indexed from 1.
     const down = `(${raw} - CASE WHEN ${value} < ${list}[${raw} + 1] THEN 1 ELSE 0 END)`;
     return `(${down} + CASE WHEN ${value} >= ${list}[${down} + 2] AND ${down} <> ${count - 1} THEN 1 ELSE 0 END)`;
+  }
+
+  /** The SQL pieces of a column that {@link levels} and {@link rankedValues} read. */
+  type ColumnSql = { value: string; present: string };
+
+  /**
+   * Each numeric column's distinct values, counted up to AUTO_MAX_LEVELS + 1, without a hash
+   * of the whole column: the distinct values among the first `sampleRows` rows decide a column
+   * that has more than AUTO_MAX_LEVELS of them there; for the others, one scan of the file
+   * counts the values outside the sample's (none: the sample's count is the column's); a column
+   * with values outside them is counted by `SELECT DISTINCT … LIMIT` over the file.
+   */
+  export async function levels(connection: Connection, source: string, columns: ColumnSql[], sampleRows: number): Promise<number[]> {
+    if (columns.length === 0) {
+      return [];
+    }
+    const cap = AUTO_MAX_LEVELS + 1;
+    const sample = `(SELECT * FROM ${source} LIMIT ${sampleRows})`;
+    const seen = (
+      await one(
+        connection,
+        `SELECT ${columns.map(({ value, present }) => `count(DISTINCT ${value}) FILTER (WHERE ${present})`).join(', ')} FROM ${sample}`
+      )
+    ).map(Number);
+    const found = seen.map(n => Math.min(n, cap));
+    const few = columns.flatMap((_column, i) => (seen[i] < cap ? [i] : []));
+    if (few.length === 0) {
+      return found;
+    }
+    const lists = await one(
+      connection,
+      `SELECT ${few.map(i => `list(DISTINCT ${columns[i].value}) FILTER (WHERE ${columns[i].present})`).join(', ')} FROM ${sample}`
+    );
+    const outside = (
+      await one(
+        connection,
+        `SELECT ${few
+          .map((i, k) => {
+            const known = ((lists[k] as unknown[] | null) ?? []).map(v => valueConstant(Number(v)));
+            const test = known.length === 0 ? '' : ` AND ${columns[i].value} NOT IN (${known.join(', ')})`;
+            return `count(*) FILTER (WHERE ${columns[i].present}${test})`;
+          })
+          .join(', ')} FROM ${source}`
+      )
+    ).map(Number);
+    for (let k = 0; k < few.length; k++) {
+      if (outside[k] > 0) {
+        const { value, present } = columns[few[k]];
+        const counted = await one(connection, `SELECT count(*) FROM (SELECT DISTINCT ${value} FROM ${source} WHERE ${present} LIMIT ${cap})`);
+        found[few[k]] = Number(counted[0]);
+      }
+    }
+    return found;
+  }
+
+  /**
+   * Exact order statistics by rank (0-based among the present values) without sorting the
+   * column: the values' range in `buckets` equal-width buckets (the bucket computed in SQL, the
+   * same expression selecting a bucket's values again), each bucket's count, minimum and
+   * maximum from one `GROUP BY`; a rank is its bucket's minimum or maximum when it is the
+   * bucket's first or last, the value when the bucket holds one; otherwise the values of the
+   * buckets holding ranks are fetched (up to `fetchLimit` of them) and sorted here, and a bucket
+   * above that is ranked inside DuckDB ({@link orderStatistics} over the bucket).
+   */
+  export async function rankedValues(
+    connection: Connection,
+    source: string,
+    value: string,
+    present: string,
+    facts: { count: number; min: number | null; max: number | null },
+    wanted: number[],
+    out: Map<number, number>,
+    limits: { buckets: number; fetchLimit: number }
+  ): Promise<void> {
+    const { min, max, count } = facts;
+    if (min === null || max === null) {
+      throw new PolyadicError('internal', 'Order statistics were asked of a column without values.');
+    }
+    if (min === max) {
+      wanted.forEach(rank => out.set(rank, min));
+      return;
+    }
+    const width = (max - min) / limits.buckets;
+    if (!(width > 0 && Number.isFinite(width))) {
+      await orderStatistics(connection, source, value, present, count, wanted, out);
+      return;
+    }
+    const bucket = `CAST(least(greatest(floor((${value} - ${double(min)}) / ${double(width)}), 0), ${limits.buckets - 1}) AS INTEGER)`;
+    const rows = (
+      await connection.runAndReadAll(
+        `SELECT b, count(*), min(v), max(v) FROM (SELECT ${bucket} AS b, ${value} AS v FROM ${source} WHERE ${present}) GROUP BY b ORDER BY b`
+      )
+    ).getRowsJS();
+    // each wanted rank's bucket and its rank there
+    const toFetch = new Map<number, { below: number; count: number; ranks: number[] }>();
+    let below = 0;
+    let r = 0;
+    const sorted = [...wanted].sort((a, b) => a - b);
+    for (const row of rows) {
+      const n = Number(row[1]);
+      const lo = Number(row[2]);
+      const hi = Number(row[3]);
+      while (r < sorted.length && sorted[r] < below + n) {
+        const rank = sorted[r++];
+        const local = rank - below;
+        if (lo === hi || local === 0) {
+          out.set(rank, lo);
+        } else if (local === n - 1) {
+          out.set(rank, hi);
+        } else {
+          const entry = toFetch.get(Number(row[0])) ?? { below, count: n, ranks: [] };
+          entry.ranks.push(rank);
+          toFetch.set(Number(row[0]), entry);
+        }
+      }
+      below += n;
+    }
+    if (r < sorted.length || below !== count) {
+      throw new PolyadicError('internal', `DuckDB's bucket counts of a column add up to ${below} values, not ${count}.`);
+    }
+    const light: number[] = [];
+    let fetched = 0;
+    for (const [b, entry] of [...toFetch].sort((x, y) => x[1].count - y[1].count)) {
+      if (fetched + entry.count <= limits.fetchLimit) {
+        light.push(b);
+        fetched += entry.count;
+      } else {
+        // a heavy bucket: ranked inside DuckDB over its own values
+        const local = new Map<number, number>();
+        await orderStatistics(connection, source, value, `${present} AND ${bucket} = ${b}`, entry.count, entry.ranks.map(rank => rank - entry.below), local);
+        entry.ranks.forEach(rank => out.set(rank, local.get(rank - entry.below) as number));
+      }
+    }
+    if (light.length > 0) {
+      const values = new Map<number, number[]>(light.map(b => [b, []]));
+      const result = await connection.runAndReadAll(
+        `SELECT b, v FROM (SELECT ${bucket} AS b, ${value} AS v FROM ${source} WHERE ${present}) WHERE b IN (${light.join(', ')})`
+      );
+      for (const [b, v] of result.getRowsJS()) {
+        values.get(Number(b))!.push(Number(v));
+      }
+      for (const b of light) {
+        const entry = toFetch.get(b)!;
+        const ordered = Float64Array.from(values.get(b)!).sort();
+        if (ordered.length !== entry.count) {
+          throw new PolyadicError('internal', `DuckDB gave ${ordered.length} values of a bucket it counted ${entry.count} in.`);
+        }
+        entry.ranks.forEach(rank => out.set(rank, ordered[rank - entry.below]));
+      }
+    }
   }
 
   /**

@@ -8,7 +8,7 @@ import { promises as fs } from 'fs';
 import * as os from 'os';
 import * as path from 'path';
 
-import { DuckDBInstance } from '@duckdb/node-api';
+import { DuckDBConnection, DuckDBInstance } from '@duckdb/node-api';
 import { unsafeUniformIntDistribution, xoroshiro128plus } from 'pure-rand';
 
 import { analyzeViaDuckDB, IDuckDBLimits } from '../../src/cli/duckdb';
@@ -80,6 +80,25 @@ describe('analyzeViaDuckDB', () => {
     it(`should bin and count as the in-memory engine under ${bins}`, async () => {
       const columns = bins === 'categorical' ? ['b', 'd', 'e', 'f'] : undefined;
       expectSame(...(await both({ bins, columns })));
+    });
+  }
+
+  // Order statistics come from bucket counts, fetched buckets, or quantile_disc over a heavy
+  // bucket; levels from the file's first rows or a DISTINCT over the file. Limits this small
+  // take each way on the fixture, and the queries show that they did.
+  for (const [way, limits, sql] of [
+    ['values of a few buckets fetched and sorted', { rankBuckets: 3, rankFetchLimit: 100_000 }, /WHERE b IN \(/],
+    ['heavy buckets ranked by quantile_disc', { rankBuckets: 2, rankFetchLimit: 0 }, /quantile_disc\(.* AND CAST\(least/],
+    ['levels counted by DISTINCT over the file', { levelSampleRows: 1 }, /SELECT count\(\*\) FROM \(SELECT DISTINCT/]
+  ] as const) {
+    it(`should give the same edges with ${way}`, async () => {
+      const spy = jest.spyOn(DuckDBConnection.prototype, 'runAndReadAll');
+      try {
+        expectSame(...(await both({ bins: 'quantile:5', binsByColumn: { b: 'quantile:3', f: 'auto' } }, limits)));
+        expect(spy.mock.calls.some(call => sql.test(String(call[0])))).toBe(true);
+      } finally {
+        spy.mockRestore();
+      }
     });
   }
 
