@@ -82,6 +82,8 @@ export namespace IPolyadicPanel {
       readonly frame: string | null;
       /** The kernel's frames. */
       readonly frames: readonly { name: string }[];
+      /** True while the notebook's kernel connects and its first listing of frames has not arrived. */
+      readonly listingPending: boolean;
       /** The columns of the frame picked. */
       readonly columns: readonly { name: string }[];
       /** The rows fetched for the frame picked, or null before they arrive. */

@@ -73,8 +73,11 @@ test('should keep 0/1 and 0/1/2 integer columns as categories by default and fin
   }
   await expect(binningRow('genotype').locator('.pd-Binning-result')).toHaveText('→ 3 categories (each value kept)');
   await run();
+  // the results view fills its tables in slices after the run is done: poll until the first row is there
   const first = resultsView(page).locator('.pd-ResultsTable-synergy tbody tr.pd-ResultsTable-row').first();
-  expect((await first.locator('.pd-ResultsTable-name').allTextContents()).sort()).toEqual(['spike_a', 'spike_b', 'spike_c']);
+  await expect
+    .poll(async () => (await first.locator('.pd-ResultsTable-name').allTextContents()).sort(), { timeout: 60_000 })
+    .toEqual(['spike_a', 'spike_b', 'spike_c']);
 
   // an explicit spec that merges the values of such a column says so in the column's row
   const input = polyadicPanel(page).getByLabel('Binning of column spike_a', { exact: true });

@@ -67,7 +67,10 @@ test('should run with surrogates: q and p in the synergy table, the triplet firs
   await focusResults(page);
   const synergy = results().locator('.pd-ResultsTable-synergy');
   // the compact columns carry q and p; every measure (the null's mean among them) one tick away
-  expect(await synergy.locator('thead th').allTextContents()).toEqual(expect.arrayContaining(['Co-information', 'q', 'p']));
+  // the view fills its tables in slices after the run is done: poll until the columns are there
+  await expect
+    .poll(() => synergy.locator('thead th').allTextContents(), { timeout: 60_000 })
+    .toEqual(expect.arrayContaining(['Co-information', 'q', 'p']));
   await synergy.getByRole('checkbox', { name: 'Every measure', exact: true }).check();
   await expect(synergy.locator('thead th', { hasText: 'Null mean' })).toHaveCount(1);
   const headers = await synergy.locator('thead th').allTextContents();

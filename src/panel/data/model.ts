@@ -89,6 +89,12 @@ export class DataModel {
     return this._bridge?.listing?.frames ?? [];
   }
 
+  /** True while the notebook's kernel connects (or starts) and its first listing has not arrived. */
+  get listingPending(): boolean {
+    const bridge = this._bridge;
+    return bridge !== null && bridge.listing === null && ['no-kernel', 'starting', 'ready'].includes(bridge.status.state);
+  }
+
   /** The picked frame's name, or null. */
   get frame(): string | null {
     return this._frame;

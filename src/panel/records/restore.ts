@@ -9,6 +9,9 @@ import type { IPolyadicPanel } from '../../tokens';
 import { translationBundle, type ITranslator, type TranslationBundle } from '../../translation';
 import type { IRestoreRequest, IRunFrame } from './types';
 
+/** How long a restore waits for the kernel's first listing of frames (our choice: a kernel's start and the silent import). */
+export const LISTING_WAIT_MS = 30_000;
+
 /** The members of the analysis model a restore uses. */
 export type IRestoreTarget = Pick<IPolyadicPanel.IAnalysis, 'data' | 'binning' | 'estimator' | 'statistics'>;
 
@@ -24,6 +27,10 @@ export async function restoreSettings(
   trans: TranslationBundle = translationBundle()
 ): Promise<string | null> {
   const { data, binning, estimator } = target;
+  if (data.listingPending) {
+    // a notebook just opened: its kernel's listing is still on its way
+    await Private.firstListing(data, LISTING_WAIT_MS);
+  }
   if (!data.frames.some(frame => frame.name === request.frame)) {
     return trans.__("The kernel holds no dataframe named '%1'; run the cell that makes it, then restore again.", request.frame);
   }
@@ -107,4 +114,24 @@ export function followRestores(target: IRestoreTarget, records: IPolyadicPanel.I
       records.changed.disconnect(check);
     }
   };
+}
+
+namespace Private {
+  /** Resolves once `data` has its first listing (or gave up on it), or after `ms`. */
+  export function firstListing(data: IRestoreTarget['data'], ms: number): Promise<void> {
+    return new Promise(resolve => {
+      const done = (): void => {
+        if (!data.listingPending || timer === null) {
+          clearTimeout(timer ?? undefined);
+          data.changed.disconnect(done);
+          resolve();
+        }
+      };
+      let timer: ReturnType<typeof setTimeout> | null = setTimeout(() => {
+        timer = null;
+        done();
+      }, ms);
+      data.changed.connect(done);
+    });
+  }
 }
