@@ -6,9 +6,9 @@
  * statistics, and for scott/doane the column streamed in chunks for numpy's pairwise sums) and
  * the weighted distinct rows.
  *
- * Exactness: the edges come from the engine's own planNumeric on an exact summary (DuckDB's
- * `quantile_disc` gives order statistics, each checked by counting, and numpy's interpolation is
- * ours); a value's bin is numpy's rule evaluated in SQL on IEEE doubles, with the edges written as
+ * Exactness: the edges come from the engine's own planNumeric on an exact summary (order
+ * statistics from bucket counts and the sorted values of the buckets holding the ranks, see
+ * Private.rankedValues, and numpy's interpolation is ours); a value's bin is numpy's rule evaluated in SQL on IEEE doubles, with the edges written as
  * the shortest decimal that reads back as the same double.
  *
  * Past the cap on distinct rows, an order-limited run counts each multiplet on its own instead:
