@@ -8,8 +8,9 @@
  *
  * Exactness: the edges come from the engine's own planNumeric on an exact summary (order
  * statistics from bucket counts and the sorted values of the buckets holding the ranks, see
- * Private.rankedValues, and numpy's interpolation is ours); a value's bin is numpy's rule evaluated in SQL on IEEE doubles, with the edges written as
- * the shortest decimal that reads back as the same double.
+ * Private.rankedValues, and numpy's interpolation is ours); a value's bin is numpy's rule
+ * evaluated in SQL on IEEE doubles, with the edges written as the shortest decimal that reads
+ * back as the same double.
  *
  * Past the cap on distinct rows, an order-limited run counts each multiplet on its own instead:
  * `GROUP BY … GROUPING SETS`, one set per multiplet and a batch of sets per query, gives every
@@ -376,7 +377,7 @@ export class DuckDBScanner implements IColumnScanner {
     const levels = await Private.levels(
       this._connection,
       this._source,
-      numeric.map(i => this._sql(found[i].name)),
+      numeric.map(i => sql[i]),
       this._limits.levelSampleRows ?? LEVEL_SAMPLE_ROWS
     );
     numeric.forEach((i, k) => {
@@ -729,11 +730,9 @@ namespace Private {
       return;
     }
     const bucket = `CAST(least(greatest(floor((${value} - ${double(min)}) / ${double(width)}), 0), ${limits.buckets - 1}) AS INTEGER)`;
-    const rows = (
-      await connection.runAndReadAll(
-        `SELECT b, count(*), min(v), max(v) FROM (SELECT ${bucket} AS b, ${value} AS v FROM ${source} WHERE ${present}) GROUP BY b ORDER BY b`
-      )
-    ).getRowsJS();
+    // each present value with its bucket (columns b, v), for the counts and again for the fetch
+    const bucketed = `(SELECT ${bucket} AS b, ${value} AS v FROM ${source} WHERE ${present})`;
+    const rows = (await connection.runAndReadAll(`SELECT b, count(*), min(v), max(v) FROM ${bucketed} GROUP BY b ORDER BY b`)).getRowsJS();
     // each wanted rank's bucket and its rank there
     const toFetch = new Map<number, { below: number; count: number; ranks: number[] }>();
     let below = 0;
@@ -777,7 +776,7 @@ namespace Private {
     if (light.length > 0) {
       const values = new Map<number, number[]>(light.map(b => [b, []]));
       const result = await connection.runAndReadAll(
-        `SELECT b, v FROM (SELECT ${bucket} AS b, ${value} AS v FROM ${source} WHERE ${present}) WHERE b IN (${light.join(', ')})`
+        `SELECT b, v FROM ${bucketed} WHERE b IN (${light.join(', ')})`
       );
       for (const [b, v] of result.getRowsJS()) {
         values.get(Number(b))!.push(Number(v));

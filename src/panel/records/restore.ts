@@ -120,18 +120,18 @@ namespace Private {
   /** Resolves once `data` has its first listing (or gave up on it), or after `ms`. */
   export function firstListing(data: IRestoreTarget['data'], ms: number): Promise<void> {
     return new Promise(resolve => {
-      const done = (): void => {
-        if (!data.listingPending || timer === null) {
-          clearTimeout(timer ?? undefined);
-          data.changed.disconnect(done);
-          resolve();
+      const finish = (): void => {
+        clearTimeout(timer);
+        data.changed.disconnect(onChange);
+        resolve();
+      };
+      const onChange = (): void => {
+        if (!data.listingPending) {
+          finish();
         }
       };
-      let timer: ReturnType<typeof setTimeout> | null = setTimeout(() => {
-        timer = null;
-        done();
-      }, ms);
-      data.changed.connect(done);
+      const timer = setTimeout(finish, ms);
+      data.changed.connect(onChange);
     });
   }
 }
