@@ -8,8 +8,8 @@ import { promises as fs } from 'fs';
 import * as path from 'path';
 
 import * as arrow from 'apache-arrow';
-import { parquetMetadata, parquetRead, parquetSchema } from 'hyparquet';
-import type { FileMetaData, ParquetParsers, SchemaTree } from 'hyparquet';
+import { parquetMetadataAsync, parquetRead, parquetSchema } from 'hyparquet';
+import type { AsyncBuffer, FileMetaData, ParquetParsers, SchemaTree } from 'hyparquet';
 import Papa from 'papaparse';
 
 import { errorMessage, PolyadicError } from '../engine/errors';
@@ -74,16 +74,24 @@ export function dataFormatOf(filePath: string): DataFormat {
 /** Read a data file in the format its extension names. */
 export async function readDataFile(filePath: string, options: IReadOptions = {}): Promise<IDataSource> {
   const format = dataFormatOf(filePath);
-  const bytes = await Private.readBytes(filePath);
   const label = path.basename(filePath);
+  if (format === 'parquet') {
+    // Parquet is read a row group at a time from the open file, never as one buffer.
+    const handle = await Private.openFile(filePath);
+    try {
+      const stat = await handle.stat();
+      return await readParquetBuffer(Private.fileBuffer(handle, stat.size), label, options);
+    } finally {
+      await handle.close();
+    }
+  }
+  const bytes = await Private.readBytes(filePath);
   switch (format) {
     case 'csv':
     case 'tsv':
       return readDelimitedText(Private.decodeText(bytes, label), format, label, options);
     case 'arrow':
       return readArrowBytes(bytes, label, options);
-    case 'parquet':
-      return readParquetBytes(bytes, label, options);
   }
 }
 
@@ -196,10 +204,20 @@ export async function readParquetBytes(
   options: IReadOptions = {}
 ): Promise<IDataSource> {
   const buffer = bytes.buffer.slice(bytes.byteOffset, bytes.byteOffset + bytes.byteLength) as ArrayBuffer;
+  return readParquetBuffer(buffer, label, options);
+}
+
+/**
+ * Read Parquet from a buffer that hands out byte ranges (a file or bytes in memory), one row
+ * group at a time. A float64 column is written straight into one Float64Array of the file's
+ * length, so the peak is the columns themselves plus one row group's decoded values; other
+ * columns keep their row-group parts until the end.
+ */
+async function readParquetBuffer(file: AsyncBuffer, label: string, options: IReadOptions): Promise<IDataSource> {
   let metadata: FileMetaData;
   let schema: SchemaTree;
   try {
-    metadata = parquetMetadata(buffer, { parsers: Private.PARQUET_PARSERS });
+    metadata = await parquetMetadataAsync(file, { parsers: Private.PARQUET_PARSERS });
     schema = parquetSchema(metadata);
   } catch (error) {
     throw Private.notFormat(label, 'a Parquet file', errorMessage(error));
@@ -215,30 +233,58 @@ export async function readParquetBytes(
   for (const name of selected) {
     dtypes.set(name, Private.parquetDtype(schema.children[names.indexOf(name)]));
   }
-  const chunks = new Map<string, { rowStart: number; data: ArrayLike<unknown> }[]>(
-    selected.map(name => [name, []])
-  );
+  const doubles = new Map<string, Private.DoubleColumn>();
+  const chunks = new Map<string, { rowStart: number; data: ArrayLike<unknown> }[]>();
+  for (const name of selected) {
+    if (dtypes.get(name) === 'float64') {
+      doubles.set(name, new Private.DoubleColumn(name, rows));
+    } else {
+      chunks.set(name, []);
+    }
+  }
   try {
-    await parquetRead({
-      file: buffer,
-      metadata,
-      columns: selected,
-      parsers: Private.PARQUET_PARSERS,
-      onChunk: chunk => {
-        chunks.get(chunk.columnName)?.push({ rowStart: chunk.rowStart, data: chunk.columnData });
-      }
-    });
+    let groupStart = 0;
+    for (const group of metadata.row_groups) {
+      const groupEnd = groupStart + Number(group.num_rows);
+      await parquetRead({
+        file,
+        metadata,
+        columns: selected,
+        rowStart: groupStart,
+        rowEnd: groupEnd,
+        parsers: Private.PARQUET_PARSERS,
+        onChunk: chunk => {
+          const double = doubles.get(chunk.columnName);
+          if (double) {
+            double.write(chunk.rowStart, chunk.columnData);
+          } else {
+            chunks.get(chunk.columnName)?.push({ rowStart: chunk.rowStart, data: chunk.columnData });
+          }
+        }
+      });
+      groupStart = groupEnd;
+    }
   } catch (error) {
+    if (error instanceof PolyadicError) {
+      throw error;
+    }
     throw Private.notFormat(label, 'a readable Parquet file', errorMessage(error));
   }
   const columns = selected.map(name => {
-    const parts = chunks.get(name)!.sort((a, b) => a.rowStart - b.rowStart);
-    const values = parts.length === 1 ? parts[0].data : Private.concatParts(parts.map(part => part.data));
-    const column = columnFromValues(name, values, dtypes.get(name));
-    if (columnLength(column) !== rows) {
+    const double = doubles.get(name);
+    let column: ColumnView;
+    if (double) {
+      column = double.view();
+    } else {
+      const parts = chunks.get(name)!.sort((a, b) => a.rowStart - b.rowStart);
+      const values = parts.length === 1 ? parts[0].data : Private.concatParts(parts.map(part => part.data));
+      column = columnFromValues(name, values, dtypes.get(name));
+    }
+    const length = double ? double.written : columnLength(column);
+    if (length !== rows) {
       throw new PolyadicError(
         'input',
-        `${label}: column '${name}' has ${plural(columnLength(column), 'value')} where the file has ${plural(rows, 'row')}.`,
+        `${label}: column '${name}' has ${plural(length, 'value')} where the file has ${plural(rows, 'row')}.`,
         { column: name }
       );
     }
@@ -262,17 +308,109 @@ namespace Private {
     try {
       return await fs.readFile(filePath);
     } catch (error) {
-      const code = (error as NodeJS.ErrnoException).code;
-      const reason =
-        code === 'ENOENT'
-          ? 'does not exist'
-          : code === 'EISDIR'
-            ? 'is a directory, not a file'
-            : code === 'EACCES'
-              ? 'cannot be read (permission denied)'
-              : `cannot be read (${(error as Error).message})`;
-      throw new PolyadicError('input', `File '${filePath}' ${reason}.`, { value: filePath });
+      throw fileError(filePath, error);
     }
+  }
+
+  /** Open a file for reading, with the same errors as {@link readBytes}. */
+  export async function openFile(filePath: string): Promise<fs.FileHandle> {
+    try {
+      const handle = await fs.open(filePath, 'r');
+      const stat = await handle.stat();
+      if (stat.isDirectory()) {
+        await handle.close();
+        throw Object.assign(new Error('is a directory'), { code: 'EISDIR' });
+      }
+      return handle;
+    } catch (error) {
+      throw fileError(filePath, error);
+    }
+  }
+
+  /** A file-system error as an input error naming the path. */
+  function fileError(filePath: string, error: unknown): PolyadicError {
+    const code = (error as NodeJS.ErrnoException).code;
+    const reason =
+      code === 'ENOENT'
+        ? 'does not exist'
+        : code === 'EISDIR'
+          ? 'is a directory, not a file'
+          : code === 'EACCES'
+            ? 'cannot be read (permission denied)'
+            : `cannot be read (${(error as Error).message})`;
+    return new PolyadicError('input', `File '${filePath}' ${reason}.`, { value: filePath });
+  }
+
+  /** Byte ranges of an open file, read on demand (hyparquet's AsyncBuffer). */
+  export function fileBuffer(handle: fs.FileHandle, size: number): AsyncBuffer {
+    return {
+      byteLength: size,
+      async slice(start: number, end: number = size): Promise<ArrayBuffer> {
+        const out = new Uint8Array(Math.max(0, end - start));
+        let at = 0;
+        while (at < out.length) {
+          const { bytesRead } = await handle.read(out, at, out.length - at, start + at);
+          if (bytesRead === 0) {
+            throw new Error(`the file ended at byte ${start + at} of ${size}`);
+          }
+          at += bytesRead;
+        }
+        return out.buffer;
+      }
+    };
+  }
+
+  /**
+   * A float64 column filled a chunk at a time: the same view {@link columnFromValues} makes of
+   * the whole column (a null is NaN and marked missing; NaN itself is a value).
+   */
+  export class DoubleColumn {
+    constructor(
+      readonly name: string,
+      rows: number
+    ) {
+      this._values = new Float64Array(rows);
+    }
+
+    /** Values written so far. */
+    written = 0;
+
+    write(rowStart: number, data: ArrayLike<unknown>): void {
+      const values = this._values;
+      if (rowStart + data.length > values.length) {
+        throw new PolyadicError(
+          'input',
+          `Column '${this.name}' has more values than the file has rows.`,
+          { column: this.name }
+        );
+      }
+      if (data instanceof Float64Array) {
+        values.set(data, rowStart);
+      } else {
+        for (let i = 0; i < data.length; i++) {
+          const value = data[i];
+          if (value === null || value === undefined) {
+            values[rowStart + i] = NaN;
+            this._missing ??= new Uint8Array(values.length);
+            this._missing[rowStart + i] = 1;
+          } else if (typeof value === 'number') {
+            values[rowStart + i] = value;
+          } else {
+            // not a float64 after all: the whole-column reader names the value and its row
+            columnFromValues(this.name, [value], 'float64');
+            values[rowStart + i] = Number(value);
+          }
+        }
+      }
+      this.written += data.length;
+    }
+
+    view(): ColumnView {
+      return { kind: 'numeric', name: this.name, dtype: 'float64', values: this._values, missing: this._missing };
+    }
+
+    private _values: Float64Array;
+    private _missing: Uint8Array | null = null;
   }
 
   /** Decode UTF-8 text, refusing binary files (and naming the format they look like). */

@@ -188,3 +188,52 @@ describe('reportError', () => {
     expect(out.stderr).toBe('polyadic: Too many multiplets.\n');
   });
 });
+
+describe('readDataFile on Parquet of many row groups', () => {
+  // DuckDB (the Node binding package.json pins) writes the file and reads it back: the values
+  // and the missing rows the reader returns are DuckDB's own, row for row.
+  it('should read float64 row groups with nulls, NaN and ±Inf as DuckDB reads them', async () => {
+    const { DuckDBInstance } = await import('@duckdb/node-api');
+    const os = await import('os');
+    const { promises: fs } = await import('fs');
+    const dir = await fs.mkdtemp(path.join(os.tmpdir(), 'polyadic-parquet-'));
+    const file = path.join(dir, 'groups.parquet');
+    const instance = await DuckDBInstance.create(':memory:');
+    const connection = await instance.connect();
+    try {
+      // x: nulls in some groups only; y: a whole row group of nulls; k: int64; s: text
+      await connection.run(
+        `COPY (SELECT i, ` +
+          `CASE WHEN i % 97 = 0 THEN NULL WHEN i % 89 = 0 THEN 'NaN'::DOUBLE WHEN i = 5000 THEN 'inf'::DOUBLE ` +
+          `ELSE sin(i) * 1e3 END AS x, ` +
+          `CASE WHEN i BETWEEN 4096 AND 6143 THEN NULL ELSE i / 7.0 END::DOUBLE AS y, ` +
+          `(i * 7919)::BIGINT AS k, CASE WHEN i % 3 = 0 THEN 'a' ELSE 'b' END AS s ` +
+          `FROM range(10000) t(i) ORDER BY i) TO '${file}' (FORMAT parquet, ROW_GROUP_SIZE 2048)`
+      );
+      const groups = await connection.runAndReadAll(`SELECT count(DISTINCT row_group_id) FROM parquet_metadata('${file}')`);
+      expect(Number(groups.getRows()[0][0])).toBeGreaterThan(3);
+      const expected = await connection.runAndReadAll(`SELECT x, y, k, s FROM '${file}' ORDER BY i`);
+      const rows = expected.getRows();
+      const source = await readDataFile(file, { columns: ['x', 'y', 'k', 's'] });
+      expect(source.rows).toBe(10000);
+      const [x, y, k, s] = source.columns as [INumericColumn, INumericColumn, INumericColumn, ICategoricalColumn];
+      expect(x.values).toBeInstanceOf(Float64Array);
+      for (const [index, column] of [[0, x], [1, y]] as const) {
+        for (let i = 0; i < rows.length; i++) {
+          const want = rows[i][index] as number | null;
+          expect([i, column.missing?.[i] === 1]).toEqual([i, want === null]);
+          expect([i, column.values[i]]).toEqual([i, want === null ? NaN : want]);
+        }
+      }
+      expect(y.missing?.slice(4096, 6144).every(flag => flag === 1)).toBe(true);
+      expect(Array.from(k.values as BigInt64Array, Number)).toEqual(rows.map(row => Number(row[2])));
+      expect(s.codes.length).toBe(10000);
+      expect(s.categories[s.codes[3]]).toBe('a');
+      expect(s.categories[s.codes[4]]).toBe('b');
+    } finally {
+      connection.closeSync();
+      instance.closeSync();
+      await fs.rm(dir, { recursive: true, force: true });
+    }
+  });
+});
