@@ -1,14 +1,19 @@
 /**
- * Validation of the record against src/record/record.schema.json with Ajv (draft 2020-12), plus
+ * Validation of the record against src/record/record.schema.json with Ajv (draft 2020-12, strict,
+ * all errors), plus
  * the few rules a JSON Schema cannot state (ids unique across analyses, the binning list
  * following the selected columns, summary multiplets drawn from the selection). Every problem
  * names the JSON Pointer of the offending value, so a person can find it in a hand-edited file.
+ * The record's validators are compiled at build time (scripts/build-validators.mjs, with these
+ * options), so no schema is compiled on the page; only the older layouts compile when migrated.
  */
 
 import Ajv2020, { type ErrorObject, type ValidateFunction } from 'ajv/dist/2020';
 
 import { PolyadicError } from '../engine/errors';
-import { RECORD_SCHEMA, RECORD_SCHEMA_ID } from './schema';
+import { FORMATS } from './formats';
+import { analysisWithDefaults } from './record-defaults.generated';
+import { analysis, record } from './record-validators.generated';
 import type { IAnalysisRecord, IRecordDocument, IRecordProblem } from './types';
 
 /** Most problems reported for one record; a badly broken record would otherwise list thousands. */
@@ -73,7 +78,7 @@ export function fillSchemaDefaults(value: Record<string, unknown>): void {
  * used for the layouts of older record versions before they are migrated.
  */
 export function compileValidator<T>(schema: object): (value: unknown) => ValidationResult<T> {
-  const check = Private.makeAjv(false).compile(schema);
+  const check = Private.makeAjv().compile(schema);
   return value =>
     check(value) ? { ok: true, value: value as T } : { ok: false, problems: Private.problemsOf(check.errors ?? [], '') };
 }
@@ -96,36 +101,16 @@ namespace Private {
     withDefaults: ValidateFunction;
   }
 
-  let compiled: IValidators | null = null;
-
-  /** RFC 3339 date-time, as `Date.prototype.toISOString` writes it and people type it. */
-  const DATE_TIME = /^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}:\d{2}(?:\.\d+)?(?:Z|[+-]\d{2}:\d{2})$/i;
-
-  /** An Ajv instance in strict mode, all errors, with our date-time format. */
-  export function makeAjv(useDefaults: boolean): Ajv2020 {
-    const ajv = new Ajv2020({ allErrors: true, strict: true, useDefaults });
-    ajv.addFormat('date-time', {
-      type: 'string',
-      validate: text => DATE_TIME.test(text) && !Number.isNaN(Date.parse(text))
-    });
-    return ajv;
+  /** The validators generated from the schema at build time. */
+  export function validators(): IValidators {
+    return { record, analysis, withDefaults: analysisWithDefaults } as IValidators;
   }
 
-  /** The validators, compiled once: the schema is constant. */
-  export function validators(): IValidators {
-    if (compiled) {
-      return compiled;
-    }
-    const make = (useDefaults: boolean): Ajv2020 => makeAjv(useDefaults).addSchema(RECORD_SCHEMA);
-    const strict = make(false);
-    const filling = make(true);
-    const analysisRef = `${RECORD_SCHEMA_ID}#/$defs/analysis`;
-    compiled = {
-      record: strict.getSchema(RECORD_SCHEMA_ID) as ValidateFunction,
-      analysis: strict.getSchema(analysisRef) as ValidateFunction,
-      withDefaults: filling.getSchema(analysisRef) as ValidateFunction
-    };
-    return compiled;
+  /** An Ajv instance with the options of the generated validators (strict, all errors, our formats), for the older layouts. */
+  export function makeAjv(): Ajv2020 {
+    const ajv = new Ajv2020({ allErrors: true, strict: true });
+    ajv.addFormat('date-time', FORMATS['date-time']);
+    return ajv;
   }
 
   /** Problems from Ajv errors, one sentence each, deduplicated, at most {@link MAX_PROBLEMS}. */
