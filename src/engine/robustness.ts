@@ -35,7 +35,7 @@ import { isPolyadicError, PolyadicError } from './errors';
 import { checkEstimator, ESTIMATORS, fromNats } from './estimators';
 import { coinformationAll } from './measures';
 import { forEachMultiplet } from './multiplets';
-import type { ColumnView, EstimatorName, IAnalyzeOptions, MissingPolicy } from './types';
+import type { ColumnView, EstimatorName, IAnalyzeOptions, IColumnBinning, MissingPolicy } from './types';
 import { isContinuousEstimator, walkLattice } from './walk';
 
 /** One variant: a label and the options it changes. */
@@ -343,16 +343,23 @@ export function parseVariantList(text: string): IRobustnessVariant[] {
  * estimators under the default binning. A column whose name holds ';' or '=' cannot be named in a
  * variant's text; then use a uniform base binning (one `bins=` setting covers it). Errors: those of
  * the base analysis (unknown column, bad spec).
+ *
+ * `binnings`: the base's binning of the selected columns when it is known already (a run's
+ * `result.columns`), so the columns are not binned again; without it they are binned here.
  */
-export function defaultVariants(columns: ColumnView[], base: IAnalyzeOptions): string[] {
+export function defaultVariants(
+  columns: ColumnView[],
+  base: IAnalyzeOptions,
+  binnings?: readonly IColumnBinning[]
+): string[] {
   const estimator = checkEstimator(base.estimator ?? 'plugin');
   if (isContinuousEstimator(estimator)) {
     return DISCRETE_ESTIMATORS.map(name => `estimator=${name}`);
   }
-  const prepared = prepareColumns(columns, { ...base, statistics: undefined, top: undefined });
+  const baseBinnings = binnings ?? prepareColumns(columns, { ...base, statistics: undefined, top: undefined }).binnings;
   const kinds = new Map(columns.map(column => [column.name, column.kind]));
   const binned: { name: string; spec: string; count: number }[] = [];
-  for (const { name, binning, bins } of prepared.binnings) {
+  for (const { name, binning, bins } of baseBinnings) {
     if (kinds.get(name) !== 'numeric' || binning.method === 'categorical') {
       continue;
     }
@@ -365,7 +372,7 @@ export function defaultVariants(columns: ColumnView[], base: IAnalyzeOptions): s
   if (binned.length > 0) {
     // `bins=` re-bins every numeric column (the base's per-column specs give way to it): one
     // setting says it when every selected column is binned and gets the same spec.
-    const uniform = binned.length === prepared.binnings.length && binned.every(column => column.count === binned[0].count);
+    const uniform = binned.length === baseBinnings.length && binned.every(column => column.count === binned[0].count);
     const neighbour = (rule: (count: number) => string | null): void => {
       const specs = binned.map(column => rule(column.count));
       if (specs.some(spec => spec === null) || specs.every((spec, i) => spec === binned[i].spec)) {
@@ -388,7 +395,7 @@ export function defaultVariants(columns: ColumnView[], base: IAnalyzeOptions): s
       variants.push(`estimator=${name}`);
     }
   }
-  if (binned.length === prepared.binnings.length) {
+  if (binned.length === baseBinnings.length) {
     variants.push('estimator=gaussian-copula');
   }
   return variants;

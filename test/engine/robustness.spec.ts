@@ -234,6 +234,28 @@ describe('defaultVariants', () => {
     }
   });
 
+  it('should give the same set from a run\'s own binnings as from binning the columns again', () => {
+    const withMissing = table(60).map((column, c) =>
+      c === 1 ? numericColumn(column.name, Array.from({ length: 60 }, (_, i) => (i % 7 === 0 ? NaN : i % 5))) : column
+    );
+    const columns = [...withMissing, categoricalColumn('fan', Array.from({ length: 60 }, (_, i) => (i % 3 === 0 ? 'on' : 'off')))];
+    const bases: IAnalyzeOptions[] = [
+      { bins: 'quantile:4' },
+      {},
+      { bins: 'quantile:3', binsByColumn: { e: 'width:6' }, missing: 'category' },
+      { bins: 'fd', estimator: 'miller-madow', missing: 'drop' }
+    ];
+    for (const base of bases) {
+      const ran = analyze(columns, { ...base, maxOrder: 2 });
+      expect(defaultVariants(columns, base, ran.columns)).toEqual(defaultVariants(columns, base));
+    }
+    // the given binnings are what the set is built from
+    const ran = analyze(columns, { bins: 'quantile:4', maxOrder: 2 });
+    const other = analyze(columns, { bins: 'quantile:6', maxOrder: 2 });
+    expect(defaultVariants(columns, { bins: 'quantile:4' }, other.columns)).toEqual(defaultVariants(columns, { bins: 'quantile:6' }));
+    expect(defaultVariants(columns, { bins: 'quantile:4' }, ran.columns)).not.toEqual(defaultVariants(columns, { bins: 'quantile:6' }));
+  });
+
   it('should offer the discrete estimators when the base is the Gaussian copula', () => {
     expect(defaultVariants(table(), { estimator: 'gaussian-copula' })).toEqual([
       'estimator=plugin',

@@ -162,7 +162,8 @@ export class RobustnessModel implements IDisposable {
       this._unavailable = null;
       this._state = 'idle';
       try {
-        this._defaults = defaultVariants(columns, Private.baseOf(run)).join('\n');
+        // the run's own binnings: the columns are not binned again on the main thread
+        this._defaults = defaultVariants(columns, Private.baseOf(run), run.result.columns).join('\n');
       } catch (error) {
         this._defaults = '';
         this._error = Private.asError(error);
