@@ -23,7 +23,9 @@ reply shapes) lives in the module functions, so tests call them without a kernel
 
 from __future__ import annotations
 
+import logging
 import math
+import re
 import sys
 import threading
 import uuid
@@ -47,8 +49,12 @@ ENGINE_MESSAGE_MAX = 4000
 SCAN_KINDS = ("numeric", "bool", "string", "categorical")
 #: Steps of a scan request.
 SCAN_STEPS = ("facts", "details", "group")
+#: Seconds between the repeated interrupts after a cancel, until the running step returns.
+INTERRUPT_REPEAT_SECONDS = 0.05
 
 ScanDouble = Any  # float | 'Infinity' | '-Infinity'
+
+_log = logging.getLogger(__name__)
 
 
 class ScanCancelled(Exception):
@@ -197,6 +203,12 @@ class ScanEngine:
         self.frame = frame
         self.frame_name = frame_name
         self._cancelled = threading.Event()
+        # While a step runs (_stepping), and when it has returned (_stepped): cancel() repeats
+        # the interrupt between the two.
+        self._stepping = threading.Event()
+        self._stepped = threading.Event()
+        self._watch_lock = threading.Lock()
+        self._watcher: threading.Thread | None = None
         self._columns = self._read_columns()
 
     # -- subclass primitives --
@@ -248,9 +260,33 @@ class ScanEngine:
 
     # -- cancelling --
     def cancel(self) -> None:
-        """Stop the running query or job; the scan then raises ScanCancelled."""
+        """Stop the running query or job; the scan then raises ScanCancelled.
+
+        Both engines stop only work that has already started (Spark's ``cancelJobGroup`` cancels
+        the group's active jobs, DuckDB's ``interrupt()`` the running query): a cancel that lands
+        while a step is between its check and its engine's job would stop nothing and the job
+        would run to its end. So after a cancel the interrupt is repeated until the step returns.
+        """
         self._cancelled.set()
         self._interrupt()
+        with self._watch_lock:
+            if self._watcher is None:
+                self._watcher = threading.Thread(
+                    target=self._interrupt_until_stepped, name=f"polyadic-cancel-{self.frame_name}", daemon=True
+                )
+                self._watcher.start()
+
+    def _interrupt_until_stepped(self) -> None:
+        # A step sets _stepping before it checks the cancelled flag (run below), so either the
+        # step sees the flag and never starts, or this loop sees the step and interrupts it.
+        while self._stepping.is_set():
+            if self._stepped.wait(INTERRUPT_REPEAT_SECONDS):
+                break
+            try:
+                self._interrupt()
+            except Exception:  # noqa: BLE001 - an engine that is gone has nothing left to stop
+                _log.debug("polyadic: repeating the interrupt of %s failed", self.frame_name, exc_info=True)
+                return
 
     @property
     def cancelled(self) -> bool:
@@ -263,15 +299,21 @@ class ScanEngine:
 
     def run(self, step: Callable[[], Any]) -> Any:
         """Run one step, turning the engine's failures into EngineFailure or ScanCancelled."""
-        self._check()
+        self._stepped.clear()
+        self._stepping.set()
         try:
-            result = step()
-        except (ScanCancelled, BridgeError):
-            raise
-        except self._engine_errors() as error:
-            if self._cancelled.is_set():
-                raise ScanCancelled() from None
-            raise EngineFailure(self.name, engine_message(error)) from None
+            self._check()
+            try:
+                result = step()
+            except (ScanCancelled, BridgeError):
+                raise
+            except self._engine_errors() as error:
+                if self._cancelled.is_set():
+                    raise ScanCancelled() from None
+                raise EngineFailure(self.name, engine_message(error)) from None
+        finally:
+            self._stepping.clear()
+            self._stepped.set()
         self._check()
         return result
 
@@ -547,11 +589,45 @@ def engine_message(error: BaseException) -> str:
 
 
 def first_line(text: str) -> str:
-    """The first non-empty line of an engine message."""
+    """The line of an engine message a person should read first, on one line.
+
+    When the message carries a Python traceback (a Python UDF that raised in a Spark worker:
+    Spark's own first line then only says "An exception was thrown from the Python worker"),
+    this is the Python exception's own line, e.g. ``ValueError: sensor 17 is out of range``;
+    otherwise the first non-empty line.
+    """
+    raised = python_exception_line(text)
+    if raised is not None:
+        return raised
     for line in text.splitlines():
         if line.strip():
             return line.strip()
     return text.strip()
+
+
+#: The line that opens a Python traceback.
+_TRACEBACK_START = "Traceback (most recent call last):"
+#: A Python exception's line: a dotted class name, then ': ' and the message (or nothing).
+_EXCEPTION_LINE = re.compile(r"^[A-Za-z_][\w.]*(?::\s.*)?$")
+
+
+def python_exception_line(text: str) -> str | None:
+    """The exception line of the last Python traceback in ``text``, or None when it holds none.
+
+    Python prints a traceback as its opening line, indented frames and source lines, then the
+    exception unindented (Python's ``traceback`` module); with chained exceptions the last
+    traceback is the one raised. A Spark error may carry a JVM stack trace after it.
+    """
+    lines = text.splitlines()
+    starts = [i for i, line in enumerate(lines) if line.strip() == _TRACEBACK_START]
+    if not starts:
+        return None
+    for line in lines[starts[-1] + 1 :]:
+        if not line.strip() or line[:1].isspace():
+            continue
+        candidate = line.strip()
+        return candidate if _EXCEPTION_LINE.match(candidate) else None
+    return None
 
 
 # --- DuckDB ----------------------------------------------------------------------------------

@@ -570,3 +570,132 @@ def test_one_scan_per_frame_at_a_time(slow_duckdb):
     (*_, (ended, _)) = comm.until("o1", {"error", "scan_facts"})
     assert ended["detail"]["cancelled"] is True
     assert bridge.running_scans() == []
+
+
+# --- the line of an engine message a person reads first ---------------------------------------
+
+
+def _python_traceback(error: BaseException) -> str:
+    """The traceback Python's own traceback module prints for ``error`` (the reference layout)."""
+    import traceback
+
+    return "".join(traceback.format_exception(type(error), error, error.__traceback__))
+
+
+def test_first_line_of_a_python_traceback_is_the_exception_line():
+    # The layout is the one Python's traceback module prints, with a chained exception.
+    try:
+        try:
+            {}["valve"]
+        except KeyError:
+            raise ValueError("sensor reading 17 is out of range\nsecond line")
+    except ValueError as error:
+        text = "An exception was thrown from the Python worker. Please see the stack trace below.\n" + _python_traceback(error)
+    assert _scan.first_line(text) == "ValueError: sensor reading 17 is out of range"
+    assert _scan.python_exception_line("[DIVIDE_BY_ZERO] Division by zero.\n  at x") is None
+    assert _scan.first_line("\n  [DIVIDE_BY_ZERO] Division by zero.\nmore") == "[DIVIDE_BY_ZERO] Division by zero."
+
+
+def test_spark_udf_failure_shows_the_udfs_own_line(spark):
+    from pyspark.sql import functions as F
+    from pyspark.sql.types import DoubleType
+
+    def checked(value):
+        if value == 17:
+            raise ValueError(f"sensor reading {value} is out of range")
+        return float(value)
+
+    frame = spark.range(0, 60, numPartitions=2).select(F.udf(checked, DoubleType())(F.col("id")).alias("x"))
+    namespace = {"bad": frame}
+    bridge = KernelBridge(lambda: namespace, store=ResultStore())
+    comm = RecordingComm()
+    request(bridge, comm, {"type": "scan", "request_id": "u1", "name": "bad", "step": "facts", "columns": ["x"]})
+    (*_, (error, _)) = comm.until("u1", {"scan_facts", "error"})
+    assert error["type"] == "error"
+    assert error["message"] == "Spark stopped the scan of 'bad': ValueError: sensor reading 17 is out of range"
+    assert "Python worker" in error["detail"]["engine_message"]
+    assert bridge.running_scans() == []
+
+
+# --- a cancel that lands before the step's job has started -----------------------------------
+
+
+def _run_in_thread(engine, step):
+    """Run ``engine.run(step)`` on a thread of its own, as the bridge does; returns (thread, outcome)."""
+    import threading
+
+    outcome: dict = {}
+
+    def target():
+        try:
+            outcome["result"] = engine.run(step)
+        except BaseException as error:  # noqa: BLE001 - handed to the test
+            outcome["error"] = error
+
+    thread = threading.Thread(target=target, daemon=True)
+    thread.start()
+    return thread, outcome
+
+
+def test_spark_cancel_before_the_job_starts_still_stops_it(spark):
+    # cancelJobGroup stops only the group's active jobs: a cancel that came after the step's
+    # check but before its job was submitted used to stop nothing, and the job ran to its end.
+    import threading
+
+    from pyspark.sql import functions as F
+    from pyspark.sql.types import DoubleType
+
+    def slow(value):
+        time.sleep(0.25)
+        return float(value)
+
+    frame = spark.range(0, 400, numPartitions=2).select(F.udf(slow, DoubleType())(F.col("id")).alias("x"))
+    engine = _scan.scan_engine(frame, "slow")
+    column = engine.column("x")
+    ready, go = threading.Event(), threading.Event()
+
+    def step():
+        ready.set()
+        go.wait(30)
+        return engine._aggregate([column])  # 50 s of UDF calls per partition when not stopped
+
+    thread, outcome = _run_in_thread(engine, step)
+    assert ready.wait(30)
+    tracker = spark.sparkContext.statusTracker()
+    engine.cancel()  # no job of the group is active yet
+    assert tracker.getJobIdsForGroup(engine.job_group) == []
+    go.set()
+    thread.join(120)
+    assert not thread.is_alive()
+    assert isinstance(outcome.get("error"), _scan.ScanCancelled), outcome
+    jobs = [tracker.getJobInfo(j) for j in tracker.getJobIdsForGroup(engine.job_group)]
+    # the job was submitted after the cancel and was cancelled (FAILED), not run to SUCCEEDED
+    assert jobs and [job.status for job in jobs if job is not None] == ["FAILED"] * len([j for j in jobs if j is not None])
+    assert tracker.getActiveJobsIds() == []
+
+
+def test_duckdb_cancel_before_the_query_starts_still_interrupts_it(slow_duckdb, duck_connection):
+    import threading
+
+    namespace = {"con": duck_connection}
+    slow = duck_connection.sql("SELECT a.range * 1.0 + b.range AS x FROM range(200000) a, range(200000) b")
+    engine = _scan.scan_engine(slow, "slow", lambda: list(namespace.values()))
+    column = engine.column("x")
+    ready, go = threading.Event(), threading.Event()
+
+    def step():
+        ready.set()
+        go.wait(30)
+        return engine._aggregate([column])  # 4·10^10 rows when not stopped
+
+    thread, outcome = _run_in_thread(engine, step)
+    assert ready.wait(30)
+    engine.cancel()  # the connection is not even found yet: nothing to interrupt
+    go.set()
+    thread.join(60)
+    if thread.is_alive():
+        duck_connection.interrupt()
+        thread.join(30)
+        pytest.fail("the query started after the cancel ran on")
+    assert isinstance(outcome.get("error"), _scan.ScanCancelled), outcome
+    assert duck_connection.sql("SELECT 41 + 1").fetchone()[0] == 42
