@@ -29,6 +29,7 @@ import re
 import sys
 import threading
 import uuid
+from collections import Counter
 from dataclasses import dataclass
 from typing import Any, Callable, Iterable, Mapping, Sequence
 
@@ -51,6 +52,18 @@ SCAN_KINDS = ("numeric", "bool", "string", "categorical")
 SCAN_STEPS = ("facts", "details", "group")
 #: Seconds between the repeated interrupts after a cancel, until the running step returns.
 INTERRUPT_REPEAT_SECONDS = 0.05
+#: Equal-width buckets over a column's range for its exact order statistics (our choice, as
+#: src/cli/duckdb.ts's RANK_BUCKETS): one grouped scan gives each bucket's count, minimum and
+#: maximum; a wanted rank is then its bucket's minimum or maximum, or one of the values of the
+#: few buckets holding ranks, fetched and sorted here.
+RANK_BUCKETS = 65_536
+#: Most values fetched in one query to sort here (our choice: 8 MB of doubles, as
+#: src/cli/duckdb.ts's RANK_FETCH_LIMIT); a bucket holding more is a heavy bucket, ranked by
+#: the engine itself over that bucket alone.
+RANK_FETCH_LIMIT = 1 << 20
+#: How many times Spark buckets a heavy bucket again before it sorts the bucket's values
+#: (our choice: with 65,536 buckets, four levels split any range of doubles to single values).
+RANK_DEPTH = 4
 
 ScanDouble = Any  # float | 'Infinity' | '-Infinity'
 
@@ -178,6 +191,47 @@ class ScanColumn:
 
 
 @dataclass
+class RankRange:
+    """What the order statistics of one column's values (or of one bucket's) start from."""
+
+    column: ScanColumn
+    #: Ranks wanted (0-based among the values in range), ascending and distinct.
+    ranks: list[int]
+    #: Values in range (present, and inside ``within`` when set).
+    count: int
+    #: Least and greatest finite value in range (None: no finite value).
+    lo: float | None
+    hi: float | None
+    #: How many of the values are −Inf and +Inf.
+    below: int = 0
+    above: int = 0
+    #: Only the values v with within[0] <= v <= within[1] (a bucket's values); None: all.
+    within: tuple[float, float] | None = None
+
+    def bucket_scale(self, buckets: int) -> tuple[float, float, float] | None:
+        """(shift, width, factor): a finite v's bucket is floor((v·factor − shift) / width · buckets),
+        clamped to [0, buckets − 1]; None when every finite value is the same."""
+        if self.lo is None or self.hi is None or self.lo == self.hi:
+            return None
+        width = self.hi - self.lo
+        if math.isfinite(width):
+            return self.lo, width, 1.0
+        # The range overflows a double: halve everything (exact for normal doubles, and any
+        # rounding keeps the order).
+        return self.lo * 0.5, self.hi * 0.5 - self.lo * 0.5, 0.5
+
+
+@dataclass
+class Bucket:
+    """One non-empty bucket of a RankRange: its index (−1: −Inf, buckets: +Inf), count and extremes."""
+
+    index: int
+    count: int
+    lo: float
+    hi: float
+
+
+@dataclass
 class ColumnAggregate:
     """What one aggregate pass gives per column."""
 
@@ -198,6 +252,10 @@ class ScanEngine:
 
     #: 'duckdb' or 'spark'.
     name = ""
+    #: The order statistics' limits (module defaults; tests lower them on one engine).
+    rank_buckets = RANK_BUCKETS
+    rank_fetch_limit = RANK_FETCH_LIMIT
+    rank_depth = RANK_DEPTH
 
     def __init__(self, frame: Any, frame_name: str) -> None:
         self.frame = frame
@@ -210,6 +268,8 @@ class ScanEngine:
         self._watch_lock = threading.Lock()
         self._watcher: threading.Thread | None = None
         self._columns = self._read_columns()
+        #: How often each way of finding an order statistic ran (tests read it).
+        self.rank_routes: Counter[str] = Counter()
 
     # -- subclass primitives --
     def version(self) -> str:  # pragma: no cover - abstract
@@ -235,8 +295,30 @@ class ScanEngine:
         """The non-missing values as float64 in row order."""
         raise NotImplementedError
 
-    def _order_statistics(self, column: ScanColumn, ranks: Sequence[int]) -> dict[int, float]:  # pragma: no cover
+    def _rank_ranges(self, columns: Sequence[ScanColumn]) -> list[tuple[int, Any, Any, int, int]]:  # pragma: no cover
+        """Per column in one scan: (present count, finite min, finite max, #−Inf, #+Inf)."""
         raise NotImplementedError
+
+    def _bucket_counts(self, ranges: Sequence[RankRange], buckets: int) -> list[list[Bucket]]:  # pragma: no cover
+        """Every range's non-empty buckets in one scan (any order)."""
+        raise NotImplementedError
+
+    def _bucket_values(
+        self, ranges: Sequence[RankRange], buckets: int, chosen: Sequence[Sequence[int]]
+    ) -> list[dict[int, np.ndarray]]:  # pragma: no cover
+        """The values of each range's chosen buckets in one scan, by bucket (any order)."""
+        raise NotImplementedError
+
+    def _sorted_ranks(self, spec: RankRange) -> dict[int, float]:  # pragma: no cover
+        """The wanted ranks by sorting the range's values in the engine (the slow exact way)."""
+        raise NotImplementedError
+
+    def _heavy_ranks(self, specs: Sequence[RankRange], depth: int) -> list[dict[int, float]]:
+        """The ranks of buckets too heavy to fetch: bucketed again inside each, down to
+        ``rank_depth`` levels, then sorted in the engine."""
+        if depth >= self.rank_depth:
+            return [self._sorted_ranks(spec) for spec in specs]
+        return self._ranked(specs, depth + 1)
 
     def _distinct(self, column: ScanColumn) -> list[tuple[Any, int]]:  # pragma: no cover
         raise NotImplementedError
@@ -257,6 +339,115 @@ class ScanEngine:
 
     def _engine_errors(self) -> tuple[type, ...]:  # pragma: no cover
         raise NotImplementedError
+
+    # -- order statistics --
+    def order_statistics(self, wanted: Sequence[tuple[ScanColumn, Sequence[int]]]) -> list[dict[int, float]]:
+        """Exact order statistics (rank → value, ranks 0-based among the present values) of several
+        columns, sharing scans: one for the ranges, one for every column's bucket counts, one per
+        batch of fetched buckets. A rank past the last value is left out."""
+        columns = [column for column, _ranks in wanted]
+        ranges = self._rank_ranges(columns)
+        specs = [
+            RankRange(column, sorted(set(int(r) for r in ranks)), int(n), lo, hi, int(below), int(above))
+            for (column, ranks), (n, lo, hi, below, above) in zip(wanted, ranges)
+        ]
+        self._check()
+        return self._ranked(specs, 0)
+
+    def _ranked(self, specs: Sequence[RankRange], depth: int) -> list[dict[int, float]]:
+        found: list[dict[int, float]] = [{} for _ in specs]
+        scanned = []
+        for i, spec in enumerate(specs):
+            spec.ranks = [r for r in spec.ranks if r < spec.count]
+            if not spec.ranks:
+                continue
+            if spec.bucket_scale(self.rank_buckets) is None:
+                # Every finite value is the same: the ranks follow from the counts of ±Inf.
+                self.rank_routes["one value"] += 1
+                for rank in spec.ranks:
+                    found[i][rank] = (
+                        -math.inf if rank < spec.below else math.inf if rank >= spec.count - spec.above else float(spec.lo)
+                    )
+            else:
+                scanned.append(i)
+        if not scanned:
+            return found
+        counted = self._bucket_counts([specs[i] for i in scanned], self.rank_buckets)
+        self._check()
+        # (spec index, bucket, values before it, ranks in it) of the buckets to fetch
+        fetch: list[tuple[int, Bucket, int, list[int]]] = []
+        unsorted: list[int] = []
+        for i, buckets in zip(scanned, counted):
+            spec = specs[i]
+            buckets = sorted(buckets, key=lambda b: b.index)
+            # The ranks follow from the buckets only if the buckets hold every value and are in
+            # order (each bucket's values all below the next bucket's): check, never assume.
+            ordered = all(a.hi < b.lo for a, b in zip(buckets, buckets[1:])) and all(b.lo <= b.hi for b in buckets)
+            if sum(b.count for b in buckets) != spec.count or not ordered:
+                unsorted.append(i)
+                continue
+            ranks = iter(spec.ranks)
+            rank = next(ranks, None)
+            before = 0
+            for bucket in buckets:
+                inside: list[int] = []
+                while rank is not None and rank < before + bucket.count:
+                    local = rank - before
+                    if bucket.lo == bucket.hi or local == 0:
+                        self.rank_routes["bucket edge"] += 1
+                        found[i][rank] = float(bucket.lo)
+                    elif local == bucket.count - 1:
+                        self.rank_routes["bucket edge"] += 1
+                        found[i][rank] = float(bucket.hi)
+                    else:
+                        inside.append(rank)
+                    rank = next(ranks, None)
+                if inside:
+                    fetch.append((i, bucket, before, inside))
+                before += bucket.count
+        heavy = [entry for entry in fetch if entry[1].count > self.rank_fetch_limit]
+        light = sorted((entry for entry in fetch if entry[1].count <= self.rank_fetch_limit), key=lambda e: e[1].count)
+        batches: list[list[tuple[int, Bucket, int, list[int]]]] = []
+        total = self.rank_fetch_limit + 1
+        for entry in light:
+            if total + entry[1].count > self.rank_fetch_limit:
+                batches.append([])
+                total = 0
+            batches[-1].append(entry)
+            total += entry[1].count
+        for batch in batches:
+            order = sorted({i for i, *_rest in batch})
+            chosen = [[bucket.index for j, bucket, *_rest in batch if j == i] for i in order]
+            values = self._bucket_values([specs[i] for i in order], self.rank_buckets, chosen)
+            self._check()
+            by_spec = dict(zip(order, values))
+            for i, bucket, before, inside in batch:
+                got = np.sort(np.asarray(by_spec[i].get(bucket.index, ()), dtype=np.float64))
+                # The fetched values must be the counted ones: same count, same extremes.
+                if got.size != bucket.count or got[0] != bucket.lo or got[-1] != bucket.hi:
+                    unsorted.append(i)
+                    continue
+                self.rank_routes["fetched"] += 1
+                for rank in inside:
+                    found[i][rank] = float(got[rank - before])
+        if heavy:
+            self.rank_routes["heavy"] += len(heavy)
+            inner = [
+                RankRange(specs[i].column, [r - before for r in inside], bucket.count, bucket.lo, bucket.hi,
+                          within=(bucket.lo, bucket.hi))
+                for i, bucket, before, inside in heavy
+            ]
+            for (i, bucket, before, inside), got in zip(heavy, self._heavy_ranks(inner, depth)):
+                for rank in inside:
+                    if rank - before not in got:
+                        raise BridgeError(
+                            f"Column {specs[i].column.name!r} changed while it was scanned.", column=specs[i].column.name
+                        )
+                    found[i][rank] = got[rank - before]
+        for i in sorted(set(unsorted)):
+            self.rank_routes["sorted"] += 1
+            found[i] = self._sorted_ranks(specs[i])
+        return found
 
     # -- cancelling --
     def cancel(self) -> None:
@@ -398,7 +589,7 @@ class ScanEngine:
         """The ``scan_details`` reply body."""
         if not isinstance(requests, list) or not requests:
             raise BridgeError("'columns' must be a non-empty list of detail requests.", option="columns")
-        out = []
+        checked: list[tuple[ScanColumn, list[int], dict]] = []
         for request in requests:
             if not isinstance(request, dict):
                 raise BridgeError("Each detail request must be a JSON object.", option="columns")
@@ -416,15 +607,15 @@ class ScanEngine:
                 raise BridgeError(
                     f"Column {column.name!r} holds text: it has no order statistics.", column=column.name
                 )
-            want_std = request.get("std") is True
-            want_skew = request.get("skewness") is True
-            std = skewness = None
-            if want_std and column.numeric:
-                values = self.run(lambda: self._values(column))
-                std, skewness = numpy_moments(values, want_skew)
+            checked.append((column, ranks, request))
+        # Every column's order statistics together, so that the columns share their scans.
+        ranked = [(column, ranks) for column, ranks, _request in checked if ranks]
+        found_all = iter(self.run(lambda: self.order_statistics(ranked)) if ranked else [])
+        out = []
+        for column, ranks, request in checked:
             order: list[ScanDouble] = []
             if ranks:
-                found = self.run(lambda: self._order_statistics(column, sorted(set(ranks))))
+                found = next(found_all)
                 missing = [r for r in ranks if r not in found]
                 if missing:
                     raise BridgeError(
@@ -433,6 +624,12 @@ class ScanEngine:
                         option="ranks",
                     )
                 order = [scan_double(found[r]) for r in ranks]
+            want_std = request.get("std") is True
+            want_skew = request.get("skewness") is True
+            std = skewness = None
+            if want_std and column.numeric:
+                values = self.run(lambda: self._values(column))
+                std, skewness = numpy_moments(values, want_skew)
             distinct = None
             if request.get("distinct") is True:
                 pairs = self.run(lambda: self._distinct(column))
@@ -476,6 +673,20 @@ class ScanEngine:
         else:
             columns = [self.column(n, scanned=False) for n in _checked_names(names)]
         return self.run(lambda: self._sample(columns, row_cap, seed))
+
+
+def _split_by_key(table: pa.Table, ranges: int, buckets: int) -> list[dict[int, np.ndarray]]:
+    """Fetched (k, v) rows, k = range · (buckets + 2) + bucket + 1, as each range's values by bucket."""
+    keys = table.column(0).to_numpy().astype(np.int64)
+    values = table.column(1).to_numpy().astype(np.float64)
+    order = np.argsort(keys, kind="stable")
+    keys, values = keys[order], values[order]
+    out: list[dict[int, np.ndarray]] = [{} for _ in range(ranges)]
+    unique, starts = np.unique(keys, return_index=True)
+    for key, a, b in zip(unique, starts, list(starts[1:]) + [keys.size]):
+        i, bucket = divmod(int(key), buckets + 2)
+        out[i][bucket - 1] = values[a:b]
+    return out
 
 
 def sample_indices(rows: int, row_cap: int, seed: int) -> np.ndarray | None:
@@ -789,14 +1000,145 @@ class DuckDBScan(ScanEngine):
         table = self._sql(sql).to_arrow_table()
         return table.column(0).to_numpy()
 
-    def _order_statistics(self, column: ScanColumn, ranks: Sequence[int]) -> dict[int, float]:
-        wanted = ", ".join(str(int(r)) for r in ranks)
-        value = self._double(column)
-        sql = (
-            f"SELECT r, v FROM (SELECT {value} AS v, row_number() OVER (ORDER BY {value}) - 1 AS r "
-            f"FROM {self._VIEW} WHERE NOT {self._missing(column)}) WHERE r IN ({wanted})"
+    def _rank_ranges(self, columns: Sequence[ScanColumn]) -> list[tuple[int, Any, Any, int, int]]:
+        parts = []
+        for column in columns:
+            miss, value = self._missing(column), self._double(column)
+            finite = f"NOT {miss} AND NOT isinf({value})"
+            parts.append(f"count(*) FILTER (WHERE NOT {miss})")
+            parts.append(f"min({value}) FILTER (WHERE {finite})")
+            parts.append(f"max({value}) FILTER (WHERE {finite})")
+            parts.append(f"count(*) FILTER (WHERE NOT {miss} AND isinf({value}) AND {value} < 0)")
+            parts.append(f"count(*) FILTER (WHERE NOT {miss} AND isinf({value}) AND {value} > 0)")
+        row = self._sql(f"SELECT {', '.join(parts)} FROM {self._VIEW}").fetchone()
+        return [tuple(row[5 * i : 5 * i + 5]) for i in range(len(columns))]
+
+    def _ranked_value(self, spec: RankRange) -> Any:
+        """The range's values as doubles, NULL outside it (an expression, constants as constants)."""
+        from duckdb import CaseExpression, ConstantExpression, SQLExpression
+
+        x = SQLExpression(self._double(spec.column))
+        outside = SQLExpression(self._missing(spec.column))
+        if spec.within is not None:
+            outside = outside | (x < ConstantExpression(spec.within[0])) | (x > ConstantExpression(spec.within[1]))
+        return CaseExpression(outside, ConstantExpression(None)).otherwise(x)
+
+    def _bucket_key(self, spec: RankRange, buckets: int, index: int) -> Any:
+        """index · (buckets + 2) + bucket + 1 of each value in range (bucket −1: −Inf, buckets: +Inf)."""
+        import duckdb
+        from duckdb import CaseExpression, ConstantExpression, FunctionExpression
+
+        x = self._ranked_value(spec)
+        shift, width, factor = spec.bucket_scale(buckets)  # type: ignore[misc]
+        scaled = (x * ConstantExpression(factor) - ConstantExpression(shift)) / ConstantExpression(width)
+        raw = FunctionExpression("floor", scaled * ConstantExpression(float(buckets)))
+        clamped = FunctionExpression(
+            "least", FunctionExpression("greatest", raw, ConstantExpression(0.0)), ConstantExpression(float(buckets - 1))
         )
-        return {int(r): float(v) for r, v in self._sql(sql).fetchall()}
+        bucket = (
+            CaseExpression(FunctionExpression("isinf", x) & (x < ConstantExpression(0.0)), ConstantExpression(-1.0))
+            .when(FunctionExpression("isinf", x), ConstantExpression(float(buckets)))
+            .otherwise(clamped)
+        )
+        key = bucket + ConstantExpression(float(index * (buckets + 2) + 1))
+        return key.cast(duckdb.sqltype("BIGINT"))
+
+    def _bucket_counts(self, ranges: Sequence[RankRange], buckets: int) -> list[list[Bucket]]:
+        picked = []
+        for i, spec in enumerate(ranges):
+            picked += [self._bucket_key(spec, buckets, i).alias(f"k{i}"), self._ranked_value(spec).alias(f"v{i}")]
+        self._locate()
+        self._check()
+        keys = ", ".join(f"k{i}" for i in range(len(ranges)))
+        values = ", ".join(f"v{i}" for i in range(len(ranges)))
+        rows = self.frame.select(*picked).query(
+            "polyadic_bucketed",
+            f"SELECT k, count(*), min(v), max(v) FROM (SELECT unnest([{keys}]) AS k, unnest([{values}]) AS v "
+            "FROM polyadic_bucketed) WHERE k IS NOT NULL GROUP BY k",
+        ).fetchall()
+        out: list[list[Bucket]] = [[] for _ in ranges]
+        for key, n, lo, hi in rows:
+            i, b = divmod(int(key), buckets + 2)
+            out[i].append(Bucket(b - 1, int(n), float(lo), float(hi)))
+        return out
+
+    def _bucket_values(self, ranges, buckets: int, chosen) -> list[dict[int, np.ndarray]]:
+        from duckdb import CaseExpression, ColumnExpression, ConstantExpression
+
+        picked = []
+        for i, (spec, wanted) in enumerate(zip(ranges, chosen)):
+            key = self._bucket_key(spec, buckets, i)
+            codes = [ConstantExpression(i * (buckets + 2) + b + 1) for b in wanted]
+            picked += [
+                CaseExpression(key.isin(*codes), key).otherwise(ConstantExpression(None)).alias(f"k{i}"),
+                self._ranked_value(spec).alias(f"v{i}"),
+            ]
+        any_key = ColumnExpression("k0").isnotnull()
+        for i in range(1, len(ranges)):
+            any_key = any_key | ColumnExpression(f"k{i}").isnotnull()
+        self._locate()
+        self._check()
+        keys = ", ".join(f"k{i}" for i in range(len(ranges)))
+        values = ", ".join(f"v{i}" for i in range(len(ranges)))
+        table = (
+            self.frame.select(*picked)
+            .filter(any_key)
+            .query(
+                "polyadic_fetched",
+                f"SELECT k, v FROM (SELECT unnest([{keys}]) AS k, unnest([{values}]) AS v FROM polyadic_fetched) "
+                "WHERE k IS NOT NULL",
+            )
+            .to_arrow_table()
+        )
+        return _split_by_key(table, len(ranges), buckets)
+
+    def _in_range(self, spec: RankRange) -> Any:
+        from duckdb import ColumnExpression
+
+        return self.frame.select(self._ranked_value(spec).alias("v")).filter(ColumnExpression("v").isnotnull())
+
+    def _sorted_ranks(self, spec: RankRange) -> dict[int, float]:
+        from duckdb import ColumnExpression, ConstantExpression
+
+        self._locate()
+        self._check()
+        ranked = self._in_range(spec).query(
+            "polyadic_values", "SELECT v, row_number() OVER (ORDER BY v) - 1 AS r FROM polyadic_values"
+        )
+        rows = ranked.filter(ColumnExpression("r").isin(*[ConstantExpression(r) for r in spec.ranks])).fetchall()
+        return {int(r): float(v) for v, r in rows}
+
+    def _heavy_ranks(self, specs: Sequence[RankRange], depth: int) -> list[dict[int, float]]:
+        # DuckDB's quantile_disc over the bucket alone at (rank + ½) / n, each value checked by
+        # counting (#{x < v} <= rank < #{x <= v}); a rank failing the check is read by sorting.
+        from duckdb import ColumnExpression, ConstantExpression, FunctionExpression
+
+        out = []
+        for spec in specs:
+            self._locate()
+            self._check()
+            values = self._in_range(spec)
+            v = ColumnExpression("v")
+            fractions = [(rank + 0.5) / spec.count for rank in spec.ranks]
+            picked = values.aggregate([FunctionExpression("quantile_disc", v, ConstantExpression(fractions))]).fetchone()[0]
+            checks = []
+            for candidate in picked:
+                checks.append(FunctionExpression("count_if", v < ConstantExpression(float(candidate))))
+                checks.append(FunctionExpression("count_if", v <= ConstantExpression(float(candidate))))
+            counts = values.aggregate(checks).fetchone()
+            found: dict[int, float] = {}
+            wrong = []
+            for k, (rank, candidate) in enumerate(zip(spec.ranks, picked)):
+                if counts[2 * k] <= rank < counts[2 * k + 1]:
+                    self.rank_routes["engine quantile"] += 1
+                    found[rank] = float(candidate)
+                else:
+                    wrong.append(rank)
+            if wrong:
+                self.rank_routes["sorted"] += 1
+                found.update(self._sorted_ranks(RankRange(spec.column, wrong, spec.count, spec.lo, spec.hi, within=spec.within)))
+            out.append(found)
+        return out
 
     def _distinct(self, column: ScanColumn) -> list[tuple[Any, int]]:
         sql = (
@@ -1038,10 +1380,76 @@ class SparkScan(ScanEngine):
         table = self.frame.where(~self._missing(column)).select(self._double(column).alias("v")).toArrow()
         return table.column(0).to_numpy()
 
-    def _order_statistics(self, column: ScanColumn, ranks: Sequence[int]) -> dict[int, float]:
-        # An exact distributed sort, then the wanted ranks by position (no approximate percentile).
-        wanted = frozenset(int(r) for r in ranks)
-        ordered = self.frame.where(~self._missing(column)).select(self._double(column).alias("v")).orderBy("v")
+    def _rank_ranges(self, columns: Sequence[ScanColumn]) -> list[tuple[int, Any, Any, int, int]]:
+        from pyspark.sql import functions as F
+
+        exprs = []
+        for column in columns:
+            present, x = ~self._missing(column), self._double(column)
+            infinite = F.abs(x) == F.lit(math.inf)
+            exprs.append(F.count(F.when(present, 1)))
+            exprs.append(F.min(F.when(present & ~infinite, x)))
+            exprs.append(F.max(F.when(present & ~infinite, x)))
+            exprs.append(F.count(F.when(present & (x == F.lit(-math.inf)), 1)))
+            exprs.append(F.count(F.when(present & (x == F.lit(math.inf)), 1)))
+        row = tuple(self.frame.agg(*exprs).collect()[0])
+        return [row[5 * i : 5 * i + 5] for i in range(len(columns))]
+
+    def _ranked_value(self, spec: RankRange) -> Any:
+        """The range's values as doubles, null outside it."""
+        from pyspark.sql import functions as F
+
+        x = self._double(spec.column)
+        outside = self._missing(spec.column)
+        if spec.within is not None:
+            outside = outside | (x < F.lit(spec.within[0])) | (x > F.lit(spec.within[1]))
+        return F.when(~outside, x)
+
+    def _bucket_key(self, spec: RankRange, buckets: int, index: int) -> Any:
+        """index · (buckets + 2) + bucket + 1 of each value in range (bucket −1: −Inf, buckets: +Inf)."""
+        from pyspark.sql import functions as F
+
+        x = self._ranked_value(spec)
+        shift, width, factor = spec.bucket_scale(buckets)  # type: ignore[misc]
+        scaled = (x * F.lit(factor) - F.lit(shift)) / F.lit(width) * F.lit(float(buckets))
+        clamped = F.least(F.greatest(F.floor(scaled).cast("double"), F.lit(0.0)), F.lit(float(buckets - 1)))
+        bucket = F.when(x == F.lit(-math.inf), F.lit(-1.0)).when(x == F.lit(math.inf), F.lit(float(buckets))).otherwise(clamped)
+        return (bucket + F.lit(float(index * (buckets + 2) + 1))).cast("long")
+
+    def _pairs(self, keys: Sequence[Any], values: Sequence[Any]) -> Any:
+        """One (k, v) row per range and row of the frame (null k: not in that range)."""
+        from pyspark.sql import functions as F
+
+        pairs = F.explode(F.array(*[F.struct(k.alias("k"), v.alias("v")) for k, v in zip(keys, values)]))
+        return self.frame.select(pairs.alias("p")).select("p.k", "p.v").where(F.col("k").isNotNull())
+
+    def _bucket_counts(self, ranges: Sequence[RankRange], buckets: int) -> list[list[Bucket]]:
+        from pyspark.sql import functions as F
+
+        keys = [self._bucket_key(spec, buckets, i) for i, spec in enumerate(ranges)]
+        values = [self._ranked_value(spec) for spec in ranges]
+        grouped = self._pairs(keys, values).groupBy("k").agg(F.count(F.lit(1)), F.min("v"), F.max("v"))
+        out: list[list[Bucket]] = [[] for _ in ranges]
+        for key, n, lo, hi in grouped.collect():
+            i, b = divmod(int(key), buckets + 2)
+            out[i].append(Bucket(b - 1, int(n), float(lo), float(hi)))
+        return out
+
+    def _bucket_values(self, ranges, buckets: int, chosen) -> list[dict[int, np.ndarray]]:
+        from pyspark.sql import functions as F
+
+        keys = []
+        for i, (spec, wanted) in enumerate(zip(ranges, chosen)):
+            key = self._bucket_key(spec, buckets, i)
+            keys.append(F.when(key.isin(*[i * (buckets + 2) + b + 1 for b in wanted]), key))
+        values = [self._ranked_value(spec) for spec in ranges]
+        return _split_by_key(self._pairs(keys, values).toArrow(), len(ranges), buckets)
+
+    def _sorted_ranks(self, spec: RankRange) -> dict[int, float]:
+        # An exact distributed sort of the range's values, then the wanted ranks by position.
+        wanted = frozenset(spec.ranks)
+        value = self._ranked_value(spec).alias("v")
+        ordered = self.frame.select(value).where("v IS NOT NULL").orderBy("v")
         found = ordered.rdd.zipWithIndex().filter(lambda pair: pair[1] in wanted).collect()
         return {int(index): float(row[0]) for row, index in found}
 
