@@ -317,6 +317,7 @@ class ScanEngine:
         """The ranks of buckets too heavy to fetch: bucketed again inside each, down to
         ``rank_depth`` levels, then sorted in the engine."""
         if depth >= self.rank_depth:
+            self.rank_routes["sorted at depth"] += len(specs)
             return [self._sorted_ranks(spec) for spec in specs]
         return self._ranked(specs, depth + 1)
 
@@ -1035,8 +1036,10 @@ class DuckDBScan(ScanEngine):
         clamped = FunctionExpression(
             "least", FunctionExpression("greatest", raw, ConstantExpression(0.0)), ConstantExpression(float(buckets - 1))
         )
+        # greatest/least skip NULLs: a value out of range must stay NULL, so test it first.
         bucket = (
-            CaseExpression(FunctionExpression("isinf", x) & (x < ConstantExpression(0.0)), ConstantExpression(-1.0))
+            CaseExpression(x.isnull(), ConstantExpression(None))
+            .when(FunctionExpression("isinf", x) & (x < ConstantExpression(0.0)), ConstantExpression(-1.0))
             .when(FunctionExpression("isinf", x), ConstantExpression(float(buckets)))
             .otherwise(clamped)
         )
@@ -1413,7 +1416,13 @@ class SparkScan(ScanEngine):
         shift, width, factor = spec.bucket_scale(buckets)  # type: ignore[misc]
         scaled = (x * F.lit(factor) - F.lit(shift)) / F.lit(width) * F.lit(float(buckets))
         clamped = F.least(F.greatest(F.floor(scaled).cast("double"), F.lit(0.0)), F.lit(float(buckets - 1)))
-        bucket = F.when(x == F.lit(-math.inf), F.lit(-1.0)).when(x == F.lit(math.inf), F.lit(float(buckets))).otherwise(clamped)
+        # greatest/least skip nulls: a value out of range must stay null, so test it first.
+        bucket = (
+            F.when(x.isNull(), F.lit(None).cast("double"))
+            .when(x == F.lit(-math.inf), F.lit(-1.0))
+            .when(x == F.lit(math.inf), F.lit(float(buckets)))
+            .otherwise(clamped)
+        )
         return (bucket + F.lit(float(index * (buckets + 2) + 1))).cast("long")
 
     def _pairs(self, keys: Sequence[Any], values: Sequence[Any]) -> Any:

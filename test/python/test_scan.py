@@ -179,6 +179,7 @@ def test_details_equal_numpy(engine, name):
     reply = engine.details([{"name": name, "ranks": ranks, "std": True, "skewness": True, "distinct": True}])
     got = reply["columns"][0]
     assert got["order_statistics"] == [_scan.scan_double(v) for v in np.sort(x)[ranks]]
+    assert engine.rank_routes["sorted"] == 0  # from the buckets, not a whole-column sort
     s = np.std(x)
     assert got["std"] == float(s)  # numpy.std on the same values in row order: bit for bit
     if s == 0:
@@ -699,3 +700,90 @@ def test_duckdb_cancel_before_the_query_starts_still_interrupts_it(slow_duckdb, 
         pytest.fail("the query started after the cancel ran on")
     assert isinstance(outcome.get("error"), _scan.ScanCancelled), outcome
     assert duck_connection.sql("SELECT 41 + 1").fetchone()[0] == 42
+# --- order statistics by buckets (tiny limits so that every route runs) --------------------
+
+
+def make_ranked_table(seed: int = 20240615) -> pa.Table:
+    """x: ±Inf, negatives, a tie of 30 alone in its bucket, a heavy cluster, NaN/None; w: wide
+    int64s with ties; c: one value with ±Inf around it; b: booleans."""
+    rng = np.random.default_rng(seed)
+    x = np.concatenate(
+        [
+            [-10.0, 10.0, -np.inf, -np.inf, -np.inf, np.inf, np.inf, np.nan],
+            rng.uniform(-10, -2.5, 40).round(2),  # light buckets, with ties from the rounding
+            0.5 + rng.uniform(0, 1e-9, 300),  # one heavy bucket, still heavy one level down
+            np.full(30, 6.0),  # a one-value bucket
+            rng.uniform(7.5, 10, 5),
+        ]
+    )
+    n = x.size
+    w = rng.integers(-(1 << 62), 1 << 62, n).astype(np.int64)
+    w[:20] = w[20]
+    c = np.full(n, 7.0)
+    c[:2], c[2] = np.inf, -np.inf
+    b = rng.random(n) < 0.4
+    order = rng.permutation(n)
+    mask = np.zeros(n, bool)
+    mask[order[:3]] = True
+    return pa.table(
+        {
+            "x": pa.array(x[order], mask=mask),
+            "w": pa.array(w[order]),
+            "c": pa.array(c[order]),
+            "b": pa.array(b[order]),
+        }
+    )
+
+
+RANKED = make_ranked_table()
+
+
+@pytest.fixture(params=["duckdb", "spark"])
+def ranked_engine(request, duck_connection):
+    if request.param == "duckdb":
+        scan = _scan.scan_engine(duck_connection.from_arrow(RANKED), "ranked", lambda: [duck_connection])
+    else:
+        spark = request.getfixturevalue("spark")
+        if "ranked" not in _SPARK_FRAMES:
+            _SPARK_FRAMES["ranked"] = spark.createDataFrame(RANKED).cache()
+        scan = _scan.scan_engine(_SPARK_FRAMES["ranked"], "ranked")
+    scan.rank_buckets, scan.rank_fetch_limit, scan.rank_depth = 8, 20, 1
+    return scan
+
+
+def ranked_reference(name: str) -> np.ndarray:
+    column = RANKED.column(name).combine_chunks()
+    values = column.fill_null(False if pa.types.is_boolean(column.type) else 0).to_numpy(zero_copy_only=False)
+    values = values.astype(np.float64)[np.asarray(column.is_valid())]
+    return values[~np.isnan(values)]
+
+
+def test_every_rank_by_buckets_equals_numpy_sort(ranked_engine):
+    names = ["x", "w", "c", "b"]
+    requests = []
+    for name in names:
+        n = len(ranked_reference(name))
+        requests.append({"name": name, "ranks": list(range(n)), "std": False, "skewness": False, "distinct": False})
+    reply = ranked_engine.details(requests)
+    for name, got in zip(names, reply["columns"]):
+        # Source: numpy.sort of the same values read as float64.
+        expect = [_scan.scan_double(v) for v in np.sort(ranked_reference(name))]
+        assert got["order_statistics"] == expect, name
+    routes = ranked_engine.rank_routes
+    assert routes["one value"] == 1  # column c
+    assert routes["bucket edge"] > 0 and routes["fetched"] > 0 and routes["heavy"] > 0
+    # The heavy cluster is heavy again one level down: DuckDB ranks it with quantile_disc,
+    # Spark (rank_depth 1) sorts it.
+    if ranked_engine.name == "duckdb":
+        assert routes["engine quantile"] > 0
+    else:
+        assert routes["sorted at depth"] > 0
+    # No column fell back to a whole-column sort (the buckets were complete and in order).
+    assert routes["sorted"] == 0
+
+
+def test_a_few_ranks_by_buckets_equal_numpy_sort(ranked_engine):
+    x = np.sort(ranked_reference("x"))
+    ranks = [0, 2, 3, 5, 17, 60, 200, len(x) - 6, len(x) - 1]
+    reply = ranked_engine.details([{"name": "x", "ranks": ranks, "std": False, "skewness": False, "distinct": False}])
+    assert reply["columns"][0]["order_statistics"] == [_scan.scan_double(v) for v in x[ranks]]  # source: numpy.sort
