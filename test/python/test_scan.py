@@ -353,6 +353,10 @@ class RecordingComm:
     def __init__(self) -> None:
         self.comm_id = "scan-test"
         self.messages: queue.Queue = queue.Queue()
+        # Messages read while waiting for another request, kept for a later until(): the scan
+        # thread may answer before the handler thread does (a cancelled scan's error can arrive
+        # before cancel_done).
+        self._held: list[tuple[dict, list[bytes]]] = []
 
     def send(self, data=None, metadata=None, buffers=None):
         self.messages.put((data, [bytes(memoryview(b)) for b in buffers or []]))
@@ -367,12 +371,18 @@ class RecordingComm:
         """Messages for ``request_id`` up to the first whose type is in ``types``."""
         out = []
         deadline = time.monotonic() + timeout
+        held, self._held = self._held, []
         while True:
-            data, buffers = self.messages.get(timeout=max(0.1, deadline - time.monotonic()))
+            if held:
+                data, buffers = held.pop(0)
+            else:
+                data, buffers = self.messages.get(timeout=max(0.1, deadline - time.monotonic()))
             if data.get("request_id") != request_id:
+                self._held.append((data, buffers))
                 continue
             out.append((data, buffers))
             if data["type"] in types:
+                self._held.extend(held)
                 return out
 
 
