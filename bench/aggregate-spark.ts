@@ -9,24 +9,20 @@
  * Bundled and started by bench/aggregate.mjs:
  *   node aggregate-spark.cjs --file F.parquet --out R.json --python PY --root CHECKOUT [--driver-memory 2g]
  */
-import { ChildProcess, spawn } from 'child_process';
-import { randomBytes } from 'crypto';
 import { mkdtempSync, rmSync, writeFileSync } from 'fs';
-import * as net from 'net';
 import { tmpdir } from 'os';
 import * as path from 'path';
 import { parseArgs } from 'util';
 
-import { Kernel, KernelManager, KernelMessage, ServerConnection } from '@jupyterlab/services';
-import { Signal } from '@lumino/signaling';
+import { Kernel, KernelManager, KernelMessage } from '@jupyterlab/services';
 
 import { KernelBridge } from '../src/bridge/connector';
-import type { IBridgeSession } from '../src/bridge/kernel';
 import { KernelScanner } from '../src/bridge/kernel-scanner';
 import { MAX_DISTINCT_ROWS, scanWeightedCodes, type ScanStage } from '../src/engine/aggregate/scan';
 import { analyzeCodes } from '../src/engine/analyze';
 import type { IAnalyzeOptions } from '../src/engine/types';
 import { writeResult } from '../src/cli/output';
+import { LiveServer, LiveSession, waitFor as waitUntil } from '../test/bridge/live-server';
 
 const { values } = parseArgs({
   options: {
@@ -51,38 +47,9 @@ if (!/^[0-9]+[mg]$/.test(driverMemory)) {
   process.exit(2);
 }
 
-/** A session over one kernel connection, as a notebook's session context forwards its signals. */
-class BenchSession implements IBridgeSession {
-  constructor(readonly kernel: Kernel.IKernelConnection) {
-    this.session = { kernel };
-    kernel.statusChanged.connect((_, status) => this.statusChanged.emit(status));
-    kernel.connectionStatusChanged.connect((_, status) => this.connectionStatusChanged.emit(status));
-  }
-
-  session: { kernel: Kernel.IKernelConnection | null } | null;
-  isDisposed = false;
-  readonly kernelChanged = new Signal<this, unknown>(this);
-  readonly statusChanged = new Signal<this, Kernel.Status>(this);
-  readonly connectionStatusChanged = new Signal<this, Kernel.ConnectionStatus>(this);
-  readonly disposed = new Signal<this, void>(this);
-}
-
-/** A free TCP port on the loopback interface. */
-function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const probe = net.createServer();
-    probe.once('error', reject);
-    probe.listen(0, '127.0.0.1', () => {
-      const address = probe.address() as net.AddressInfo;
-      probe.close(() => resolve(address.port));
-    });
-  });
-}
-
 const seconds = (since: number): number => Number(((Date.now() - since) / 1000).toFixed(2));
 
-let server: ChildProcess | null = null;
-let serverLog = '';
+let server: LiveServer | null = null;
 let manager: KernelManager | null = null;
 let kernel: Kernel.IKernelConnection | null = null;
 let bridge: KernelBridge | null = null;
@@ -106,70 +73,17 @@ async function cell(code: string): Promise<string> {
 }
 
 /** Poll until `condition` holds, or fail naming what was awaited. */
-async function waitFor(what: string, condition: () => boolean, timeoutMs = 120_000): Promise<void> {
-  const end = Date.now() + timeoutMs;
-  while (!condition()) {
-    if (Date.now() > end) {
-      throw new Error(`timed out waiting for ${what}\n${serverLog.slice(-2000)}`);
-    }
-    await new Promise(resolve => setTimeout(resolve, 50));
-  }
-}
-
-async function startServer(): Promise<ServerConnection.ISettings> {
-  const port = await freePort();
-  const token = randomBytes(16).toString('hex');
-  server = spawn(
-    values.python!,
-    [
-      '-m',
-      'jupyter_server',
-      '--ServerApp.ip=127.0.0.1',
-      `--ServerApp.port=${port}`,
-      '--ServerApp.port_retries=0',
-      '--ServerApp.open_browser=False',
-      '--ServerApp.terminals_enabled=False',
-      // containers run as root; the server refuses to without this
-      '--ServerApp.allow_root=True',
-      `--ServerApp.root_dir=${folder}`,
-      `--IdentityProvider.token=${token}`
-    ],
-    {
-      cwd: folder,
-      env: {
-        ...process.env,
-        JUPYTER_RUNTIME_DIR: path.join(folder, 'runtime'),
-        PYTHONPATH: [values.root!, process.env.PYTHONPATH].filter(Boolean).join(path.delimiter)
-      },
-      stdio: ['ignore', 'pipe', 'pipe']
-    }
-  );
-  server.stdout?.on('data', chunk => (serverLog += String(chunk)));
-  server.stderr?.on('data', chunk => (serverLog = (serverLog + String(chunk)).slice(-20_000)));
-  const baseUrl = `http://127.0.0.1:${port}/`;
-  const end = Date.now() + 120_000;
-  for (;;) {
-    if (Date.now() > end || server.exitCode !== null) {
-      throw new Error(`the Jupyter server did not start (python -m jupyter_server):\n${serverLog.slice(-3000)}`);
-    }
-    try {
-      if ((await fetch(`${baseUrl}api/status`, { headers: { Authorization: `token ${token}` } })).ok) {
-        break;
-      }
-    } catch {
-      // not listening yet
-    }
-    await new Promise(resolve => setTimeout(resolve, 200));
-  }
-  return ServerConnection.makeSettings({ baseUrl, wsUrl: `ws://127.0.0.1:${port}/`, token, appendToken: true });
+function waitFor(what: string, condition: () => boolean, timeoutMs = 120_000): Promise<void> {
+  return waitUntil(what, condition, timeoutMs, () => server?.log ?? '');
 }
 
 async function run(): Promise<Record<string, unknown>> {
   const started = Date.now();
-  manager = new KernelManager({ serverSettings: await startServer() });
+  server = await LiveServer.start({ python: values.python!, root: values.root!, folder, timeoutMs: 120_000 });
+  manager = new KernelManager({ serverSettings: server.settings });
   await manager.ready;
   kernel = await manager.startNew({ name: 'python3' });
-  bridge = new KernelBridge({ sessionContext: new BenchSession(kernel) });
+  bridge = new KernelBridge({ sessionContext: new LiveSession(kernel) });
   await waitFor('the bridge to be ready', () => bridge!.status.state === 'ready' || bridge!.status.state === 'error');
   if (bridge.status.state !== 'ready') {
     throw new Error(`the bridge did not connect: ${bridge.status.message}`);
@@ -242,11 +156,7 @@ async function stop(): Promise<void> {
     await kernel?.shutdown().catch(() => undefined);
     manager?.dispose();
   } finally {
-    if (server !== null && server.exitCode === null) {
-      const exited = new Promise(resolve => server!.once('exit', resolve));
-      server.kill('SIGTERM');
-      await exited;
-    }
+    await server?.stop();
     rmSync(folder, { recursive: true, force: true });
   }
 }

@@ -6,43 +6,20 @@
  * a DuckDB relation and of a Spark DataFrame (local[2]) against the same frame analysed in
  * memory, and a restart in the middle of a fetch.
  */
-import { ChildProcess, spawn } from 'child_process';
-import { randomBytes } from 'crypto';
-import * as net from 'net';
-import * as path from 'path';
-
-import { Kernel, KernelManager, KernelMessage, ServerConnection } from '@jupyterlab/services';
-import { Signal } from '@lumino/signaling';
+import { Kernel, KernelManager, KernelMessage } from '@jupyterlab/services';
 
 import { IBridgeStatus, KernelBridge } from '../../src/bridge/connector';
 import { failure } from './fakes';
-import type { IBridgeSession } from '../../src/bridge/kernel';
 import { KernelScanner } from '../../src/bridge/kernel-scanner';
 import { scanWeightedCodes } from '../../src/engine/aggregate/scan';
 import { analyze, analyzeCodes } from '../../src/engine/analyze';
 import type { IAnalyzeOptions, IMultipletRow } from '../../src/engine/types';
 import { manifestValues, python, ROOT, tempFolder } from './helpers';
+import { LiveServer, LiveSession, waitFor as waitUntil } from './live-server';
 
 jest.setTimeout(120_000);
 
-/** A session over one kernel connection, as a notebook's session context forwards its signals. */
-class LiveSession implements IBridgeSession {
-  constructor(readonly kernel: Kernel.IKernelConnection) {
-    this.session = { kernel };
-    kernel.statusChanged.connect((_, status) => this.statusChanged.emit(status));
-    kernel.connectionStatusChanged.connect((_, status) => this.connectionStatusChanged.emit(status));
-  }
-
-  session: { kernel: Kernel.IKernelConnection | null } | null;
-  isDisposed = false;
-  readonly kernelChanged = new Signal<this, unknown>(this);
-  readonly statusChanged = new Signal<this, Kernel.Status>(this);
-  readonly connectionStatusChanged = new Signal<this, Kernel.ConnectionStatus>(this);
-  readonly disposed = new Signal<this, void>(this);
-}
-
-let server: ChildProcess | null = null;
-let serverLog = '';
+let server: LiveServer | null = null;
 let manager: KernelManager;
 let kernel: Kernel.IKernelConnection;
 let session: LiveSession;
@@ -50,27 +27,9 @@ let bridge: KernelBridge;
 /** The execution count of the last cell run before the bridge connected. */
 let countBefore = 0;
 
-/** A free TCP port on the loopback interface. */
-function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const probe = net.createServer();
-    probe.once('error', reject);
-    probe.listen(0, '127.0.0.1', () => {
-      const address = probe.address() as net.AddressInfo;
-      probe.close(() => resolve(address.port));
-    });
-  });
-}
-
 /** Poll until `condition` holds, or fail naming what was awaited. */
-async function waitFor(what: string, condition: () => boolean, timeoutMs = 60_000): Promise<void> {
-  const end = Date.now() + timeoutMs;
-  while (!condition()) {
-    if (Date.now() > end) {
-      throw new Error(`timed out waiting for ${what}\n${serverLog.slice(-2000)}`);
-    }
-    await new Promise(resolve => setTimeout(resolve, 50));
-  }
+function waitFor(what: string, condition: () => boolean, timeoutMs = 60_000): Promise<void> {
+  return waitUntil(what, condition, timeoutMs, () => server?.log ?? '');
 }
 
 /** Run a cell as a user would; returns its execution count and what it printed. */
@@ -116,56 +75,8 @@ greenhouse = pd.DataFrame({
 beforeAll(async () => {
   // JupyterLab's kernel connection logs every status change at debug level.
   jest.spyOn(console, 'debug').mockImplementation(() => undefined);
-  const port = await freePort();
-  const token = randomBytes(16).toString('hex');
-  const folder = tempFolder('server');
-  server = spawn(
-    python(),
-    [
-      '-m',
-      'jupyter_server',
-      '--ServerApp.ip=127.0.0.1',
-      `--ServerApp.port=${port}`,
-      '--ServerApp.port_retries=0',
-      '--ServerApp.open_browser=False',
-      '--ServerApp.terminals_enabled=False',
-      // CI containers run as root; the server refuses to without this.
-      '--ServerApp.allow_root=True',
-      `--ServerApp.root_dir=${folder}`,
-      `--IdentityProvider.token=${token}`
-    ],
-    {
-      cwd: folder,
-      env: {
-        ...process.env,
-        JUPYTER_RUNTIME_DIR: path.join(folder, 'runtime'),
-        PYTHONPATH: [ROOT, process.env.PYTHONPATH].filter(Boolean).join(path.delimiter)
-      },
-      stdio: ['ignore', 'pipe', 'pipe']
-    }
-  );
-  server.stdout?.on('data', chunk => (serverLog += String(chunk)));
-  server.stderr?.on('data', chunk => (serverLog += String(chunk)));
-  const baseUrl = `http://127.0.0.1:${port}/`;
-  let up = false;
-  const end = Date.now() + 60_000;
-  while (!up) {
-    if (Date.now() > end || server.exitCode !== null) {
-      throw new Error(`the Jupyter server did not start (python -m jupyter_server):\n${serverLog.slice(-3000)}`);
-    }
-    try {
-      up = (await fetch(`${baseUrl}api/status`, { headers: { Authorization: `token ${token}` } })).ok;
-    } catch {
-      await new Promise(resolve => setTimeout(resolve, 200));
-    }
-  }
-  const serverSettings = ServerConnection.makeSettings({
-    baseUrl,
-    wsUrl: `ws://127.0.0.1:${port}/`,
-    token,
-    appendToken: true
-  });
-  manager = new KernelManager({ serverSettings });
+  server = await LiveServer.start({ python: python(), root: ROOT, folder: tempFolder('server'), timeoutMs: 60_000 });
+  manager = new KernelManager({ serverSettings: server.settings });
   await manager.ready;
   kernel = await manager.startNew({ name: 'python3' });
   countBefore = (await cell(GREENHOUSE)).count;
@@ -182,11 +93,7 @@ afterAll(async () => {
     // The server may already be gone; it shuts its kernels down when it stops.
   }
   manager?.dispose();
-  if (server !== null && server.exitCode === null) {
-    const exited = new Promise(resolve => server!.once('exit', resolve));
-    server.kill('SIGTERM');
-    await exited;
-  }
+  await server?.stop();
 });
 
 describe('KernelBridge with a real kernel', () => {
