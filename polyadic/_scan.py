@@ -287,6 +287,10 @@ class ScanEngine:
     def _levels(self, column: ScanColumn, cap: int) -> int:  # pragma: no cover
         raise NotImplementedError
 
+    def _levels_of(self, columns: Sequence[ScanColumn], cap: int) -> list[int]:
+        """``min(distinct present values, cap)`` of each column (an engine may share one scan)."""
+        return [self._levels(column, cap) for column in columns]
+
     def _first(self, column: ScanColumn, what: str) -> tuple[int, Any]:  # pragma: no cover
         """Row position and value of the first missing ('missing') or ±Inf ('infinite') value."""
         raise NotImplementedError
@@ -560,6 +564,9 @@ class ScanEngine:
         columns = _distinct_columns(self, names)
         rows = self.run(self.row_count)
         aggregates = self.run(lambda: self._aggregate(columns))
+        counted = [column for column, agg in zip(columns, aggregates) if agg.count]
+        found = self.run(lambda: self._levels_of(counted, AUTO_MAX_LEVELS + 1)) if counted else []
+        levels_of = dict(zip((column.name for column in counted), found))
         out = []
         for column, agg in zip(columns, aggregates):
             first_missing = self.run(lambda: self._first(column, "missing"))[0] if agg.missing else -1
@@ -567,7 +574,7 @@ class ScanEngine:
             if column.numeric and agg.has_infinite:
                 row, value = self.run(lambda: self._first(column, "infinite"))
                 infinite = {"row": int(row), "value": scan_double(value)}
-            levels = self.run(lambda: self._levels(column, AUTO_MAX_LEVELS + 1)) if agg.count else 0
+            levels = levels_of.get(column.name, 0)
             out.append(
                 {
                     "name": column.name,
@@ -688,6 +695,37 @@ def _split_by_key(table: pa.Table, ranges: int, buckets: int) -> list[dict[int, 
         i, bucket = divmod(int(key), buckets + 2)
         out[i][bucket - 1] = values[a:b]
     return out
+
+
+def _bucket_keyer(
+    scales: Sequence[tuple[float, float, float] | None], buckets: int
+) -> Callable[[Any], tuple[np.ndarray, np.ndarray]]:
+    """For Spark's Python workers: a function from an Arrow batch of range values (column i: range
+    i's values as doubles, null outside it) to the (key, value) pairs of the values in range, key =
+    i · (buckets + 2) + bucket + 1 (bucket −1: −Inf, buckets: +Inf), a finite value's bucket as
+    :meth:`RankRange.bucket_scale` says. Uses only numpy, so that it is pickled by value."""
+    if any(scale is None for scale in scales):
+        raise ValueError("every range to bucket needs two different finite values")
+    scaled_by = [tuple(float(v) for v in scale) for scale in scales]  # type: ignore[union-attr]
+
+    def keyed(batch: Any) -> tuple[np.ndarray, np.ndarray]:
+        keys, values = [], []
+        for i, (shift, width, factor) in enumerate(scaled_by):
+            x = batch.column(i).to_numpy(zero_copy_only=False).astype(np.float64, copy=False)
+            x = x[~np.isnan(x)]
+            finite = np.isfinite(x)
+            bucket = np.empty(x.size, dtype=np.int64)
+            scaled = np.floor((x[finite] * factor - shift) / width * float(buckets))
+            bucket[finite] = np.clip(scaled, 0, buckets - 1).astype(np.int64)
+            bucket[x == -np.inf] = -1
+            bucket[x == np.inf] = buckets
+            keys.append(bucket + (i * (buckets + 2) + 1))
+            values.append(x)
+        if not keys:
+            return np.zeros(0, np.int64), np.zeros(0, np.float64)
+        return np.concatenate(keys), np.concatenate(values)
+
+    return keyed
 
 
 def sample_indices(rows: int, row_cap: int, seed: int) -> np.ndarray | None:
@@ -1335,8 +1373,40 @@ class SparkScan(ScanEngine):
         return out
 
     def _levels(self, column: ScanColumn, cap: int) -> int:
-        values = self.frame.where(~self._missing(column)).select(self._value(column).alias("v"))
-        return int(values.distinct().limit(int(cap)).count())
+        return self._levels_of([column], cap)[0]
+
+    def _levels_of(self, columns: Sequence[ScanColumn], cap: int) -> list[int]:
+        # One pass for every column: each Python worker keeps up to `cap` distinct values of each
+        # column of its partition (pyarrow's unique per batch), the driver takes their union. A
+        # number travels as its repr (exact for a double); only pyarrow is used (pickled by value).
+        from pyspark.sql import functions as F
+
+        cap = int(cap)
+        width = len(columns)
+
+        def distinct(batches: Any) -> Any:
+            import pyarrow as pa
+            import pyarrow.compute as pc
+
+            seen: list[set] = [set() for _ in range(width)]
+            for batch in batches:
+                for i in range(width):
+                    if len(seen[i]) < cap:
+                        for value in pc.unique(batch.column(i).drop_null()).to_pylist():
+                            seen[i].add(value if isinstance(value, str) else repr(value))
+                            if len(seen[i]) >= cap:
+                                break
+            index = [i for i, values in enumerate(seen) for _ in values]
+            texts = [value for values in seen for value in values]
+            yield pa.RecordBatch.from_arrays([pa.array(index, pa.int32()), pa.array(texts, pa.string())], names=["c", "v"])
+
+        values = self.frame.select(
+            *[F.when(~self._missing(column), self._value(column)).alias(f"v{i}") for i, column in enumerate(columns)]
+        )
+        union: list[set] = [set() for _ in columns]
+        for i, value in values.mapInArrow(distinct, "c int, v string").collect():
+            union[int(i)].add(value)
+        return [min(len(found), cap) for found in union]
 
     def _offsets(self) -> list[int]:
         """Rows before each partition: monotonically_increasing_id() puts the partition in its
@@ -1408,36 +1478,43 @@ class SparkScan(ScanEngine):
             outside = outside | (x < F.lit(spec.within[0])) | (x > F.lit(spec.within[1]))
         return F.when(~outside, x)
 
-    def _bucket_key(self, spec: RankRange, buckets: int, index: int) -> Any:
-        """index · (buckets + 2) + bucket + 1 of each value in range (bucket −1: −Inf, buckets: +Inf)."""
-        from pyspark.sql import functions as F
-
-        x = self._ranked_value(spec)
-        shift, width, factor = spec.bucket_scale(buckets)  # type: ignore[misc]
-        scaled = (x * F.lit(factor) - F.lit(shift)) / F.lit(width) * F.lit(float(buckets))
-        clamped = F.least(F.greatest(F.floor(scaled).cast("double"), F.lit(0.0)), F.lit(float(buckets - 1)))
-        # greatest/least skip nulls: a value out of range must stay null, so test it first.
-        bucket = (
-            F.when(x.isNull(), F.lit(None).cast("double"))
-            .when(x == F.lit(-math.inf), F.lit(-1.0))
-            .when(x == F.lit(math.inf), F.lit(float(buckets)))
-            .otherwise(clamped)
-        )
-        return (bucket + F.lit(float(index * (buckets + 2) + 1))).cast("long")
-
-    def _pairs(self, keys: Sequence[Any], values: Sequence[Any]) -> Any:
-        """One (k, v) row per range and row of the frame (null k: not in that range)."""
-        from pyspark.sql import functions as F
-
-        pairs = F.explode(F.array(*[F.struct(k.alias("k"), v.alias("v")) for k, v in zip(keys, values)]))
-        return self.frame.select(pairs.alias("p")).select("p.k", "p.v").where(F.col("k").isNotNull())
+    # The bucket scans run numpy over Arrow batches in Spark's Python workers (mapInArrow): one
+    # pass over the selected columns, with no exploded (range, value) rows to shuffle. The
+    # functions shipped to the workers are built here and use only numpy and pyarrow (pickled by
+    # value, so an executor needs no polyadic).
+    def _range_values(self, ranges: Sequence[RankRange]) -> Any:
+        """Column i: range i's values as doubles, null outside it."""
+        return self.frame.select(*[self._ranked_value(spec).alias(f"v{i}") for i, spec in enumerate(ranges)])
 
     def _bucket_counts(self, ranges: Sequence[RankRange], buckets: int) -> list[list[Bucket]]:
         from pyspark.sql import functions as F
 
-        keys = [self._bucket_key(spec, buckets, i) for i, spec in enumerate(ranges)]
-        values = [self._ranked_value(spec) for spec in ranges]
-        grouped = self._pairs(keys, values).groupBy("k").agg(F.count(F.lit(1)), F.min("v"), F.max("v"))
+        keyer = _bucket_keyer([spec.bucket_scale(buckets) for spec in ranges], buckets)
+        size = len(ranges) * (buckets + 2) + 1
+
+        def count(batches: Any) -> Any:
+            counts = np.zeros(size, dtype=np.int64)
+            lo = np.full(size, np.inf)
+            hi = np.full(size, -np.inf)
+            for batch in batches:
+                keys, values = keyer(batch)
+                if keys.size == 0:
+                    continue
+                counts += np.bincount(keys, minlength=size)
+                order = np.argsort(keys, kind="stable")
+                keys, values = keys[order], values[order]
+                starts = np.flatnonzero(np.concatenate(([True], keys[1:] != keys[:-1])))
+                at = keys[starts]
+                lo[at] = np.minimum(lo[at], np.minimum.reduceat(values, starts))
+                hi[at] = np.maximum(hi[at], np.maximum.reduceat(values, starts))
+            used = np.flatnonzero(counts)
+            yield pa.RecordBatch.from_arrays(
+                [pa.array(used, pa.int64()), pa.array(counts[used]), pa.array(lo[used]), pa.array(hi[used])],
+                names=["k", "n", "lo", "hi"],
+            )
+
+        partial = self._range_values(ranges).mapInArrow(count, "k long, n long, lo double, hi double")
+        grouped = partial.groupBy("k").agg(F.sum("n"), F.min("lo"), F.max("hi"))
         out: list[list[Bucket]] = [[] for _ in ranges]
         for key, n, lo, hi in grouped.collect():
             i, b = divmod(int(key), buckets + 2)
@@ -1445,14 +1522,19 @@ class SparkScan(ScanEngine):
         return out
 
     def _bucket_values(self, ranges, buckets: int, chosen) -> list[dict[int, np.ndarray]]:
-        from pyspark.sql import functions as F
+        keyer = _bucket_keyer([spec.bucket_scale(buckets) for spec in ranges], buckets)
+        wanted = np.asarray(
+            sorted(i * (buckets + 2) + b + 1 for i, picked in enumerate(chosen) for b in picked), dtype=np.int64
+        )
 
-        keys = []
-        for i, (spec, wanted) in enumerate(zip(ranges, chosen)):
-            key = self._bucket_key(spec, buckets, i)
-            keys.append(F.when(key.isin(*[i * (buckets + 2) + b + 1 for b in wanted]), key))
-        values = [self._ranked_value(spec) for spec in ranges]
-        return _split_by_key(self._pairs(keys, values).toArrow(), len(ranges), buckets)
+        def fetch(batches: Any) -> Any:
+            for batch in batches:
+                keys, values = keyer(batch)
+                keep = np.isin(keys, wanted)
+                yield pa.RecordBatch.from_arrays([pa.array(keys[keep], pa.int64()), pa.array(values[keep])], names=["k", "v"])
+
+        fetched = self._range_values(ranges).mapInArrow(fetch, "k long, v double").toArrow()
+        return _split_by_key(fetched, len(ranges), buckets)
 
     def _sorted_ranks(self, spec: RankRange) -> dict[int, float]:
         # An exact distributed sort of the range's values, then the wanted ranks by position.
