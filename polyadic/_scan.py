@@ -285,6 +285,7 @@ class ScanEngine:
         raise NotImplementedError
 
     def _levels(self, column: ScanColumn, cap: int) -> int:  # pragma: no cover
+        """``min(distinct present values, cap)`` of one column (unused where _levels_of is overridden)."""
         raise NotImplementedError
 
     def _levels_of(self, columns: Sequence[ScanColumn], cap: int) -> list[int]:
@@ -1372,9 +1373,6 @@ class SparkScan(ScanEngine):
             out.append(ColumnAggregate(int(missing), int(count), lo, hi, bool(inf), bool(rounded)))
         return out
 
-    def _levels(self, column: ScanColumn, cap: int) -> int:
-        return self._levels_of([column], cap)[0]
-
     def _levels_of(self, columns: Sequence[ScanColumn], cap: int) -> list[int]:
         # One pass for every column: each Python worker keeps up to `cap` distinct values of each
         # column of its partition (pyarrow's unique per batch), the driver takes their union. A
@@ -1490,7 +1488,7 @@ class SparkScan(ScanEngine):
         from pyspark.sql import functions as F
 
         keyer = _bucket_keyer([spec.bucket_scale(buckets) for spec in ranges], buckets)
-        size = len(ranges) * (buckets + 2) + 1
+        size = len(ranges) * (buckets + 2)
 
         def count(batches: Any) -> Any:
             counts = np.zeros(size, dtype=np.int64)
